@@ -10,7 +10,7 @@ host's redshift), so that h0 scales as D^(2/3) for a fixed angular measurement.
 import numpy as np
 from astropy import units as u
 
-__all__ = ["Host", "as_quantity"]
+__all__ = ["Host", "as_quantity", "hosts_from_table"]
 
 
 def as_quantity(value, unit, field):
@@ -305,3 +305,54 @@ def _distance_sigma(distance, distance_err, distance_err_frac):
     if err.value < 0:
         raise ValueError("distance_err: must be >= 0")
     return err
+
+
+def hosts_from_table(table):
+    """Hosts from a small table with columns as in ``examples/demo_hosts.ecsv``.
+
+    Required: ``name``, ``mass`` [solMass], ``distance`` [Mpc] (or
+    ``redshift``).  Optional: ``mass_err_dex``, ``distance_err`` [Mpc],
+    ``mass_distance`` [Mpc], ``ra``/``dec`` [deg], ``sigma`` [km/s].
+    For catalogues of many galaxies use :mod:`ptaconstrain.catalog` instead;
+    this builds one :class:`Host` per row.
+
+    Parameters
+    ----------
+    table : astropy.table.Table
+
+    Returns
+    -------
+    list of Host
+    """
+    cols = set(table.colnames)
+    missing = [c for c in ("name", "mass") if c not in cols]
+    if "distance" not in cols and "redshift" not in cols:
+        missing.append("distance (or redshift)")
+    if missing:
+        raise ValueError(f"host table lacks column(s) {', '.join(missing)}: add them")
+
+    def get(row, col, unit=None):
+        if col not in cols:
+            return None
+        v = row[col]
+        if isinstance(v, u.Quantity):
+            v = v.to_value(unit) if unit is not None and v.unit != u.dex else v.value
+        try:
+            return None if np.ma.is_masked(v) or np.isnan(v) else float(v)
+        except TypeError:
+            return v
+
+    hosts = []
+    for i, row in enumerate(table):
+        try:
+            hosts.append(Host(
+                str(row["name"]), get(row, "mass", u.Msun),
+                get(row, "distance", u.Mpc), redshift=get(row, "redshift"),
+                mass_err_dex=get(row, "mass_err_dex"),
+                distance_err=get(row, "distance_err", u.Mpc),
+                mass_distance=get(row, "mass_distance", u.Mpc),
+                ra=get(row, "ra", u.deg), dec=get(row, "dec", u.deg),
+                velocity_dispersion=get(row, "sigma", u.km / u.s)))
+        except ValueError as err:
+            raise ValueError(f"host table row {i + 1}: {err}") from err
+    return hosts

@@ -1,0 +1,109 @@
+"""Generate the two synthetic sensitivity curves shipped in sensitivity_curves/.
+
+Both curves belong to an INVENTED scenario and describe no real array:
+
+* ``synthetic_h0_limit.ecsv`` -- a present-day-like 95% upper limit on h0 of
+  the fictional "Kestrel Timing Array" (15 yr of data).
+* ``synthetic_future_psd.ecsv`` -- a future-array-like noise budget
+  (strain PSD) of the fictional "Kestrel Timing Array, phase II" (20 yr).
+
+The shape follows the usual anatomy of a pulsar-timing sensitivity, with
+invented numbers: timing residuals with white noise plus a red power law
+P(f) = A^2/(12 pi^2) f_yr^-3 (f/f_yr)^-gamma; residuals convert to strain
+as h ~ 2 pi f r, so a white-noise-limited curve rises as f at high
+frequency; the quadratic spin-down fit removes sensitivity below ~1/T, and
+the astrometric fit removes it in narrow bands at 1/yr (position, proper
+motion) and 2/yr (parallax).  The overall level is set by hand (``level``).
+
+Run from the repository root:  python examples/make_curves.py [--overwrite]
+"""
+
+import sys
+from pathlib import Path
+
+import numpy as np
+from astropy import units as u
+
+from ptaconstrain.curves import SensitivityCurve, noise_psd_for_threshold, save_curve
+
+F_YR = (1.0 / u.yr).to_value(u.Hz)
+
+
+def residual_psd(f, white_rms, cadence, red_amp, red_gamma):
+    """One-sided residual PSD [s^2/Hz]: 2 sigma^2 dt plus the red power law."""
+    white = 2.0 * white_rms**2 * cadence
+    red = red_amp**2 / (12 * np.pi**2) * F_YR**-3 * (f / F_YR) ** -red_gamma
+    return white + red
+
+
+def fit_loss(f, span):
+    """Invented fractional signal power left after the timing-model fit.
+
+    Low frequencies: a quadratic absorbs signals with f T << 1 as (f T)^6
+    (the first term a quadratic cannot fit is cubic).  Narrow losses of
+    width 1/T at 1/yr (depth 0.9) and 2/yr (depth 0.6).
+    """
+    ft = f * span
+    low = ft**6 / (1.0 + ft**6)
+    notch = 1.0
+    for f0, depth in ((F_YR, 0.9), (2 * F_YR, 0.6)):
+        notch = notch * (1.0 - depth * np.exp(-0.5 * ((f - f0) * span / 0.7) ** 2))
+    return low * notch
+
+
+def shape(f, span_yr, white_rms, cadence_d, red_amp, red_gamma):
+    span = span_yr * u.yr.to(u.s)
+    p = residual_psd(f, white_rms, cadence_d * 86400.0, red_amp, red_gamma)
+    return 2 * np.pi * f * np.sqrt(p / span / fit_loss(f, span))
+
+
+def h0_limit_curve():
+    span_yr = 15.0
+    f = np.geomspace(1.0 / (span_yr * u.yr).to_value(u.s), 3e-7, 480)
+    h = shape(f, span_yr, white_rms=0.5e-6, cadence_d=14.0, red_amp=3e-15, red_gamma=13 / 3)
+    level = 1.0e-14  # invented: h0 limit at 8 nHz
+    h *= level / np.interp(8e-9, f, h)
+    meta = {
+        "description": "SYNTHETIC 95% upper limit on CW strain amplitude h0 of the "
+        "fictional Kestrel Timing Array; invented, describes no real data",
+        "synthetic": True,
+        "confidence": 0.95,
+        "span": f"{span_yr:g} yr",
+        "sky": "averaged",
+        "source": "examples/make_curves.py (h0_limit_curve)",
+        "assumptions": "white rms 0.5 us at 14 d cadence, red noise A=3e-15 gamma=13/3, "
+        "quadratic + astrometric fit losses, level 1e-14 at 8 nHz (all invented)",
+    }
+    return SensitivityCurve(f * u.Hz, h, "h0_limit", meta)
+
+
+def future_psd_curve():
+    span_yr, snr = 20.0, 5.0
+    f = np.geomspace(1.0 / (span_yr * u.yr).to_value(u.s), 3e-7, 480)
+    h = shape(f, span_yr, white_rms=0.1e-6, cadence_d=7.0, red_amp=1e-15, red_gamma=13 / 3)
+    level = 1.0e-15  # invented: h0 reaching S/N = 5 at 10 nHz
+    h *= level / np.interp(1e-8, f, h)
+    psd = noise_psd_for_threshold(h, span_yr * u.yr, snr)
+    meta = {
+        "description": "SYNTHETIC strain-noise PSD (sky-averaged, one-sided) of the fictional "
+        "Kestrel Timing Array phase II; invented, a forecast, not a limit",
+        "synthetic": True,
+        "span": f"{span_yr:g} yr",
+        "sky": "averaged",
+        "source": "examples/make_curves.py (future_psd_curve)",
+        "assumptions": "white rms 0.1 us at 7 d cadence, red noise A=1e-15 gamma=13/3, "
+        "quadratic + astrometric fit losses, h0(S/N=5) = 1e-15 at 10 nHz (all invented)",
+    }
+    return SensitivityCurve(f * u.Hz, psd, "strain_psd", meta)
+
+
+def main(argv):
+    out = Path(__file__).resolve().parent.parent / "sensitivity_curves"
+    overwrite = "--overwrite" in argv
+    save_curve(h0_limit_curve(), out / "synthetic_h0_limit.ecsv", overwrite=overwrite)
+    save_curve(future_psd_curve(), out / "synthetic_future_psd.ecsv", overwrite=overwrite)
+    print(f"wrote {out}/synthetic_h0_limit.ecsv and synthetic_future_psd.ecsv")
+
+
+if __name__ == "__main__":
+    main(sys.argv[1:])

@@ -1,0 +1,130 @@
+"""``ptaconstrain demo``: the whole tool on the shipped, invented example data."""
+
+import click
+
+from . import main
+
+__all__ = ["demo"]
+
+HOSTS_FILE = "demo_hosts.ecsv"
+LIMIT_FILE = "synthetic_h0_limit.ecsv"
+FORECAST_FILE = "synthetic_future_psd.ecsv"
+
+
+@main.command()
+@click.option("--out", type=click.Path(file_okay=False), default="ptaconstrain-demo",
+              show_default=True, help="Output directory; must be empty or new.")
+@click.option("--overwrite", is_flag=True, help="Write into a non-empty --out, replacing files.")
+def demo(out, overwrite):
+    """Run the tool on the shipped example data (all of it invented).
+
+    Five fictional galaxies against a synthetic 95% upper limit (exclusion)
+    and a synthetic future noise budget (forecast).  Needs no network.
+
+    \b
+    Example:
+      ptaconstrain demo --out demo-output
+    """
+    from pathlib import Path
+
+    out = Path(out)
+    if out.exists() and any(out.iterdir()) and not overwrite:
+        raise click.ClickException(
+            f"{out} is not empty: choose another --out or pass --overwrite")
+    for line in run_demo(out, overwrite):
+        click.echo(line)
+
+
+def run_demo(out, overwrite=False):
+    """Library calls behind ``demo``; returns the lines to print."""
+    from astropy.table import QTable
+
+    from ..curves import load_curve
+    from ..shipped import CURVES, EXAMPLES, shipped_file
+    from ..source import hosts_from_table
+
+    hosts = hosts_from_table(QTable.read(shipped_file(EXAMPLES, HOSTS_FILE)))
+    limit_path = shipped_file(CURVES, LIMIT_FILE)
+    forecast_path = shipped_file(CURVES, FORECAST_FILE)
+    limit, forecast = load_curve(limit_path), load_curve(forecast_path)
+    lines = [f"ptaconstrain demo: {len(hosts)} INVENTED galaxies, synthetic curves; "
+             f"output in {out}/"]
+    results = []
+    with click.progressbar(hosts, label="exclusion maps", file=None,
+                           item_show_func=lambda h: h.name if h else "") as bar:
+        for host in bar:
+            results.append(_host_outputs(host, limit, forecast, limit_path, forecast_path,
+                                         out, overwrite))
+    lines += [line for _, _, text in results for line in text]
+    lines += _summary_outputs(results, out, overwrite)
+    lines += _optional_parts(out, hosts, limit, overwrite)
+    return lines
+
+
+def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwrite):
+    from ..io import write_table
+    from ..limits import exclusion_map
+    from ..report.figures import exclusion_figure, save_figure
+    from ..report.provenance import provenance, safe_name
+    from ..report.tables import exclusion_table, summary_lines
+
+    text = []
+    maps = []
+    for curve, path, tag in ((limit, limit_path, "exclusion"), (forecast, forecast_path,
+                                                                "forecast")):
+        result = exclusion_map(host, curve)
+        stem = out / f"{safe_name(host.name)}_{tag}"
+        meta = provenance(host.describe(), files={"curve": path})
+        meta["demo"] = "INVENTED data: fictional host, synthetic curve"
+        write_table(exclusion_table(result, meta), f"{stem}.ecsv", overwrite)
+        save_figure(exclusion_figure(result), stem, ("png",), overwrite)
+        text += summary_lines(result)[:1]
+        maps.append(result)
+    return maps[0], maps[1], text
+
+
+def _summary_outputs(results, out, overwrite):
+    import numpy as np
+    from astropy import units as u
+    from astropy.table import QTable
+
+    from ..io import write_table
+    from ..report.figures import save_figure
+    from ..report.overview import overview_figure
+
+    t = QTable()
+    lim = [r[0] for r in results]
+    fc = [r[1] for r in results]
+    t["name"] = [r.host.name for r in lim]
+    t["mass"] = u.Quantity([r.host.mass for r in lim]).to(u.Msun)
+    t["distance"] = u.Quantity([r.host.distance for r in lim]).to(u.Mpc)
+    for tag, maps in (("limit", lim), ("forecast", fc)):
+        best = [r.tightest() for r in maps]
+        t[f"best_q_{tag}"] = [b[1] if b else np.nan for b in best]
+        t[f"best_period_{tag}"] = u.Quantity([b[0] if b else np.nan * u.yr for b in best])
+        masses = [r.smallest_excluded_companion_mass for r in maps]
+        t[f"min_companion_{tag}"] = u.Quantity(
+            [np.nan * u.Msun if m is None else m for m in masses]).to(u.Msun)
+    t["best_q_limit"].info.description = "smallest max_mass_ratio excluded by the 95% limit"
+    t["best_q_forecast"].info.description = "smallest max_mass_ratio detectable (forecast)"
+    t.meta["demo"] = "INVENTED data: fictional hosts, synthetic curves"
+    write_table(t, out / "demo_summary.ecsv", overwrite)
+    save_figure(overview_figure(lim, fc), out / "demo_overview", ("png",), overwrite)
+    return [f"summary table {out / 'demo_summary.ecsv'}; overview figure "
+            f"{out / 'demo_overview.png'}"]
+
+
+def _optional_parts(out, hosts, limit, overwrite):
+    """Parts from the array and ranking modules, when they are installed."""
+    import importlib
+
+    lines = []
+    for module, args in (("array_cmds", (out, hosts)), ("rank_cmd", (out, limit))):
+        try:
+            mod = importlib.import_module(f"ptaconstrain.cli.{module}")
+        except ModuleNotFoundError:
+            continue
+        part = getattr(mod, "demo_part", None)
+        if part is not None:
+            lines += part(*args, overwrite=overwrite)
+    return lines

@@ -1,0 +1,51 @@
+"""One figure comparing the mass-ratio bounds of several hosts."""
+
+import numpy as np
+from astropy import units as u
+
+__all__ = ["OKABE_ITO", "overview_figure"]
+
+#: Okabe & Ito (2008) colour-universal-design palette (without black).
+OKABE_ITO = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#F0E442")
+
+
+def overview_figure(limit_maps, forecast_maps=(), title=None):
+    """max_mass_ratio against period for each host, limits solid, forecasts dashed.
+
+    Parameters
+    ----------
+    limit_maps : sequence of ExclusionMap
+        From upper-limit curves (exclusions).
+    forecast_maps : sequence of ExclusionMap, optional
+        From noise-budget curves, same hosts in the same order.
+    title : str, optional
+
+    Returns
+    -------
+    matplotlib Figure
+    """
+    import matplotlib
+
+    matplotlib.use("Agg", force=False)
+    import matplotlib.pyplot as plt
+
+    fig, ax = plt.subplots(figsize=(7.2, 4.8), layout="constrained")
+    for i, r in enumerate(limit_maps):
+        colour = OKABE_ITO[i % len(OKABE_ITO)]
+        ax.plot(r.period.to_value(u.yr), r.max_mass_ratio, color=colour, lw=1.8,
+                label=f"{r.host.name} ({r.label})")
+        if i < len(forecast_maps):
+            fr = forecast_maps[i]
+            ax.plot(fr.period.to_value(u.yr), fr.max_mass_ratio, color=colour, lw=1.2,
+                    ls="--", label=f"{fr.host.name} ({fr.label})")
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    qmin = min(np.nanmin(r.mass_ratio) for r in limit_maps)
+    ax.set_ylim(qmin, 1.05)
+    ax.set_xlabel("orbital period P [yr] (observer frame)")
+    ax.set_ylabel(r"largest allowed mass ratio $q = m_2/m_1$")
+    ax.set_title(title or "Companions above each line are excluded (solid) or would be "
+                 "detectable (dashed)", fontsize=10)
+    ax.legend(fontsize=7, ncol=2, loc="lower right", framealpha=0.9)
+    ax.grid(True, which="major", color="0.9")
+    return fig

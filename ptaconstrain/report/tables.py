@@ -1,0 +1,111 @@
+"""Tables and text summaries of exclusion maps."""
+
+import numpy as np
+from astropy import units as u
+
+__all__ = ["exclusion_table", "summary_lines", "format_quantity"]
+
+
+def format_quantity(q, digits=3):
+    """'7.94 yr'-style text with ``digits`` significant figures."""
+    unit = q.unit.to_string()
+    return f"{q.value:.{digits}g} {unit}".strip()
+
+
+def exclusion_table(result, meta=None):
+    """One row per period: the bound on companions of the host.
+
+    Columns: ``period`` [yr], ``f_gw`` [Hz], ``h0_threshold`` (the curve's
+    h0 there), ``max_mass_ratio`` (largest q not excluded/detectable; NaN
+    where the curve says nothing or above ISCO), ``companion_mass``
+    [solMass] (m2 at that q), ``separation`` [pc], ``separation_rg``
+    [G M / c^2], ``chirp_mass_ratio`` (smallest q that chirps within the
+    span; NaN if none), ``constrained`` (inside the curve's band and below
+    f_ISCO).
+
+    Parameters
+    ----------
+    result : ExclusionMap
+    meta : dict, optional
+        Provenance to store in the table meta.
+
+    Returns
+    -------
+    astropy.table.QTable
+    """
+    from astropy.table import QTable
+
+    t = QTable()
+    t["period"] = result.period.to(u.yr)
+    t["f_gw"] = result.frequency.to(u.Hz)
+    t["h0_threshold"] = result.h0_threshold
+    t["max_mass_ratio"] = result.max_mass_ratio
+    t["companion_mass"] = result.companion_mass.to(u.Msun)
+    t["separation"] = result.separation.to(u.pc)
+    t["separation_rg"] = result.separation_rg
+    t["chirp_mass_ratio"] = result.chirp_mass_ratio
+    t["constrained"] = np.isfinite(result.max_mass_ratio)
+    descriptions = {
+        "period": "orbital period, observer frame",
+        "f_gw": "GW frequency 2/P, observer frame",
+        "h0_threshold": f"strain amplitude above which a binary is {result.verb}",
+        "max_mass_ratio": f"largest mass ratio q = m2/m1 not {result.verb} "
+        "(1: none; NaN: not constrained or above ISCO)",
+        "companion_mass": "companion mass m2 = M q/(1+q) at max_mass_ratio",
+        "separation": "binary separation (Kepler's third law)",
+        "separation_rg": "separation in gravitational radii G M / c^2",
+        "chirp_mass_ratio": "smallest q whose frequency drifts by > 1/T over the span "
+        "(monochromatic model invalid above it; NaN: none)",
+        "constrained": "inside the curve's frequency range and below f_ISCO",
+    }
+    for name, text in descriptions.items():
+        t[name].info.description = text
+    t.meta["statement"] = (
+        "EXCLUSION from an upper limit" if result.is_limit
+        else "FORECAST from a noise budget (detectable, not excluded)"
+    )
+    t.meta["sensitivity"] = result.label
+    t.meta["sky"] = result.curve.sky
+    t.meta["observing_span"] = format_quantity(result.span.to(u.yr))
+    t.meta["total_mass"] = format_quantity(result.host.mass.to(u.Msun))
+    t.meta["luminosity_distance"] = format_quantity(result.host.distance.to(u.Mpc))
+    t.meta["f_isco"] = format_quantity(result.isco_frequency.to(u.Hz))
+    if meta:
+        t.meta.update(meta)
+    return t
+
+
+def summary_lines(result):
+    """Two lines: the tightest bound and the lightest companion excluded.
+
+    Returns
+    -------
+    list of str, e.g.
+    ``["Host A: q > 0.021 ruled out at P = 7.9 yr (95% upper limit)", ...]``
+    """
+    host = result.host.name
+    best = result.tightest()
+    if result.is_limit:
+        phrase, tag = "ruled out", result.label
+    else:
+        phrase, tag = "would be detectable", f"{result.label}; a forecast, not an exclusion"
+    if best is None:
+        lines = [f"{host}: no companion {phrase} at any period on the grid ({tag})"]
+        band = result.curve.frequency
+        lines.append(
+            f"{host}: h0 of an equal-mass binary stays below the curve over "
+            f"{band[0].to_value(u.nHz):.3g}-{band[-1].to_value(u.nHz):.3g} nHz "
+            f"(M = {format_quantity(result.host.mass)}, D_L = "
+            f"{format_quantity(result.host.distance.to(u.Mpc))})"
+        )
+        return lines
+    period, qmax = best
+    m2 = result.smallest_excluded_companion_mass
+    cut = result.max_mass_ratio < 1.0
+    p = result.period.to_value(u.yr)[cut]
+    lines = [
+        f"{host}: q > {qmax:.3g} {phrase} at P = {period.to_value(u.yr):.3g} yr ({tag})",
+        f"{host}: companions above {m2.to_value(u.Msun):.3g} solMass {phrase} for some "
+        f"period; some q {phrase} for P = {p.min():.3g}-{p.max():.3g} yr",
+    ]
+    return lines
