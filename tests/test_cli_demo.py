@@ -1,0 +1,21 @@
+from astropy.table import QTable
+from click.testing import CliRunner
+
+from ptaconstrain.cli import main
+
+
+def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
+    out = tmp_path / "demo"
+    r = CliRunner().invoke(main, ["demo", "--out", str(out)])
+    assert r.exit_code == 0, r.output
+    assert "INVENTED" in r.output
+    summary = QTable.read(out / "demo_summary.ecsv")
+    assert len(summary) == 5
+    assert (out / "demo_overview.png").stat().st_size > 10_000
+    # every host gets an exclusion and a forecast figure
+    assert len(list(out.glob("*_exclusion.png"))) == 5
+    assert len(list(out.glob("*_forecast.png"))) == 5
+    # a forecast from a noise budget reaches smaller q than the present-day limit
+    assert all(summary["best_q_forecast"] < summary["best_q_limit"])
+    again = CliRunner().invoke(main, ["demo", "--out", str(out)])
+    assert again.exit_code != 0 and "--overwrite" in again.output
