@@ -1,0 +1,5 @@
+"""``python -m ptaconstrain.cli`` runs the command-line interface."""
+
+from . import main
+
+main()
