@@ -117,14 +117,23 @@ class ExclusionMap:
         """e.g. '95% upper limit' or 'forecast, S/N >= 5'."""
         return self.curve.label(self.snr)
 
+    @property
+    def bound_is_monochromatic(self):
+        """Per period: the bound lies below the chirping region (a valid CW statement)."""
+        return ~(np.nan_to_num(self.chirp_mass_ratio, nan=np.inf) < self.max_mass_ratio)
+
     def tightest(self):
         """Period of the smallest ``max_mass_ratio`` and that ratio, or None.
+
+        Periods where the bound falls inside the chirping region are skipped:
+        there the monochromatic model behind the curve does not hold.
 
         Returns
         -------
         (Quantity [yr], float) or None when nothing is excluded.
         """
-        qmax = np.where(np.isnan(self.max_mass_ratio), np.inf, self.max_mass_ratio)
+        ok = ~np.isnan(self.max_mass_ratio) & self.bound_is_monochromatic
+        qmax = np.where(ok, self.max_mass_ratio, np.inf)
         i = int(np.argmin(qmax))
         if not np.isfinite(qmax[i]) or qmax[i] >= 1.0:
             return None
@@ -132,9 +141,12 @@ class ExclusionMap:
 
     @property
     def smallest_excluded_companion_mass(self):
-        """Lightest companion excluded at any period (Quantity [solMass]) or None."""
+        """Lightest companion excluded at any period (Quantity [solMass]) or None.
+
+        Like :meth:`tightest`, skips periods whose bound lies in the chirping region.
+        """
         m = self.companion_mass.to_value(u.Msun)
-        ok = np.isfinite(m) & (self.max_mass_ratio < 1.0)
+        ok = np.isfinite(m) & (self.max_mass_ratio < 1.0) & self.bound_is_monochromatic
         if not np.any(ok):
             return None
         return np.min(m[ok]) * u.Msun

@@ -137,3 +137,17 @@ def test_bad_grids_are_rejected(limit_curve):
         exclusion_map(host, limit_curve, [0.0, 0.5], P)
     with pytest.raises(ValueError, match="period"):
         exclusion_map(host, limit_curve, Q, [-1, 2] * u.yr)
+
+
+def test_tightest_bound_skips_periods_where_the_bound_chirps():
+    # a flat limit puts the raw minimum at short periods, deep in the chirping region
+    curve = power_law_limit(h_ref=1e-14, slope=0.0)
+    r = exclusion_map(Host("A", 3e10, 50), curve, Q, P)
+    raw = int(np.nanargmin(r.max_mass_ratio))
+    assert not r.bound_is_monochromatic[raw]
+    period, q = r.tightest()
+    j = int(np.argmin(np.abs(r.period - period)))
+    assert r.bound_is_monochromatic[j] and q == r.max_mass_ratio[j]
+    # every valid bound is at least as loose as the reported tightest one
+    assert np.all(r.max_mass_ratio[r.bound_is_monochromatic & np.isfinite(r.max_mass_ratio)]
+                  >= q)

@@ -88,9 +88,14 @@ def exclusion_figure(result, ax=None):
         if mask.any():
             ax.contourf(p, q, mask, levels=[0.5, 1.5], colors="none",
                         hatches=[REGION_STYLE[code][3]])
-    ax.plot(p, result.max_mass_ratio, color="#0072B2", lw=1.8,
-            label=f"max allowed q ({result.label})" if result.is_limit
-            else f"detection threshold ({result.label})")
+    label = (f"max allowed q ({result.label})" if result.is_limit
+             else f"detection threshold ({result.label})")
+    qmax = result.max_mass_ratio
+    chirps = ~result.bound_is_monochromatic & np.isfinite(qmax)
+    ax.plot(p, np.where(chirps, np.nan, qmax), color="#0072B2", lw=1.8, label=label)
+    if chirps.any():
+        ax.plot(p, np.where(chirps, qmax, np.nan), color="black", lw=1.2, ls=":",
+                label="same, where the binary chirps (not a CW bound)")
     if result.hardening_period is not None:
         ax.plot(result.hardening_period.to_value(u.yr), q, color="#009E73", ls="--", lw=1.4,
                 label=r"hardening radius $a_h = G\mu/4\sigma^2$ (guide)")

@@ -28,24 +28,30 @@ def overview_figure(limit_maps, forecast_maps=(), title=None):
 
     matplotlib.use("Agg", force=False)
     import matplotlib.pyplot as plt
+    from matplotlib.lines import Line2D
 
     fig, ax = plt.subplots(figsize=(7.2, 4.8), layout="constrained")
     for i, r in enumerate(limit_maps):
         colour = OKABE_ITO[i % len(OKABE_ITO)]
         ax.plot(r.period.to_value(u.yr), r.max_mass_ratio, color=colour, lw=1.8,
-                label=f"{r.host.name} ({r.label})")
+                label=r.host.name)
         if i < len(forecast_maps):
             fr = forecast_maps[i]
             ax.plot(fr.period.to_value(u.yr), fr.max_mass_ratio, color=colour, lw=1.2,
-                    ls="--", label=f"{fr.host.name} ({fr.label})")
+                    ls="--")
+    styles = [Line2D([], [], color="0.3", lw=1.8, label=f"exclusion ({limit_maps[0].label})")]
+    if forecast_maps:
+        styles.append(Line2D([], [], color="0.3", lw=1.2, ls="--",
+                             label=f"forecast ({forecast_maps[0].label})"))
     ax.set_xscale("log")
     ax.set_yscale("log")
     qmin = min(np.nanmin(r.mass_ratio) for r in limit_maps)
     ax.set_ylim(qmin, 1.05)
     ax.set_xlabel("orbital period P [yr] (observer frame)")
-    ax.set_ylabel(r"largest allowed mass ratio $q = m_2/m_1$")
+    ax.set_ylabel(r"bound on the mass ratio $q = m_2/m_1$")
     ax.set_title(title or "Companions above each line are excluded (solid) or would be "
                  "detectable (dashed)", fontsize=10)
-    ax.legend(fontsize=7, ncol=2, loc="lower right", framealpha=0.9)
+    handles, _ = ax.get_legend_handles_labels()
+    ax.legend(handles=handles + styles, fontsize=8, ncol=2, loc="lower right", framealpha=0.9)
     ax.grid(True, which="major", color="0.9")
     return fig

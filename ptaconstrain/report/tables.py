@@ -101,7 +101,7 @@ def summary_lines(result):
         return lines
     period, qmax = best
     m2 = result.smallest_excluded_companion_mass
-    cut = result.max_mass_ratio < 1.0
+    cut = (result.max_mass_ratio < 1.0) & result.bound_is_monochromatic
     p = result.period.to_value(u.yr)[cut]
     lines = [
         f"{host}: q > {qmax:.3g} {phrase} at P = {period.to_value(u.yr):.3g} yr ({tag})",
