@@ -90,6 +90,9 @@ ECSV_HEAD = ("# %ECSV 1.0\n# ---\n# datatype:\n"
         (["--sigma", "-200"], "must be positive"),
         (["--redshift", "-1"], "--redshift"),
         (["--curve", "does-not-exist.ecsv"], "not found"),
+        (["--name", "  "], "name"),
+        (["--kind", "h0"], "--kind"),
+        (["--mass-distance", "0"], "must be positive"),
     ],
 )
 def test_bad_arguments_give_one_line_and_no_output(tmp_path, curve_file, change, message):
@@ -140,6 +143,14 @@ def test_plain_text_with_a_word_in_it(tmp_path):
     p = _bad_curve(tmp_path, "1e-9 1e-14\n1e-8 oops\n", "c.txt")
     r = run(base_args(p, tmp_path / "res") + ["--kind", "h0_limit"])
     assert r.exit_code != 0 and "two numeric columns" in r.output
+
+
+def test_out_that_is_a_file_is_refused(tmp_path, curve_file):
+    target = tmp_path / "taken"
+    target.write_text("user data")
+    r = run(base_args(curve_file, target))
+    assert r.exit_code != 0 and len(r.output.strip().splitlines()) == 1
+    assert target.read_text() == "user data"
 
 
 def test_missing_required_option_is_one_line(tmp_path, curve_file):
