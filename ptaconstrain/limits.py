@@ -25,6 +25,7 @@ __all__ = [
     "exclusion_map",
     "default_periods",
     "default_mass_ratios",
+    "exclusion_probability",
 ]
 
 ALLOWED = 0
@@ -245,3 +246,7 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None)
         span=span,
         snr=float(snr),
     )
+
+
+# Uncertainty-aware maps live in their own module; re-exported here for users.
+from .probability import exclusion_probability  # noqa: E402  (defined after ExclusionMap)

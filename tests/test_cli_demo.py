@@ -1,3 +1,4 @@
+import numpy as np
 from astropy.table import QTable
 from click.testing import CliRunner
 
@@ -19,3 +20,11 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     assert all(summary["best_q_forecast"] < summary["best_q_limit"])
     again = CliRunner().invoke(main, ["demo", "--out", str(out)])
     assert again.exit_code != 0 and "--overwrite" in again.output
+
+    # issue: uncertainty-aware exclusion shown for one fictional galaxy
+    assert "95% credible bound" in r.output and "best-fit bound" in r.output
+    t = QTable.read(out / "Velmora_Central_probability.ecsv")
+    best, cred = t["max_mass_ratio"], t["max_mass_ratio_0.95"]
+    ok = np.isfinite(best) & np.isfinite(cred)
+    # with mass and distance errors the 95% credible bound is looser than the best fit
+    assert np.all(cred[ok] >= best[ok]) and np.any(cred[ok] > best[ok])

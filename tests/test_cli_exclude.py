@@ -93,6 +93,15 @@ ECSV_HEAD = ("# %ECSV 1.0\n# ---\n# datatype:\n"
         (["--name", "  "], "name"),
         (["--kind", "h0"], "--kind"),
         (["--mass-distance", "0"], "must be positive"),
+        (["--mass-err", "-0.2"], "--mass-err"),
+        (["--mass-err", "0.1,0.2,0.3"], "--mass-err"),
+        (["--mass-err", "abc%"], "not a number"),
+        (["--distance-err", "-3"], "must be >= 0"),
+        (["--distance-err", "3 kg"], "cannot read"),
+        (["--velocity-err", "-30"], "must be positive"),
+        (["--mass-err", "0.2", "--credibility", "0.5,1.5"], "in (0, 1)"),
+        (["--mass-err", "0.2", "--samples", "5"], "--samples"),
+        (["--mass-err", "0.2", "--seed", "-1"], "--seed"),
     ],
 )
 def test_bad_arguments_give_one_line_and_no_output(tmp_path, curve_file, change, message):
@@ -176,3 +185,27 @@ def test_forecast_summary_says_it_is_not_an_exclusion(tmp_path):
 def test_help_shows_an_example():
     r = run(["exclude", "--help"])
     assert r.exit_code == 0 and "Example" in r.output and "solMass" in r.output
+
+
+def test_uncertainties_add_credible_columns_contours_and_seed(tmp_path, curve_file):
+    out = tmp_path / "res"
+    args = base_args(curve_file, out) + ["--mass-err", "0.2", "--distance-err", "10%",
+                                         "--mass-distance", "100", "--samples", "20000",
+                                         "--seed", "7", "--credibility", "0.9,0.95",
+                                         "--format", "png"]
+    r = run(args)
+    assert r.exit_code == 0, r.output
+    assert "with probability >= 0.95" in r.output and "seed 7" in r.output
+    t = QTable.read(out / "Test_Host_exclusion.ecsv")
+    assert {"max_mass_ratio_0.9", "max_mass_ratio_0.95"} <= set(t.colnames)
+    assert t.meta["probability_seed"] == "7" and t.meta["probability_samples"] == "20000"
+    # a 95% credible bound is never tighter than the 90% one (same samples)
+    a, b = t["max_mass_ratio_0.9"], t["max_mass_ratio_0.95"]
+    ok = np.isfinite(a) & np.isfinite(b)
+    assert np.all(b[ok] >= a[ok])
+    # same seed, same table
+    r2 = run(args[:args.index("--out") + 1] + [str(tmp_path / "again")] +
+             args[args.index("--out") + 2:])
+    assert r2.exit_code == 0
+    t2 = QTable.read(tmp_path / "again" / "Test_Host_exclusion.ecsv")
+    np.testing.assert_array_equal(t2["max_mass_ratio_0.95"], b)

@@ -57,6 +57,7 @@ def run_demo(out, overwrite=False):
                                          out, overwrite))
     lines += [line for _, _, text in results for line in text]
     lines += _summary_outputs(results, out, overwrite)
+    lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite)
     lines += _optional_parts(out, hosts, limit, overwrite)
     return lines
 
@@ -112,6 +113,34 @@ def _summary_outputs(results, out, overwrite):
     save_figure(overview_figure(lim, fc), out / "demo_overview", ("png",), overwrite)
     return [f"summary table {out / 'demo_summary.ecsv'}; overview figure "
             f"{out / 'demo_overview.png'}"]
+
+
+def _probability_outputs(host, limit, limit_path, out, overwrite, seed=2026):
+    """Probability map of one host from its mass and distance errors."""
+    from ..io import write_table
+    from ..probability import exclusion_probability
+    from ..report.figures import exclusion_figure, save_figure
+    from ..report.provenance import provenance, safe_name
+    from ..report.tables import credible_summary_lines, exclusion_table
+
+    prob = exclusion_probability(host, limit, samples=100_000, seed=seed)
+    stem = out / f"{safe_name(host.name)}_probability"
+    meta = provenance(host.describe(), files={"curve": limit_path})
+    meta["demo"] = "INVENTED data: fictional host, synthetic curve"
+    write_table(exclusion_table(prob.deterministic, meta, prob_map=prob), f"{stem}.ecsv",
+                overwrite)
+    save_figure(exclusion_figure(prob.deterministic, prob_map=prob), stem, ("png",), overwrite)
+    best = prob.deterministic.tightest()
+    cred = prob.tightest(0.95)
+    lines = [f"{host.name} with its errors ({host.describe().get('mass_err_dex')} dex in mass, "
+             f"{host.describe().get('distance_err')} in distance, mass scaled with distance):"]
+    if best is not None and cred is not None:
+        lines.append(f"  best-fit bound q > {best[1]:.3g} at P = {best[0].to_value('yr'):.3g} yr"
+                     f"; 95% credible bound q > {cred[1]:.3g} at P = "
+                     f"{cred[0].to_value('yr'):.3g} yr ({stem}.png)")
+    else:
+        lines += credible_summary_lines(prob)
+    return lines
 
 
 def _optional_parts(out, hosts, limit, overwrite):

@@ -3,7 +3,17 @@
 import click
 
 from . import main
-from .params import DISTANCE, MASS, SPEED, TIME, FormatList, RangeType
+from .params import (
+    DISTANCE,
+    MASS,
+    SPEED,
+    TIME,
+    DistanceError,
+    FormatList,
+    LevelList,
+    MassError,
+    RangeType,
+)
 
 __all__ = ["exclude", "run_exclusion"]
 
@@ -37,6 +47,19 @@ def _grid(text):
 @click.option("--dec", default=None, help="Declination, e.g. 12.4 (deg) or '+12d23m28s'.")
 @click.option("--sigma", "velocity_dispersion", type=SPEED, default=None,
               help="Central velocity dispersion (km/s): draws the hardening radius.")
+@click.option("--mass-err", type=MassError(), default=None,
+              help="Mass error: dex ('0.2'), lower,upper dex ('0.15,0.25') or '30%'. "
+              "Turns on probability maps.")
+@click.option("--distance-err", type=DistanceError(), default=None,
+              help="Distance error: Gaussian sigma ('5', Mpc) or '10%'.")
+@click.option("--velocity-err", type=SPEED, default=None,
+              help="Peculiar-velocity error of a redshift distance (km/s).")
+@click.option("--samples", type=click.IntRange(min=100), default=100_000, show_default=True,
+              help="Monte-Carlo samples of the host for probability maps.")
+@click.option("--seed", type=click.IntRange(min=0), default=None,
+              help="Random seed (recorded in the table; drawn afresh if omitted).")
+@click.option("--credibility", type=LevelList(), default="0.5,0.9,0.95", show_default=True,
+              help="Credibility levels of the probabilistic bounds.")
 @click.option("--curve", "curve_path", type=click.Path(dir_okay=False), required=True,
               help="Sensitivity curve: ECSV, or two-column text with --kind.")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
@@ -60,11 +83,17 @@ def exclude(**opts):
     """Rule out companions of one host black hole.
 
     Writes OUT/<name>_exclusion.ecsv (one row per period) and the figure
-    OUT/<name>_exclusion.png/.pdf, and prints a two-line summary.
+    OUT/<name>_exclusion.png/.pdf, and prints a two-line summary.  With
+    --mass-err, --distance-err or --velocity-err the host's uncertainties
+    are sampled: the figure gains probability contours, the table one
+    max_mass_ratio_<credibility> column per level.
 
     \b
     Example:
       ptaconstrain exclude --mass 2e10 --distance 100 \\
+          --curve sensitivity_curves/synthetic_h0_limit.ecsv --out results
+      ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
+          --distance-err 10% --mass-distance 100 --seed 1 \\
           --curve sensitivity_curves/synthetic_h0_limit.ecsv --out results
     """
     for line in run_exclusion(**opts):
@@ -72,6 +101,7 @@ def exclude(**opts):
 
 
 def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, velocity_dispersion,
+                  mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, kind, snr, span, mass_ratio_range, period_range, grid, formats,
                   out, overwrite):
     """Library calls behind ``exclude``; returns the summary lines."""
@@ -85,7 +115,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from ..limits import exclusion_map
     from ..report.figures import exclusion_figure, save_figure
     from ..report.provenance import provenance, safe_name
-    from ..report.tables import exclusion_table, summary_lines
+    from ..report.tables import credible_summary_lines, exclusion_table, summary_lines
     from ..source import Host
 
     nq, n_p = _grid(grid)
@@ -94,7 +124,8 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     check_new(targets, overwrite)
 
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
-                ra=ra, dec=dec, velocity_dispersion=velocity_dispersion)
+                ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
+                velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))
     curve = load_curve(curve_path, kind=kind)
     q = np.logspace(np.log10(mass_ratio_range[0]), np.log10(mass_ratio_range[1]), nq)
     if period_range is None:
@@ -104,17 +135,27 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     else:
         lo, hi = (p.to_value(u.yr) for p in period_range)
         period = np.logspace(np.log10(lo), np.log10(hi), n_p) * u.yr
-    result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
+    prob = None
+    if mass_err or distance_err or velocity_err is not None:
+        from ..probability import exclusion_probability
+
+        prob = exclusion_probability(host, curve, q, period, samples=samples, seed=seed,
+                                     credibility=credibility, snr=snr, span=span)
+        result = prob.deterministic
+    else:
+        result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
 
     inputs = host.describe()
     inputs.update(snr=f"{snr:g}", span=str(result.span), grid=f"{nq}x{n_p}",
                   mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
                   period_range=f"{period[0]:.4g},{period[-1]:.4g}")
     meta = provenance(inputs, files={"curve": curve_path})
-    table = exclusion_table(result, meta)
-    fig = exclusion_figure(result)
+    table = exclusion_table(result, meta, prob_map=prob)
+    fig = exclusion_figure(result, prob_map=prob)
     write_table(table, targets[0], overwrite)
     written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
     lines = summary_lines(result)
+    if prob is not None:
+        lines += credible_summary_lines(prob)
     lines.append("wrote " + ", ".join(str(p) for p in written))
     return lines

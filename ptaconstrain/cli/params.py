@@ -5,8 +5,8 @@ astropy is imported only when a value is converted, never at start-up.
 
 import click
 
-__all__ = ["QuantityType", "RangeType", "FormatList", "MASS", "DISTANCE", "TIME",
-           "FREQUENCY", "SPEED", "POSITIVE"]
+__all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
+           "LevelList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
 
 
 class QuantityType(click.ParamType):
@@ -106,6 +106,62 @@ class FormatList(click.ParamType):
             self.fail(f"unknown figure format {bad[0] if bad else value!r}: use "
                       f"{', '.join(self.choices)}", param, ctx)
         return items
+
+
+class MassError(click.ParamType):
+    """Mass error: ``0.2`` (dex), ``0.15,0.25`` (lower,upper dex) or ``30%`` (fraction).
+
+    Converts to ``{"mass_err_dex": ...}`` or ``{"mass_err_frac": ...}`` for Host.
+    """
+
+    name = "dex|lo,hi|pct%"
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, dict):
+            return value
+        text = str(value).strip()
+        if text.endswith("%"):
+            frac = _float(text[:-1], self, param, ctx) / 100.0
+            if frac < 0:
+                self.fail(f"{text!r} must be >= 0", param, ctx)
+            return {"mass_err_frac": frac}
+        parts = [_float(p, self, param, ctx) for p in text.split(",")]
+        if len(parts) not in (1, 2) or min(parts) < 0:
+            self.fail(f"{text!r}: give dex >= 0 ('0.2'), lower,upper dex ('0.15,0.25') "
+                      "or a percentage ('30%')", param, ctx)
+        return {"mass_err_dex": tuple(parts) if len(parts) == 2 else parts[0]}
+
+
+class DistanceError(click.ParamType):
+    """Distance error: ``5`` or ``5 Mpc`` (Gaussian sigma) or ``10%`` (fraction)."""
+
+    name = "sigma|pct%"
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, dict):
+            return value
+        text = str(value).strip()
+        if text.endswith("%"):
+            frac = _float(text[:-1], self, param, ctx) / 100.0
+            if frac < 0:
+                self.fail(f"{text!r} must be >= 0", param, ctx)
+            return {"distance_err_frac": frac}
+        return {"distance_err": QuantityType("Mpc", allow_zero=True).convert(text, param, ctx)}
+
+
+class LevelList(click.ParamType):
+    """Comma-separated probabilities in (0, 1), e.g. ``0.5,0.9,0.95``."""
+
+    name = "p1,p2,..."
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, tuple):
+            return value
+        levels = tuple(_float(p, self, param, ctx) for p in str(value).split(","))
+        if not levels or not all(0 < v < 1 for v in levels):
+            self.fail(f"{value!r}: each level must be in (0, 1), e.g. 0.5,0.9,0.95",
+                      param, ctx)
+        return tuple(sorted(set(levels)))
 
 
 MASS = QuantityType("solMass")

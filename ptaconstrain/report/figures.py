@@ -50,13 +50,16 @@ def _m2_to_q(m2, m_tot):
         return m2 / (m_tot - m2)
 
 
-def exclusion_figure(result, ax=None):
+def exclusion_figure(result, ax=None, prob_map=None):
     """Draw an :class:`~ptaconstrain.limits.ExclusionMap` on log axes.
 
     Parameters
     ----------
     result : ExclusionMap
     ax : matplotlib Axes, optional
+    prob_map : ProbabilityMap, optional
+        From :func:`ptaconstrain.probability.exclusion_probability`: its
+        probability contours are drawn over the deterministic map.
 
     Returns
     -------
@@ -69,7 +72,8 @@ def exclusion_figure(result, ax=None):
     from matplotlib.colors import BoundaryNorm, ListedColormap
     from matplotlib.patches import Patch
 
-    if ax is None:
+    own_figure = ax is None
+    if own_figure:
         fig, ax = plt.subplots(figsize=(7.4, 5.8))
         # Fixed margins: constrained layout doubles the drawing time.
         fig.subplots_adjust(left=0.11, right=0.87, bottom=0.23, top=0.85)
@@ -90,12 +94,25 @@ def exclusion_figure(result, ax=None):
                         hatches=[REGION_STYLE[code][3]])
     label = (f"max allowed q ({result.label})" if result.is_limit
              else f"detection threshold ({result.label})")
+    if prob_map is not None:
+        label = f"best-fit host: {label}"
     qmax = result.max_mass_ratio
     chirps = ~result.bound_is_monochromatic & np.isfinite(qmax)
     ax.plot(p, np.where(chirps, np.nan, qmax), color="#0072B2", lw=1.8, label=label)
     if chirps.any():
-        ax.plot(p, np.where(chirps, qmax, np.nan), color="black", lw=1.2, ls=":",
+        ax.plot(p, np.where(chirps, qmax, np.nan), color="#0072B2", lw=1.6, ls=":",
                 label="same, where the binary chirps (not a CW bound)")
+    if prob_map is not None:
+        from .probability_plot import add_probability_contours
+
+        add_probability_contours(ax, prob_map, levels=prob_map.credibility)
+        top_level = max(prob_map.credibility)
+        cred = prob_map.tightest(top_level)
+        if cred is not None:
+            cp, cq = cred[0].to_value(u.yr), cred[1]
+            ax.plot([cp], [cq], marker="^", color="black", ms=8, ls="none", zorder=5)
+            ax.annotate(f"q > {cq:.3g} at {100 * top_level:g}%\nprobability", (cp, cq),
+                        xytext=(14, 10), textcoords="offset points", fontsize=9)
     if result.hardening_period is not None:
         ax.plot(result.hardening_period.to_value(u.yr), q, color="#009E73", ls="--", lw=1.4,
                 label=r"hardening radius $a_h = G\mu/4\sigma^2$ (guide)")
@@ -124,8 +141,11 @@ def exclusion_figure(result, ax=None):
                      hatch=REGION_STYLE[c][3], label=REGION_STYLE[c][0 if lim else 1])
                for c in codes if np.any(result.region == c)]
     line_handles, _ = ax.get_legend_handles_labels()
-    ax.legend(handles=handles + line_handles, loc="upper center", bbox_to_anchor=(0.5, -0.11),
+    entries = handles + line_handles
+    ax.legend(handles=entries, loc="upper center", bbox_to_anchor=(0.5, -0.11),
               ncol=2, fontsize=8, frameon=False)
+    if own_figure:
+        _fit_legend_rows(fig, (len(entries) + 1) // 2)
     if lim:
         kind = f"exclusion, {result.label}"
     else:
@@ -136,6 +156,17 @@ def exclusion_figure(result, ax=None):
         f"{host.name}: M = {m_tot:.3g} M$_\\odot$, $D_L$ = "
         f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}", fontsize=10)
     return fig
+
+
+def _fit_legend_rows(fig, rows, base_rows=4, row_height=0.17):
+    """Grow the figure downwards so a legend of ``rows`` rows below the axes fits."""
+    extra = max(0, rows - base_rows) * row_height
+    if extra == 0:
+        return
+    h0 = fig.get_figheight()
+    h = h0 + extra
+    fig.set_figheight(h)
+    fig.subplots_adjust(bottom=(0.23 * h0 + extra) / h, top=1 - 0.15 * h0 / h)
 
 
 def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):

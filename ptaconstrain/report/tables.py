@@ -3,7 +3,7 @@
 import numpy as np
 from astropy import units as u
 
-__all__ = ["exclusion_table", "summary_lines", "format_quantity"]
+__all__ = ["exclusion_table", "summary_lines", "credible_summary_lines", "format_quantity"]
 
 
 def format_quantity(q, digits=3):
@@ -12,7 +12,7 @@ def format_quantity(q, digits=3):
     return f"{q.value:.{digits}g} {unit}".strip()
 
 
-def exclusion_table(result, meta=None):
+def exclusion_table(result, meta=None, prob_map=None):
     """One row per period: the bound on companions of the host.
 
     Columns: ``period`` [yr], ``f_gw`` [Hz], ``h0_threshold`` (the curve's
@@ -28,6 +28,9 @@ def exclusion_table(result, meta=None):
     result : ExclusionMap
     meta : dict, optional
         Provenance to store in the table meta.
+    prob_map : ProbabilityMap, optional
+        Adds one ``max_mass_ratio_<credibility>`` column per credibility and
+        the sampling set-up to the meta.
 
     Returns
     -------
@@ -58,6 +61,12 @@ def exclusion_table(result, meta=None):
         "(monochromatic model invalid above it; NaN: none)",
         "constrained": "inside the curve's frequency range and below f_ISCO",
     }
+    if prob_map is not None:
+        from .probability_plot import probability_columns, probability_descriptions
+
+        for name, col in probability_columns(prob_map).items():
+            t[name] = col
+        descriptions.update(probability_descriptions(prob_map))
     for name, text in descriptions.items():
         t[name].info.description = text
     t.meta["statement"] = (
@@ -70,6 +79,8 @@ def exclusion_table(result, meta=None):
     t.meta["total_mass"] = format_quantity(result.host.mass.to(u.Msun))
     t.meta["luminosity_distance"] = format_quantity(result.host.distance.to(u.Mpc))
     t.meta["f_isco"] = format_quantity(result.isco_frequency.to(u.Hz))
+    if prob_map is not None:
+        t.meta.update(prob_map.describe())
     if meta:
         t.meta.update(meta)
     return t
@@ -108,4 +119,26 @@ def summary_lines(result):
         f"{host}: companions above {m2.to_value(u.Msun):.3g} solMass {phrase} for some "
         f"period; some q {phrase} for P = {p.min():.3g}-{p.max():.3g} yr",
     ]
+    return lines
+
+
+def credible_summary_lines(prob_map):
+    """One line per credibility: the tightest credible bound with the host's errors.
+
+    Returns
+    -------
+    list of str, e.g. ``["Host A: q > 0.046 ruled out at P = 4.8 yr with
+    probability >= 0.95 (mass, distance errors; 100000 samples, seed 1)"]``
+    """
+    phrase = "ruled out" if prob_map.is_limit else "detectable"
+    name = prob_map.host.name
+    lines = []
+    for c in prob_map.credibility:
+        best = prob_map.tightest(c)
+        tail = f"with probability >= {c:g} ({prob_map.n_samples} samples, seed {prob_map.seed})"
+        if best is None:
+            lines.append(f"{name}: no companion {phrase} {tail}")
+        else:
+            lines.append(f"{name}: q > {best[1]:.3g} {phrase} at P = "
+                         f"{best[0].to_value(u.yr):.3g} yr {tail}")
     return lines
