@@ -10,7 +10,7 @@ host's redshift), so that h0 scales as D^(2/3) for a fixed angular measurement.
 import numpy as np
 from astropy import units as u
 
-__all__ = ["Host", "as_quantity", "hosts_from_table"]
+__all__ = ["Host", "as_quantity", "hosts_from_table", "parse_coord"]
 
 
 def as_quantity(value, unit, field):
@@ -60,7 +60,14 @@ def _positive(q, field):
     return q
 
 
-def _parse_coord(coord, ra, dec):
+def parse_coord(coord, ra, dec):
+    """A SkyCoord from ``coord`` or from RA/Dec (strings or degrees); None if none given.
+
+    Raises
+    ------
+    ValueError
+        Naming the sky position and the accepted forms.
+    """
     if coord is None and ra is None and dec is None:
         return None
     from astropy.coordinates import SkyCoord
@@ -179,7 +186,7 @@ class Host:
             self.mass_distance = _positive(
                 as_quantity(mass_distance, u.Mpc, "mass_distance"), "mass_distance"
             )
-        self.coord = _parse_coord(coord, ra, dec)
+        self.coord = parse_coord(coord, ra, dec)
         self.velocity_dispersion = None
         if velocity_dispersion is not None:
             self.velocity_dispersion = _positive(

@@ -15,7 +15,7 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     assert (out / "demo_overview.png").stat().st_size > 10_000
     # every host gets an exclusion and a forecast figure
     assert len(list(out.glob("*_exclusion.png"))) == 5
-    assert len(list(out.glob("*_forecast.png"))) == 5
+    assert len([p for p in out.glob("*_forecast.png") if "_array_" not in p.name]) == 5
     # a forecast from a noise budget reaches smaller q than the present-day limit
     assert all(summary["best_q_forecast"] < summary["best_q_limit"])
     again = CliRunner().invoke(main, ["demo", "--out", str(out)])
@@ -28,3 +28,10 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     ok = np.isfinite(best) & np.isfinite(cred)
     # with mass and distance errors the 95% credible bound is looser than the best fit
     assert np.all(cred[ok] >= best[ok]) and np.any(cred[ok] > best[ok])
+
+    # issue: pulsar-array sensitivity; hosts in well- and poorly covered directions
+    assert (out / "demo_array_h0_map.fits").exists() and (out / "demo_array_h0_map.png").exists()
+    assert "well-covered direction" in r.output and "poorly covered direction" in r.output
+    lines = [ln for ln in r.output.splitlines() if "detectable at its position" in ln]
+    ratios = [float(ln.split("(")[1].split(" x")[0]) for ln in lines]
+    assert min(ratios) < 0.8 and max(ratios) > 1.5  # visibly deeper vs visibly shallower

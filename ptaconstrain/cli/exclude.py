@@ -60,8 +60,13 @@ def _grid(text):
               help="Random seed (recorded in the table; drawn afresh if omitted).")
 @click.option("--credibility", type=LevelList(), default="0.5,0.9,0.95", show_default=True,
               help="Credibility levels of the probabilistic bounds.")
-@click.option("--curve", "curve_path", type=click.Path(dir_okay=False), required=True,
+@click.option("--curve", "curve_path", type=click.Path(dir_okay=False), default=None,
               help="Sensitivity curve: ECSV, or two-column text with --kind.")
+@click.option("--array", "array_path", type=click.Path(dir_okay=False), default=None,
+              help="Pulsar list (ECSV) instead of --curve: a forecast at the host's position.")
+@click.option("--skymap", "skymap_path", type=click.Path(dir_okay=False), default=None,
+              help="HEALPix FITS map of h0 upper limits instead of --curve: the limit at "
+              "the host's pixel.")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What a plain-text curve holds.")
 @click.option("--snr", type=click.FloatRange(min=0, min_open=True), default=5.0,
@@ -92,6 +97,8 @@ def exclude(**opts):
     Example:
       ptaconstrain exclude --mass 2e10 --distance 100 \\
           --curve sensitivity_curves/synthetic_h0_limit.ecsv --out results
+      ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
+          --array examples/demo_array.ecsv --out results
       ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
           --distance-err 10% --mass-distance 100 --seed 1 \\
           --curve sensitivity_curves/synthetic_h0_limit.ecsv --out results
@@ -102,15 +109,14 @@ def exclude(**opts):
 
 def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, velocity_dispersion,
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
-                  curve_path, kind, snr, span, mass_ratio_range, period_range, grid, formats,
-                  out, overwrite):
+                  curve_path, array_path, skymap_path, kind, snr, span, mass_ratio_range,
+                  period_range, grid, formats, out, overwrite):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
     import numpy as np
     from astropy import units as u
 
-    from ..curves import load_curve
     from ..io import check_new, write_table
     from ..limits import exclusion_map
     from ..report.figures import exclusion_figure, save_figure
@@ -126,7 +132,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
                 ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
                 velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))
-    curve = load_curve(curve_path, kind=kind)
+    sources = {"--curve": curve_path, "--array": array_path, "--skymap": skymap_path}
+    given = [k for k, v in sources.items() if v is not None]
+    if len(given) != 1:
+        raise click.UsageError("give exactly one of --curve, --array or --skymap"
+                               + (f" (got {', '.join(given)})" if given else ""))
+    source_path = sources[given[0]]
+    curve, sky_note = _sensitivity_at(host, curve_path, array_path, skymap_path, kind, snr)
     q = np.logspace(np.log10(mass_ratio_range[0]), np.log10(mass_ratio_range[1]), nq)
     if period_range is None:
         from ..limits import default_periods
@@ -149,13 +161,44 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     inputs.update(snr=f"{snr:g}", span=str(result.span), grid=f"{nq}x{n_p}",
                   mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
                   period_range=f"{period[0]:.4g},{period[-1]:.4g}")
-    meta = provenance(inputs, files={"curve": curve_path})
+    inputs["sensitivity_sky"] = sky_note
+    meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
     table = exclusion_table(result, meta, prob_map=prob)
     fig = exclusion_figure(result, prob_map=prob)
     write_table(table, targets[0], overwrite)
     written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
     lines = summary_lines(result)
+    if sky_note:
+        lines.append(f"{host.name}: sensitivity {sky_note}")
     if prob is not None:
         lines += credible_summary_lines(prob)
     lines.append("wrote " + ", ".join(str(p) for p in written))
     return lines
+
+
+def _sensitivity_at(host, curve_path, array_path, skymap_path, kind, snr):
+    """The curve for ``host`` and a note on which sky it refers to."""
+    import sys
+
+    from ..curves import load_curve
+
+    if curve_path is not None:
+        curve = load_curve(curve_path, kind=kind)
+        return curve, ""
+    if array_path is not None:
+        from ..array import load_array
+
+        sens = load_array(array_path)
+        with click.progressbar(length=len(sens), label="timing-model fits per pulsar",
+                               file=sys.stderr) as bar:
+            sens.weights(sens.default_frequencies(), callback=bar.update)  # cached
+    else:
+        from ..skymap import load_limit_map
+
+        sens = load_limit_map(skymap_path)
+    curve = sens.curve_at(host.coord, snr=snr) if array_path else sens.curve_at(host.coord)
+    if host.coord is None:
+        note = "sky-averaged: the host has no --ra/--dec"
+    else:
+        note = f"at the host's position ({curve.sky})"
+    return curve, note

@@ -9,16 +9,19 @@ __all__ = ["OKABE_ITO", "overview_figure"]
 OKABE_ITO = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#F0E442")
 
 
-def overview_figure(limit_maps, forecast_maps=(), title=None):
-    """max_mass_ratio against period for each host, limits solid, forecasts dashed.
+def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
+    """max_mass_ratio against period for each host: one set solid, the other dashed.
 
     Parameters
     ----------
     limit_maps : sequence of ExclusionMap
-        From upper-limit curves (exclusions).
+        Drawn solid (typically from upper-limit curves: exclusions).
     forecast_maps : sequence of ExclusionMap, optional
-        From noise-budget curves, same hosts in the same order.
+        Drawn dashed (typically from noise budgets), same hosts in the same order.
     title : str, optional
+    names : (str, str), optional
+        Legend text of the solid and dashed sets; default "exclusion (<label>)"
+        and "forecast (<label>)".
 
     Returns
     -------
@@ -39,10 +42,12 @@ def overview_figure(limit_maps, forecast_maps=(), title=None):
             fr = forecast_maps[i]
             ax.plot(fr.period.to_value(u.yr), fr.max_mass_ratio, color=colour, lw=1.2,
                     ls="--")
-    styles = [Line2D([], [], color="0.3", lw=1.8, label=f"exclusion ({limit_maps[0].label})")]
+    if names is None:
+        names = (f"exclusion ({limit_maps[0].label})",
+                 f"forecast ({forecast_maps[0].label})" if forecast_maps else "")
+    styles = [Line2D([], [], color="0.3", lw=1.8, label=names[0])]
     if forecast_maps:
-        styles.append(Line2D([], [], color="0.3", lw=1.2, ls="--",
-                             label=f"forecast ({forecast_maps[0].label})"))
+        styles.append(Line2D([], [], color="0.3", lw=1.2, ls="--", label=names[1]))
     ax.set_xscale("log")
     ax.set_yscale("log")
     qmin = min(np.nanmin(r.mass_ratio) for r in limit_maps)

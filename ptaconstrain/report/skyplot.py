@@ -1,0 +1,99 @@
+"""Mollweide figure of a HEALPix strain map, with pulsars and host galaxies marked.
+
+Equatorial coordinates, right ascension increasing to the left (the sky as
+seen from inside, the astronomical convention) with 0h at the right edge and
+12h in the centre.  The map is sampled on a 0.5 deg grid with
+``healpy.ang2pix`` and drawn on matplotlib's Mollweide axes with a
+logarithmic, perceptually uniform and colour-blind-safe colour map
+(cividis, Nunez et al. 2018, PLoS ONE 13, e0199239); pulsars are white dots,
+hosts orange stars (Okabe & Ito 2008 palette) with their names.
+"""
+
+import numpy as np
+
+__all__ = ["sky_map_figure"]
+
+_HOST_COLOUR = "#E69F00"
+
+
+def _x(ra_deg):
+    """RA [deg] -> Mollweide x [rad] with RA increasing to the left, 12h at the centre."""
+    return np.radians(180.0 - np.mod(np.asarray(ra_deg, float), 360.0))
+
+
+def sky_map_figure(values, pulsars=None, hosts=(), title=None,
+                   label="h0 (dimensionless strain)", nest=False, cmap="cividis"):
+    """Draw a HEALPix map (equatorial) in Mollweide projection.
+
+    Parameters
+    ----------
+    values : array (12 nside^2,)
+        Pixel values (e.g. the h0 threshold), RING ordering unless ``nest``;
+        NaN pixels are left blank.
+    pulsars : astropy.coordinates.SkyCoord, optional
+        Pulsar positions, marked as dots.
+    hosts : sequence of Host (or objects with ``name`` and ``coord``)
+        Marked as stars and labelled; hosts without a position are skipped.
+    title : str, optional
+    label : str
+        Colour-bar label, with units.
+    nest : bool
+    cmap : str
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    import healpy as hp
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    from matplotlib.colors import LogNorm
+
+    values = np.asarray(values, float)
+    nside = hp.npix2nside(values.size)
+    ra_edges = np.linspace(360.0, 0.0, 721)
+    dec_edges = np.linspace(-90.0, 90.0, 361)
+    ra_c = 0.5 * (ra_edges[1:] + ra_edges[:-1])
+    dec_c = 0.5 * (dec_edges[1:] + dec_edges[:-1])
+    ra_g, dec_g = np.meshgrid(ra_c, dec_c)
+    pix = hp.ang2pix(nside, ra_g, dec_g, lonlat=True, nest=nest)
+    grid = np.ma.masked_invalid(values[pix])
+
+    fig = plt.figure(figsize=(9.0, 5.4))
+    ax = fig.add_subplot(111, projection="mollweide")
+    x_edges = np.radians(180.0 - ra_edges)
+    y_edges = np.radians(dec_edges)
+    good = values[np.isfinite(values) & (values > 0)]
+    norm = LogNorm(vmin=good.min(), vmax=good.max()) if good.size else None
+    mesh = ax.pcolormesh(x_edges, y_edges, grid, cmap=cmap, norm=norm, shading="flat",
+                         rasterized=True)
+    cb = fig.colorbar(mesh, ax=ax, orientation="horizontal", pad=0.06, shrink=0.75)
+    cb.set_label(label)
+
+    ticks = np.arange(-150, 181, 30)
+    ax.set_xticks(np.radians(ticks))
+    ax.set_xticklabels([f"{int(np.mod(180 - t, 360) / 15)}h" for t in ticks], fontsize=8)
+    ax.tick_params(axis="y", labelsize=8)
+    ax.grid(True, color="0.5", lw=0.4, alpha=0.6)
+
+    if pulsars is not None and len(np.atleast_1d(pulsars.icrs.ra)):
+        icrs = pulsars.icrs
+        ax.plot(_x(icrs.ra.deg), icrs.dec.rad, "o", ms=4, mfc="white", mec="black", mew=0.7,
+                ls="none", label=f"pulsars ({len(np.atleast_1d(icrs.ra))})")
+    placed = [h for h in hosts if getattr(h, "coord", None) is not None]
+    for i, host in enumerate(placed):
+        c = host.coord.icrs
+        ax.plot(_x(c.ra.deg), c.dec.rad, "*", ms=13, mfc=_HOST_COLOUR, mec="black", mew=0.8,
+                ls="none", label="host galaxies" if i == 0 else None)
+        ax.annotate(host.name, (_x(c.ra.deg), c.dec.rad), xytext=(6, 6),
+                    textcoords="offset points", fontsize=8,
+                    bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none",
+                          "alpha": 0.8})
+    if ax.get_legend_handles_labels()[0]:
+        ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=8, framealpha=0.9)
+    ax.set_title(title or "", fontsize=10, pad=14)
+    fig.text(0.99, 0.01, "equatorial (ICRS); RA increases to the left", ha="right",
+             fontsize=7, color="0.3")
+    return fig

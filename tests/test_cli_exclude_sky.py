@@ -1,0 +1,78 @@
+"""exclude with position-dependent sensitivity: a pulsar list or a HEALPix limit map."""
+
+import healpy as hp
+import numpy as np
+from astropy.table import QTable
+from click.testing import CliRunner
+
+from ptaconstrain.cli import main
+from ptaconstrain.shipped import EXAMPLES, shipped_file
+
+NSIDE = 8
+
+
+def _north_south_limit_map(path):
+    """h0 limits 10 x deeper in the north (Dec > 0) than in the south, at 3 frequencies."""
+    theta, _ = hp.pix2ang(NSIDE, np.arange(hp.nside2npix(NSIDE)))
+    north = theta < np.pi / 2  # healpy colatitude
+    freqs = [3e-9, 1e-8, 1e-7]
+    maps = [np.where(north, 1e-15, 1e-14) * (f / 1e-8) for f in freqs]
+    extra = [(f"FREQ{i + 1}", f) for i, f in enumerate(freqs)] + [("MAPKIND", "h0_limit")]
+    hp.write_map(str(path), maps, coord="C", column_units="", extra_header=extra,
+                 dtype=np.float64)
+    return path
+
+
+def _run(args):
+    return CliRunner().invoke(main, args)
+
+
+def test_skymap_limit_is_taken_at_the_host_pixel(tmp_path):
+    # the same host placed in the deep (north) and shallow (south) halves of the map:
+    # h0 ~ eta, so a 10 x lower limit lowers eta_min 10 x (Thorne 1987 eq. 46)
+    path = _north_south_limit_map(tmp_path / "lim.fits")
+    bounds = {}
+    for name, dec in (("north", "40"), ("south", "-40")):
+        r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--ra", "150", "--dec", dec,
+                  "--skymap", str(path), "--out", str(tmp_path / name), "--name", name,
+                  "--grid", "60", "--format", "png"])
+        assert r.exit_code == 0, r.output
+        assert "at the host's position" in r.output and "ruled out" in r.output
+        t = QTable.read(tmp_path / name / f"{name}_exclusion.ecsv")
+        assert "skymap" in t.meta["files"]
+        bounds[name] = np.asarray(t["max_mass_ratio"])
+    ok = np.isfinite(bounds["north"]) & (bounds["south"] < 1)
+    assert ok.any() and np.all(bounds["north"][ok] < bounds["south"][ok])
+
+
+def test_array_without_position_says_sky_averaged(tmp_path):
+    r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--array",
+              str(shipped_file(EXAMPLES, "demo_array.ecsv")), "--out", str(tmp_path / "o"),
+              "--grid", "30", "--format", "png"])
+    assert r.exit_code == 0, r.output
+    assert "sky-averaged" in r.output and "would be detectable" in r.output
+    t = QTable.read(tmp_path / "o" / "host_exclusion.ecsv")
+    assert t.meta["sky"] == "averaged" and "FORECAST" in t.meta["statement"]
+
+
+def test_exactly_one_sensitivity_source(tmp_path):
+    for extra in ([], ["--curve", "a.ecsv", "--array", "b.ecsv"]):
+        r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--out",
+                  str(tmp_path / "o")] + extra)
+        assert r.exit_code != 0 and "exactly one of --curve, --array or --skymap" in r.output
+        assert len(r.output.strip().splitlines()) == 1
+    assert not (tmp_path / "o").exists()
+
+
+def test_threshold_map_is_refused_as_a_limit_map(tmp_path):
+    from astropy import units as u
+
+    from ptaconstrain.skymap import write_threshold_maps
+
+    path = tmp_path / "forecast.fits"
+    write_threshold_maps(path, np.full((2, hp.nside2npix(NSIDE)), 1e-15), [1e-8, 2e-8] * u.Hz,
+                         5.0, 10 * u.yr, "test")
+    r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--skymap", str(path),
+              "--out", str(tmp_path / "o")])
+    assert r.exit_code != 0 and len(r.output.strip().splitlines()) == 1
+    assert "Traceback" not in r.output and not (tmp_path / "o").exists()
