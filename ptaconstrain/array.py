@@ -75,7 +75,7 @@ method, the default.
 Sky map as a matrix product
 ---------------------------
 The orientation-averaged rho^2 of a binary of amplitude h0 at frequency f from
-direction n is (h0 / 2 pi f)^2 (2/5) sum_p (F+^2 + Fx^2)(n, p) w_p(f).  The
+direction n is (h0 / 2 pi f)^2 (8/5) sum_p (F+^2 + Fx^2)(n, p) w_p(f).  The
 costly, direction-independent part w[p, f] is computed once per pulsar and
 frequency; the sky enters only through F+^2 + Fx^2 = (1 + n.p)^2 / 4.  The map
 over all pixels is therefore one product (pattern[pix, p]) @ (w[p, f]).  This
@@ -416,6 +416,17 @@ class PulsarArray:
         self._cache[key] = w
         return w
 
+    def _check_band(self, f):
+        """Refuse frequencies outside 1/T .. 1/(2 dt): the array says nothing there."""
+        band = self.default_frequencies(2)
+        lo, hi = band[0], band[-1]
+        bad = (f < lo * (1 - 1e-9)) | (f > hi * (1 + 1e-9))
+        if np.any(bad):
+            raise ValueError(
+                f"frequency: {f[bad][0].to(u.nHz):.4g} is outside the array's band "
+                f"{lo.to_value(u.nHz):.4g}-{hi.to_value(u.nHz):.4g} nHz (1/T to the "
+                "Nyquist frequency of the median cadence); bare numbers are Hz, e.g. '8 nHz'")
+
     def default_frequencies(self, n=300):
         """Log-spaced GW frequencies from 1 / T to 1 / (2 dt), dt the median cadence.
 
@@ -476,7 +487,7 @@ class PulsarArray:
     def strain_psd(self, frequency, coord=None, pulsar_term=None, method="exact"):
         """Equivalent strain-noise PSD in the convention of :mod:`ptaconstrain.curves`.
 
-        S_n = (4/5) T / (rho^2 per unit h0^2), T = :attr:`span`, so that
+        S_n = (16/5) T / (rho^2 per unit h0^2), T = :attr:`span`, so that
         ``curves.detection_threshold_h0(S_n, T, snr)`` is the h0 whose mean
         rho^2 (over inclination and polarisation; and sky if ``coord`` is None)
         equals snr^2.
@@ -557,6 +568,7 @@ class PulsarArray:
         nside = check_nside(nside)
         snr = _check_snr(snr)
         f = _check_frequency(frequencies)
+        self._check_band(f)
         w = self.weights(f, callback=callback)
         term = self._term(pulsar_term)
         # rho^2 per unit h0^2 = pattern @ (0.4 w / (2 pi f)^2 [x 2 with pulsar term])

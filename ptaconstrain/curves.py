@@ -37,8 +37,9 @@ _VALUE_UNITS = {
     "characteristic_strain": u.dimensionless_unscaled,
 }
 
-#: Mean over isotropic inclination of [(1 + cos^2 i)^2 / 4 + cos^2 i] = 4/5.
-ORIENTATION_MEAN = 0.8
+#: Mean over isotropic inclination of [(1 + cos^2 i)^2 + 4 cos^2 i] = 28/15 + 4/3 = 16/5:
+#: the factor K in the orientation-averaged rho^2 = K h0^2 T / S_n.
+ORIENTATION_MEAN = 3.2
 
 
 class CurveError(ValueError):
@@ -51,14 +52,16 @@ def detection_threshold_h0(strain_psd, span, snr):
     For a strain-noise PSD S_n referred to one polarisation and averaged over
     the sky and polarisation angle (the convention of sky-averaged sensitivity
     curves, e.g. Robson, Cornish & Liu 2019, CQG 36, 105011), a wave h(t)
-    observed for a span T has rho^2 = (2 / S_n) int h^2 dt.  With the
-    polarisations of the README (h+ = h0 (1 + cos^2 i)/2 cos Phi,
-    hx = h0 cos i sin Phi) the phase average of h+^2 + hx^2 is
-    h0^2 [(1 + cos^2 i)^2 / 4 + cos^2 i] / 2, whose mean over isotropic
-    inclination is 2 h0^2 / 5, so the orientation-averaged (mean rho^2)
-    S/N is rho^2 = (4/5) h0^2 T / S_n and
+    observed for a span T has rho^2 = (2 / S_n) int (h+^2 + hx^2) dt.  With
+    h0 = 2 (G Mz)^(5/3) (pi f)^(2/3) / (c^4 D_L) the quadrupole polarisations
+    are h+ = h0 (1 + cos^2 i) cos Phi and hx = 2 h0 cos i sin Phi (Maggiore
+    2008 eqs. 4.29-4.30, whose amplitude is 2 h0; e.g. Sesana & Vecchio 2010,
+    PRD 81, 104008, from memory).  Their phase average is
+    h0^2 [(1 + cos^2 i)^2 + 4 cos^2 i] / 2, whose mean over isotropic
+    inclination is 8 h0^2 / 5, so the orientation-averaged (mean rho^2) S/N is
+    rho^2 = (16/5) h0^2 T / S_n and
 
-        h0 = rho sqrt(5 S_n / (4 T)).
+        h0 = rho sqrt(5 S_n / (16 T)).
 
     Parameters
     ----------

@@ -65,10 +65,17 @@ def atomic_write(path, overwrite=False):
         yield tmp
         if not overwrite and path.exists():
             raise OutputExistsError(f"{path} appeared while writing: not replaced")
+        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; outputs are for sharing
         os.replace(tmp, path)
     finally:
         if tmp.exists():
             tmp.unlink()
+
+
+def _umask():
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def write_table(table, path, overwrite=False):

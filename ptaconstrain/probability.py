@@ -56,14 +56,15 @@ _PERCENTILES = (16.0, 50.0, 84.0)
 def orientation_factor(cos_inclination):
     """S/N^2 of an inclined binary relative to the orientation average.
 
-    With h+ = h0 (1 + cos^2 i)/2 cos Phi and hx = h0 cos i sin Phi the
-    polarisation-averaged S/N^2 is proportional to
-    (1 + cos^2 i)^2 / 4 + cos^2 i, whose mean over isotropic inclination is
-    4/5 (:data:`ptaconstrain.curves.ORIENTATION_MEAN`), the convention of
-    :func:`ptaconstrain.curves.detection_threshold_h0`.  So a binary of
-    inclination i has rho^2 = g(i) x (4/5) h0^2 T / S_n with
+    With h+ = h0 (1 + cos^2 i) cos Phi and hx = 2 h0 cos i sin Phi (the
+    quadrupole polarisations for the PTA h0, see
+    :func:`ptaconstrain.waveform.strain_amplitude`) the polarisation-averaged
+    S/N^2 is proportional to (1 + cos^2 i)^2 + 4 cos^2 i, whose mean over
+    isotropic inclination is 16/5 (:data:`ptaconstrain.curves.ORIENTATION_MEAN`),
+    the convention of :func:`ptaconstrain.curves.detection_threshold_h0`.  So a
+    binary of inclination i has rho^2 = g(i) x (16/5) h0^2 T / S_n with
 
-        g(i) = [(1 + cos^2 i)^2 / 4 + cos^2 i] / (4/5),
+        g(i) = [(1 + cos^2 i)^2 + 4 cos^2 i] / (16/5),
 
     from 0.3125 (edge-on) to 2.5 (face-on), mean 1.
 
@@ -76,7 +77,7 @@ def orientation_factor(cos_inclination):
     ndarray, dimensionless.
     """
     c2 = np.asarray(cos_inclination, dtype=float) ** 2
-    return ((1.0 + c2) ** 2 / 4.0 + c2) / ORIENTATION_MEAN
+    return ((1.0 + c2) ** 2 + 4.0 * c2) / ORIENTATION_MEAN
 
 
 def distance_sigma(host):
@@ -246,7 +247,7 @@ def sample_host(host, n=100_000, seed=None, orientation=False):
     if n < 1:
         raise ValueError(f"samples: need at least 1 sample, got {n}")
     if seed is None:
-        seed = int(np.random.SeedSequence().entropy)
+        seed = int(np.random.SeedSequence().generate_state(1)[0])  # 32 bits: easy to quote
     try:
         seed = int(seed)
     except (TypeError, ValueError) as err:

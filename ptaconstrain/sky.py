@@ -19,11 +19,14 @@ the pulsar and the source, whose mean over the sky is 1/3.
 
 Timing residual of a circular binary (earth term).  The residual is the time
 integral of the redshift, r(t) = sum_A F^A int h_A dt (Detweiler 1979, ApJ 234,
-1100; Jenet et al. 2004, ApJ 606, 799).  With h+ = h0 (1 + cos^2 i)/2 cos Phi
-and hx = h0 cos i sin Phi, Phi = 2 pi f t + phi0, it is
+1100; Jenet et al. 2004, ApJ 606, 799).  With the quadrupole polarisations
+for h0 = 2 (G Mz)^(5/3) (pi f)^(2/3) / (c^4 D_L), h+ = h0 (1 + cos^2 i) cos Phi
+and hx = 2 h0 cos i sin Phi (Maggiore 2008 eqs. 4.29-4.30; checked against a
+direct quadrupole-formula integration in tests/test_sky.py), Phi = 2 pi f t + phi0,
+it is
 
     r(t) = h0 / (2 pi f) [X sin Phi - Y cos Phi],
-    X = F+' (1 + cos^2 i) / 2,   Y = Fx' cos i,
+    X = F+' (1 + cos^2 i),   Y = 2 Fx' cos i,
 
 a sinusoid of amplitude h0 / (2 pi f) sqrt(X^2 + Y^2).
 
@@ -38,9 +41,9 @@ source phase phi0 the cross terms vanish *exactly*, leaving
 so the phase-averaged S/N of the array is a product of a sky/orientation
 factor and a per-pulsar, per-frequency weight w_p(f) that does not depend on
 the source direction (computed in :mod:`ptaconstrain.array`).  Averaging over
-psi and isotropic inclination, <X^2 + Y^2> = (2/5) (F+^2 + Fx^2), because the
-inclination mean of (1 + cos^2 i)^2 / 4 + cos^2 i is 4/5
-(:data:`ptaconstrain.curves.ORIENTATION_MEAN`).
+psi and isotropic inclination, <X^2 + Y^2> = (8/5) (F+^2 + Fx^2), because the
+inclination mean of (1 + cos^2 i)^2 + 4 cos^2 i is 16/5
+(:data:`ptaconstrain.curves.ORIENTATION_MEAN`) and the psi average halves it.
 
 Pulsar term (optional, incoherent).  The full residual is the earth term minus
 a pulsar term of equal amplitude (for a binary that does not evolve over the
@@ -200,7 +203,7 @@ def pattern_power_grid(pulsar, source):
 
 
 def orientation_factor(fplus, fcross, inclination, psi=0.0):
-    """X^2 + Y^2 with X = F+' (1 + cos^2 i)/2 and Y = Fx' cos i.
+    """X^2 + Y^2 with X = F+' (1 + cos^2 i) and Y = 2 Fx' cos i.
 
     Parameters
     ----------
@@ -216,7 +219,7 @@ def orientation_factor(fplus, fcross, inclination, psi=0.0):
     fp = fplus * c2 + fcross * s2
     fx = -fplus * s2 + fcross * c2
     ci = np.cos(inclination)
-    return (fp * (1.0 + ci**2) / 2.0) ** 2 + (fx * ci) ** 2
+    return (fp * (1.0 + ci**2)) ** 2 + (2.0 * fx * ci) ** 2
 
 
 def residual_amplitude(h0, frequency):
@@ -270,7 +273,7 @@ def snr_squared(h0, frequency, weight, fplus, fcross, inclination, psi=0.0, puls
 def orientation_averaged_snr_squared(h0, frequency, weight, power, pulsar_term=False):
     """Mean S/N^2 over phase, polarisation and isotropic inclination.
 
-    rho^2 = (h0 / (2 pi f))^2 (4/5) (1/2) sum_p (F+^2 + Fx^2)_p w_p(f).
+    rho^2 = (h0 / (2 pi f))^2 (16/5) (1/2) sum_p (F+^2 + Fx^2)_p w_p(f).
 
     Parameters
     ----------

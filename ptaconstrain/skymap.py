@@ -213,7 +213,8 @@ def load_limit_map(path):
             hdr = hdul[1].header
             ncol = len(hdul[1].columns)
     except OSError as err:
-        raise SkyMapError(f"{name} is not a readable FITS file ({err})") from err
+        raise SkyMapError(f"{name} is not a readable FITS file: give a HEALPix map written "
+                          "by healpy.write_map (layout in the README)") from err
 
     order = str(hdr.get("ORDERING", "")).strip().upper()
     if order not in ("RING", "NESTED", "NEST"):

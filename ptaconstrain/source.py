@@ -10,7 +10,10 @@ host's redshift), so that h0 scales as D^(2/3) for a fixed angular measurement.
 import numpy as np
 from astropy import units as u
 
-__all__ = ["Host", "as_quantity", "hosts_from_table", "parse_coord"]
+__all__ = ["Host", "as_quantity", "hosts_from_table", "parse_coord", "MASS_RANGE"]
+
+#: Plausible total black-hole masses [solMass]; anything outside is a unit slip.
+MASS_RANGE = (1e3, 1e13)
 
 
 def as_quantity(value, unit, field):
@@ -82,6 +85,14 @@ def parse_coord(coord, ra, dec):
     if ra is None or dec is None:
         raise ValueError("sky position: give both RA and Dec, or neither")
     ra_unit = u.hourangle if isinstance(ra, str) and any(c in ra for c in "h: ") else u.deg
+    for value, lo, hi, what in ((ra, 0.0, 360.0, "RA"), (dec, -90.0, 90.0, "Dec")):
+        try:
+            x = float(value)
+        except (TypeError, ValueError):
+            continue  # sexagesimal strings are checked by SkyCoord
+        if not (lo <= x <= hi) or (what == "RA" and x == hi) or not np.isfinite(x):
+            raise ValueError(f"sky position: {what} = {value!r} deg is outside "
+                             f"[{lo:g}, {hi:g}{')' if what == 'RA' else ']'}: check it")
     try:
         return SkyCoord(ra, dec, unit=(ra_unit, u.deg), frame="icrs")
     except (ValueError, TypeError, u.UnitsError) as err:
@@ -156,6 +167,10 @@ class Host:
             raise ValueError("name: must not be empty")
         self._cosmology = cosmology
         self.mass_quoted = _positive(as_quantity(mass, u.Msun, "mass"), "mass")
+        if not MASS_RANGE[0] <= self.mass_quoted.to_value(u.Msun) <= MASS_RANGE[1]:
+            raise ValueError(
+                f"mass: {self.mass_quoted:.3g} is outside {MASS_RANGE[0]:.0e}-"
+                f"{MASS_RANGE[1]:.0e} solMass for a massive black hole: check the units")
         if distance is None and redshift is None:
             raise ValueError("distance: give a luminosity distance or a redshift")
         self.distance = None
@@ -173,6 +188,12 @@ class Host:
             self.distance = self.cosmology.luminosity_distance(self.redshift).to(u.Mpc)
         if self.redshift is None:
             self.redshift = _redshift_of(self.distance, self.cosmology)
+        elif distance is not None and self.redshift > 0:
+            d_z = self.cosmology.luminosity_distance(self.redshift).to(u.Mpc)
+            if not 1 / 1.5 < (self.distance / d_z).value < 1.5:
+                raise ValueError(
+                    f"redshift: z = {self.redshift:g} means D_L = {d_z:.4g}, far from the "
+                    f"distance {self.distance:.4g} given: drop one of them or correct it")
 
         self.mass_err_dex = _dex_pair(mass_err_dex, mass_err_frac)
         self.distance_err = _distance_sigma(self.distance, distance_err, distance_err_frac)
@@ -301,9 +322,10 @@ def _distance_sigma(distance, distance_err, distance_err_frac):
         raise ValueError("distance error: give distance_err or distance_err_frac, not both")
     if distance_err_frac is not None:
         frac = float(distance_err_frac)
-        if not np.isfinite(frac) or frac < 0:
+        if not np.isfinite(frac) or frac < 0 or frac >= 1:
             raise ValueError(
-                f"distance_err_frac: must be finite and >= 0, got {distance_err_frac!r}"
+                f"distance_err_frac: must be in [0, 1) (a fraction, e.g. 0.1 for 10%), "
+                f"got {distance_err_frac!r}"
             )
         return distance * frac
     if distance_err is None:

@@ -128,10 +128,12 @@ def strain_prefactor(total_mass, distance, redshift=0.0):
 def strain_amplitude(total_mass, mass_ratio, frequency, distance, redshift=0.0):
     """Continuous-wave strain amplitude of a circular binary.
 
-    Thorne (1987), eq. 46; Maggiore (2008), eq. 4.3 with Mz = (1+z) Mc and the
-    luminosity distance:
+    Thorne (1987), eq. 46, with Mz = (1+z) Mc and the luminosity distance:
     h0 = 2 (G Mz)^(5/3) (pi f)^(2/3) / (c^4 D_L).
-    The polarisations are h+ = h0 (1 + cos^2 i)/2 cos Phi, hx = h0 cos i sin Phi.
+    This is the PTA convention for h0 (e.g. Sesana & Vecchio 2010, from memory):
+    half of Maggiore's face-on amplitude, so the quadrupole polarisations are
+    h+ = h0 (1 + cos^2 i) cos Phi and hx = 2 h0 cos i sin Phi (Maggiore 2008,
+    eqs. 4.29-4.30).
 
     Parameters
     ----------

@@ -37,8 +37,10 @@ def cw_residuals(mjd_grid, p, n, h0, f, inc, psi, phi0):
     """Earth-term residual of a circular binary by numerical time integration.
 
     r(t) = int (1/2) p^i p^j h_ij / (1 + Omega.p) dt (Detweiler 1979, ApJ 234,
-    1100), h_ij = h+ e+ + hx ex with h+ = h0 (1 + cos^2 i)/2 cos Phi,
-    hx = h0 cos i sin Phi; polarisation basis (m, l) of Ellis, Siemens &
+    1100), h_ij = h+ e+ + hx ex with h+ = h0 (1 + cos^2 i) cos Phi,
+    hx = 2 h0 cos i sin Phi (Maggiore 2008 eqs. 4.29-4.30 for the PTA h0; the
+    amplitude itself is checked against the quadrupole formula in test_sky.py);
+    polarisation basis (m, l) of Ellis, Siemens &
     Creighton (2012) built here from the spherical unit vectors, rotated by psi.
     """
     from scipy.integrate import cumulative_trapezoid
@@ -51,8 +53,8 @@ def cw_residuals(mjd_grid, p, n, h0, f, inc, psi, phi0):
     ex = np.outer(mr, lr) + np.outer(lr, mr)
     t = (mjd_grid - 50000.0) * DAY
     ph = 2 * np.pi * f * t + phi0
-    hplus = h0 * (1 + np.cos(inc) ** 2) / 2 * np.cos(ph)
-    hcross = h0 * np.cos(inc) * np.sin(ph)
+    hplus = h0 * (1 + np.cos(inc) ** 2) * np.cos(ph)
+    hcross = 2 * h0 * np.cos(inc) * np.sin(ph)
     z = 0.5 * ((p @ ep @ p) * hplus + (p @ ex @ p) * hcross) / (1.0 - p @ n)
     return cumulative_trapezoid(z, t, initial=0.0)
 

@@ -35,10 +35,11 @@ def test_narrow_spike_survives_interpolation():
 
 
 def test_orientation_average_of_polarisation_power_is_four_fifths():
-    # <(1 + c^2)^2 / 4 + c^2> over isotropic cos i = 4/5, integrated with scipy.integrate.quad
-    mean, _ = integrate.quad(lambda c: ((1 + c * c) ** 2 / 4 + c * c) / 2, -1, 1)
-    assert mean == pytest.approx(0.8, rel=1e-12)
-    # and so h0 = rho sqrt(5 S_n / (4 T)) inverts rho^2 = (4/5) h0^2 T / S_n
+    # h+ = h0 (1 + c^2) cos, hx = 2 h0 c sin (Maggiore 2008 eqs. 4.29-4.30 with the PTA h0):
+    # <(1 + c^2)^2 + 4 c^2> over isotropic cos i = 16/5, integrated with scipy.integrate.quad
+    mean, _ = integrate.quad(lambda c: ((1 + c * c) ** 2 + 4 * c * c) / 2, -1, 1)
+    assert mean == pytest.approx(3.2, rel=1e-12)
+    # and so h0 = rho sqrt(5 S_n / (16 T)) inverts rho^2 = (16/5) h0^2 T / S_n
     s_n, t, rho = 1e-20 / u.Hz, 10 * u.yr, 5.0
     h0 = detection_threshold_h0(s_n, t, rho)
     assert (mean * h0**2 * t / s_n).decompose().value == pytest.approx(rho**2, rel=1e-12)

@@ -161,7 +161,7 @@ def test_reference_distance_mass_makes_h0_scale_as_d_to_two_thirds():
 
 def test_noise_budget_inclination_probability_closed_form():
     # no host error: detectable iff g(i) > r^2 with r = h_thr / h0, g from the README
-    # polarisations; g rises with x = cos^2 i, x* solves (1+x)^2/4 + x = (4/5) r^2, i.e.
+    # polarisations; g rises with x = cos^2 i, x* solves (1+x)^2 + 4x = (16/5) r^2, i.e.
     # x* = -3 + sqrt(8 + (16/5) r^2), and |cos i| is uniform on [0, 1] (isotropy)
     curve = noise_curve()
     host = Host("E", 8e9, 25)
@@ -184,8 +184,8 @@ def test_orientation_factor_averages_to_one():
     # orientation-averaged one of curves.detection_threshold_h0
     mean, _ = integrate.quad(lambda c: orientation_factor(c) / 2.0, -1.0, 1.0)
     assert mean == pytest.approx(1.0, rel=1e-12)
-    # face-on: |h+| = |hx| = h0, so h+^2 + hx^2 -> 2 h0^2 phase-averaged to h0^2, over
-    # the mean 2 h0^2/5: 5/2; edge-on: h+ = h0/2, hx = 0 -> (1/8)/(2/5) = 5/16
+    # face-on: |h+| = |hx| = 2 h0, so h+^2 + hx^2 phase-averages to 4 h0^2, over the
+    # mean 8 h0^2/5: 5/2; edge-on: h+ = h0, hx = 0 -> (1/2)/(8/5) = 5/16
     assert orientation_factor([1.0, -1.0, 0.0]) == pytest.approx([2.5, 2.5, 5 / 16])
 
 

@@ -215,7 +215,8 @@ def demo_part(out_dir, hosts, overwrite=False):
     sky = arr.sky_averaged_curve(snr=snr, frequency=freq)
     sky.meta["demo"] = "INVENTED pulsar array (examples/demo_array.ecsv)"
     h_sky = sky.h0_threshold(freq, snr=snr)
-    i = int(np.argmin(h_sky))
+    # the frequency where a given binary (h0 ~ f^(2/3)) is easiest to detect
+    i = int(np.argmin(h_sky / freq.to_value("Hz") ** (2 / 3)))
     f_best = freq[i : i + 1]
     m = arr.h0_threshold_map(f_best, nside=nside, snr=snr)
     write_threshold_maps(fits_path, m, f_best, snr, arr.span,

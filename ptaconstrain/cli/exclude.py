@@ -138,6 +138,9 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         raise click.UsageError("give exactly one of --curve, --array or --skymap"
                                + (f" (got {', '.join(given)})" if given else ""))
     source_path = sources[given[0]]
+    if array_path is not None and span is not None:
+        raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
+                               "drop --span")
     curve, sky_note = _sensitivity_at(host, curve_path, array_path, skymap_path, kind, snr)
     q = np.logspace(np.log10(mass_ratio_range[0]), np.log10(mass_ratio_range[1]), nq)
     if period_range is None:

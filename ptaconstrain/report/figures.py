@@ -33,6 +33,13 @@ def _edges(x):
 _YR_S = u.yr.to(u.s)
 
 
+def _tex_sci(x, digits=2):
+    """2.2e+10 -> '2.2$\\times10^{10}$' for titles."""
+    mant, exp = f"{x:.{digits}e}".split("e")
+    mant = mant.rstrip("0").rstrip(".")
+    return f"{mant}$\\times10^{{{int(exp)}}}$"
+
+
 def _period_to_nhz(x):
     """P [yr] <-> f = 2/P [nHz]; the map is its own inverse."""
     with np.errstate(divide="ignore", over="ignore"):
@@ -100,7 +107,7 @@ def exclusion_figure(result, ax=None, prob_map=None):
     chirps = ~result.bound_is_monochromatic & np.isfinite(qmax)
     ax.plot(p, np.where(chirps, np.nan, qmax), color="#0072B2", lw=1.8, label=label)
     if chirps.any():
-        ax.plot(p, np.where(chirps, qmax, np.nan), color="#0072B2", lw=1.6, ls=":",
+        ax.plot(p, np.where(chirps, qmax, np.nan), color="#0072B2", lw=1.4, ls="-.",
                 label="same, where the binary chirps (not a CW bound)")
     if prob_map is not None:
         from .probability_plot import add_probability_contours
@@ -112,7 +119,10 @@ def exclusion_figure(result, ax=None, prob_map=None):
             cp, cq = cred[0].to_value(u.yr), cred[1]
             ax.plot([cp], [cq], marker="^", color="black", ms=8, ls="none", zorder=5)
             ax.annotate(f"q > {cq:.3g} at {100 * top_level:g}%\nprobability", (cp, cq),
-                        xytext=(14, 10), textcoords="offset points", fontsize=9)
+                        xytext=(-40, 34), textcoords="offset points", fontsize=9,
+                        ha="right", bbox={"boxstyle": "round", "fc": "white", "ec": "0.6",
+                                          "alpha": 0.9},
+                        arrowprops={"arrowstyle": "-", "color": "black"})
     if result.hardening_period is not None:
         ax.plot(result.hardening_period.to_value(u.yr), q, color="#009E73", ls="--", lw=1.4,
                 label=r"hardening radius $a_h = G\mu/4\sigma^2$ (guide)")
@@ -153,7 +163,7 @@ def exclusion_figure(result, ax=None, prob_map=None):
                 f"{result.span.to_value(u.yr):.3g} yr")
     host = result.host
     ax.set_title(
-        f"{host.name}: M = {m_tot:.3g} M$_\\odot$, $D_L$ = "
+        f"{host.name}: M = {_tex_sci(m_tot)} M$_\\odot$, $D_L$ = "
         f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}", fontsize=10)
     return fig
 

@@ -50,9 +50,11 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
         styles.append(Line2D([], [], color="0.3", lw=1.2, ls="--", label=names[1]))
     ax.set_xscale("log")
     ax.set_yscale("log")
+    lowest = [np.nanmin(r.max_mass_ratio) for r in (*limit_maps, *forecast_maps)
+              if np.isfinite(r.max_mass_ratio).any()]
     qmin = min(np.nanmin(r.mass_ratio) for r in limit_maps)
-    ax.set_ylim(qmin, 1.05)
-    ax.set_xlabel("orbital period P [yr] (observer frame)")
+    ax.set_ylim(max(qmin, 0.5 * min(lowest)) if lowest else qmin, 1.05)
+    ax.set_xlabel("orbital period P [yr] (observer frame); each line starts at its host's ISCO")
     ax.set_ylabel(r"bound on the mass ratio $q = m_2/m_1$")
     ax.set_title(title or "Companions above each line are excluded (solid) or would be "
                  "detectable (dashed)", fontsize=10)
