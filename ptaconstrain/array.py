@@ -416,14 +416,19 @@ class PulsarArray:
         self._cache[key] = w
         return w
 
-    def _check_band(self, f):
-        """Refuse frequencies outside 1/T .. 1/(2 dt): the array says nothing there."""
+    def check_band(self, f):
+        """Raise ValueError for frequencies outside 1/T .. 1/(2 dt), where the array says nothing.
+
+        Parameters
+        ----------
+        f : Quantity [frequency]
+        """
         band = self.default_frequencies(2)
         lo, hi = band[0], band[-1]
         bad = (f < lo * (1 - 1e-9)) | (f > hi * (1 + 1e-9))
         if np.any(bad):
             raise ValueError(
-                f"frequency: {f[bad][0].to(u.nHz):.4g} is outside the array's band "
+                f"frequency: {f[bad][0].to_value(u.Hz):.4g} Hz is outside the array's band "
                 f"{lo.to_value(u.nHz):.4g}-{hi.to_value(u.nHz):.4g} nHz (1/T to the "
                 "Nyquist frequency of the median cadence); bare numbers are Hz, e.g. '8 nHz'")
 
@@ -568,7 +573,7 @@ class PulsarArray:
         nside = check_nside(nside)
         snr = _check_snr(snr)
         f = _check_frequency(frequencies)
-        self._check_band(f)
+        self.check_band(f)
         w = self.weights(f, callback=callback)
         term = self._term(pulsar_term)
         # rho^2 per unit h0^2 = pattern @ (0.4 w / (2 pi f)^2 [x 2 with pulsar term])

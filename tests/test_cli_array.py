@@ -95,6 +95,8 @@ def test_bad_pulsar_list_one_line_error_no_output(tmp_path, over, words, command
     (["--frequency", "-3 nHz"], "must be positive"),
     (["--frequency", "8 nHz", "--nside", "30"], "30 is not a power of 2"),
     (["--frequency", "8 nHz", "--nside", "0"], "not a power of 2"),
+    (["--frequency", "8"], "outside the array's band"),  # 8 Hz: a unit slip
+    (["--frequency", "0.1 nHz"], "outside the array's band"),  # below 1/T
 ])
 def test_skymap_bad_options(tmp_path, args, words):
     arr = _write_array(tmp_path / "a.ecsv")

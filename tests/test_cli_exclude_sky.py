@@ -76,3 +76,25 @@ def test_threshold_map_is_refused_as_a_limit_map(tmp_path):
               "--out", str(tmp_path / "o")])
     assert r.exit_code != 0 and len(r.output.strip().splitlines()) == 1
     assert "Traceback" not in r.output and not (tmp_path / "o").exists()
+
+
+def test_span_is_refused_with_an_array(tmp_path):
+    r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--span", "5", "--array",
+              str(shipped_file(EXAMPLES, "demo_array.ecsv")), "--out", str(tmp_path / "o")])
+    assert r.exit_code != 0 and "--span" in r.output and not (tmp_path / "o").exists()
+
+
+def test_outputs_are_readable_by_collaborators(tmp_path):
+    # mkstemp creates 0600 files; outputs follow the umask like any other file
+    import os
+    import stat
+
+    from ptaconstrain.io import atomic_write
+
+    old = os.umask(0o022)
+    try:
+        with atomic_write(tmp_path / "x.txt") as tmp:
+            tmp.write_text("ok")
+    finally:
+        os.umask(old)
+    assert stat.S_IMODE((tmp_path / "x.txt").stat().st_mode) == 0o644

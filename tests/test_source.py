@@ -63,6 +63,11 @@ def test_fractional_mass_error_converts_to_dex():
         ({"mass": 1e9, "distance": 10, "velocity_dispersion": 0}, "velocity_dispersion"),
         ({"mass": 1e9, "distance": 10, "mass_err_dex": -0.1}, "mass_err_dex"),
         ({"mass": 1e9, "distance": 10, "mass_distance": 0}, "mass_distance"),
+        ({"mass": "2e10 kg", "distance": 10}, "check the units"),
+        ({"mass": 1e9, "distance": 10, "ra": 400.0, "dec": 10.0}, "RA"),
+        ({"mass": 1e9, "distance": 10, "ra": 10.0, "dec": 95.0}, "Dec"),
+        ({"mass": 1e9, "distance": 100, "redshift": 0.5}, "far from the distance"),
+        ({"mass": 1e9, "distance": 100, "distance_err_frac": 2.0}, "distance_err_frac"),
     ],
 )
 def test_invalid_host_fields_name_the_field(kwargs, field):
@@ -74,3 +79,9 @@ def test_as_quantity_reads_strings_and_bare_numbers():
     assert as_quantity("2e10 solMass", u.Msun, "mass").value == pytest.approx(2e10)
     assert as_quantity(3, u.Mpc, "distance").to_value(u.kpc) == pytest.approx(3000)
     assert as_quantity("1 Gpc", u.Mpc, "distance").value == pytest.approx(1000)
+
+
+def test_redshift_and_distance_may_differ_by_peculiar_motion():
+    # a nearby galaxy: D = 17 Mpc from a distance indicator, cz = 1300 km/s (20% apart)
+    h = Host("A", 1e9, 17, redshift=1300 / 299792.458)
+    assert h.distance.to_value(u.Mpc) == 17

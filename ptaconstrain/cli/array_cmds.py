@@ -121,6 +121,7 @@ def skymap(array_file, frequencies, nside, snr, out, pulsar_term, overwrite):
     stems = [out / f"{MAP_STEM}_{f.to_value(u.nHz):.4g}nHz" for f in freq]
     check_new([fits_path] + [f"{s}.png" for s in stems], overwrite)
     arr = load_array(array_file, pulsar_term=pulsar_term)
+    arr.check_band(freq)  # before the progress bar starts
     n_chunks = -(-12 * nside**2 // 65536)
     with _progress(len(arr) + n_chunks, "sky map") as bar:
         maps = arr.h0_threshold_map(freq, nside=nside, snr=snr, callback=bar.update)
