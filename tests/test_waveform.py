@@ -119,3 +119,20 @@ def test_grid_broadcasting_has_the_outer_shape():
     assert h.shape == (5, 7)
     # h0 ~ f^(2/3) at fixed q (Thorne 1987 eq. 46)
     np.testing.assert_allclose(h[0, 1:] / h[0, :-1], (f[1:] / f[:-1]).value ** (2 / 3))
+
+
+def test_h0_and_polarisations_carry_the_peters_mathews_luminosity():
+    # Independent of how h0 is written: the GW luminosity of a circular binary,
+    # L = (32/5) G^4 m1^2 m2^2 (m1 + m2) / (c^5 a^5) (Peters & Mathews 1963, eq. 16),
+    # must equal the flux (c^3 / 16 pi G) <hdot+^2 + hdotx^2> through a sphere of
+    # radius D (Maggiore 2008, eq. 1.153), averaged over orientation. With the project's
+    # polarisations h+ = h0 (1 + cos^2 i) cos Phi, hx = 2 h0 cos i sin Phi the time and
+    # orientation mean of hdot+^2 + hdotx^2 is (2 pi f)^2 (8/5) h0^2.
+    G, c = const.G, const.c
+    total, q, f, d = 2e9 * u.Msun, 0.3, 12 * u.nHz, 80 * u.Mpc
+    m1, m2 = total / (1 + q), total * q / (1 + q)
+    a = wf.separation(total, wf.orbital_period(f))
+    lum = (32 / 5 * G**4 * m1**2 * m2**2 * total / (c**5 * a**5)).to(u.W)
+    h0 = wf.strain_amplitude(total, q, f, d)
+    flux = c**3 / (16 * np.pi * G) * (2 * np.pi * f) ** 2 * 1.6 * h0**2
+    assert (4 * np.pi * d**2 * flux).to_value(u.W) == pytest.approx(lum.value, rel=1e-9)
