@@ -124,7 +124,8 @@ class SensitivityCurve:
         try:
             f = u.Quantity(frequency).to(u.Hz)
         except u.UnitsError as err:
-            raise CurveError(f"curve frequency has unit {frequency.unit}: give it in Hz") from err
+            unit = getattr(frequency, "unit", "none")
+            raise CurveError(f"curve frequency has unit {unit}: give it in Hz") from err
         unit = _VALUE_UNITS[kind]
         v = u.Quantity(value)
         if v.unit == u.dimensionless_unscaled:

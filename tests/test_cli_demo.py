@@ -35,3 +35,8 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     lines = [ln for ln in r.output.splitlines() if "detectable at its position" in ln]
     ratios = [float(ln.split("(")[1].split(" x")[0]) for ln in lines]
     assert min(ratios) < 0.8 and max(ratios) > 1.5  # visibly deeper vs visibly shallower
+
+    # issue: catalogue ranking of the shipped invented catalogue
+    ranking = QTable.read(out / "ranking.ecsv")
+    assert len(ranking) >= 300 and (out / "ranking_sky.png").exists()
+    assert np.all(np.diff(ranking["expected_number"]) <= 0)  # sorted by the default metric
