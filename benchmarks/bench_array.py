@@ -80,8 +80,9 @@ def brute_force_pixel(arr, f, pix):
         for c, w in zip(ci, wi, strict=True):
             for psi in psis:
                 c2, s2 = np.cos(2 * psi), np.sin(2 * psi)
-                x = (fp * c2 + fx * s2) * (1 + c**2) / 2
-                y = (-fp * s2 + fx * c2) * c
+                # h+ = h0 (1 + cos^2 i) cos, hx = 2 h0 cos i sin (PTA h0; README)
+                x = (fp * c2 + fx * s2) * (1 + c**2)
+                y = (-fp * s2 + fx * c2) * 2 * c
                 for phi0 in (0.0, np.pi / 2):
                     r = amp * (x * np.sin(ph + phi0) - y * np.cos(ph + phi0))
                     total += w / 2 / psis.size / 2 * np.einsum("ij,ij->j", r, g @ r)
