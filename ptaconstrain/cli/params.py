@@ -89,6 +89,14 @@ def _float(text, ptype, param, ctx):
     return x
 
 
+def _fraction(text, ptype, param, ctx):
+    """'30%' -> 0.3, refusing negative percentages."""
+    frac = _float(text[:-1], ptype, param, ctx) / 100.0
+    if frac < 0:
+        ptype.fail(f"{text!r} must be >= 0", param, ctx)
+    return frac
+
+
 class FormatList(click.ParamType):
     """Comma-separated figure formats out of ``choices``, e.g. ``png,pdf``."""
 
@@ -121,10 +129,7 @@ class MassError(click.ParamType):
             return value
         text = str(value).strip()
         if text.endswith("%"):
-            frac = _float(text[:-1], self, param, ctx) / 100.0
-            if frac < 0:
-                self.fail(f"{text!r} must be >= 0", param, ctx)
-            return {"mass_err_frac": frac}
+            return {"mass_err_frac": _fraction(text, self, param, ctx)}
         parts = [_float(p, self, param, ctx) for p in text.split(",")]
         if len(parts) not in (1, 2) or min(parts) < 0:
             self.fail(f"{text!r}: give dex >= 0 ('0.2'), lower,upper dex ('0.15,0.25') "
@@ -142,10 +147,7 @@ class DistanceError(click.ParamType):
             return value
         text = str(value).strip()
         if text.endswith("%"):
-            frac = _float(text[:-1], self, param, ctx) / 100.0
-            if frac < 0:
-                self.fail(f"{text!r} must be >= 0", param, ctx)
-            return {"distance_err_frac": frac}
+            return {"distance_err_frac": _fraction(text, self, param, ctx)}
         return {"distance_err": QuantityType("Mpc", allow_zero=True).convert(text, param, ctx)}
 
 
