@@ -131,9 +131,13 @@ def exclusion_figure(result, ax=None, prob_map=None):
         bp, bq = best[0].to_value(u.yr), best[1]
         ax.plot([bp], [bq], marker="v", color="#D55E00", ms=9, ls="none", zorder=5)
         phrase = "ruled out" if result.is_limit else "detectable"
+        # keep the label inside the axes: to the left of a point in the right half
+        right_half = np.log(bp / pe[0]) > 0.5 * np.log(pe[-1] / pe[0])
         ax.annotate(f"q > {bq:.3g} {phrase}\nat P = {bp:.3g} yr", (bp, bq),
-                    xytext=(12, -28), textcoords="offset points", fontsize=9,
-                    color="#D55E00", arrowprops={"arrowstyle": "-", "color": "#D55E00"})
+                    xytext=(-12 if right_half else 12, -30), textcoords="offset points",
+                    ha="right" if right_half else "left", fontsize=9, color="#D55E00",
+                    bbox={"boxstyle": "round", "fc": "white", "ec": "none", "alpha": 0.8},
+                    arrowprops={"arrowstyle": "-", "color": "#D55E00"})
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set_xlim(pe[0], pe[-1])
