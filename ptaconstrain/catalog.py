@@ -32,7 +32,7 @@ Black-hole mass, in order of preference:
    added in quadrature.
 
 The source used for each row is recorded (``mass_source``).  Rows that
-cannot be used (missing name, bad position, distance <= 0 or not finite,
+cannot be used (missing name, position missing or out of range, distance <= 0 or not finite,
 redshift outside (0, 20], mass <= 0, negative errors, no usable mass,
 repeated name) are collected with a reason: with ``on_bad="error"`` the
 first one raises, with ``on_bad="skip"`` they are dropped and counted.
@@ -379,7 +379,7 @@ class Rejections:
             rows = np.concatenate(self._rows)
             i = int(np.argmin(rows))
             row = rows[i]
-            name = np.concatenate(self._names)[i]
+            name = str(np.concatenate(self._names)[i])
             reason = np.concatenate(self._reasons)[i]
             raise CatalogError(
                 f"catalogue row {row + 1} ({name!r}): {reason}; fix it or skip such rows "
@@ -558,8 +558,10 @@ def prepare_chunk(table, colmap, resolved, relations, start_row, dz, rejections)
 
     reject(names == "", "name is missing")
     ra, dec = _sky(table, resolved)
-    reject(~np.isfinite(ra) | ~np.isfinite(dec) | (np.abs(dec) > 90),
-           "sky position missing or invalid (need finite RA and |Dec| <= 90 deg)")
+    with np.errstate(invalid="ignore"):
+        reject(~((ra >= 0) & (ra <= 360) & (np.abs(dec) <= 90)),
+               "sky position missing or out of range (need 0 <= RA <= 360 deg and "
+               "|Dec| <= 90 deg)")
     ra = np.mod(ra, 360.0)
 
     dist = _values(table, colmap, resolved, "distance")

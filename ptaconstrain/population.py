@@ -176,7 +176,7 @@ class PopulationModel:
     def describe(self):
         """Dict of strings for provenance metadata."""
         return {
-            "merger_rate_per_galaxy": f"{self.rate.to_value(1 / u.yr):.6g} 1 / yr",
+            "merger_rate_per_galaxy": f"{self.rate.to_value(1 / u.yr):.6g} / yr",
             "mass_ratio_distribution": self.mass_ratio.describe(),
             "residence_time": "Peters (1964) quadrupole inspiral, capped at f_ISCO",
         }

@@ -65,6 +65,7 @@ def _bad_catalogue(tmp_path, **change):
 
 @pytest.mark.parametrize("change, words", [
     ({"dec": None}, "no 'dec' column"),
+    ({"distance": None}, "neither a 'distance' nor a 'redshift'"),
     ({"name": ["A", "A", "C"]}, "duplicate name"),
     ({"distance": [20.0, -3.0, 40.0]}, "impossible distance"),
     ({"velocity_dispersion": [300.0, np.nan, 200.0]}, "no usable mass"),
@@ -76,6 +77,7 @@ def test_bad_catalogue_one_line_no_output(tmp_path, curve_file, change, words):
     assert res.exit_code != 0
     err = res.output.strip().splitlines()
     assert err[-1].startswith("Error:") and words in err[-1]
+    assert len(err) == 1  # no stray progress-bar line before the error
     assert "Traceback" not in res.output
     assert not out.exists() or not any(out.iterdir())
 
@@ -103,6 +105,9 @@ def test_refuses_to_overwrite(tmp_path, curve_file):
     (("--array", "x.ecsv"), "exactly one of"),
     (("--column", "distance"), "FIELD=COLUMN"),
     (("--relation", "no_such"), "unknown"),
+    (("--rate", "1 km"), "--rate"),
+    (("--rate", "-1"), "positive"),
+    (("--top", "0"), "--top"),
 ])
 def test_usage_errors(tmp_path, curve_file, extra, words):
     res = _run("rank", CATALOGUE, "--curve", curve_file, "--out", str(tmp_path / "o"), *extra)
@@ -135,3 +140,13 @@ def test_exclusion_figures_of_the_top_targets(tmp_path, curve_file):
     assert (out / "ranking_exclusion_001.png").is_file()
     assert (out / "ranking_exclusion_002.png").is_file()
     assert not (out / "ranking_exclusion_003.png").exists()
+
+
+def test_cumulative_plot_starts_at_zero():
+    # a cumulative total read against rank needs a zero baseline, or the share of the
+    # first targets is misread (common practice for cumulative plots)
+    from ptaconstrain.report.rankplots import cumulative_figure
+
+    t = Table({"rank": [1, 2, 3], "expected_number": [5.0, 1.0, 0.5]})
+    fig = cumulative_figure(t, "excluded", top=2)
+    assert fig.axes[0].get_ylim()[0] == 0.0

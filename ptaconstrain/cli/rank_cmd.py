@@ -203,6 +203,7 @@ def rank(catalog, curve, kind, array_path, skymap_path, out, metric, relation, c
 
     from ..catalog import CatalogReader, ColumnMap, load_column_map
     from ..population import MassRatioDistribution, PopulationModel
+    from ..scaling import select_relations
 
     columns = load_column_map(columns_file) if columns_file else ColumnMap()
     extra = _column_options(column_pairs)
@@ -215,6 +216,9 @@ def rank(catalog, curve, kind, array_path, skymap_path, out, metric, relation, c
 
     check_new(check, overwrite)
     reader = CatalogReader(catalog)
+    # fail on a missing column or relation before the progress bar starts (one-line error)
+    columns.resolve(reader.colnames)
+    select_relations(list(relation) or None)
     files = {"catalogue": catalog, role: sens_path}
     if columns_file:
         files["columns"] = columns_file
@@ -222,8 +226,9 @@ def rank(catalog, curve, kind, array_path, skymap_path, out, metric, relation, c
     options = {"metric": metric, "relations": ",".join(relation) or "all shipped",
                "on_bad": on_bad, "rate": str(rate), "q_min": q_min, "q_index": q_index,
                "snr": snr, "span": str(span), "sky_averaged": sky_averaged, "nodes": nodes}
-    with click.progressbar(length=max(reader.n_rows, 1), label="ranking",
-                           file=sys.stderr) as bar:
+    # the bar is drawn on a terminal only: in a pipe or log it would add a stray line
+    with click.progressbar(length=max(reader.n_rows, 1), label="ranking", file=sys.stderr,
+                           hidden=not sys.stderr.isatty()) as bar:
         ranking, written = run_rank(
             reader, sens, out, files=files, options=options, formats=formats, top=top,
             exclusion_figures=exclusion_figures, overwrite=overwrite, progress=bar.update,

@@ -4,8 +4,10 @@ Equatorial Mollweide map with right ascension increasing to the left (the
 astronomical convention, 12h at the centre); targets coloured by the ranking
 metric with cividis, a perceptually uniform colour map safe for colour-vision
 deficiencies (Nunez et al. 2018, PLoS ONE 13, e0199239); galaxies whose metric
-is zero or undefined are small grey dots; the array's pulsars, when known,
-white stars.  matplotlib is imported inside the functions (Agg backend).
+is zero or undefined are small grey dots; a logarithmic colour scale spans at
+most four decades below the best value (lower values share its lowest colour);
+the array's pulsars, when known, white stars.  matplotlib is imported inside
+the functions (Agg backend).
 """
 
 import numpy as np
@@ -16,6 +18,8 @@ __all__ = ["metric_label", "sky_figure", "cumulative_figure", "ranking_figures",
 
 #: file stems of the figures written by :func:`ranking_figures`
 FIGURE_STEMS = ("ranking_sky", "ranking_cumulative")
+#: decades of the metric spanned by the sky map's logarithmic colour scale
+DECADES = 4
 
 
 def _plt():
@@ -87,13 +91,19 @@ def sky_figure(table, metric, verb, label="", pulsars=None, top=20, rate=None):
     if good.any():
         v = val[good]
         span = v.max() / v.min()
-        norm = LogNorm(v.min(), v.max()) if span > 100 else Normalize(v.min(), v.max())
+        # at most DECADES decades of colour: smaller values share the lowest colour
+        # (arrow on the colour bar), so the few targets that matter stay distinct
+        best_low = metric == "min_mass_ratio"  # smaller is better: never clip the best
+        vmin = v.min() if best_low else max(v.min(), v.max() / 10.0**DECADES)
+        norm = LogNorm(vmin, v.max()) if span > 100 else Normalize(v.min(), v.max())
+        extend = "min" if vmin > v.min() else "neither"
         cmap = "cividis_r" if metric == "min_mass_ratio" else "cividis"
         order = np.argsort(v) if metric != "min_mass_ratio" else np.argsort(-v)
         sc = ax.scatter(_x(ra[good])[order], np.radians(dec[good])[order], c=v[order],
-                        s=14, cmap=cmap, norm=norm, edgecolors="k", linewidths=0.2)
+                        s=np.where(v[order] < vmin, 6, 16), cmap=cmap, norm=norm,
+                        edgecolors="k", linewidths=0.2)
         cb = fig.colorbar(sc, ax=ax, orientation="horizontal", pad=0.07, fraction=0.05,
-                          aspect=40)
+                          aspect=40, extend=extend)
         cb.set_label(metric_label(metric, verb, rate), fontsize=9)
     n_lab = min(int(top), 20, len(table))
     for i in range(n_lab):  # a handful of labels, not a loop over the catalogue
@@ -105,7 +115,8 @@ def sky_figure(table, metric, verb, label="", pulsars=None, top=20, rate=None):
                    edgecolors="k", linewidths=0.6, label=f"pulsars ({len(c)})", zorder=5)
     ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=7, frameon=False)
     ax.set_title(f"{len(table)} galaxies by {metric} - {label} ({verb})\n"
-                 f"numbers: rank of the top {n_lab}; RA increases to the left", fontsize=10)
+                 f"numbers: rank of the top {n_lab}; RA increases to the left", fontsize=10,
+                 pad=16)
     return fig
 
 
@@ -133,6 +144,7 @@ def cumulative_figure(table, verb, label="", top=20, rate=None):
     fig, ax = plt.subplots(figsize=(6.4, 4.4))
     ax.step(rank, cum, where="post", color="#0072B2", lw=1.5)
     ax.set_xscale("log")
+    ax.set_ylim(bottom=0.0)  # from zero, so the share of the first targets reads right
     ax.set_xlabel(f"rank in the table (as sorted; {len(table)} galaxies)")
     ax.set_ylabel(f"cumulative expected number\nof {verb} binaries [dimensionless]")
     if 0 < top < len(table):
