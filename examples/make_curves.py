@@ -6,6 +6,8 @@ Both curves belong to an INVENTED scenario and describe no real array:
   the fictional "Kestrel Timing Array" (15 yr of data).
 * ``synthetic_future_psd.ecsv`` -- a future-array-like noise budget
   (strain PSD) of the fictional "Kestrel Timing Array, phase II" (20 yr).
+* ``synthetic_h0_limit_map.fits`` -- the same 95% limit as a HEALPix sky map
+  (nside 8, 16 frequencies), deeper where the fictional array's pulsars are.
 
 The shape follows the usual anatomy of a pulsar-timing sensitivity, with
 invented numbers: timing residuals with white noise plus a red power law
@@ -97,12 +99,43 @@ def future_psd_curve():
     return SensitivityCurve(f * u.Hz, psd, "strain_psd", meta)
 
 
+def h0_limit_sky_map(curve, path, overwrite=False, nside=8, n_freq=16):
+    """A synthetic HEALPix map of 95% h0 upper limits (layout: README, ptaconstrain.skymap).
+
+    Invented: the sky-averaged limit ``curve`` times a smooth pattern, 0.55 x in the
+    direction of the fictional array's densest pulsars (RA 280 deg, Dec -35 deg) rising to
+    about 1.6 x opposite, normalised to a sky mean of 1.
+    """
+    import healpy as hp
+
+    from ptaconstrain.io import atomic_write
+
+    f = np.geomspace(curve.frequency[0].value, curve.frequency[-1].value, n_freq)
+    h = curve.interpolate(f * u.Hz)
+    vec = np.array(hp.pix2vec(nside, np.arange(hp.nside2npix(nside))))
+    ra, dec = np.radians(280.0), np.radians(-35.0)
+    best = np.array([np.cos(dec) * np.cos(ra), np.cos(dec) * np.sin(ra), np.sin(dec)])
+    pattern = 0.55 + 1.05 * (1.0 - best @ vec) / 2.0
+    pattern /= pattern.mean()
+    maps = [hi * pattern for hi in h]
+    extra = [(f"FREQ{i + 1}", float(fi)) for i, fi in enumerate(f)]
+    extra += [("MAPKIND", "h0_limit"), ("CONFLEV", 0.95), ("SPAN", 15.0),
+              ("COMMENT", "SYNTHETIC h0 upper-limit map of the fictional Kestrel Timing Array"),
+              ("COMMENT", "invented by examples/make_curves.py; describes no real data")]
+    with atomic_write(path, overwrite) as tmp:
+        hp.write_map(str(tmp), maps, coord="C", column_units="", extra_header=extra,
+                     dtype=np.float64, overwrite=True)
+
+
 def main(argv):
     out = Path(__file__).resolve().parent.parent / "sensitivity_curves"
     overwrite = "--overwrite" in argv
-    save_curve(h0_limit_curve(), out / "synthetic_h0_limit.ecsv", overwrite=overwrite)
+    limit = h0_limit_curve()
+    save_curve(limit, out / "synthetic_h0_limit.ecsv", overwrite=overwrite)
     save_curve(future_psd_curve(), out / "synthetic_future_psd.ecsv", overwrite=overwrite)
-    print(f"wrote {out}/synthetic_h0_limit.ecsv and synthetic_future_psd.ecsv")
+    h0_limit_sky_map(limit, out / "synthetic_h0_limit_map.fits", overwrite=overwrite)
+    print(f"wrote {out}/synthetic_h0_limit.ecsv, synthetic_future_psd.ecsv and "
+          "synthetic_h0_limit_map.fits")
 
 
 if __name__ == "__main__":

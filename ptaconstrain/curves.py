@@ -329,7 +329,7 @@ def load_curve(path, kind=None):
         return _load_ecsv(path, kind)
     if kind is None:
         raise CurveError(
-            f"{path.name} is plain text: say what it holds with kind "
+            f"{path.name} is plain text: say what its second column holds "
             f"(--kind {'/'.join(KINDS)}), or use an ECSV file"
         )
     return _load_text(path, kind)

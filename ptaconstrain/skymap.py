@@ -229,8 +229,9 @@ def load_limit_map(path):
                           "to 'C' (equatorial), 'E' (ecliptic) or 'G' (galactic)")
     kind = str(hdr.get("MAPKIND", "h0_limit")).strip().lower()
     if kind != "h0_limit":
-        raise SkyMapError(f"{name} holds {kind} (a forecast), not h0 upper limits: use it "
-                          "with --array for forecasts, or give an upper-limit map")
+        raise SkyMapError(f"{name} holds {kind} (a forecast), not h0 upper limits: for a "
+                          "forecast pass the pulsar list itself with --array, or give an "
+                          "upper-limit map")
     freqs = []
     for i in range(1, ncol + 1):
         unit = str(hdr.get(f"TUNIT{i}", "")).strip().upper()

@@ -202,6 +202,10 @@ class Host:
             self.velocity_err = as_quantity(velocity_err, u.km / u.s, "velocity_err")
             if self.velocity_err.value < 0:
                 raise ValueError("velocity_err: must be >= 0")
+            if distance is not None:
+                raise ValueError(
+                    "velocity_err: a peculiar-velocity error applies to a redshift distance; "
+                    "give the redshift without a distance, or a distance error instead")
         self.mass_distance = None
         if mass_distance is not None:
             self.mass_distance = _positive(

@@ -178,8 +178,20 @@ def test_forecast_summary_says_it_is_not_an_exclusion(tmp_path):
     r = run(base_args(path, tmp_path / "res") + ["--snr", "8"])
     assert r.exit_code == 0, r.output
     assert "would be detectable" in r.output and "not an exclusion" in r.output
-    t = QTable.read(tmp_path / "res" / "Test_Host_exclusion.ecsv")
+    t = QTable.read(tmp_path / "res" / "Test_Host_forecast.ecsv")  # named as a forecast
     assert "FORECAST" in t.meta["statement"]
+
+
+def test_period_grid_outside_the_band_is_refused(tmp_path, curve_file):
+    out = tmp_path / "res"
+    r = run(base_args(curve_file, out) + ["--period-range", "100,200"])
+    assert r.exit_code != 0 and "no period of the grid" in r.output and not out.exists()
+
+
+@pytest.mark.parametrize("grid", ["3x", "x5", "3x4x5", "1e3"])
+def test_malformed_grid_is_refused(tmp_path, curve_file, grid):
+    r = run(base_args(curve_file, tmp_path / "res") + ["--grid", grid])
+    assert r.exit_code != 0 and "--grid" in r.output
 
 
 def test_help_shows_an_example():

@@ -51,7 +51,7 @@ def test_array_without_position_says_sky_averaged(tmp_path):
               "--grid", "30", "--format", "png"])
     assert r.exit_code == 0, r.output
     assert "sky-averaged" in r.output and "would be detectable" in r.output
-    t = QTable.read(tmp_path / "o" / "host_exclusion.ecsv")
+    t = QTable.read(tmp_path / "o" / "host_forecast.ecsv")
     assert t.meta["sky"] == "averaged" and "FORECAST" in t.meta["statement"]
 
 
@@ -98,3 +98,19 @@ def test_outputs_are_readable_by_collaborators(tmp_path):
     finally:
         os.umask(old)
     assert stat.S_IMODE((tmp_path / "x.txt").stat().st_mode) == 0o644
+
+
+def test_shipped_limit_map_is_deeper_towards_its_pulsars():
+    # the synthetic map's pattern is 0.55 x the mean at RA 280, Dec -35 and ~1.6 x opposite
+    from astropy import units as u
+    from astropy.coordinates import SkyCoord
+
+    from ptaconstrain.shipped import CURVES
+    from ptaconstrain.skymap import load_limit_map
+
+    lim = load_limit_map(shipped_file(CURVES, "synthetic_h0_limit_map.fits"))
+    good = lim.curve_at(SkyCoord(280 * u.deg, -35 * u.deg))
+    poor = lim.curve_at(SkyCoord(100 * u.deg, 35 * u.deg))
+    assert good.is_limit and good.confidence == 0.95
+    ratio = good.value / poor.value
+    assert np.all(ratio < 0.4) and np.all(ratio > 0.3)

@@ -68,6 +68,7 @@ def test_fractional_mass_error_converts_to_dex():
         ({"mass": 1e9, "distance": 10, "ra": 10.0, "dec": 95.0}, "Dec"),
         ({"mass": 1e9, "distance": 100, "redshift": 0.5}, "far from the distance"),
         ({"mass": 1e9, "distance": 100, "distance_err_frac": 2.0}, "distance_err_frac"),
+        ({"mass": 1e9, "distance": 100, "velocity_err": 300}, "redshift distance"),
     ],
 )
 def test_invalid_host_fields_name_the_field(kwargs, field):

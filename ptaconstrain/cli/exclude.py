@@ -19,11 +19,10 @@ __all__ = ["exclude", "run_exclusion"]
 
 
 def _grid(text):
-    parts = str(text).lower().replace("x", ",").split(",")
-    try:
-        sizes = [int(p) for p in parts if p.strip()]
-    except ValueError:
-        sizes = []
+    import re
+
+    match = re.fullmatch(r"\s*(\d+)\s*(?:[x,]\s*(\d+)\s*)?", str(text).lower())
+    sizes = [int(g) for g in match.groups() if g is not None] if match else []
     if len(sizes) == 1:
         sizes *= 2
     if len(sizes) != 2 or min(sizes) < 2 or max(sizes) > 5000:
@@ -88,7 +87,8 @@ def exclude(**opts):
     """Rule out companions of one host black hole.
 
     Writes OUT/<name>_exclusion.ecsv (one row per period) and the figure
-    OUT/<name>_exclusion.png/.pdf, and prints a two-line summary.  With
+    OUT/<name>_exclusion.png/.pdf, and prints a two-line summary; a noise
+    budget or a pulsar list gives a forecast, written as OUT/<name>_forecast.*.  With
     --mass-err, --distance-err or --velocity-err the host's uncertainties
     are sampled: the figure gains probability contours, the table one
     max_mass_ratio_<credibility> column per level.
@@ -117,6 +117,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     import numpy as np
     from astropy import units as u
 
+    from ..curves import load_curve
     from ..io import check_new, write_table
     from ..limits import exclusion_map
     from ..report.figures import exclusion_figure, save_figure
@@ -125,10 +126,6 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from ..source import Host
 
     nq, n_p = _grid(grid)
-    stem = Path(out) / f"{safe_name(name)}_exclusion"
-    targets = [stem.with_suffix(".ecsv")] + [Path(f"{stem}.{f}") for f in formats]
-    check_new(targets, overwrite)
-
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
                 ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
                 velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))
@@ -138,10 +135,20 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         raise click.UsageError("give exactly one of --curve, --array or --skymap"
                                + (f" (got {', '.join(given)})" if given else ""))
     source_path = sources[given[0]]
+    if not Path(source_path).is_file():
+        raise click.UsageError(f"{given[0]} {source_path}: file not found; check the path")
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")
-    curve, sky_note = _sensitivity_at(host, curve_path, array_path, skymap_path, kind, snr)
+    curve = load_curve(curve_path, kind=kind) if curve_path is not None else None
+    # an upper limit gives an exclusion, a noise budget (or a pulsar list) a forecast
+    forecast = array_path is not None or (curve is not None and not curve.is_limit)
+    stem = Path(out) / f"{safe_name(name)}_{'forecast' if forecast else 'exclusion'}"
+    targets = [stem.with_suffix(".ecsv")] + [Path(f"{stem}.{f}") for f in formats]
+    check_new(targets, overwrite)  # before the slow part, so a refusal costs nothing
+    sky_note = ""
+    if curve is None:
+        curve, sky_note = _sensitivity_at(host, array_path, skymap_path, snr)
     q = np.logspace(np.log10(mass_ratio_range[0]), np.log10(mass_ratio_range[1]), nq)
     if period_range is None:
         from ..limits import default_periods
@@ -160,6 +167,14 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     else:
         result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
 
+    if not np.isfinite(result.max_mass_ratio).any():
+        band = _band_periods(curve)
+        raise click.UsageError(
+            f"no period of the grid ({period[0].to_value(u.yr):.3g}-"
+            f"{period[-1].to_value(u.yr):.3g} yr) is constrained: the curve covers P = "
+            f"{band[0]:.3g}-{band[1]:.3g} yr and binaries above ISCO (P < "
+            f"{2 / result.isco_frequency.to_value(u.Hz) / 3.15576e7:.3g} yr) do not exist; "
+            "change --period-range")
     inputs = host.describe()
     inputs.update(snr=f"{snr:g}", span=str(result.span), grid=f"{nq}x{n_p}",
                   mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
@@ -179,15 +194,18 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     return lines
 
 
-def _sensitivity_at(host, curve_path, array_path, skymap_path, kind, snr):
-    """The curve for ``host`` and a note on which sky it refers to."""
+def _band_periods(curve):
+    """Orbital-period range [yr] that the curve's frequency band covers (P = 2/f)."""
+    from ..waveform import orbital_period
+
+    p = orbital_period(curve.frequency[[-1, 0]]).value
+    return float(p[0]), float(p[1])
+
+
+def _sensitivity_at(host, array_path, skymap_path, snr):
+    """The curve at ``host`` from a pulsar list or a limit map, and a note on its sky."""
     import sys
 
-    from ..curves import load_curve
-
-    if curve_path is not None:
-        curve = load_curve(curve_path, kind=kind)
-        return curve, ""
     if array_path is not None:
         from ..array import load_array
 

@@ -33,21 +33,23 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
     import matplotlib.pyplot as plt
     from matplotlib.lines import Line2D
 
-    fig, ax = plt.subplots(figsize=(7.2, 4.8), layout="constrained")
+    fig, ax = plt.subplots(figsize=(7.2, 5.6))
+    fig.subplots_adjust(left=0.11, right=0.97, top=0.9, bottom=0.3)
+    chirped = False
     for i, r in enumerate(limit_maps):
         colour = OKABE_ITO[i % len(OKABE_ITO)]
-        ax.plot(r.period.to_value(u.yr), r.max_mass_ratio, color=colour, lw=1.8,
-                label=r.host.name)
+        chirped |= _plot_bound(ax, r, colour, 1.8, "-", label=r.host.name)
         if i < len(forecast_maps):
-            fr = forecast_maps[i]
-            ax.plot(fr.period.to_value(u.yr), fr.max_mass_ratio, color=colour, lw=1.2,
-                    ls="--")
+            chirped |= _plot_bound(ax, forecast_maps[i], colour, 1.2, "--")
     if names is None:
-        names = (f"exclusion ({limit_maps[0].label})",
-                 f"forecast ({forecast_maps[0].label})" if forecast_maps else "")
+        names = (f"exclusion: {limit_maps[0].label}",
+                 forecast_maps[0].label if forecast_maps else "")
     styles = [Line2D([], [], color="0.3", lw=1.8, label=names[0])]
     if forecast_maps:
         styles.append(Line2D([], [], color="0.3", lw=1.2, ls="--", label=names[1]))
+    if chirped:
+        styles.append(Line2D([], [], color="0.3", lw=0.9, ls=":",
+                             label="where the binary chirps (not a CW bound)"))
     ax.set_xscale("log")
     ax.set_yscale("log")
     lowest = [np.nanmin(r.max_mass_ratio) for r in (*limit_maps, *forecast_maps)
@@ -59,6 +61,21 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
     ax.set_title(title or "Companions above each line are excluded (solid) or would be "
                  "detectable (dashed)", fontsize=10)
     handles, _ = ax.get_legend_handles_labels()
-    ax.legend(handles=handles + styles, fontsize=8, ncol=2, loc="lower right", framealpha=0.9)
+    ax.legend(handles=handles + styles, fontsize=8, ncol=2, loc="upper center",
+              bbox_to_anchor=(0.5, -0.13), frameon=False)
     ax.grid(True, which="major", color="0.9")
     return fig
+
+
+def _plot_bound(ax, result, colour, lw, ls, label=None):
+    """The bound of one map; dotted where it lies in the chirping region. True if any."""
+    p = result.period.to_value(u.yr)
+    q = result.max_mass_ratio
+    mono = result.bound_is_monochromatic
+    ax.plot(p, np.where(mono, q, np.nan), color=colour, lw=lw, ls=ls, label=label)
+    chirps = ~mono & np.isfinite(q)
+    if chirps.any():
+        # include the neighbours so that the two pieces join
+        edge = chirps | np.roll(chirps, 1) | np.roll(chirps, -1)
+        ax.plot(p, np.where(edge, q, np.nan), color=colour, lw=0.9, ls=":")
+    return bool(chirps.any())

@@ -74,7 +74,12 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
 
     ticks = np.arange(-150, 181, 30)
     ax.set_xticks(np.radians(ticks))
-    ax.set_xticklabels([f"{int(np.mod(180 - t, 360) / 15)}h" for t in ticks], fontsize=8)
+    import matplotlib.patheffects as pe
+
+    labels = ax.set_xticklabels([f"{int(np.mod(180 - t, 360) / 15)}h" for t in ticks],
+                                fontsize=8)
+    for text in labels:  # readable on dark and light pixels alike
+        text.set_path_effects([pe.withStroke(linewidth=2.5, foreground="white")])
     ax.tick_params(axis="y", labelsize=8)
     ax.grid(True, color="0.5", lw=0.4, alpha=0.6)
 

@@ -99,7 +99,7 @@ def summary_lines(result):
     if result.is_limit:
         phrase, tag = "ruled out", result.label
     else:
-        phrase, tag = "would be detectable", f"{result.label}; a forecast, not an exclusion"
+        phrase, tag = "would be detectable", f"{result.label}, not an exclusion"
     if best is None:
         lines = [f"{host}: no companion {phrase} at any period on the grid ({tag})"]
         band = result.curve.frequency
