@@ -382,8 +382,8 @@ class Rejections:
             name = str(np.concatenate(self._names)[i])
             reason = np.concatenate(self._reasons)[i]
             raise CatalogError(
-                f"catalogue row {row + 1} ({name!r}): {reason}; fix it or skip such rows "
-                "(on_bad='skip', --on-bad skip)"
+                f"catalogue row {row + 1} ({name!r}): {reason}; fix it, or skip and count "
+                "such rows with --on-bad skip"
             )
 
     def table(self):
@@ -575,7 +575,7 @@ def prepare_chunk(table, colmap, resolved, relations, start_row, dz, rejections)
     reject(~np.isnan(z) & ~have_d & ~((z > 0) & (z <= _ZMAX)),
            f"impossible redshift (need 0 < z <= {_ZMAX:g})")
     reject(have_z & (z < 0), "negative redshift")
-    reject(~have_d & ~have_z, "no distance or redshift")
+    reject(~have_d & ~have_z, "no distance or redshift (blank or NaN)")
     use_z = ~have_d & have_z & ~bad
     with np.errstate(invalid="ignore", divide="ignore"):
         d = np.where(use_z, dz.distance(np.where(use_z, z, 1.0)), d)
