@@ -113,6 +113,12 @@ def exclusion_figure(result, ax=None, prob_map=None):
         from .probability_plot import add_probability_contours
 
         add_probability_contours(ax, prob_map, levels=prob_map.credibility)
+        part = prob_map.above_isco_fraction
+        if np.any((part > 0.01) & (part < 1.0)):
+            from matplotlib.lines import Line2D
+
+            ax.add_line(Line2D([], [], ls="none",
+                               label="(short P: some mass samples above ISCO)"))
         top_level = max(prob_map.credibility)
         cred = prob_map.tightest(top_level)
         if cred is not None:
