@@ -25,6 +25,7 @@ __all__ = [
     "load_curve",
     "save_curve",
     "detection_threshold_h0",
+    "FromCurve",
     "noise_psd_for_threshold",
 ]
 
@@ -93,6 +94,20 @@ def noise_psd_for_threshold(h0, span, snr):
     Quantity [1/Hz].
     """
     return (ORIENTATION_MEAN * span * (np.asarray(h0) / snr) ** 2).to(u.Hz**-1)
+
+
+class FromCurve:
+    """Mixin for results built on a curve (``self.curve``): what kind of statement they make."""
+
+    @property
+    def is_limit(self):
+        """True for an exclusion (upper limit), False for a forecast (noise budget)."""
+        return self.curve.is_limit
+
+    @property
+    def verb(self):
+        """'excluded' or 'detectable'."""
+        return self.curve.verb
 
 
 class SensitivityCurve:

@@ -13,6 +13,7 @@ import numpy as np
 from astropy import units as u
 
 from . import waveform as wf
+from .curves import FromCurve
 
 __all__ = [
     "ALLOWED",
@@ -62,7 +63,7 @@ def default_periods(curve, n=300, pad=1.5):
     return np.logspace(np.log10(p[0] / pad), np.log10(p[1] * pad), n) * u.yr
 
 
-class ExclusionMap:
+class ExclusionMap(FromCurve):
     """Result of :func:`exclusion_map`; every array is indexed [q, P].
 
     Attributes
@@ -102,16 +103,6 @@ class ExclusionMap:
 
     def __init__(self, **fields):
         self.__dict__.update(fields)
-
-    @property
-    def is_limit(self):
-        """True when the map is an exclusion (upper limit), False for a forecast."""
-        return self.curve.is_limit
-
-    @property
-    def verb(self):
-        """'excluded' or 'detectable'."""
-        return self.curve.verb
 
     @property
     def label(self):

@@ -37,7 +37,7 @@ from astropy import constants as const
 from astropy import units as u
 
 from . import waveform as wf
-from .curves import ORIENTATION_MEAN
+from .curves import ORIENTATION_MEAN, FromCurve
 
 __all__ = [
     "HostSamples",
@@ -285,7 +285,7 @@ def sample_host(host, n=100_000, seed=None, orientation=False):
     )
 
 
-class ProbabilityMap:
+class ProbabilityMap(FromCurve):
     """Result of :func:`exclusion_probability`; 2-D arrays are indexed [q, P].
 
     Attributes
@@ -325,16 +325,6 @@ class ProbabilityMap:
     @property
     def curve(self):
         return self.deterministic.curve
-
-    @property
-    def is_limit(self):
-        """True for an exclusion (upper limit), False for a forecast."""
-        return self.deterministic.is_limit
-
-    @property
-    def verb(self):
-        """'excluded' or 'detectable'."""
-        return self.deterministic.verb
 
     def tightest(self, credibility):
         """Period of the smallest credible ``max_mass_ratio`` and that ratio, or None.

@@ -62,6 +62,7 @@ from .catalog import (
     load_column_map,
     prepare_chunk,
 )
+from .curves import FromCurve
 from .population import PopulationModel, _sky_index, expected_number
 from .scaling import select_relations
 
@@ -182,7 +183,7 @@ def galaxy_metrics(log_mass, log_mass_sigma, distance, redshift, frequency, h0_t
     }
 
 
-class SkySensitivity:
+class SkySensitivity(FromCurve):
     """Adaptor giving h0 thresholds at galaxy positions from a curve or a sky object.
 
     Parameters
@@ -251,16 +252,6 @@ class SkySensitivity:
                                                      snr=self.snr)
                 self._cache = np.ascontiguousarray(np.asarray(table, dtype=float).T)
                 self._done = np.ones(self._cache.shape[0], dtype=bool)
-
-    @property
-    def is_limit(self):
-        """True for an upper limit (exclusion)."""
-        return self.curve.is_limit
-
-    @property
-    def verb(self):
-        """'excluded' or 'detectable'."""
-        return self.curve.verb
 
     def label(self):
         """e.g. '95% upper limit' or 'forecast, S/N >= 5'."""
