@@ -45,8 +45,9 @@ class OneLineErrors(click.Group):
 
 def _one_line(err):
     text = str(err).strip() or type(err).__name__
-    if isinstance(err, FileNotFoundError) and err.filename:
-        return f"{err.filename}: file not found"
+    if isinstance(err, OSError) and err.filename and err.strerror:
+        # e.g. "/proc/x: no such file or directory", "out/: permission denied"
+        return f"{err.filename}: {err.strerror.lower()}"
     return " ".join(text.split())
 
 
