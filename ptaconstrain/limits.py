@@ -26,6 +26,7 @@ __all__ = [
     "exclusion_map",
     "default_periods",
     "default_mass_ratios",
+    "band_periods",
     "exclusion_probability",
 ]
 
@@ -49,6 +50,16 @@ def default_mass_ratios(n=300, q_min=1e-4):
     return np.logspace(np.log10(q_min), 0.0, n)
 
 
+def band_periods(curve):
+    """Shortest and longest orbital period (P = 2/f) the curve's band covers.
+
+    Returns
+    -------
+    Quantity (2,) [yr].
+    """
+    return wf.orbital_period(curve.frequency[[-1, 0]]).to(u.yr)
+
+
 def default_periods(curve, n=300, pad=1.5):
     """Log-spaced observer-frame orbital periods covering the curve's band.
 
@@ -59,7 +70,7 @@ def default_periods(curve, n=300, pad=1.5):
     -------
     Quantity [yr].
     """
-    p = wf.orbital_period(curve.frequency[[-1, 0]]).to_value(u.yr)
+    p = band_periods(curve).value
     return np.logspace(np.log10(p[0] / pad), np.log10(p[1] * pad), n) * u.yr
 
 

@@ -37,9 +37,16 @@ def _progress(length, label):
     return click.progressbar(length=length, label=label, file=sys.stderr)
 
 
+# options shared by the commands of this module
+_array_option = click.option(
+    "--array", "array_file", type=click.Path(dir_okay=False), required=True,
+    help="Pulsar list (ECSV; columns in the README).")
+_pulsar_term_option = click.option(
+    "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2).")
+
+
 @main.command()
-@click.option("--array", "array_file", type=click.Path(dir_okay=False), required=True,
-              help="Pulsar list (ECSV; columns in the README).")
+@_array_option
 @click.option("--out", type=click.Path(dir_okay=False), required=True,
               help="Output curve file (.ecsv).")
 @click.option("--ra", default=None, help="Source RA (deg or e.g. '12h30m49s'); omit for "
@@ -47,8 +54,7 @@ def _progress(length, label):
 @click.option("--dec", default=None, help="Source Dec (deg or e.g. '+12d23m28s').")
 @click.option("--snr", type=POSITIVE, default=5.0, show_default=True,
               help="S/N threshold quoted in the summary (stored in the curve's meta).")
-@click.option("--pulsar-term", is_flag=True,
-              help="Add the pulsar term incoherently (doubles S/N^2).")
+@_pulsar_term_option
 @click.option("--overwrite", is_flag=True, help="Replace an existing --out file.")
 def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
     """Noise-budget curve (strain PSD) of a pulsar array, at a position or sky-averaged.
@@ -83,8 +89,7 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
 
 
 @main.command()
-@click.option("--array", "array_file", type=click.Path(dir_okay=False), required=True,
-              help="Pulsar list (ECSV; columns in the README).")
+@_array_option
 @click.option("--frequency", "frequencies", type=FREQUENCY, multiple=True, required=True,
               help="GW frequency of a map, e.g. '8 nHz' (bare numbers are Hz); repeatable.")
 @click.option("--nside", type=int, default=32, show_default=True, callback=_nside,
@@ -93,8 +98,7 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
               help="S/N threshold of the mapped h0.")
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (FITS map + PNG figure per frequency).")
-@click.option("--pulsar-term", is_flag=True,
-              help="Add the pulsar term incoherently (doubles S/N^2).")
+@_pulsar_term_option
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
 def skymap(array_file, frequencies, nside, snr, out, pulsar_term, overwrite):
     """HEALPix map of the h0 a binary needs for S/N >= --snr (a forecast).

@@ -119,11 +119,12 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
 
     from ..curves import load_curve
     from ..io import check_new, write_table
-    from ..limits import exclusion_map
+    from ..limits import band_periods, exclusion_map
     from ..report.figures import exclusion_figure, save_figure
     from ..report.provenance import provenance, safe_name
     from ..report.tables import credible_summary_lines, exclusion_table, summary_lines
     from ..source import Host
+    from ..waveform import orbital_period
 
     nq, n_p = _grid(grid)
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
@@ -168,12 +169,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
 
     if not np.isfinite(result.max_mass_ratio).any():
-        band = _band_periods(curve)
+        band = band_periods(curve).value
+        p_isco = orbital_period(result.isco_frequency).value
         raise click.UsageError(
             f"no period of the grid ({period[0].to_value(u.yr):.3g}-"
             f"{period[-1].to_value(u.yr):.3g} yr) is constrained: the curve covers P = "
             f"{band[0]:.3g}-{band[1]:.3g} yr and binaries above ISCO (P < "
-            f"{2 / result.isco_frequency.to_value(u.Hz) / 3.15576e7:.3g} yr) do not exist; "
+            f"{p_isco:.3g} yr) do not exist; "
             "change --period-range")
     inputs = host.describe()
     inputs.update(snr=f"{snr:g}", span=str(result.span), grid=f"{nq}x{n_p}",
@@ -192,14 +194,6 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         lines += credible_summary_lines(prob)
     lines.append("wrote " + ", ".join(str(p) for p in written))
     return lines
-
-
-def _band_periods(curve):
-    """Orbital-period range [yr] that the curve's frequency band covers (P = 2/f)."""
-    from ..waveform import orbital_period
-
-    p = orbital_period(curve.frequency[[-1, 0]]).value
-    return float(p[0]), float(p[1])
 
 
 def _sensitivity_at(host, array_path, skymap_path, snr):
