@@ -25,8 +25,8 @@ import numpy as np
 from astropy import units as u
 from astropy.coordinates import SkyCoord
 
-from ptaconstrain import array as A
-from ptaconstrain import sky
+from ptaconstrain.sensitivity import antenna as sky
+from ptaconstrain.sensitivity import pulsar_array as A
 
 N_PSR, N_F, NSIDE = 100, 100, 64
 

@@ -15,11 +15,11 @@ import time
 import numpy as np
 from astropy import units as u
 
-from ptaconstrain import waveform as wf
-from ptaconstrain.curves import load_curve
-from ptaconstrain.limits import exclusion_map
-from ptaconstrain.shipped import CURVES, shipped_file
-from ptaconstrain.source import Host
+from ptaconstrain.analysis.exclusion import exclusion_map
+from ptaconstrain.binary import waveform as wf
+from ptaconstrain.binary.host import Host
+from ptaconstrain.data import path as data_file
+from ptaconstrain.sensitivity.curve import load_curve
 
 
 def best_of(fn, repeat=5):
@@ -46,7 +46,7 @@ def loop_reference(host, curve, q, period):
 
 def main():
     host = Host("bench", 2e10, 100)
-    curve = load_curve(shipped_file(CURVES, "synthetic_h0_limit.ecsv"))
+    curve = load_curve(data_file("synthetic_h0_limit.ecsv"))
     q = np.geomspace(1e-4, 1, 1000)
     period = np.geomspace(0.05, 60, 1000) * u.yr
     t_fast, full = best_of(lambda: exclusion_map(host, curve, q, period))

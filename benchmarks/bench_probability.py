@@ -2,7 +2,7 @@
 
 Both paths use the same host samples and the same per-cell thresholds:
 
-* fast path: :func:`ptaconstrain.probability.exclusion_probability` (sort the
+* fast path: :func:`ptaconstrain.analysis.probability.exclusion_probability` (sort the
   per-sample ln u once, one ``np.searchsorted`` for every cell, exact
   per-sample ISCO bookkeeping);
 * brute force: for chunks of samples, broadcast ``ln u_s > threshold(q, P)``
@@ -26,12 +26,12 @@ import tracemalloc
 import numpy as np
 from astropy import units as u
 
-from ptaconstrain import waveform as wf
-from ptaconstrain.curves import load_curve
-from ptaconstrain.limits import default_mass_ratios, default_periods
-from ptaconstrain.probability import exclusion_probability, sample_host
-from ptaconstrain.shipped import CURVES, shipped_file
-from ptaconstrain.source import Host
+from ptaconstrain.analysis.exclusion import default_mass_ratios, default_periods
+from ptaconstrain.analysis.probability import exclusion_probability, sample_host
+from ptaconstrain.binary import waveform as wf
+from ptaconstrain.binary.host import Host
+from ptaconstrain.data import path as data_file
+from ptaconstrain.sensitivity.curve import load_curve
 
 HOSTS = {
     # invented demo galaxy (examples/demo_hosts.ecsv): ISCO matters only in the far tail
@@ -122,7 +122,7 @@ def main():
     ap.add_argument("--samples", type=int, default=100_000)
     ap.add_argument("--grid", type=int, default=300)
     args = ap.parse_args()
-    curve = load_curve(shipped_file(CURVES, "synthetic_h0_limit.ecsv"))
+    curve = load_curve(data_file("synthetic_h0_limit.ecsv"))
     for name, params in HOSTS.items():
         run(name, dict(params), curve, args.samples, args.grid)
 

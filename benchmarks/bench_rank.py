@@ -23,11 +23,16 @@ import numpy as np
 from astropy import units as u
 from astropy.table import Table
 
-from ptaconstrain import waveform as wf
-from ptaconstrain.curves import load_curve
-from ptaconstrain.population import PopulationModel, band_thresholds, mass_limits, mass_nodes
-from ptaconstrain.rank import galaxy_metrics, rank_catalog
-from ptaconstrain.shipped import CURVES, shipped_file
+from ptaconstrain.binary import waveform as wf
+from ptaconstrain.catalogue.population import (
+    PopulationModel,
+    band_thresholds,
+    mass_limits,
+    mass_nodes,
+)
+from ptaconstrain.catalogue.ranking import galaxy_metrics, rank_catalog
+from ptaconstrain.data import path as data_file
+from ptaconstrain.sensitivity.curve import load_curve
 
 
 def synthetic_catalogue(n, seed=7):
@@ -80,7 +85,7 @@ def main():
     ap.add_argument("--csv", action="store_true", help="stream from a temporary CSV file")
     args = ap.parse_args()
 
-    curve = load_curve(shipped_file(CURVES, "synthetic_h0_limit.ecsv"))
+    curve = load_curve(data_file("synthetic_h0_limit.ecsv"))
     pop = PopulationModel()
     cat = synthetic_catalogue(args.rows)
     print(f"catalogue: {args.rows} invented rows; curve: {curve.frequency.size} frequencies "

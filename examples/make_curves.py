@@ -1,4 +1,4 @@
-"""Generate the two synthetic sensitivity curves shipped in sensitivity_curves/.
+"""Generate the two synthetic sensitivity curves shipped in src/ptaconstrain/data/.
 
 Both curves belong to an INVENTED scenario and describe no real array:
 
@@ -26,7 +26,7 @@ from pathlib import Path
 import numpy as np
 from astropy import units as u
 
-from ptaconstrain.curves import SensitivityCurve, noise_psd_for_threshold, save_curve
+from ptaconstrain.sensitivity.curve import StrainCurve, noise_psd_for_threshold, save_curve
 
 F_YR = (1.0 / u.yr).to_value(u.Hz)
 
@@ -76,7 +76,7 @@ def h0_limit_curve():
         "assumptions": "white rms 0.5 us at 14 d cadence, red noise A=3e-15 gamma=13/3, "
         "quadratic + astrometric fit losses, level 1e-14 at 8 nHz (all invented)",
     }
-    return SensitivityCurve(f * u.Hz, h, "h0_limit", meta)
+    return StrainCurve(f * u.Hz, h, "h0_limit", meta)
 
 
 def future_psd_curve():
@@ -96,11 +96,11 @@ def future_psd_curve():
         "assumptions": "white rms 0.1 us at 7 d cadence, red noise A=1e-15 gamma=13/3, "
         "quadratic + astrometric fit losses, h0(S/N=5) = 1e-15 at 10 nHz (all invented)",
     }
-    return SensitivityCurve(f * u.Hz, psd, "strain_psd", meta)
+    return StrainCurve(f * u.Hz, psd, "strain_psd", meta)
 
 
 def h0_limit_sky_map(curve, path, overwrite=False, nside=8, n_freq=16):
-    """A synthetic HEALPix map of 95% h0 upper limits (layout: README, ptaconstrain.skymap).
+    """A synthetic HEALPix map of 95% h0 upper limits (layout: README).
 
     Invented: the sky-averaged limit ``curve`` times a smooth pattern, 0.55 x in the
     direction of the fictional array's densest pulsars (RA 280 deg, Dec -35 deg) rising to
@@ -108,7 +108,7 @@ def h0_limit_sky_map(curve, path, overwrite=False, nside=8, n_freq=16):
     """
     import healpy as hp
 
-    from ptaconstrain.io import atomic_write
+    from ptaconstrain._files import atomic_write
 
     f = np.geomspace(curve.frequency[0].value, curve.frequency[-1].value, n_freq)
     h = curve.interpolate(f * u.Hz)
@@ -128,7 +128,7 @@ def h0_limit_sky_map(curve, path, overwrite=False, nside=8, n_freq=16):
 
 
 def main(argv):
-    out = Path(__file__).resolve().parent.parent / "sensitivity_curves"
+    out = Path(__file__).resolve().parent.parent / "src" / "ptaconstrain" / "data"
     overwrite = "--overwrite" in argv
     limit = h0_limit_curve()
     save_curve(limit, out / "synthetic_h0_limit.ecsv", overwrite=overwrite)

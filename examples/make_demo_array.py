@@ -1,4 +1,4 @@
-"""Generate examples/demo_array.ecsv: an INVENTED pulsar timing array for the demo.
+"""Generate src/ptaconstrain/data/demo_array.ecsv: an INVENTED pulsar timing array for the demo.
 
 Nothing here describes real pulsars.  The names (FP-01 ... FP-40, "fictional
 pulsar") and every number are made up from these stated assumptions:
@@ -27,7 +27,7 @@ from astropy.coordinates import SkyCoord
 from astropy.table import QTable
 
 SEED = 20240611
-OUT = Path(__file__).with_name("demo_array.ecsv")
+OUT = Path(__file__).resolve().parent.parent / "src" / "ptaconstrain" / "data" / "demo_array.ecsv"
 
 
 def _group(rng, n, ra0, dec0, radius):

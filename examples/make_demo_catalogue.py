@@ -1,4 +1,4 @@
-"""Write examples/demo_catalogue.ecsv: an invented catalogue of massive galaxies.
+"""Write src/ptaconstrain/data/demo_catalogue.ecsv: an invented catalogue of massive galaxies.
 
 Every galaxy here is fictional ("Fictus-NNNN"); positions, distances and
 properties are random draws.  About 10% carry a "measured" black-hole mass
@@ -19,8 +19,8 @@ from astropy import units as u
 from astropy.cosmology import Planck18
 from astropy.table import MaskedColumn, Table
 
-from ptaconstrain.io import write_table
-from ptaconstrain.scaling import shipped_relations
+from ptaconstrain._files import write_table
+from ptaconstrain.catalogue.relations import shipped_relations
 
 N = 400
 SEED = 51017
@@ -89,7 +89,8 @@ def make(n=N, seed=SEED):
 
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--out", default=str(Path(__file__).with_name("demo_catalogue.ecsv")))
+    data = Path(__file__).resolve().parent.parent / "src" / "ptaconstrain" / "data"
+    parser.add_argument("--out", default=str(data / "demo_catalogue.ecsv"))
     parser.add_argument("--overwrite", action="store_true")
     args = parser.parse_args()
     write_table(make(), args.out, overwrite=args.overwrite)

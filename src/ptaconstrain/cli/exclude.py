@@ -1,0 +1,219 @@
+"""``ptaconstrain exclude``: the companions one host cannot have."""
+
+import click
+
+from . import main
+from .params import (
+    DISTANCE,
+    MASS,
+    SPEED,
+    TIME,
+    DistanceError,
+    FormatList,
+    LevelList,
+    MassError,
+    RangeType,
+)
+
+__all__ = ["exclude", "run_exclusion"]
+
+
+def _grid(text):
+    import re
+
+    match = re.fullmatch(r"\s*(\d+)\s*(?:[x,]\s*(\d+)\s*)?", str(text).lower())
+    sizes = [int(g) for g in match.groups() if g is not None] if match else []
+    if len(sizes) == 1:
+        sizes *= 2
+    if len(sizes) != 2 or min(sizes) < 2 or max(sizes) > 5000:
+        raise click.BadParameter(
+            f"{text!r}: give N or NQxNP with 2 <= N <= 5000, e.g. 300 or 200x400",
+            param_hint="'--grid'")
+    return sizes
+
+
+@main.command()
+@click.option("--mass", type=MASS, required=True,
+              help="Total black-hole mass M = m1 + m2; bare numbers are solMass.")
+@click.option("--distance", type=DISTANCE, default=None,
+              help="Luminosity distance; bare numbers are Mpc.")
+@click.option("--redshift", type=click.FloatRange(min=0), default=None,
+              help="Redshift (instead of, or as well as, --distance; Planck18).")
+@click.option("--mass-distance", type=DISTANCE, default=None,
+              help="Distance the mass was measured at; it is rescaled linearly.")
+@click.option("--name", default="host", show_default=True, help="Host name for labels and files.")
+@click.option("--ra", default=None, help="Right ascension, e.g. 187.7 (deg) or '12h30m49s'.")
+@click.option("--dec", default=None, help="Declination, e.g. 12.4 (deg) or '+12d23m28s'.")
+@click.option("--sigma", "velocity_dispersion", type=SPEED, default=None,
+              help="Central velocity dispersion (km/s): draws the hardening radius.")
+@click.option("--mass-err", type=MassError(), default=None,
+              help="Mass error: dex ('0.2'), lower,upper dex ('0.15,0.25') or '30%'. "
+              "Turns on probability maps.")
+@click.option("--distance-err", type=DistanceError(), default=None,
+              help="Distance error: Gaussian sigma ('5', Mpc) or '10%'.")
+@click.option("--velocity-err", type=SPEED, default=None,
+              help="Peculiar-velocity error of a redshift distance (km/s).")
+@click.option("--samples", type=click.IntRange(min=100), default=100_000, show_default=True,
+              help="Monte-Carlo samples of the host for probability maps.")
+@click.option("--seed", type=click.IntRange(min=0), default=None,
+              help="Random seed (recorded in the table; drawn afresh if omitted).")
+@click.option("--credibility", type=LevelList(), default="0.5,0.9,0.95", show_default=True,
+              help="Credibility levels of the probabilistic bounds.")
+@click.option("--curve", "curve_path", type=click.Path(dir_okay=False), default=None,
+              help="Sensitivity curve: ECSV, or two-column text with --kind.")
+@click.option("--array", "array_path", type=click.Path(dir_okay=False), default=None,
+              help="Pulsar list (ECSV) instead of --curve: a forecast at the host's position.")
+@click.option("--limit-map", "limit_map_path", type=click.Path(dir_okay=False), default=None,
+              help="HEALPix FITS map of h0 upper limits instead of --curve: the limit at "
+              "the host's pixel.")
+@click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
+              default=None, help="What a plain-text curve holds.")
+@click.option("--snr", type=click.FloatRange(min=0, min_open=True), default=5.0,
+              show_default=True, help="S/N threshold for noise-budget curves.")
+@click.option("--span", type=TIME, default=None,
+              help="Observing span (default: the curve's; bare numbers are yr).")
+@click.option("--mass-ratio-range", type=RangeType(upper=1.0), default="1e-4,1",
+              show_default=True, help="Mass-ratio range LOW,HIGH within (0, 1].")
+@click.option("--period-range", type=RangeType("yr"), default=None,
+              help="Orbital period range LOW,HIGH (yr); default: the curve's band.")
+@click.option("--grid", default="300", show_default=True,
+              help="Grid size N (N x N) or NQxNP.")
+@click.option("--format", "formats", type=FormatList(), default="png,pdf", show_default=True,
+              help="Figure formats, comma-separated.")
+@click.option("--out", type=click.Path(file_okay=False), required=True,
+              help="Output directory (created if needed).")
+@click.option("--overwrite", is_flag=True, help="Replace existing output files.")
+def exclude(**opts):
+    """Rule out companions of one host black hole.
+
+    Writes OUT/<name>_exclusion.ecsv (one row per period) and the figure
+    OUT/<name>_exclusion.png/.pdf, and prints a two-line summary; a noise
+    budget or a pulsar list gives a forecast, written as OUT/<name>_forecast.*.  With
+    --mass-err, --distance-err or --velocity-err the host's uncertainties
+    are sampled: the figure gains probability contours, the table one
+    max_mass_ratio_<credibility> column per level.
+
+    \b
+    Example:
+      ptaconstrain exclude --mass 2e10 --distance 100 \\
+          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+      ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
+          --array src/ptaconstrain/data/demo_array.ecsv --out results
+      ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
+          --distance-err 10% --mass-distance 100 --seed 1 \\
+          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+    """
+    for line in run_exclusion(**opts):
+        click.echo(line)
+
+
+def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, velocity_dispersion,
+                  mass_err, distance_err, velocity_err, samples, seed, credibility,
+                  curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
+                  period_range, grid, formats, out, overwrite):
+    """Library calls behind ``exclude``; returns the summary lines."""
+    from pathlib import Path
+
+    import numpy as np
+    from astropy import units as u
+
+    from .._files import check_new, write_table
+    from ..analysis.exclusion import band_periods, exclusion_map
+    from ..binary.host import Host
+    from ..binary.waveform import orbital_period
+    from ..report.figures import exclusion_figure, save_figure
+    from ..report.provenance import provenance, safe_name
+    from ..report.tables import credible_summary_lines, exclusion_table, summary_lines
+    from ..sensitivity.curve import load_curve
+
+    nq, n_p = _grid(grid)
+    host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
+                ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
+                velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))
+    sources = {"--curve": curve_path, "--array": array_path, "--limit-map": limit_map_path}
+    given = [k for k, v in sources.items() if v is not None]
+    if len(given) != 1:
+        raise click.UsageError("give exactly one of --curve, --array or --limit-map"
+                               + (f" (got {', '.join(given)})" if given else ""))
+    source_path = sources[given[0]]
+    if not Path(source_path).is_file():
+        raise click.UsageError(f"{given[0]} {source_path}: file not found; check the path")
+    if array_path is not None and span is not None:
+        raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
+                               "drop --span")
+    curve = load_curve(curve_path, kind=kind) if curve_path is not None else None
+    # an upper limit gives an exclusion, a noise budget (or a pulsar list) a forecast
+    forecast = array_path is not None or (curve is not None and not curve.is_limit)
+    stem = Path(out) / f"{safe_name(name)}_{'forecast' if forecast else 'exclusion'}"
+    targets = [stem.with_suffix(".ecsv")] + [Path(f"{stem}.{f}") for f in formats]
+    check_new(targets, overwrite)  # before the slow part, so a refusal costs nothing
+    sky_note = ""
+    if curve is None:
+        curve, sky_note = _sensitivity_at(host, array_path, limit_map_path, snr)
+    q = np.logspace(np.log10(mass_ratio_range[0]), np.log10(mass_ratio_range[1]), nq)
+    if period_range is None:
+        from ..analysis.exclusion import default_periods
+
+        period = default_periods(curve, n_p)
+    else:
+        lo, hi = (p.to_value(u.yr) for p in period_range)
+        period = np.logspace(np.log10(lo), np.log10(hi), n_p) * u.yr
+    prob = None
+    if mass_err or distance_err or velocity_err is not None:
+        from ..analysis.probability import exclusion_probability
+
+        prob = exclusion_probability(host, curve, q, period, samples=samples, seed=seed,
+                                     credibility=credibility, snr=snr, span=span)
+        result = prob.deterministic
+    else:
+        result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
+
+    if not np.isfinite(result.max_mass_ratio).any():
+        band = band_periods(curve).value
+        p_isco = orbital_period(result.isco_frequency).value
+        raise click.UsageError(
+            f"no period of the grid ({period[0].to_value(u.yr):.3g}-"
+            f"{period[-1].to_value(u.yr):.3g} yr) is constrained: the curve covers P = "
+            f"{band[0]:.3g}-{band[1]:.3g} yr and binaries above ISCO (P < "
+            f"{p_isco:.3g} yr) do not exist; "
+            "change --period-range")
+    inputs = host.describe()
+    inputs.update(snr=f"{snr:g}", span=str(result.span), grid=f"{nq}x{n_p}",
+                  mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
+                  period_range=f"{period[0]:.4g},{period[-1]:.4g}")
+    inputs["sensitivity_sky"] = sky_note
+    meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
+    table = exclusion_table(result, meta, prob_map=prob)
+    fig = exclusion_figure(result, prob_map=prob)
+    write_table(table, targets[0], overwrite)
+    written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
+    lines = summary_lines(result)
+    if sky_note:
+        lines.append(f"{host.name}: sensitivity {sky_note}")
+    if prob is not None:
+        lines += credible_summary_lines(prob)
+    lines.append("wrote " + ", ".join(str(p) for p in written))
+    return lines
+
+
+def _sensitivity_at(host, array_path, limit_map_path, snr):
+    """The curve at ``host`` from a pulsar list or a limit map, and a note on its sky."""
+    import sys
+
+    if array_path is not None:
+        from ..sensitivity.pulsar_array import load_array
+
+        sens = load_array(array_path)
+        with click.progressbar(length=len(sens), label="timing-model fits per pulsar",
+                               file=sys.stderr) as bar:
+            sens.weights(sens.default_frequencies(), callback=bar.update)  # cached
+    else:
+        from ..sensitivity.limit_map import load_limit_map
+
+        sens = load_limit_map(limit_map_path)
+    curve = sens.curve_at(host.coord, snr=snr) if array_path else sens.curve_at(host.coord)
+    if host.coord is None:
+        note = "sky-averaged: the host has no --ra/--dec"
+    else:
+        note = f"at the host's position ({curve.sky})"
+    return curve, note

@@ -1,0 +1,220 @@
+"""Exclusion figures: mass ratio against orbital period, regions shaded and labelled.
+
+Colours are from the Okabe & Ito (2008) colour-universal-design palette, safe
+for the common colour-vision deficiencies; regions are also told apart by
+hatching so that the figure survives grey-scale printing.
+"""
+
+import numpy as np
+from astropy import units as u
+
+from ..analysis.exclusion import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTRAINED
+
+__all__ = ["REGION_STYLE", "exclusion_figure", "save_figure"]
+
+# code: (label for limits, label for forecasts, colour, hatch)
+REGION_STYLE = {
+    ALLOWED: ("allowed", "not detectable", "#FFFFFF", None),
+    EXCLUDED: ("excluded", "detectable", "#56B4E9", None),
+    CHIRPING: ("chirping within span", "chirping within span", "#E69F00", "//"),
+    UNCONSTRAINED: ("outside curve band", "outside curve band", "#D9D9D9", None),
+    ABOVE_ISCO: ("above ISCO (no binary)", "above ISCO (no binary)", "#7F7F7F", "xx"),
+}
+
+
+def _edges(x):
+    lx = np.log10(x)
+    mid = 0.5 * (lx[1:] + lx[:-1])
+    first = lx[0] - (mid[0] - lx[0]) if lx.size > 1 else lx[0] - 0.5
+    last = lx[-1] + (lx[-1] - mid[-1]) if lx.size > 1 else lx[-1] + 0.5
+    return 10 ** np.concatenate([[first], mid, [last]])
+
+
+_YR_S = u.yr.to(u.s)
+
+
+def _tex_sci(x, digits=2):
+    """2.2e+10 -> '2.2$\\times10^{10}$' for titles."""
+    mant, exp = f"{x:.{digits}e}".split("e")
+    mant = mant.rstrip("0").rstrip(".")
+    return f"{mant}$\\times10^{{{int(exp)}}}$"
+
+
+def _period_to_nhz(x):
+    """P [yr] <-> f = 2/P [nHz]; the map is its own inverse."""
+    with np.errstate(divide="ignore", over="ignore"):
+        return 2.0e9 / (np.asarray(x, dtype=float) * _YR_S)
+
+
+def _q_to_m2(q, m_tot):
+    q = np.asarray(q, dtype=float)
+    return m_tot * q / (1.0 + q)
+
+
+def _m2_to_q(m2, m_tot):
+    m2 = np.asarray(m2, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        return m2 / (m_tot - m2)
+
+
+def exclusion_figure(result, ax=None, prob_map=None):
+    """Draw an :class:`~ptaconstrain.analysis.exclusion.ExclusionMap` on log axes.
+
+    Parameters
+    ----------
+    result : ExclusionMap
+    ax : matplotlib Axes, optional
+    prob_map : ProbabilityMap, optional
+        From :func:`ptaconstrain.analysis.probability.exclusion_probability`: its
+        probability contours are drawn over the deterministic map.
+
+    Returns
+    -------
+    matplotlib Figure
+    """
+    import matplotlib
+
+    matplotlib.use("Agg", force=False)
+    import matplotlib.pyplot as plt
+    from matplotlib.colors import BoundaryNorm, ListedColormap
+    from matplotlib.patches import Patch
+
+    own_figure = ax is None
+    if own_figure:
+        fig, ax = plt.subplots(figsize=(7.4, 5.8))
+        # Fixed margins: constrained layout doubles the drawing time.
+        fig.subplots_adjust(left=0.11, right=0.87, bottom=0.23, top=0.85)
+    else:
+        fig = ax.figure
+    codes = sorted(REGION_STYLE)
+    cmap = ListedColormap([REGION_STYLE[c][2] for c in codes])
+    norm = BoundaryNorm(np.arange(len(codes) + 1) - 0.5, cmap.N)
+    p = result.period.to_value(u.yr)
+    q = result.mass_ratio
+    pe, qe = _edges(p), _edges(q)
+    ax.pcolormesh(pe, qe, result.region, cmap=cmap, norm=norm, shading="flat",
+                  rasterized=True)
+    for code in (CHIRPING, ABOVE_ISCO):
+        mask = (result.region == code).astype(float)
+        if mask.any():
+            ax.contourf(p, q, mask, levels=[0.5, 1.5], colors="none",
+                        hatches=[REGION_STYLE[code][3]])
+    label = (f"max allowed q ({result.label})" if result.is_limit
+             else f"detection threshold ({result.label})")
+    if prob_map is not None:
+        label = f"best-fit host: {label}"
+    qmax = result.max_mass_ratio
+    chirps = ~result.bound_is_monochromatic & np.isfinite(qmax)
+    ax.plot(p, np.where(chirps, np.nan, qmax), color="#0072B2", lw=1.8, label=label)
+    if chirps.any():
+        ax.plot(p, np.where(chirps, qmax, np.nan), color="#0072B2", lw=1.4, ls="-.",
+                label="same, where the binary chirps (not a CW bound)")
+    if prob_map is not None:
+        from .probability_plot import add_probability_contours
+
+        add_probability_contours(ax, prob_map, levels=prob_map.credibility)
+        part = prob_map.above_isco_fraction
+        if np.any((part > 0.01) & (part < 1.0)):
+            from matplotlib.lines import Line2D
+
+            ax.add_line(Line2D([], [], ls="none",
+                               label="(short P: some mass samples above ISCO)"))
+        top_level = max(prob_map.credibility)
+        cred = prob_map.tightest(top_level)
+        if cred is not None:
+            cp, cq = cred[0].to_value(u.yr), cred[1]
+            ax.plot([cp], [cq], marker="^", color="black", ms=8, ls="none", zorder=5)
+            ax.annotate(f"q > {cq:.3g} at {100 * top_level:g}%\nprobability", (cp, cq),
+                        xytext=(-40, 34), textcoords="offset points", fontsize=9,
+                        ha="right", bbox={"boxstyle": "round", "fc": "white", "ec": "0.6",
+                                          "alpha": 0.9},
+                        arrowprops={"arrowstyle": "-", "color": "black"})
+    if result.hardening_period is not None:
+        ax.plot(result.hardening_period.to_value(u.yr), q, color="#009E73", ls="--", lw=1.4,
+                label=r"hardening radius $a_h = G\mu/4\sigma^2$ (guide)")
+    best = result.tightest()
+    if best is not None:
+        bp, bq = best[0].to_value(u.yr), best[1]
+        ax.plot([bp], [bq], marker="v", color="#D55E00", ms=9, ls="none", zorder=5)
+        phrase = "ruled out" if result.is_limit else "detectable"
+        # keep the label inside the axes: to the left of a point in the right half
+        right_half = np.log(bp / pe[0]) > 0.5 * np.log(pe[-1] / pe[0])
+        ax.annotate(f"q > {bq:.3g} {phrase}\nat P = {bp:.3g} yr", (bp, bq),
+                    xytext=(-12 if right_half else 12, -30), textcoords="offset points",
+                    ha="right" if right_half else "left", fontsize=9, color="#D55E00",
+                    bbox={"boxstyle": "round", "fc": "white", "ec": "none", "alpha": 0.8},
+                    arrowprops={"arrowstyle": "-", "color": "#D55E00"})
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    ax.set_xlim(pe[0], pe[-1])
+    ax.set_ylim(qe[0], min(qe[-1], 1.0))
+    ax.set_xlabel("orbital period P [yr] (observer frame)")
+    ax.set_ylabel(r"mass ratio $q = m_2/m_1$")
+    top = ax.secondary_xaxis("top", functions=(_period_to_nhz, _period_to_nhz))
+    top.set_xlabel(r"GW frequency $f = 2/P$ [nHz]")
+    m_tot = result.host.mass.to_value(u.Msun)
+    right = ax.secondary_yaxis(
+        "right", functions=(lambda x: _q_to_m2(x, m_tot), lambda m: _m2_to_q(m, m_tot)))
+    right.set_ylabel(r"companion mass $m_2$ [M$_\odot$]")
+    lim = result.is_limit
+    handles = [Patch(facecolor=REGION_STYLE[c][2], edgecolor="0.4",
+                     hatch=REGION_STYLE[c][3], label=REGION_STYLE[c][0 if lim else 1])
+               for c in codes if np.any(result.region == c)]
+    line_handles, _ = ax.get_legend_handles_labels()
+    entries = handles + line_handles
+    ax.legend(handles=entries, loc="upper center", bbox_to_anchor=(0.5, -0.11),
+              ncol=2, fontsize=8, frameon=False)
+    if own_figure:
+        _fit_legend_rows(fig, (len(entries) + 1) // 2)
+    if lim:
+        kind = f"exclusion, {result.label}"
+    else:
+        kind = (f"forecast, not an exclusion: S/N $\\geq$ {result.snr:g} over "
+                f"{result.span.to_value(u.yr):.3g} yr")
+    host = result.host
+    ax.set_title(
+        f"{host.name}: M = {_tex_sci(m_tot)} M$_\\odot$, $D_L$ = "
+        f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}", fontsize=10)
+    return fig
+
+
+def _fit_legend_rows(fig, rows, base_rows=4, row_height=0.17):
+    """Grow the figure downwards so a legend of ``rows`` rows below the axes fits."""
+    extra = max(0, rows - base_rows) * row_height
+    if extra == 0:
+        return
+    h0 = fig.get_figheight()
+    h = h0 + extra
+    fig.set_figheight(h)
+    fig.subplots_adjust(bottom=(0.23 * h0 + extra) / h, top=1 - 0.15 * h0 / h)
+
+
+def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
+    """Save ``fig`` as ``stem.<fmt>`` for each format, atomically.
+
+    Parameters
+    ----------
+    fig : matplotlib Figure
+    stem : path-like without suffix
+    formats : sequence of str
+    overwrite : bool
+    dpi : int
+
+    Returns
+    -------
+    list of pathlib.Path written.
+    """
+    from pathlib import Path
+
+    import matplotlib.pyplot as plt
+
+    from .._files import atomic_write
+
+    written = []
+    for fmt in formats:
+        path = Path(f"{stem}.{fmt}")
+        with atomic_write(path, overwrite) as tmp:
+            fig.savefig(tmp, format=fmt, dpi=dpi)
+        written.append(path)
+    plt.close(fig)
+    return written

@@ -1,0 +1,190 @@
+"""Figures of a catalogue ranking: the targets on the sky, and expected detections by rank.
+
+Equatorial Mollweide map with right ascension increasing to the left (the
+astronomical convention, 12h at the centre); targets coloured by the ranking
+metric with cividis, a perceptually uniform colour map safe for colour-vision
+deficiencies (Nunez et al. 2018, PLoS ONE 13, e0199239); galaxies whose metric
+is zero or undefined are small grey dots; a logarithmic colour scale spans at
+most four decades below the best value (lower values share its lowest colour);
+the array's pulsars, when known, white stars.  matplotlib is imported inside
+the functions (Agg backend).
+"""
+
+import numpy as np
+from astropy import units as u
+
+__all__ = ["metric_label", "sky_figure", "cumulative_figure", "ranking_figures",
+           "FIGURE_STEMS"]
+
+#: file stems of the figures written by :func:`ranking_figures`
+FIGURE_STEMS = ("ranking_sky", "ranking_cumulative")
+#: decades of the metric spanned by the sky map's logarithmic colour scale
+DECADES = 4
+
+
+def _plt():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    return plt
+
+
+def metric_label(metric, verb, rate=None):
+    """Axis/colour-bar label of a ranking metric, with its unit."""
+    labels = {
+        "expected_number": f"expected number of {verb} binaries",
+        "h0_ratio": "h0(q = 1) / h0 threshold at f_best",
+        "prob_equal_mass": f"P(q = 1 binary {verb} at f_best)",
+        "min_mass_ratio": f"smallest mass ratio {verb} at f_best",
+    }
+    text = labels[metric] + " [dimensionless]"
+    if metric == "expected_number" and rate is not None:
+        text += f"\n(merger rate {rate} per galaxy)"
+    return text
+
+
+def _x(ra_deg):
+    """RA [deg] -> Mollweide x [rad], RA increasing to the left, 12h at the centre."""
+    return np.radians(180.0 - np.mod(np.asarray(ra_deg, float), 360.0))
+
+
+def sky_figure(table, metric, verb, label="", pulsars=None, top=20, rate=None):
+    """Mollweide map of the ranked galaxies coloured by ``metric``.
+
+    Parameters
+    ----------
+    table : astropy.table.Table
+        A ranking table (columns ra, dec [deg], rank and the metric).
+    metric : str
+    verb : str
+        'excluded' or 'detectable'.
+    label : str
+        Sensitivity label for the title (e.g. '95% upper limit').
+    pulsars : SkyCoord, optional
+    top : int
+        The best ``top`` galaxies get their rank written beside them (at most 20).
+    rate : str, optional
+        Merger rate, shown with the expected number.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    plt = _plt()
+    from matplotlib.colors import LogNorm, Normalize
+
+    ra = u.Quantity(table["ra"], u.deg).value
+    dec = u.Quantity(table["dec"], u.deg).value
+    val = np.asarray(table[metric], dtype=float)
+    fig = plt.figure(figsize=(9.0, 5.2))
+    ax = fig.add_subplot(projection="mollweide")
+    ax.grid(True, color="0.8", lw=0.5)
+    ticks = np.radians(np.arange(-150, 181, 30))
+    ax.set_xticks(ticks)
+    ax.set_xticklabels([f"{int(np.mod(180 - np.degrees(t), 360) / 15)}h" for t in ticks],
+                       fontsize=8)
+    good = np.isfinite(val) & (val > 0)
+    ax.scatter(_x(ra[~good]), np.radians(dec[~good]), s=4, c="0.6", lw=0,
+               label=f"none {verb} ({np.count_nonzero(~good)})")
+    if good.any():
+        v = val[good]
+        span = v.max() / v.min()
+        # at most DECADES decades of colour: smaller values share the lowest colour
+        # (arrow on the colour bar), so the few targets that matter stay distinct
+        best_low = metric == "min_mass_ratio"  # smaller is better: never clip the best
+        vmin = v.min() if best_low else max(v.min(), v.max() / 10.0**DECADES)
+        norm = LogNorm(vmin, v.max()) if span > 100 else Normalize(v.min(), v.max())
+        extend = "min" if vmin > v.min() else "neither"
+        cmap = "cividis_r" if metric == "min_mass_ratio" else "cividis"
+        order = np.argsort(v) if metric != "min_mass_ratio" else np.argsort(-v)
+        sc = ax.scatter(_x(ra[good])[order], np.radians(dec[good])[order], c=v[order],
+                        s=np.where(v[order] < vmin, 6, 16), cmap=cmap, norm=norm,
+                        edgecolors="k", linewidths=0.2)
+        cb = fig.colorbar(sc, ax=ax, orientation="horizontal", pad=0.07, fraction=0.05,
+                          aspect=40, extend=extend)
+        cb.set_label(metric_label(metric, verb, rate), fontsize=9)
+    n_lab = min(int(top), 20, len(table))
+    for i in range(n_lab):  # a handful of labels, not a loop over the catalogue
+        ax.annotate(str(int(table["rank"][i])), (_x(ra[i]), np.radians(dec[i])),
+                    xytext=(3, 3), textcoords="offset points", fontsize=7)
+    if pulsars is not None:
+        c = pulsars.icrs
+        ax.scatter(_x(c.ra.deg), np.radians(c.dec.deg), marker="*", s=60, c="white",
+                   edgecolors="k", linewidths=0.6, label=f"pulsars ({len(c)})", zorder=5)
+    ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=7, frameon=False)
+    ax.set_title(f"{len(table)} galaxies by {metric} - {label} ({verb})\n"
+                 f"numbers: rank of the top {n_lab}; RA increases to the left", fontsize=10,
+                 pad=16)
+    return fig
+
+
+def cumulative_figure(table, verb, label="", top=20, rate=None):
+    """Cumulative expected number of excluded (detectable) binaries against rank.
+
+    Parameters
+    ----------
+    table : astropy.table.Table
+        A ranking table (columns rank, expected_number).
+    verb, label : str
+    top : int
+        Marked with a vertical line.
+    rate : str, optional
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    plt = _plt()
+
+    n_exp = np.nan_to_num(np.asarray(table["expected_number"], dtype=float))
+    rank = np.asarray(table["rank"])
+    cum = np.cumsum(n_exp)
+    fig, ax = plt.subplots(figsize=(6.4, 4.4))
+    ax.step(rank, cum, where="post", color="#0072B2", lw=1.5)
+    ax.set_xscale("log")
+    ax.set_ylim(bottom=0.0)  # from zero, so the share of the first targets reads right
+    ax.set_xlabel(f"rank in the table (as sorted; {len(table)} galaxies)")
+    ax.set_ylabel(f"cumulative expected number\nof {verb} binaries [dimensionless]")
+    if 0 < top < len(table):
+        ax.axvline(top, color="#E69F00", ls="--", lw=1)
+        share = cum[top - 1] / cum[-1] if cum[-1] > 0 else 0.0
+        ax.annotate(f"top {top}: {100 * share:.0f}% of the total", (top, cum[top - 1]),
+                    xytext=(6, -14), textcoords="offset points", color="#B36B00",
+                    fontsize=8)
+    rate_txt = f"\nmerger rate {rate} per galaxy" if rate else ""
+    ax.set_title(f"Expected {verb} binaries by rank - {label}{rate_txt}", fontsize=9)
+    ax.grid(True, which="both", color="0.9")
+    fig.tight_layout()
+    return fig
+
+
+def ranking_figures(ranking, out_dir, formats=("png",), top=20, overwrite=False):
+    """Write the sky map and the cumulative plot of a ranking.
+
+    Parameters
+    ----------
+    ranking : Ranking
+    out_dir : path-like
+    formats : sequence of str
+    top : int
+    overwrite : bool
+
+    Returns
+    -------
+    list of pathlib.Path written (stems :data:`FIGURE_STEMS`).
+    """
+    from pathlib import Path
+
+    from .figures import save_figure
+
+    out_dir = Path(out_dir)
+    rate = ranking.meta.get("merger_rate_per_galaxy")
+    written = []
+    fig = sky_figure(ranking.table, ranking.metric, ranking.verb, ranking.label,
+                     pulsars=ranking.pulsars, top=top, rate=rate)
+    written += save_figure(fig, out_dir / FIGURE_STEMS[0], formats, overwrite)
+    fig = cumulative_figure(ranking.table, ranking.verb, ranking.label, top=top, rate=rate)
+    written += save_figure(fig, out_dir / FIGURE_STEMS[1], formats, overwrite)
+    return written

@@ -1,0 +1,261 @@
+"""HEALPix sky maps of strain: forecast thresholds written, published upper limits read.
+
+File layout (both directions)
+-----------------------------
+A HEALPix FITS file as healpy writes it (Gorski et al. 2005, ApJ 622, 759):
+the maps are columns of the binary table in HDU 1, full sky (implicit
+indexing), one column per GW frequency, values dimensionless strain h0.
+The header of HDU 1 must say
+
+* ``ORDERING`` = ``'RING'`` or ``'NESTED'``;
+* ``COORDSYS`` = ``'C'`` (equatorial, ICRS/J2000; ``'Q'``, ``'CELESTIAL'`` and
+  ``'EQUATORIAL'`` are read the same), ``'E'`` (ecliptic, J2000) or ``'G'``
+  (galactic);
+* ``FREQ1``, ``FREQ2``, ... the GW frequency of each column in Hz (at least
+  two columns, so that a curve can be interpolated between them);
+* ``TUNITn`` absent, empty, ``'1'``, ``'strain'`` or ``'dimensionless'`` (h0 has
+  no unit; anything else is refused).
+
+Optional keywords: ``CONFLEV`` (confidence of an upper-limit map, default
+0.95), ``SPAN`` (observing span in yr).  Maps written by
+:func:`write_threshold_maps` carry ``MAPKIND = 'h0_threshold'`` (a forecast at
+S/N ``SNR``, never an upper limit) and are refused by :func:`load_limit_map`;
+a user's upper-limit map may carry ``MAPKIND = 'h0_limit'``.  Pixels without
+a value are NaN or healpy's UNSEEN.
+"""
+
+import numpy as np
+from astropy import units as u
+
+__all__ = ["SkyMapError", "LimitMap", "load_limit_map", "write_threshold_maps",
+           "FRAMES"]
+
+#: COORDSYS letter -> astropy frame name.
+FRAMES = {"C": "icrs", "E": "barycentricmeanecliptic", "G": "galactic"}
+_COORD_WORDS = {"C": "C", "Q": "C", "CELESTIAL": "C", "EQUATORIAL": "C", "E": "E",
+                "ECLIPTIC": "E", "G": "G", "GALACTIC": "G"}
+_STRAIN_UNITS = {"", "1", "STRAIN", "DIMENSIONLESS", "H0"}
+_UNSEEN = -1.6375e30  # healpy.UNSEEN
+
+
+class SkyMapError(ValueError):
+    """A sky map that cannot be used; the message names the fix."""
+
+
+def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=False,
+                         extra=None):
+    """Write h0-threshold maps (one per frequency) as a HEALPix FITS file, atomically.
+
+    Parameters
+    ----------
+    path : path-like
+    maps : array (n_f, 12 nside^2)
+        RING ordering, equatorial (ICRS) pixels.
+    frequencies : Quantity (n_f,)
+    snr : float
+    span : Quantity [time]
+    source : str
+        What the maps were computed from (recorded as ``SOURCE``).
+    overwrite : bool
+    extra : dict, optional
+        More header keywords (short names, string or number values).
+    """
+    import healpy as hp
+
+    from .._files import atomic_write
+
+    maps = np.atleast_2d(np.asarray(maps, float))
+    f = np.atleast_1d(u.Quantity(frequencies, u.Hz).value)
+    header = [("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
+              ("SNR", float(snr), "S/N threshold"),
+              ("SPAN", float(u.Quantity(span, u.yr).value), "observing span [yr]"),
+              ("SOURCE", str(source)[:68], ""),
+              ("ORIENT", "mean rho^2 over incl. and polarisation", "")]
+    header += [(f"FREQ{i + 1}", float(fi), "GW frequency of column [Hz]")
+               for i, fi in enumerate(f)]
+    header += [(k.upper()[:8], v, "") for k, v in (extra or {}).items()]
+    names = [f"H0_{fi * 1e9:.4g}NHZ" for fi in f]
+    with atomic_write(path, overwrite) as tmp:
+        hp.write_map(str(tmp), list(maps), nest=False, coord="C", column_names=names,
+                     column_units="", extra_header=header, overwrite=True, dtype=np.float64)
+
+
+class LimitMap:
+    """HEALPix maps of h0 upper limits at several frequencies.
+
+    Implements ``curve_at(coord)`` so that
+    :func:`ptaconstrain.analysis.exclusion.exclusion_map` takes the limit at each host's
+    pixel.
+
+    Attributes
+    ----------
+    frequency : Quantity (n_f,) [Hz], increasing
+    maps : ndarray (n_f, npix), RING ordering, NaN where the map has no value
+    nside : int
+    frame : {"C", "E", "G"}
+    confidence : float
+    name : str
+    """
+
+    def __init__(self, frequency, maps, frame="C", confidence=0.95, span=None, name="sky map"):
+        import healpy as hp
+
+        f = np.atleast_1d(u.Quantity(frequency, u.Hz))
+        maps = np.atleast_2d(np.asarray(maps, float))
+        if maps.shape[0] != f.size:
+            raise SkyMapError("sky map: one map per frequency is needed")
+        if f.size < 2:
+            raise SkyMapError("sky map: needs maps at two or more frequencies to form a curve")
+        if not hp.isnpixok(maps.shape[1]):
+            raise SkyMapError(f"sky map: {maps.shape[1]} pixels is not a full HEALPix map")
+        order = np.argsort(f.value)
+        self.frequency = f[order]
+        maps = maps[order]
+        maps[(maps <= _UNSEEN * 0.9) | ~np.isfinite(maps) | (maps <= 0)] = np.nan
+        self.maps = maps
+        self.nside = hp.npix2nside(maps.shape[1])
+        if frame not in FRAMES:
+            raise SkyMapError(f"sky map frame {frame!r}: use C, E or G")
+        self.frame = frame
+        self.confidence = float(confidence)
+        self.span = span
+        self.name = str(name)
+
+    def pixel(self, coord):
+        """RING pixel index of ``coord`` in the map's frame."""
+        import healpy as hp
+        from astropy.coordinates import SkyCoord
+
+        if not isinstance(coord, SkyCoord) or not coord.isscalar:
+            raise ValueError("coord: give one astropy SkyCoord position (or None)")
+        c = coord.transform_to(FRAMES[self.frame])
+        sph = c.spherical
+        return int(hp.ang2pix(self.nside, sph.lon.deg, sph.lat.deg, lonlat=True))
+
+    def values_at(self, coord):
+        """h0 limits at ``coord`` (or the mean over the valid pixels for None), per frequency."""
+        if coord is None:
+            return np.nanmean(self.maps, axis=1)
+        return self.maps[:, self.pixel(coord)]
+
+    def curve_at(self, coord):
+        """The upper-limit curve (kind ``h0_limit``) at ``coord``; None gives the sky mean.
+
+        Parameters
+        ----------
+        coord : SkyCoord or None
+
+        Returns
+        -------
+        StrainCurve
+
+        Raises
+        ------
+        SkyMapError
+            If the map has no value at the position.
+        """
+        from .curve import StrainCurve
+
+        v = self.values_at(coord)
+        if coord is None:
+            sky = "averaged"
+            note = "mean of the map's pixels (no host position)"
+        else:
+            icrs = coord.icrs
+            sky = f"ra={icrs.ra.deg:.4f}deg dec={icrs.dec.deg:.4f}deg"
+            note = f"value of HEALPix pixel {self.pixel(coord)} (nside {self.nside}, " \
+                   f"frame {self.frame})"
+        ok = np.isfinite(v)
+        if ok.sum() < 2:
+            raise SkyMapError(f"sky map {self.name} has no value at {sky} "
+                              "(blank pixel): use a full-sky map or drop the position")
+        meta = {"sky": sky, "sky_note": note, "confidence": self.confidence,
+                "source": f"HEALPix upper-limit map {self.name}"}
+        if self.span is not None:
+            meta["span"] = f"{self.span:.6g} yr"
+        return StrainCurve(self.frequency[ok], v[ok], "h0_limit", meta=meta)
+
+    def __repr__(self):
+        return (f"LimitMap({self.name!r}, nside={self.nside}, frame={self.frame}, "
+                f"{self.frequency.size} frequencies)")
+
+
+def load_limit_map(path):
+    """Read a HEALPix FITS map of h0 upper limits (layout in the module docstring).
+
+    Parameters
+    ----------
+    path : path-like
+
+    Returns
+    -------
+    LimitMap
+
+    Raises
+    ------
+    SkyMapError
+        One line naming the missing or wrong keyword and the fix.
+    """
+    from pathlib import Path
+
+    import healpy as hp
+    from astropy.io import fits
+
+    path = Path(path)
+    if not path.is_file():
+        raise SkyMapError(f"sky map {path} not found: check the path")
+    name = path.name
+    try:
+        with fits.open(path) as hdul:
+            if len(hdul) < 2 or not isinstance(hdul[1], fits.BinTableHDU):
+                raise SkyMapError(f"{name}: HDU 1 is not a binary table: write the map with "
+                                  "healpy.write_map")
+            hdr = hdul[1].header
+            ncol = len(hdul[1].columns)
+    except OSError as err:
+        raise SkyMapError(f"{name} is not a readable FITS file: give a HEALPix map written "
+                          "by healpy.write_map (layout in the README)") from err
+
+    order = str(hdr.get("ORDERING", "")).strip().upper()
+    if order not in ("RING", "NESTED", "NEST"):
+        raise SkyMapError(f"{name}: header keyword ORDERING is {order or 'missing'}: set it "
+                          "to 'RING' or 'NESTED'")
+    if str(hdr.get("INDXSCHM", "IMPLICIT")).strip().upper() != "IMPLICIT":
+        raise SkyMapError(f"{name}: partial-sky (explicit-index) maps are not supported: "
+                          "write a full-sky map with UNSEEN pixels")
+    csys = str(hdr.get("COORDSYS", "")).strip().upper()
+    if csys not in _COORD_WORDS:
+        raise SkyMapError(f"{name}: header keyword COORDSYS is {csys or 'missing'}: set it "
+                          "to 'C' (equatorial), 'E' (ecliptic) or 'G' (galactic)")
+    kind = str(hdr.get("MAPKIND", "h0_limit")).strip().lower()
+    if kind != "h0_limit":
+        raise SkyMapError(f"{name} holds {kind} (a forecast), not h0 upper limits: for a "
+                          "forecast pass the pulsar list itself with --array, or give an "
+                          "upper-limit map")
+    freqs = []
+    for i in range(1, ncol + 1):
+        unit = str(hdr.get(f"TUNIT{i}", "")).strip().upper()
+        if unit not in _STRAIN_UNITS:
+            raise SkyMapError(f"{name}: column {i} has unit {hdr[f'TUNIT{i}']!r}: a map of "
+                              "h0 is dimensionless strain (TUNIT empty or 'strain')")
+        if f"FREQ{i}" not in hdr:
+            raise SkyMapError(f"{name}: column {i} has no frequency: add the header keyword "
+                              f"FREQ{i} = <GW frequency in Hz>")
+        try:
+            freqs.append(float(hdr[f"FREQ{i}"]))
+        except (TypeError, ValueError) as err:
+            raise SkyMapError(f"{name}: FREQ{i} is not a number in Hz") from err
+    freqs = np.array(freqs)
+    if not np.all(np.isfinite(freqs) & (freqs > 0)) or np.unique(freqs).size != freqs.size:
+        raise SkyMapError(f"{name}: FREQn must be distinct positive frequencies in Hz")
+    try:
+        conf = float(hdr.get("CONFLEV", 0.95))
+    except (TypeError, ValueError) as err:
+        raise SkyMapError(f"{name}: CONFLEV is not a number (e.g. 0.95)") from err
+    if not 0 < conf < 1:
+        raise SkyMapError(f"{name}: CONFLEV = {conf} must be a fraction in (0, 1), e.g. 0.95")
+    span = hdr.get("SPAN")
+    maps = hp.read_map(str(path), field=tuple(range(ncol)), nest=False, dtype=np.float64)
+    maps = np.atleast_2d(maps)
+    return LimitMap(freqs * u.Hz, maps, frame=_COORD_WORDS[csys], confidence=conf,
+                       span=None if span is None else float(span), name=name)
