@@ -94,7 +94,7 @@ def test_limit_map_sky_average_and_exclusion_uses_host_position(tmp_path):
 ])
 def test_bad_limit_maps_name_keyword_and_fix(tmp_path, change, words):
     path = _write_limit_map(tmp_path / "bad.fits", **change)
-    with pytest.raises(limit_map.SkyMapError) as err:
+    with pytest.raises(limit_map.LimitMapError) as err:
         limit_map.load_limit_map(path)
     assert words in str(err.value) and "\n" not in str(err.value)
 
@@ -103,7 +103,7 @@ def test_single_frequency_map_is_refused(tmp_path):
     path = tmp_path / "one.fits"
     hp.write_map(str(path), np.ones(hp.nside2npix(4)), coord="C", extra_header=[("FREQ1", 1e-8)],
                  dtype=np.float64)
-    with pytest.raises(limit_map.SkyMapError, match="two or more frequencies"):
+    with pytest.raises(limit_map.LimitMapError, match="two or more frequencies"):
         limit_map.load_limit_map(path)
 
 

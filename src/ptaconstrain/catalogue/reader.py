@@ -47,6 +47,8 @@ from pathlib import Path
 import numpy as np
 from astropy import units as u
 
+from ..errors import InputError
+
 __all__ = [
     "FIELDS",
     "REQUIRED",
@@ -88,7 +90,7 @@ _ZMAX = 20.0
 _TEXT_FORMATS = {".csv": "csv", ".txt": "csv"}
 
 
-class CatalogError(ValueError):
+class CatalogError(InputError):
     """A catalogue (or column mapping) that cannot be used; the message names the fix."""
 
 

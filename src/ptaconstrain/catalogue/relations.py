@@ -22,6 +22,8 @@ from pathlib import Path
 import numpy as np
 from astropy import units as u
 
+from ..errors import InputError
+
 __all__ = [
     "PREDICTORS",
     "Relation",
@@ -43,7 +45,7 @@ _FORMS = ("power_law", "linear")
 _REQUIRED = ("name", "predictor", "alpha", "beta", "pivot", "unit", "scatter_dex", "citation")
 
 
-class RelationError(ValueError):
+class RelationError(InputError):
     """A relation (or relations file) that cannot be used; the message names the fix."""
 
 

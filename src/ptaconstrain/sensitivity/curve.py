@@ -16,6 +16,8 @@ curve says nothing (NaN), it is never extrapolated.
 import numpy as np
 from astropy import units as u
 
+from ..errors import InputError
+
 __all__ = [
     "KINDS",
     "LIMIT_KINDS",
@@ -43,7 +45,7 @@ _VALUE_UNITS = {
 ORIENTATION_MEAN = 3.2
 
 
-class CurveError(ValueError):
+class CurveError(InputError):
     """A sensitivity curve that cannot be used; the message names the fix."""
 
 

@@ -27,7 +27,9 @@ a value are NaN or healpy's UNSEEN.
 import numpy as np
 from astropy import units as u
 
-__all__ = ["SkyMapError", "LimitMap", "load_limit_map", "write_threshold_maps",
+from ..errors import InputError
+
+__all__ = ["LimitMapError", "LimitMap", "load_limit_map", "write_threshold_maps",
            "FRAMES"]
 
 #: COORDSYS letter -> astropy frame name.
@@ -38,7 +40,7 @@ _STRAIN_UNITS = {"", "1", "STRAIN", "DIMENSIONLESS", "H0"}
 _UNSEEN = -1.6375e30  # healpy.UNSEEN
 
 
-class SkyMapError(ValueError):
+class LimitMapError(InputError):
     """A sky map that cannot be used; the message names the fix."""
 
 
@@ -103,11 +105,11 @@ class LimitMap:
         f = np.atleast_1d(u.Quantity(frequency, u.Hz))
         maps = np.atleast_2d(np.asarray(maps, float))
         if maps.shape[0] != f.size:
-            raise SkyMapError("sky map: one map per frequency is needed")
+            raise LimitMapError("sky map: one map per frequency is needed")
         if f.size < 2:
-            raise SkyMapError("sky map: needs maps at two or more frequencies to form a curve")
+            raise LimitMapError("sky map: needs maps at two or more frequencies to form a curve")
         if not hp.isnpixok(maps.shape[1]):
-            raise SkyMapError(f"sky map: {maps.shape[1]} pixels is not a full HEALPix map")
+            raise LimitMapError(f"sky map: {maps.shape[1]} pixels is not a full HEALPix map")
         order = np.argsort(f.value)
         self.frequency = f[order]
         maps = maps[order]
@@ -115,7 +117,7 @@ class LimitMap:
         self.maps = maps
         self.nside = hp.npix2nside(maps.shape[1])
         if frame not in FRAMES:
-            raise SkyMapError(f"sky map frame {frame!r}: use C, E or G")
+            raise LimitMapError(f"sky map frame {frame!r}: use C, E or G")
         self.frame = frame
         self.confidence = float(confidence)
         self.span = span
@@ -151,7 +153,7 @@ class LimitMap:
 
         Raises
         ------
-        SkyMapError
+        LimitMapError
             If the map has no value at the position.
         """
         from .curve import StrainCurve
@@ -167,7 +169,7 @@ class LimitMap:
                    f"frame {self.frame})"
         ok = np.isfinite(v)
         if ok.sum() < 2:
-            raise SkyMapError(f"sky map {self.name} has no value at {sky} "
+            raise LimitMapError(f"sky map {self.name} has no value at {sky} "
                               "(blank pixel): use a full-sky map or drop the position")
         meta = {"sky": sky, "sky_note": note, "confidence": self.confidence,
                 "source": f"HEALPix upper-limit map {self.name}"}
@@ -193,7 +195,7 @@ def load_limit_map(path):
 
     Raises
     ------
-    SkyMapError
+    LimitMapError
         One line naming the missing or wrong keyword and the fix.
     """
     from pathlib import Path
@@ -203,57 +205,57 @@ def load_limit_map(path):
 
     path = Path(path)
     if not path.is_file():
-        raise SkyMapError(f"sky map {path} not found: check the path")
+        raise LimitMapError(f"sky map {path} not found: check the path")
     name = path.name
     try:
         with fits.open(path) as hdul:
             if len(hdul) < 2 or not isinstance(hdul[1], fits.BinTableHDU):
-                raise SkyMapError(f"{name}: HDU 1 is not a binary table: write the map with "
+                raise LimitMapError(f"{name}: HDU 1 is not a binary table: write the map with "
                                   "healpy.write_map")
             hdr = hdul[1].header
             ncol = len(hdul[1].columns)
     except OSError as err:
-        raise SkyMapError(f"{name} is not a readable FITS file: give a HEALPix map written "
+        raise LimitMapError(f"{name} is not a readable FITS file: give a HEALPix map written "
                           "by healpy.write_map (layout in the README)") from err
 
     order = str(hdr.get("ORDERING", "")).strip().upper()
     if order not in ("RING", "NESTED", "NEST"):
-        raise SkyMapError(f"{name}: header keyword ORDERING is {order or 'missing'}: set it "
+        raise LimitMapError(f"{name}: header keyword ORDERING is {order or 'missing'}: set it "
                           "to 'RING' or 'NESTED'")
     if str(hdr.get("INDXSCHM", "IMPLICIT")).strip().upper() != "IMPLICIT":
-        raise SkyMapError(f"{name}: partial-sky (explicit-index) maps are not supported: "
+        raise LimitMapError(f"{name}: partial-sky (explicit-index) maps are not supported: "
                           "write a full-sky map with UNSEEN pixels")
     csys = str(hdr.get("COORDSYS", "")).strip().upper()
     if csys not in _COORD_WORDS:
-        raise SkyMapError(f"{name}: header keyword COORDSYS is {csys or 'missing'}: set it "
+        raise LimitMapError(f"{name}: header keyword COORDSYS is {csys or 'missing'}: set it "
                           "to 'C' (equatorial), 'E' (ecliptic) or 'G' (galactic)")
     kind = str(hdr.get("MAPKIND", "h0_limit")).strip().lower()
     if kind != "h0_limit":
-        raise SkyMapError(f"{name} holds {kind} (a forecast), not h0 upper limits: for a "
+        raise LimitMapError(f"{name} holds {kind} (a forecast), not h0 upper limits: for a "
                           "forecast pass the pulsar list itself with --array, or give an "
                           "upper-limit map")
     freqs = []
     for i in range(1, ncol + 1):
         unit = str(hdr.get(f"TUNIT{i}", "")).strip().upper()
         if unit not in _STRAIN_UNITS:
-            raise SkyMapError(f"{name}: column {i} has unit {hdr[f'TUNIT{i}']!r}: a map of "
+            raise LimitMapError(f"{name}: column {i} has unit {hdr[f'TUNIT{i}']!r}: a map of "
                               "h0 is dimensionless strain (TUNIT empty or 'strain')")
         if f"FREQ{i}" not in hdr:
-            raise SkyMapError(f"{name}: column {i} has no frequency: add the header keyword "
+            raise LimitMapError(f"{name}: column {i} has no frequency: add the header keyword "
                               f"FREQ{i} = <GW frequency in Hz>")
         try:
             freqs.append(float(hdr[f"FREQ{i}"]))
         except (TypeError, ValueError) as err:
-            raise SkyMapError(f"{name}: FREQ{i} is not a number in Hz") from err
+            raise LimitMapError(f"{name}: FREQ{i} is not a number in Hz") from err
     freqs = np.array(freqs)
     if not np.all(np.isfinite(freqs) & (freqs > 0)) or np.unique(freqs).size != freqs.size:
-        raise SkyMapError(f"{name}: FREQn must be distinct positive frequencies in Hz")
+        raise LimitMapError(f"{name}: FREQn must be distinct positive frequencies in Hz")
     try:
         conf = float(hdr.get("CONFLEV", 0.95))
     except (TypeError, ValueError) as err:
-        raise SkyMapError(f"{name}: CONFLEV is not a number (e.g. 0.95)") from err
+        raise LimitMapError(f"{name}: CONFLEV is not a number (e.g. 0.95)") from err
     if not 0 < conf < 1:
-        raise SkyMapError(f"{name}: CONFLEV = {conf} must be a fraction in (0, 1), e.g. 0.95")
+        raise LimitMapError(f"{name}: CONFLEV = {conf} must be a fraction in (0, 1), e.g. 0.95")
     span = hdr.get("SPAN")
     maps = hp.read_map(str(path), field=tuple(range(ncol)), nest=False, dtype=np.float64)
     maps = np.atleast_2d(maps)

@@ -59,6 +59,7 @@ fixed, known phase would need them.
 import numpy as np
 from astropy import units as u
 
+from ..errors import InputError
 from . import antenna
 from .curve import StrainCurve, noise_psd_for_threshold
 
@@ -89,7 +90,7 @@ _MIN_TOAS = 3 * N_TIMING_PARAMETERS
 _DAY = 86400.0
 
 
-class ArrayError(ValueError):
+class ArrayError(InputError):
     """A pulsar list or array that cannot be used; the message names the fix."""
 
 

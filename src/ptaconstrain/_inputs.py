@@ -1,0 +1,536 @@
+"""The one input policy: units, plausible ranges and sky positions.
+
+Every reader (command line, :class:`~ptaconstrain.binary.Host`, the pulsar list,
+the galaxy catalogue, the HEALPix limit map) turns user values into numbers
+through this module, so the same text means the same thing everywhere.
+
+Quantities
+    A bare number takes the field's documented default unit (``DEFAULT_UNITS``);
+    a string with units (``"95 Mpc"``, ``"8 nHz"``) is parsed by astropy; a
+    value of the wrong physical type is refused naming the field and the unit
+    expected; NaN and infinities are refused.
+
+Sky positions
+    Numbers are degrees, always.  Strings are degrees too, unless they are
+    sexagesimal, i.e. contain ``h``, ``:`` or inner spaces: then RA is in hours
+    (``"12h30m49s"``, ``"12:30:49"``, ``"12 30 49"``) and Dec in degrees.  A
+    typographic minus (U+2212) is read as a minus.  RA must lie in [0, 360) deg,
+    Dec in [-90, 90] deg.
+
+Plausibility
+    A black-hole mass must lie in 1e3-1e13 solMass; a distance between 0.1 Mpc
+    and the luminosity distance of z = 10.  Values outside are refused with the
+    same message wherever they come from; a catalogue column whose values look
+    like log10 masses or like kpc gets a hint (:func:`mass_column_hint`,
+    :func:`distance_column_hint`).
+"""
+
+import numpy as np
+from astropy import units as u
+
+from .errors import InputError
+
+__all__ = [
+    "DEFAULT_UNITS",
+    "MASS_RANGE",
+    "DISTANCE_MIN",
+    "Z_LIMIT",
+    "quantity",
+    "positive",
+    "check_mass",
+    "check_distance",
+    "mass_out_of_range",
+    "distance_out_of_range",
+    "mass_range_text",
+    "distance_range_text",
+    "mass_column_hint",
+    "distance_column_hint",
+    "angles_deg",
+    "sky_out_of_range",
+    "sky_coord",
+    "coord_from",
+    "SKY_RANGE_TEXT",
+]
+
+#: field kind -> unit a bare number is read in
+DEFAULT_UNITS = {
+    "mass": u.Msun,
+    "distance": u.Mpc,
+    "time": u.yr,
+    "frequency": u.Hz,
+    "speed": u.km / u.s,
+    "angle": u.deg,
+}
+#: plausible total black-hole masses [solMass]
+MASS_RANGE = (1e3, 1e13)
+#: nearest plausible host distance [Mpc]
+DISTANCE_MIN = 0.1
+#: farthest plausible host redshift
+Z_LIMIT = 10.0
+SKY_RANGE_TEXT = "need 0 <= RA < 360 deg and -90 <= Dec <= 90 deg"
+_MINUS = "\u2212"
+
+
+# ------------------------------------------------------------------ quantities
+def _has_unit(value):
+    if isinstance(value, u.Quantity):
+        return value.unit != u.dimensionless_unscaled
+    if isinstance(value, str):
+        text = value.strip().lower().replace(_MINUS, "-")
+        try:
+            float(text)
+            return False
+        except ValueError:
+            return True
+    return False
+
+
+def quantity(value, unit, field, *, allow_nonfinite=False):
+    """``value`` as a Quantity in ``unit``; bare numbers are read in ``unit``.
+
+    Parameters
+    ----------
+    value : Quantity, number, array or str
+        A string such as ``"2e10 solMass"`` is parsed by astropy.
+    unit : str or astropy unit
+        The field's default unit (also the unit of the result).
+    field : str
+        Named in the error message.
+    allow_nonfinite : bool
+        Let NaN through (for optional, blank catalogue entries).
+
+    Returns
+    -------
+    Quantity [unit]
+
+    Raises
+    ------
+    InputError
+        For unreadable text, the wrong physical type, or a non-finite value.
+
+    Examples
+    --------
+    >>> quantity(95, "Mpc", "distance")
+    <Quantity 95. Mpc>
+    >>> quantity("8 nHz", "Hz", "frequency")
+    <Quantity 8.e-09 Hz>
+    """
+    unit = u.Unit(unit)
+    if isinstance(value, str):
+        value = value.strip().replace(_MINUS, "-")
+    try:
+        q = u.Quantity(value)
+    except (TypeError, ValueError) as err:
+        raise InputError(
+            f"{field}: cannot read {value!r} as a {unit.physical_type}; give a number "
+            f"(read as {unit}) or a value with units, e.g. '1 {unit}'") from err
+    if q.unit == u.dimensionless_unscaled and not _has_unit(value):
+        q = q.value * unit
+    try:
+        q = q.to(unit)
+    except u.UnitsError as err:
+        raise InputError(
+            f"{field}: {value!r} is not a {unit.physical_type}; give a number (read as "
+            f"{unit}) or a value in units of {unit.physical_type}, e.g. '1 {unit}'") from err
+    if not allow_nonfinite and not np.all(np.isfinite(q.value)):
+        raise InputError(f"{field}: must be a finite number, got {value!r}")
+    return q
+
+
+def positive(q, field, *, allow_zero=False):
+    """Refuse negative (and, unless ``allow_zero``, zero) values of ``q``.
+
+    Parameters
+    ----------
+    q : Quantity or number
+    field : str
+    allow_zero : bool
+
+    Returns
+    -------
+    The input, unchanged.
+
+    Raises
+    ------
+    InputError
+    """
+    v = np.asarray(getattr(q, "value", q), dtype=float)
+    if np.any(v < 0) or (not allow_zero and np.any(v == 0)):
+        raise InputError(f"{field}: must be {'>= 0' if allow_zero else 'positive'}, got {q}")
+    return q
+
+
+# ---------------------------------------------------------------- plausibility
+def mass_range_text():
+    """The plausible-mass rule as a phrase, for messages and docs."""
+    return f"{MASS_RANGE[0]:.0e}-{MASS_RANGE[1]:.0e} solMass".replace("e+0", "e").replace(
+        "e+", "e")
+
+
+def distance_range_text(d_max_mpc=None):
+    """The plausible-distance rule as a phrase, for messages and docs."""
+    far = f"{d_max_mpc:.3g} Mpc (z = {Z_LIMIT:g})" if d_max_mpc else f"z = {Z_LIMIT:g}"
+    return f"{DISTANCE_MIN:g} Mpc to {far}"
+
+
+def mass_out_of_range(mass_msun):
+    """Mask of masses (solMass, array) outside ``MASS_RANGE``; NaN is not flagged.
+
+    Parameters
+    ----------
+    mass_msun : array_like
+
+    Returns
+    -------
+    ndarray of bool
+    """
+    m = np.asarray(mass_msun, dtype=float)
+    with np.errstate(invalid="ignore"):
+        return (m < MASS_RANGE[0]) | (m > MASS_RANGE[1])
+
+
+def _d_max(cosmology=None):
+    from .cosmo import luminosity_distance_at
+
+    return float(luminosity_distance_at(Z_LIMIT, cosmology).to_value(u.Mpc))
+
+
+def distance_out_of_range(distance_mpc, cosmology=None):
+    """Mask of luminosity distances (Mpc, array) outside the plausible range.
+
+    Parameters
+    ----------
+    distance_mpc : array_like
+    cosmology : astropy.cosmology.Cosmology, optional
+
+    Returns
+    -------
+    ndarray of bool
+    """
+    d = np.asarray(distance_mpc, dtype=float)
+    with np.errstate(invalid="ignore"):
+        return (d < DISTANCE_MIN) | (d > _d_max(cosmology))
+
+
+def check_mass(mass, field="mass"):
+    """A black-hole mass as a Quantity [solMass], refused outside ``MASS_RANGE``.
+
+    Parameters
+    ----------
+    mass : Quantity, number (solMass) or str
+    field : str
+
+    Returns
+    -------
+    Quantity [solMass]
+
+    Raises
+    ------
+    InputError
+        Naming the value, the plausible range and the likely slip.
+
+    Examples
+    --------
+    >>> check_mass("2e10 solMass")
+    <Quantity 2.e+10 solMass>
+    """
+    q = quantity(mass, u.Msun, field)
+    m = q.to_value(u.Msun)
+    if np.any(mass_out_of_range(m)):
+        bad = float(np.atleast_1d(m)[np.atleast_1d(mass_out_of_range(m))][0])
+        hint = (f" (a log10 mass? give 10**{bad:g} = {10**bad:.3g})"
+                if 3 <= bad <= 13 else "")
+        raise InputError(
+            f"{field}: {bad:.3g} solMass is outside the plausible {mass_range_text()} for a "
+            f"massive black hole; bare numbers are solMass{hint}")
+    return q
+
+
+def check_distance(distance, field="distance", cosmology=None):
+    """A luminosity distance as a Quantity [Mpc], refused outside the plausible range.
+
+    Parameters
+    ----------
+    distance : Quantity, number (Mpc) or str
+    field : str
+    cosmology : astropy.cosmology.Cosmology, optional
+        For the distance of z = 10.
+
+    Returns
+    -------
+    Quantity [Mpc]
+
+    Raises
+    ------
+    InputError
+
+    Examples
+    --------
+    >>> check_distance("95 Mpc")
+    <Quantity 95. Mpc>
+    """
+    q = quantity(distance, u.Mpc, field)
+    d = q.to_value(u.Mpc)
+    if np.any(distance_out_of_range(d, cosmology)):
+        bad = float(np.atleast_1d(d)[np.atleast_1d(distance_out_of_range(d, cosmology))][0])
+        raise InputError(
+            f"{field}: {bad:.3g} Mpc is outside the plausible "
+            f"{distance_range_text(_d_max(cosmology))}; bare numbers are Mpc")
+    return q
+
+
+def mass_column_hint(mass_msun):
+    """A hint when a column read as solMass looks like log10(M / solMass), else ''.
+
+    Parameters
+    ----------
+    mass_msun : array_like
+
+    Returns
+    -------
+    str
+    """
+    m = np.asarray(mass_msun, dtype=float)
+    m = m[np.isfinite(m)]
+    if m.size and np.median(m) < MASS_RANGE[0] and np.all((m > 3) & (m < 13)):
+        return ("; the column looks like log10(M/solMass): map it to the log_mass field "
+                "instead of mass")
+    return ""
+
+
+def distance_column_hint(distance_mpc):
+    """A hint when a column read as Mpc looks like kpc, else ''.
+
+    Parameters
+    ----------
+    distance_mpc : array_like
+
+    Returns
+    -------
+    str
+    """
+    d = np.asarray(distance_mpc, dtype=float)
+    d = d[np.isfinite(d) & (d > 0)]
+    if d.size and np.median(d) > 3e3 and np.median(d) / 1e3 < 3e3:
+        return ("; the column looks like kpc (median "
+                f"{np.median(d):.3g} read as Mpc): set its unit to kpc in the column mapping")
+    return ""
+
+
+# ------------------------------------------------------------------ sky positions
+def _column_unit(values, field):
+    unit = getattr(values, "unit", None)
+    if unit is None or unit == u.dimensionless_unscaled:
+        return None
+    unit = u.Unit(unit)
+    if unit.physical_type != "angle":
+        raise InputError(f"{field}: unit {unit} is not an angle; give degrees or sexagesimal "
+                         "text")
+    return unit
+
+
+def _angle_strings(text, is_ra, field):
+    """Parse an array of stripped strings; NaN where blank, mask where unreadable."""
+    from astropy.coordinates import Angle
+
+    out = np.full(text.shape, np.nan)
+    blank = np.isin(np.char.lower(text), ("", "nan", "--", "none", "null"))
+    sexa = ~blank & ((np.char.find(text, "h") >= 0) | (np.char.find(text, "H") >= 0)
+                     | (np.char.find(text, ":") >= 0) | (np.char.find(text, " ") >= 0))
+    plain = ~blank & ~sexa
+    bad = np.zeros(text.shape, dtype=bool)
+    if plain.any():
+        try:  # fast path: decimal degrees as text
+            out[plain] = text[plain].astype(float)
+        except ValueError:
+            out[plain], bad[plain] = _parse_each(text[plain], u.deg)
+    if sexa.any():
+        unit = u.hourangle if is_ra else u.deg
+        try:
+            out[sexa] = Angle(text[sexa], unit=unit).deg
+        except (ValueError, TypeError, u.UnitsError):
+            out[sexa], bad[sexa] = _parse_each(text[sexa], unit)
+    return out, bad
+
+
+def _parse_each(text, unit):
+    """Element-wise Angle parsing (the failure path only)."""
+    from astropy.coordinates import Angle
+
+    out = np.full(text.shape, np.nan)
+    bad = np.zeros(text.shape, dtype=bool)
+    for i, s in enumerate(text):
+        try:
+            out[i] = Angle(s, unit=unit).deg
+        except (ValueError, TypeError, u.UnitsError):
+            bad[i] = True
+    return out, bad
+
+
+def _one_angle(values, is_ra, field):
+    if isinstance(values, u.Quantity):
+        unit = _column_unit(values, field) or u.deg
+        return np.atleast_1d(values.to_value(u.deg) if values.unit != u.dimensionless_unscaled
+                             else values.value).astype(float), None
+    unit = _column_unit(values, field)
+    data = np.ma.asarray(values)
+    mask = np.ma.getmaskarray(data).ravel()
+    raw = np.atleast_1d(np.ma.getdata(data)).ravel()
+    if raw.dtype.kind in "biuf":
+        deg = raw.astype(float)
+        if unit is not None:
+            deg = (deg * unit).to_value(u.deg)
+        deg[mask] = np.nan
+        return deg, np.zeros(deg.shape, dtype=bool)
+    text = np.char.strip(np.char.replace(raw.astype(str), _MINUS, "-"))
+    text[mask] = ""
+    deg, bad = _angle_strings(text, is_ra, field)
+    if unit is not None and unit != u.deg:
+        plain = np.char.find(text, ":") < 0  # numbers in a column with an angle unit
+        deg = np.where(plain, (deg * unit).to_value(u.deg), deg)
+    return deg, bad
+
+
+def angles_deg(ra, dec):
+    """RA and Dec in degrees under the one sky-position rule (vectorised).
+
+    Parameters
+    ----------
+    ra, dec : number, str, array, astropy Column (plain, masked, numeric, text or mixed)
+        Numbers are degrees; strings are degrees unless sexagesimal (``h``,
+        ``:`` or inner spaces), where RA is hours.  A column's angle unit is
+        honoured.
+
+    Returns
+    -------
+    ra_deg, dec_deg : ndarray (float)
+        NaN where a value is blank, masked or unreadable.
+    unreadable : ndarray (bool)
+        True where text was given but cannot be read as an angle.
+
+    Raises
+    ------
+    InputError
+        If a column carries a unit that is not an angle.
+
+    Examples
+    --------
+    >>> ra, dec, bad = angles_deg(["187.7", "12h30m49s"], ["12.4", "\u221205:00:00"])
+    >>> [round(float(x), 4) for x in ra], [round(float(x), 4) for x in dec]
+    ([187.7, 187.7042], [12.4, -5.0])
+    """
+    ra_deg, bad_ra = _one_angle(ra, True, "RA")
+    dec_deg, bad_dec = _one_angle(dec, False, "Dec")
+    if ra_deg.shape != dec_deg.shape:
+        raise InputError(f"sky position: {ra_deg.size} RA values but {dec_deg.size} Dec values")
+    bad = np.zeros(ra_deg.shape, dtype=bool)
+    for b in (bad_ra, bad_dec):
+        if b is not None:
+            bad |= b
+    return ra_deg, dec_deg, bad
+
+
+def sky_out_of_range(ra_deg, dec_deg):
+    """Mask of finite positions outside RA [0, 360) or Dec [-90, 90] (degrees).
+
+    Parameters
+    ----------
+    ra_deg, dec_deg : array_like
+
+    Returns
+    -------
+    ndarray of bool
+    """
+    ra = np.asarray(ra_deg, dtype=float)
+    dec = np.asarray(dec_deg, dtype=float)
+    with np.errstate(invalid="ignore"):
+        return ((ra < 0) | (ra >= 360)) | (np.abs(dec) > 90)
+
+
+def sky_coord(ra, dec, field="sky position"):
+    """ICRS SkyCoord from RA/Dec under the one rule, refusing any bad element.
+
+    Parameters
+    ----------
+    ra, dec : see :func:`angles_deg`
+    field : str
+        Named in the message.
+
+    Returns
+    -------
+    astropy.coordinates.SkyCoord
+        Scalar for scalar input, else one-dimensional.
+
+    Raises
+    ------
+    InputError
+
+    Examples
+    --------
+    >>> c = sky_coord("12:30:00", "-5")
+    >>> round(float(c.ra.deg), 6), round(float(c.dec.deg), 6)
+    (187.5, -5.0)
+    """
+    from astropy.coordinates import SkyCoord
+
+    scalar = np.ndim(ra) == 0 and np.ndim(dec) == 0
+    ra_deg, dec_deg, bad = angles_deg(ra, dec)
+    rows = np.flatnonzero(bad | ~np.isfinite(ra_deg) | ~np.isfinite(dec_deg)
+                          | sky_out_of_range(ra_deg, dec_deg))
+    if rows.size:
+        i = rows[0]
+        r = ra if scalar else np.atleast_1d(ra)[i]
+        d = dec if scalar else np.atleast_1d(dec)[i]
+        where = "" if scalar else f" (entry {i + 1})"
+        if bad[i] or not (np.isfinite(ra_deg[i]) and np.isfinite(dec_deg[i])):
+            raise InputError(
+                f"{field}{where}: cannot read RA={r!r}, Dec={d!r}; give degrees or "
+                "sexagesimal text such as '12h30m49s' '+12d23m28s'")
+        raise InputError(
+            f"{field}{where}: RA={r!r}, Dec={d!r} gives RA {ra_deg[i]:.6g} deg, Dec "
+            f"{dec_deg[i]:.6g} deg, out of range ({SKY_RANGE_TEXT}); numbers are degrees")
+    c = SkyCoord(ra_deg * u.deg, dec_deg * u.deg, frame="icrs")
+    return c[0] if scalar else c
+
+
+def coord_from(coord=None, ra=None, dec=None, field="sky position"):
+    """A SkyCoord from ``coord`` or from ``ra``/``dec``; None when none is given.
+
+    Parameters
+    ----------
+    coord : SkyCoord or str, optional
+        A string holds RA and Dec separated by white space or a comma
+        (``"187.7 12.4"``, ``"12h30m49s +12d23m28s"``, ``"12 30 49 +12 23 28"``),
+        read under the same rule as ``ra``/``dec``.
+    ra, dec : optional
+        As in :func:`sky_coord`.
+    field : str
+
+    Returns
+    -------
+    SkyCoord or None
+
+    Raises
+    ------
+    InputError
+    """
+    if coord is None and ra is None and dec is None:
+        return None
+    if coord is not None:
+        if ra is not None or dec is not None:
+            raise InputError(f"{field}: give a coordinate or RA and Dec, not both")
+        from astropy.coordinates import SkyCoord
+
+        if isinstance(coord, SkyCoord):
+            icrs = coord.icrs
+            return sky_coord(icrs.ra.deg, icrs.dec.deg, field)
+        parts = str(coord).replace(",", " ").replace(_MINUS, "-").split()
+        if len(parts) == 2:
+            return sky_coord(parts[0], parts[1], field)
+        if len(parts) == 6:
+            return sky_coord(" ".join(parts[:3]), " ".join(parts[3:]), field)
+        raise InputError(f"{field}: cannot read {coord!r}; give RA and Dec, e.g. "
+                         "'187.7 12.4' (deg) or '12h30m49s +12d23m28s'")
+    if ra is None or dec is None:
+        raise InputError(f"{field}: give both RA and Dec, or neither")
+    return sky_coord(ra, dec, field)

@@ -1,0 +1,91 @@
+"""The positional-sensitivity contract: a sensitivity that depends on sky position.
+
+Two kinds of object answer "how sensitive is the array towards this galaxy?":
+a :class:`~ptaconstrain.sensitivity.PulsarArray` (a noise budget: antenna
+patterns times post-fit weights) and a :class:`~ptaconstrain.sensitivity.LimitMap`
+(published upper limits per HEALPix pixel).  Everything that needs a sky-dependent
+sensitivity (exclusion at a host's position, catalogue ranking, sky figures)
+talks to them only through :class:`PositionalSensitivity`, never by probing
+attributes.
+"""
+
+from dataclasses import dataclass
+from typing import Protocol, runtime_checkable
+
+import numpy as np
+
+__all__ = ["PositionalSensitivity", "HealpixThresholds"]
+
+
+@dataclass(frozen=True)
+class HealpixThresholds:
+    """h0 thresholds on a full-sky HEALPix grid (RING ordering).
+
+    Attributes
+    ----------
+    nside : int
+        HEALPix resolution.
+    frame : str
+        astropy frame name of the pixel grid ("icrs", "galactic",
+        "barycentricmeanecliptic").
+    values : ndarray (12 nside^2, n_f)
+        Dimensionless h0 threshold per pixel and frequency; NaN where the
+        sensitivity says nothing (an unobserved pixel of a limit map).
+    """
+
+    nside: int
+    frame: str
+    values: np.ndarray
+
+    def __repr__(self):
+        return (f"HealpixThresholds(nside={self.nside}, frame={self.frame!r}, "
+                f"values: {self.values.shape[0]} pixels x {self.values.shape[1]} frequencies)")
+
+
+@runtime_checkable
+class PositionalSensitivity(Protocol):
+    """Anything whose CW sensitivity depends on the source's sky position.
+
+    Implemented by :class:`~ptaconstrain.sensitivity.PulsarArray` and
+    :class:`~ptaconstrain.sensitivity.LimitMap`.
+    """
+
+    def curve_at(self, coord):
+        """The sensitivity curve towards ``coord``.
+
+        Parameters
+        ----------
+        coord : astropy.coordinates.SkyCoord or None
+            None: the sky average (for an array, the orientation- and
+            sky-averaged forecast; for a limit map, the mean over observed
+            pixels).
+
+        Returns
+        -------
+        StrainCurve
+        """
+
+    def threshold_table(self, frequency, snr=5.0, nside=None):
+        """h0 thresholds for every pixel of a HEALPix grid at ``frequency``.
+
+        Parameters
+        ----------
+        frequency : Quantity (n_f,) [frequency]
+            GW frequencies, within the sensitivity's band.
+        snr : float
+            S/N threshold (ignored by an upper-limit map).
+        nside : int, optional
+            Requested resolution; a limit map always answers on its own grid.
+
+        Returns
+        -------
+        HealpixThresholds
+        """
+
+    def sky_markers(self):
+        """Positions worth marking on a sky figure (an array's pulsars), or None.
+
+        Returns
+        -------
+        astropy.coordinates.SkyCoord or None
+        """
