@@ -1,0 +1,159 @@
+"""The package's shape: every module imports alone, imports point downward, no cycles.
+
+The layering is the one drawn in DEVELOPERS.md.  These tests read the code's own
+imports (``ast``) and import each module in a fresh interpreter.
+"""
+
+import ast
+import subprocess
+import sys
+from concurrent.futures import ThreadPoolExecutor
+from pathlib import Path
+
+import pytest
+
+import ptaconstrain
+
+ROOT = Path(ptaconstrain.__file__).resolve().parent
+
+#: rank of each top-level part; a module may import (at module level) only parts of
+#: lower or equal rank
+LAYERS = {
+    "errors": 0, "_version": 0, "data": 0, "cosmo": 1, "_files": 1, "_inputs": 2,
+    "binary": 3, "sensitivity": 3,
+    "analysis": 4, "catalogue": 4,
+    "report": 5,
+    "demo": 6, "cli": 7, "__main__": 8, "__init__": 9,
+}
+#: results may draw and tabulate themselves: the analysis and catalogue layers may
+#: import the report layer inside a function (lazily), never at module level
+LAZY_UPWARD = {("analysis", "report"), ("catalogue", "report"), ("sensitivity", "report")}
+
+
+def _modules():
+    out = []
+    for path in sorted(ROOT.rglob("*.py")):
+        rel = path.relative_to(ROOT).with_suffix("")
+        parts = ["ptaconstrain", *rel.parts]
+        if parts[-1] == "__init__":
+            parts = parts[:-1]
+        out.append((".".join(parts), path))
+    return out
+
+
+MODULES = _modules()
+
+
+def _part(module):
+    bits = module.split(".")
+    return bits[1] if len(bits) > 1 else "__init__"
+
+
+def _imports(module, path):
+    """(target module, name or None, lazy?) for every ptaconstrain import in ``path``."""
+    tree = ast.parse(path.read_text())
+    is_pkg = path.name == "__init__.py"
+    package = module if is_pkg else module.rsplit(".", 1)[0]
+    found = []
+
+    def visit(node, lazy):
+        for child in ast.iter_child_nodes(node):
+            inner = lazy or isinstance(child, (ast.FunctionDef, ast.AsyncFunctionDef))
+            if isinstance(child, ast.ImportFrom):
+                if child.level:
+                    base = package.split(".")
+                    base = base[: len(base) - (child.level - 1)]
+                    target = ".".join(base + ([child.module] if child.module else []))
+                else:
+                    target = child.module or ""
+                if target.startswith("ptaconstrain"):
+                    for alias in child.names:
+                        found.append((target, alias.name, lazy))
+            elif isinstance(child, ast.Import):
+                for alias in child.names:
+                    if alias.name.startswith("ptaconstrain"):
+                        found.append((alias.name, None, lazy))
+            visit(child, inner)
+
+    visit(tree, False)
+    return found
+
+
+def test_every_module_imports_alone_in_a_fresh_interpreter():
+    def run(name):
+        res = subprocess.run([sys.executable, "-c", f"import {name}"],
+                             capture_output=True, text=True, timeout=300)
+        return name, res.returncode, res.stderr.strip().splitlines()[-1:] or [""]
+
+    with ThreadPoolExecutor(max_workers=4) as pool:
+        names = [m for m, _ in MODULES if not m.endswith("__main__")]  # those run the CLI
+        failures = [(n, err[0]) for n, rc, err in pool.map(run, names) if rc != 0]
+    assert not failures, failures
+
+
+def test_no_private_names_imported_across_modules():
+    bad = []
+    for module, path in MODULES:
+        for target, name, _ in _imports(module, path):
+            if name and name.startswith("_") and not name.startswith("__"):
+                bad.append(f"{module} imports {name} from {target}")
+    assert not bad, bad
+
+
+def test_imports_point_downward():
+    bad = []
+    for module, path in MODULES:
+        src = _part(module)
+        for target, name, lazy in _imports(module, path):
+            dst = _part(target)
+            if target == "ptaconstrain" and name in LAYERS:  # from .. import data
+                dst = name
+            if dst == src or dst not in LAYERS or src not in LAYERS:
+                continue
+            if LAYERS[dst] > LAYERS[src] and not (lazy and (src, dst) in LAZY_UPWARD):
+                bad.append(f"{module} -> {target}{'' if not name else ':' + name}"
+                           f"{' (lazy)' if lazy else ''}")
+    assert not bad, bad
+
+
+def test_binary_and_sensitivity_are_siblings():
+    # DESIGN.md: neither imports the other; analysis/ and catalogue/ combine them
+    bad = [f"{m} -> {t}" for m, p in MODULES for t, _, _ in _imports(m, p)
+           if {_part(m), _part(t)} == {"binary", "sensitivity"}]
+    assert not bad, bad
+
+
+def test_no_import_cycles_at_module_level():
+    graph = {m: set() for m, _ in MODULES}
+    for module, path in MODULES:
+        for target, name, lazy in _imports(module, path):
+            if lazy:
+                continue
+            full = f"{target}.{name}" if name and f"{target}.{name}" in graph else target
+            if full in graph and full != module:
+                graph[module].add(full)
+    # a package imports its own submodules from __init__; that is not a cycle
+    # unless a submodule imports the package's __init__ back
+    state, cycle = {}, []
+
+    def dfs(node, stack):
+        state[node] = 1
+        stack.append(node)
+        for nxt in graph[node]:
+            if state.get(nxt) == 1:
+                cycle.append(stack[stack.index(nxt):] + [nxt])
+            elif nxt not in state:
+                dfs(nxt, stack)
+        stack.pop()
+        state[node] = 2
+
+    for node in graph:
+        if node not in state:
+            dfs(node, [])
+    assert not cycle, cycle
+
+
+@pytest.mark.parametrize("module", [m for m, _ in MODULES if "." in m])
+def test_module_has_a_docstring(module):
+    path = dict(MODULES)[module]
+    assert ast.get_docstring(ast.parse(path.read_text())), f"{module} has no docstring"
