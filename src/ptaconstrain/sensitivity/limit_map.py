@@ -58,9 +58,9 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
     path : path-like
     maps : array (n_f, 12 nside^2)
         RING ordering, equatorial (ICRS) pixels.
-    frequencies : Quantity (n_f,)
+    frequencies : Quantity (n_f,) [frequency]; bare numbers are Hz
     snr : float
-    span : Quantity [time]
+    span : Quantity [time]; bare numbers are yr
     source : str
         What the maps were computed from (recorded as ``SOURCE``).
     overwrite : bool
@@ -72,10 +72,11 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
     from .._files import atomic_write
 
     maps = np.atleast_2d(np.asarray(maps, float))
-    f = np.atleast_1d(u.Quantity(frequencies, u.Hz).value)
+    f = np.atleast_1d(quantity(frequencies, u.Hz, "frequency").value)
+    span_yr = float(positive(quantity(span, u.yr, "span"), "span").value)
     header = [("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
               ("SNR", float(snr), "S/N threshold"),
-              ("SPAN", float(u.Quantity(span, u.yr).value), "observing span [yr]"),
+              ("SPAN", span_yr, "observing span [yr]"),
               ("SOURCE", str(source)[:68], ""),
               ("ORIENT", "mean rho^2 over incl. and polarisation", "")]
     header += [(f"FREQ{i + 1}", float(fi), "GW frequency of column [Hz]")
