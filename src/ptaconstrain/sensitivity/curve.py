@@ -253,7 +253,7 @@ class StrainCurve:
         --------
         >>> from astropy import units as u
         >>> c = StrainCurve([1e-9, 1e-7] * u.Hz, [1e-14, 1e-12], "h0_limit")
-        >>> float(c.h0_threshold(1e-8))
+        >>> print(f"{float(c.h0_threshold(1e-8)):.3g}")  # a bare number is Hz
         1e-13
         """
         if self.is_limit:

@@ -84,7 +84,7 @@ def white_noise_psd(toa_rms, cadence):
     --------
     >>> from astropy import units as u
     >>> white_noise_psd(1 * u.us, 1 * u.s)
-    <Quantity 2.e-12 s3>
+    <Quantity 2.e-12 s2 / Hz>
     """
     return (2.0 * toa_rms**2 * cadence).to(u.s**2 / u.Hz)
 
