@@ -25,8 +25,8 @@ import numpy as np
 from astropy import units as u
 from astropy.coordinates import SkyCoord
 
+from ptaconstrain.sensitivity import PulsarArray, red_noise_basis, timing_design_matrix
 from ptaconstrain.sensitivity import antenna as sky
-from ptaconstrain.sensitivity import pulsar_array as A
 
 N_PSR, N_F, NSIDE = 100, 100, 64
 
@@ -39,7 +39,7 @@ def make_array(seed=1):
     end = rng.uniform(59600, 60000, N_PSR)
     span = rng.uniform(5, 20, N_PSR) * 365.25
     red = rng.uniform(size=N_PSR) < 0.3
-    return A.PulsarArray(
+    return PulsarArray(
         [f"B{i:03d}" for i in range(N_PSR)], SkyCoord(ra * u.deg, dec * u.deg),
         10 ** rng.uniform(-1, np.log10(2), N_PSR) * u.us,
         rng.choice([14.0, 21.0, 28.0], N_PSR) * u.d, end - span, end,
@@ -67,12 +67,12 @@ def brute_force_pixel(arr, f, pix):
         t = (mjd - mjd.mean()) * 86400.0
         sig = arr.toa_rms[k].to_value(u.s)
         cov = sig**2 * np.eye(mjd.size)
-        red = A._red_basis(t, (mjd[-1] - mjd[0]) * 86400.0, sig,
-                           arr.cadence[k].to_value(u.s), arr.red_amp[k], arr.red_gamma[k])
+        red = red_noise_basis(t * u.s, (mjd[-1] - mjd[0]) * u.d, arr.toa_rms[k],
+                              arr.cadence[k], arr.red_amp[k], arr.red_gamma[k])
         if red is not None:
-            cov += red[0] @ np.diag(red[1]) @ red[0].T
+            cov += red[0] @ np.diag(red[1].to_value(u.s**2)) @ red[0].T
         cinv = np.linalg.inv(cov)
-        md = A.timing_design_matrix(mjd)
+        md = timing_design_matrix(mjd)
         g = cinv - cinv @ md @ np.linalg.solve(md.T @ cinv @ md, md.T @ cinv)
         fp, fx = sky.antenna_pattern(arr.vectors[k], n)
         ph = 2 * np.pi * np.outer(t, f.value)
@@ -103,9 +103,9 @@ def main():
     t_w = time.perf_counter() - t0
     print(f"  exact timing-model projection w[p, f] (once):  {t_w:8.3f} s")
 
-    t_map = best_of(lambda: arr.h0_threshold_map(f, nside=NSIDE))
+    t_map = best_of(lambda: arr.threshold_table(f, nside=NSIDE))
     tracemalloc.start()
-    m = arr.h0_threshold_map(f, nside=NSIDE)
+    m = arr.threshold_table(f, nside=NSIDE).values.T
     peak = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
 

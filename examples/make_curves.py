@@ -26,16 +26,23 @@ from pathlib import Path
 import numpy as np
 from astropy import units as u
 
-from ptaconstrain.sensitivity.curve import StrainCurve, noise_psd_for_threshold, save_curve
+from ptaconstrain.sensitivity import (
+    StrainCurve,
+    noise_psd_for_threshold,
+    red_noise_psd,
+    save_curve,
+    white_noise_psd,
+)
+from ptaconstrain.sensitivity.timing import F_YR as _F_YR
 
-F_YR = (1.0 / u.yr).to_value(u.Hz)
+F_YR = _F_YR.to_value(u.Hz)
 
 
 def residual_psd(f, white_rms, cadence, red_amp, red_gamma):
-    """One-sided residual PSD [s^2/Hz]: 2 sigma^2 dt plus the red power law."""
-    white = 2.0 * white_rms**2 * cadence
-    red = red_amp**2 / (12 * np.pi**2) * F_YR**-3 * (f / F_YR) ** -red_gamma
-    return white + red
+    """One-sided residual PSD [s^2/Hz]: white plus red noise, the package's noise model."""
+    white = white_noise_psd(white_rms * u.s, cadence * u.s)
+    red = red_noise_psd(f * u.Hz, red_amp, red_gamma)
+    return (white + red).to_value(u.s**2 / u.Hz)
 
 
 def fit_loss(f, span):

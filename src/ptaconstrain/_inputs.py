@@ -534,3 +534,47 @@ def coord_from(coord=None, ra=None, dec=None, field="sky position"):
     if ra is None or dec is None:
         raise InputError(f"{field}: give both RA and Dec, or neither")
     return sky_coord(ra, dec, field)
+
+
+# added by sensitivity
+__all__ += ["lonlat_deg"]
+
+
+def lonlat_deg(lon, lat):
+    """Longitude and latitude of a non-equatorial frame (ecliptic, galactic) in degrees.
+
+    Like :func:`angles_deg`, but both angles are degrees, also when written
+    sexagesimally (``"100:30:00"`` is 100.5 deg): only an equatorial RA is
+    quoted in hours.
+
+    Parameters
+    ----------
+    lon, lat : number, str, array or astropy Column
+
+    Returns
+    -------
+    lon_deg, lat_deg : ndarray (float)
+        NaN where blank, masked or unreadable.
+    unreadable : ndarray (bool)
+
+    Raises
+    ------
+    InputError
+        If a column carries a unit that is not an angle.
+
+    Examples
+    --------
+    >>> lon, lat, bad = lonlat_deg(["100:30:00", "20"], ["\u221210.5", "5"])
+    >>> [float(x) for x in lon], [float(x) for x in lat]
+    ([100.5, 20.0], [-10.5, 5.0])
+    """
+    lon_deg, bad_lon = _one_angle(lon, False, "longitude")
+    lat_deg, bad_lat = _one_angle(lat, False, "latitude")
+    if lon_deg.shape != lat_deg.shape:
+        raise InputError(f"sky position: {lon_deg.size} longitudes but {lat_deg.size} "
+                         "latitudes")
+    bad = np.zeros(lon_deg.shape, dtype=bool)
+    for b in (bad_lon, bad_lat):
+        if b is not None:
+            bad |= b
+    return lon_deg, lat_deg, bad

@@ -140,3 +140,36 @@ def test_demo_part_covers_well_and_poorly_covered_hosts(tmp_path):
         assert (tmp_path / name).is_file(), text
     with pytest.raises(FileExistsError):
         demo_part(tmp_path, hosts)
+
+
+def test_curve_position_follows_the_one_sky_rule(tmp_path):
+    # "187.7" is degrees and "12:30:48" hours (astropy Angle: 12:30:48 h = 187.7 deg);
+    # both give the same position, and a U+2212 minus is a minus.
+    from astropy.coordinates import Angle
+
+    arr = _write_array(tmp_path / "a.ecsv")
+    skies = []
+    for ra in ("187.7", "12:30:48"):
+        out = tmp_path / f"c{len(skies)}.ecsv"
+        res = _run(["curve", "--array", arr, "--ra", ra, "--dec", "\u22125.5", "--out",
+                    str(out)])
+        assert res.exit_code == 0, res.output
+        skies.append(load_curve(out).sky)
+    assert Angle("12:30:48", unit=u.hourangle).deg == pytest.approx(187.7)
+    assert skies == ["ra=187.7000deg dec=-5.5000deg"] * 2
+
+
+@pytest.mark.parametrize("ra, dec, words", [
+    ("400", "0", "out of range"),
+    ("abc", "0", "cannot read"),
+    ("10", None, "give both RA and Dec"),
+])
+def test_curve_bad_position_one_line_error_no_output(tmp_path, ra, dec, words):
+    arr = _write_array(tmp_path / "a.ecsv")
+    out = tmp_path / "c.ecsv"
+    args = ["curve", "--array", arr, "--ra", ra, "--out", str(out)]
+    if dec is not None:
+        args += ["--dec", dec]
+    res = _run(args)
+    _assert_one_line_error(res, words)
+    assert not out.exists()

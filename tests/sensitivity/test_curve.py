@@ -1,8 +1,11 @@
+import warnings
+
 import numpy as np
 import pytest
 from astropy import units as u
 from scipy import integrate
 
+from ptaconstrain.errors import PtaconstrainError, PtaconstrainWarning
 from ptaconstrain.sensitivity.curve import (
     CurveError,
     StrainCurve,
@@ -124,3 +127,31 @@ def test_garbage_file_is_rejected(tmp_path):
     p.write_text("# %ECSV 1.0\n# ---\n this is: [not yaml\n")
     with pytest.raises(CurveError, match="not a readable ECSV"):
         load_curve(p)
+
+
+def test_bare_numbers_are_hz_for_frequency_and_yr_for_span():
+    # _inputs policy: a bare frequency is Hz, a bare span is yr.
+    f = np.geomspace(1e-9, 1e-7, 5)
+    lim = StrainCurve(f * u.Hz, 1e-14 * f / 1e-8, "h0_limit")
+    assert lim.h0_threshold(8e-9) == pytest.approx(lim.h0_threshold(8 * u.nHz), rel=1e-12)
+    psd = StrainCurve(f * u.Hz, np.full(5, 1e-20), "strain_psd", {"span": "10 yr"})
+    bare = psd.h0_threshold(1e-8, snr=5.0, span=12)
+    # h0 = rho sqrt(5 S_n / (16 T)) (detection_threshold_h0 docstring), T in s by astropy
+    expect = 5.0 * np.sqrt(5 * 1e-20 / (16 * (12 * u.yr).to_value(u.s)))
+    assert bare == pytest.approx(expect, rel=1e-12)
+    with pytest.raises(PtaconstrainError, match="span"):
+        psd.h0_threshold(1e-8, span=12 * u.m)
+    with pytest.raises(PtaconstrainError, match="frequency"):
+        psd.h0_threshold(1e-8 * u.m)
+
+
+def test_guessed_span_of_a_noise_budget_is_announced():
+    f = np.geomspace(2e-9, 1e-7, 5) * u.Hz
+    psd = StrainCurve(f, np.full(5, 1e-20), "strain_psd")
+    with pytest.warns(PtaconstrainWarning, match="span"):
+        span = psd.observing_span()
+    assert span == (1 / f[0]).to(u.yr)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", PtaconstrainWarning)
+        psd.h0_threshold(1e-8, span=10 * u.yr)  # given: no warning
+        StrainCurve(f, np.full(5, 1e-14), "h0_limit").h0_threshold(1e-8)  # a limit needs none

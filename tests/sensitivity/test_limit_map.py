@@ -10,7 +10,7 @@ from astropy.io import fits
 from ptaconstrain._files import OutputExistsError
 from ptaconstrain.analysis.exclusion import exclusion_map
 from ptaconstrain.binary.host import Host
-from ptaconstrain.sensitivity import limit_map
+from ptaconstrain.sensitivity import PositionalSensitivity, limit_map
 
 FREQS = [3e-9, 1e-8, 3e-8]
 NSIDE = 8
@@ -121,3 +121,45 @@ def test_sky_map_figure_writes_png(tmp_path):
     assert "dimensionless" in fig.axes[1].get_xlabel()
     (path,) = save_figure(fig, tmp_path / "map", ("png",))
     assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+# ----------------------------------------------------------- the protocol
+def test_limit_map_is_a_positional_sensitivity_without_markers(tmp_path):
+    lim = limit_map.load_limit_map(_write_limit_map(tmp_path / "lim.fits"))
+    assert isinstance(lim, PositionalSensitivity)
+    assert lim.sky_markers() is None
+
+
+def test_threshold_table_is_the_map_on_its_own_grid_and_frame(tmp_path):
+    # Pixel values against curve_at(pixel centre), the centre taken with
+    # healpy.pix2ang in the map's galactic frame and turned into a SkyCoord by astropy.
+    lim = limit_map.load_limit_map(_write_limit_map(tmp_path / "lim.fits"))
+    f = np.array([FREQS[2], FREQS[0]]) * u.Hz
+    table = lim.threshold_table(f, nside=64)  # a map answers at its own nside
+    assert (table.nside, table.frame) == (NSIDE, "galactic")
+    assert table.values.shape == (hp.nside2npix(NSIDE), 2)
+    for pix in (0, 300, 767):
+        lon, lat = hp.pix2ang(NSIDE, pix, lonlat=True)
+        centre = SkyCoord(l=lon * u.deg, b=lat * u.deg, frame="galactic")
+        assert table.values[pix] == pytest.approx(lim.curve_at(centre).h0_threshold(f),
+                                                  rel=1e-12)
+
+
+def test_threshold_table_refuses_frequencies_between_columns(tmp_path):
+    lim = limit_map.load_limit_map(_write_limit_map(tmp_path / "lim.fits"))
+    with pytest.raises(limit_map.LimitMapError) as err:
+        lim.threshold_table([1e-8, 2e-8] * u.Hz)
+    msg = str(err.value)
+    assert "2e-08 Hz is not one of the 3 frequencies" in msg and "\n" not in msg
+    assert lim.threshold_table(1e-8).values.shape == (hp.nside2npix(NSIDE), 1)  # bare Hz
+
+
+def test_limit_map_span_is_a_quantity_or_bare_years():
+    maps = np.full((2, hp.nside2npix(1)), 1e-14)
+    lim = limit_map.LimitMap([1e-8, 2e-8] * u.Hz, maps, span=15 * u.yr)
+    assert lim.curve_at(None).span.to_value(u.yr) == pytest.approx(15.0)
+    lim_d = limit_map.LimitMap([1e-8, 2e-8] * u.Hz, maps, span=365.25 * u.d)
+    assert lim_d.curve_at(None).span.to_value(u.yr) == pytest.approx(1.0)  # IAU Julian year
+    assert limit_map.LimitMap([1e-8, 2e-8], maps, span=12).span == 12 * u.yr
+    with pytest.raises(limit_map.LimitMapError, match="span"):
+        limit_map.LimitMap([1e-8, 2e-8] * u.Hz, maps, span=15 * u.m)

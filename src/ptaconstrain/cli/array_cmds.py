@@ -16,7 +16,7 @@ _MAP_LABEL = ("h0 for S/N >= {snr:g} (dimensionless strain, orientation-averaged
 
 
 def _nside(ctx, param, value):
-    from ..sensitivity.pulsar_array import check_nside
+    from ..sensitivity.positional import check_nside
 
     try:
         return check_nside(value)
@@ -67,12 +67,12 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
     import numpy as np
 
     from .._files import check_new
-    from ..binary.host import parse_coord
+    from .._inputs import coord_from
     from ..sensitivity.curve import save_curve
-    from ..sensitivity.pulsar_array import load_array
+    from ..sensitivity.pulsar_list import load_array
 
     check_new([out], overwrite)
-    coord = parse_coord(None, ra, dec)
+    coord = coord_from(ra=ra, dec=dec)
     arr = load_array(array_file, pulsar_term=pulsar_term)
     freq = arr.default_frequencies()
     with _progress(len(arr), "timing-model fits") as bar:
@@ -118,7 +118,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
     from ..report.figures import save_figure
     from ..report.skyplot import sky_map_figure
     from ..sensitivity.limit_map import write_threshold_maps
-    from ..sensitivity.pulsar_array import load_array
+    from ..sensitivity.pulsar_list import load_array
 
     freq = np.unique(u.Quantity(list(frequencies)).to_value(u.Hz)) * u.Hz
     out = Path(out)
@@ -136,7 +136,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
              f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"]
     for f, m, stem in zip(freq, maps, stems, strict=True):
         fig = sky_map_figure(
-            m, pulsars=arr.coord,
+            m, pulsars=arr.sky_markers(),
             title=f"{arr.name}: h0 detectable at S/N >= {snr:g} (forecast), "
                   f"f = {_nhz(f)}",
             label=_MAP_LABEL.format(snr=snr))
@@ -168,11 +168,11 @@ def demo_array():
 
     Returns
     -------
-    ptaconstrain.sensitivity.pulsar_array.PulsarArray
+    ptaconstrain.sensitivity.PulsarArray
     """
     if "array" not in _DEMO:
         from ..data import path as data_file
-        from ..sensitivity.pulsar_array import load_array
+        from ..sensitivity.pulsar_list import load_array
 
         _DEMO["array"] = load_array(data_file("demo_array.ecsv"))
     return _DEMO["array"]
@@ -228,7 +228,7 @@ def demo_part(out_dir, hosts, overwrite=False):
     write_threshold_maps(fits_path, m, f_best, snr, arr.span,
                          "pulsar list demo_array (INVENTED)", overwrite=overwrite)
     fig = sky_map_figure(
-        m[0], pulsars=arr.coord, hosts=hosts,
+        m[0], pulsars=arr.sky_markers(), hosts=hosts,
         title=f"INVENTED demo array: h0 detectable at S/N >= {snr:g} (forecast), "
               f"f = {_nhz(f_best[0])}",
         label=_MAP_LABEL.format(snr=snr))

@@ -201,7 +201,7 @@ def _sensitivity_at(host, array_path, limit_map_path, snr):
     import sys
 
     if array_path is not None:
-        from ..sensitivity.pulsar_array import load_array
+        from ..sensitivity.pulsar_list import load_array
 
         sens = load_array(array_path)
         with click.progressbar(length=len(sens), label="timing-model fits per pulsar",

@@ -37,9 +37,9 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
         raise click.UsageError("--kind applies to --curve only")
     if array_path is not None:
         try:
-            from ..sensitivity.pulsar_array import load_array
+            from ..sensitivity.pulsar_list import load_array
         except ModuleNotFoundError as err:
-            raise click.UsageError("--array needs ptaconstrain.sensitivity.pulsar_array, "
+            raise click.UsageError("--array needs ptaconstrain.sensitivity.pulsar_list, "
                                    "which this installation lacks: use --curve") from err
         return load_array(array_path), "array", array_path
     try:

@@ -7,6 +7,10 @@ seen from inside, the astronomical convention) with 0h at the right edge and
 logarithmic, perceptually uniform and colour-blind-safe colour map
 (cividis, Nunez et al. 2018, PLoS ONE 13, e0199239); pulsars are white dots,
 hosts orange stars (Okabe & Ito 2008 palette) with their names.
+
+The figure is a plain :class:`matplotlib.figure.Figure` (no pyplot state, no
+backend switch); save it with :func:`ptaconstrain.report.figures.save_figure`
+or ``fig.savefig``.
 """
 
 import numpy as np
@@ -45,11 +49,9 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
     matplotlib.figure.Figure
     """
     import healpy as hp
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    import matplotlib.patheffects as pe
     from matplotlib.colors import LogNorm
+    from matplotlib.figure import Figure
 
     values = np.asarray(values, float)
     nside = hp.npix2nside(values.size)
@@ -61,7 +63,7 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
     pix = hp.ang2pix(nside, ra_g, dec_g, lonlat=True, nest=nest)
     grid = np.ma.masked_invalid(values[pix])
 
-    fig = plt.figure(figsize=(9.0, 5.4))
+    fig = Figure(figsize=(9.0, 5.4))
     ax = fig.add_subplot(111, projection="mollweide")
     x_edges = np.radians(180.0 - ra_edges)
     y_edges = np.radians(dec_edges)
@@ -74,8 +76,6 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
 
     ticks = np.arange(-150, 181, 30)
     ax.set_xticks(np.radians(ticks))
-    import matplotlib.patheffects as pe
-
     labels = ax.set_xticklabels([f"{int(np.mod(180 - t, 360) / 15)}h" for t in ticks],
                                 fontsize=8)
     for text in labels:  # readable on dark and light pixels alike

@@ -13,10 +13,13 @@ Interpolation is piecewise-linear in log f - log value, so narrow features
 curve says nothing (NaN), it is never extrapolated.
 """
 
+import warnings
+
 import numpy as np
 from astropy import units as u
 
-from ..errors import InputError
+from .._inputs import positive, quantity
+from ..errors import InputError, PtaconstrainWarning
 
 __all__ = [
     "KINDS",
@@ -139,8 +142,8 @@ class StrainCurve:
         self.kind = kind
         self.meta = dict(meta or {})
         try:
-            f = u.Quantity(frequency).to(u.Hz)
-        except u.UnitsError as err:
+            f = quantity(frequency, u.Hz, "curve frequency", allow_nonfinite=True)
+        except InputError as err:
             unit = getattr(frequency, "unit", "none")
             raise CurveError(f"curve frequency has unit {unit}: give it in Hz") from err
         unit = _VALUE_UNITS[kind]
@@ -192,13 +195,14 @@ class StrainCurve:
 
         Parameters
         ----------
-        frequency : Quantity [frequency]
+        frequency : Quantity [frequency]; bare numbers are Hz
 
         Returns
         -------
         ndarray in the curve's value unit.
         """
-        x = np.log(np.asarray(frequency.to_value(u.Hz), dtype=float))
+        frequency = quantity(frequency, u.Hz, "frequency", allow_nonfinite=True)
+        x = np.log(np.asarray(frequency.value, dtype=float))
         lf = np.log(self.frequency.value)
         y = np.interp(x, lf, np.log(self.value), left=np.nan, right=np.nan)
         return np.exp(y)
@@ -209,12 +213,17 @@ class StrainCurve:
         ``characteristic_strain`` is converted with h_n^2 = f S_n (Moore, Cole &
         Berry 2015, CQG 32, 015014, eq. 3).
 
+        Parameters
+        ----------
+        frequency : Quantity [frequency]; bare numbers are Hz
+
         Returns
         -------
         Quantity [1/Hz]; NaN outside the tabulated range.
         """
         if self.is_limit:
             raise CurveError("an h0 upper limit has no noise PSD; use a noise-budget curve")
+        frequency = quantity(frequency, u.Hz, "frequency", allow_nonfinite=True)
         v = self.interpolate(frequency)
         if self.kind == "strain_psd":
             return v * u.Hz**-1
@@ -229,41 +238,58 @@ class StrainCurve:
 
         Parameters
         ----------
-        frequency : Quantity [frequency]
+        frequency : Quantity [frequency]; bare numbers are Hz
         snr : float
             S/N threshold (noise budgets only).
         span : Quantity [time], optional
-            Observing span; defaults to the curve's ``span`` meta.
+            Observing span (bare numbers are yr); defaults to the curve's
+            ``span`` meta (see :meth:`observing_span`).
 
         Returns
         -------
         ndarray (dimensionless), NaN outside the tabulated range.
+
+        Examples
+        --------
+        >>> from astropy import units as u
+        >>> c = StrainCurve([1e-9, 1e-7] * u.Hz, [1e-14, 1e-12], "h0_limit")
+        >>> print(f"{float(c.h0_threshold(1e-8)):.3g}")  # a bare number is Hz
+        1e-13
         """
         if self.is_limit:
             return self.interpolate(frequency)
         span = self.observing_span(span)
         if not np.isfinite(snr) or snr <= 0:
-            raise ValueError(f"snr: must be positive, got {snr!r}")
+            raise InputError(f"snr: must be positive, got {snr!r}")
         return detection_threshold_h0(self.strain_psd(frequency), span, snr).value
 
     def observing_span(self, span=None):
         """The observing span: ``span`` if given, else the meta's, else 1 / f_min.
 
         The fallback 1/f_min is the usual lowest frequency of a PTA curve
-        (common practice); results record which was used.
+        (common practice); results record which was used.  For a noise budget
+        the span sets the detection threshold, so the fallback is announced
+        with a :class:`~ptaconstrain.errors.PtaconstrainWarning`.
+
+        Parameters
+        ----------
+        span : Quantity [time], optional
+            Bare numbers are yr.
 
         Returns
         -------
         Quantity [yr].
         """
         if span is not None:
-            span = u.Quantity(span, u.yr)
-            if not np.isfinite(span.value) or span.value <= 0:
-                raise ValueError(f"span: must be positive, got {span}")
-            return span
+            return positive(quantity(span, u.yr, "span"), "span")
         if self.span is not None:
             return self.span
-        return (1.0 / self.frequency[0]).to(u.yr)
+        guess = (1.0 / self.frequency[0]).to(u.yr)
+        if not self.is_limit:
+            warnings.warn(f"span: the curve gives no observing span, so {guess:.3g} "
+                          "(1 / lowest frequency) is assumed; give span or set the "
+                          "curve's 'span' meta", PtaconstrainWarning, stacklevel=3)
+        return guess
 
     def __repr__(self):
         return (
@@ -298,13 +324,10 @@ def _span_from_meta(meta):
     if span is None:
         return None
     try:
-        q = u.Quantity(span)
-        if q.unit == u.dimensionless_unscaled:
-            q = q.value * u.yr
-        q = q.to(u.yr)
-    except (TypeError, ValueError, u.UnitsError) as err:
+        q = quantity(span, u.yr, "span")
+    except InputError as err:
         raise CurveError(f"curve meta 'span' = {span!r} is not a time: write e.g. '15 yr'") from err
-    if not np.isfinite(q.value) or q.value <= 0:
+    if q.value <= 0:
         raise CurveError(f"curve meta 'span' = {span!r} must be a positive time")
     return q
 
@@ -388,11 +411,10 @@ def _load_ecsv(path, kind):
 
 
 def _load_text(path, kind):
-    import warnings
-
     try:
         with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
+            # numpy's "input contained no data"; an empty file is reported below
+            warnings.filterwarnings("ignore", message="loadtxt", category=UserWarning)
             data = np.loadtxt(path, comments="#", ndmin=2, encoding="utf-8")
     except ValueError:
         try:

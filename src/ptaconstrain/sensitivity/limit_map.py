@@ -22,12 +22,17 @@ Optional keywords: ``CONFLEV`` (confidence of an upper-limit map, default
 S/N ``SNR``, never an upper limit) and are refused by :func:`load_limit_map`;
 a user's upper-limit map may carry ``MAPKIND = 'h0_limit'``.  Pixels without
 a value are NaN or healpy's UNSEEN.
+
+:class:`LimitMap` implements
+:class:`~ptaconstrain.sensitivity.positional.PositionalSensitivity`.
 """
 
 import numpy as np
 from astropy import units as u
 
+from .._inputs import positive, quantity
 from ..errors import InputError
+from .positional import HealpixThresholds
 
 __all__ = ["LimitMapError", "LimitMap", "load_limit_map", "write_threshold_maps",
            "FRAMES"]
@@ -53,9 +58,9 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
     path : path-like
     maps : array (n_f, 12 nside^2)
         RING ordering, equatorial (ICRS) pixels.
-    frequencies : Quantity (n_f,)
+    frequencies : Quantity (n_f,) [frequency]; bare numbers are Hz
     snr : float
-    span : Quantity [time]
+    span : Quantity [time]; bare numbers are yr
     source : str
         What the maps were computed from (recorded as ``SOURCE``).
     overwrite : bool
@@ -67,10 +72,11 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
     from .._files import atomic_write
 
     maps = np.atleast_2d(np.asarray(maps, float))
-    f = np.atleast_1d(u.Quantity(frequencies, u.Hz).value)
+    f = np.atleast_1d(quantity(frequencies, u.Hz, "frequency").value)
+    span_yr = float(positive(quantity(span, u.yr, "span"), "span").value)
     header = [("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
               ("SNR", float(snr), "S/N threshold"),
-              ("SPAN", float(u.Quantity(span, u.yr).value), "observing span [yr]"),
+              ("SPAN", span_yr, "observing span [yr]"),
               ("SOURCE", str(source)[:68], ""),
               ("ORIENT", "mean rho^2 over incl. and polarisation", "")]
     header += [(f"FREQ{i + 1}", float(fi), "GW frequency of column [Hz]")
@@ -85,9 +91,22 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
 class LimitMap:
     """HEALPix maps of h0 upper limits at several frequencies.
 
-    Implements ``curve_at(coord)`` so that
-    :func:`ptaconstrain.analysis.exclusion.exclusion_map` takes the limit at each host's
-    pixel.
+    A :class:`~ptaconstrain.sensitivity.positional.PositionalSensitivity`:
+    ``curve_at(coord)`` gives the limit at a host's pixel (used by
+    :func:`ptaconstrain.analysis.exclusion.exclusion_map`), ``threshold_table``
+    the whole grid.
+
+    Parameters
+    ----------
+    frequency : Quantity (n_f,) [frequency]; bare numbers are Hz
+    maps : array (n_f, 12 nside^2)
+        RING ordering; NaN, UNSEEN and values <= 0 mean "no value".
+    frame : {"C", "E", "G"}
+        HEALPix COORDSYS letter: equatorial (ICRS), ecliptic or galactic.
+    confidence : float
+    span : Quantity [time], optional
+        Observing span; bare numbers are yr.
+    name : str
 
     Attributes
     ----------
@@ -96,13 +115,19 @@ class LimitMap:
     nside : int
     frame : {"C", "E", "G"}
     confidence : float
+    span : Quantity [yr] or None
     name : str
     """
 
     def __init__(self, frequency, maps, frame="C", confidence=0.95, span=None, name="sky map"):
         import healpy as hp
 
-        f = np.atleast_1d(u.Quantity(frequency, u.Hz))
+        try:
+            f = np.atleast_1d(quantity(frequency, u.Hz, "sky map frequency"))
+            self.span = None if span is None else positive(quantity(span, u.yr, "span"),
+                                                           "span")
+        except InputError as err:
+            raise LimitMapError(str(err)) from err
         maps = np.atleast_2d(np.asarray(maps, float))
         if maps.shape[0] != f.size:
             raise LimitMapError("sky map: one map per frequency is needed")
@@ -120,8 +145,12 @@ class LimitMap:
             raise LimitMapError(f"sky map frame {frame!r}: use C, E or G")
         self.frame = frame
         self.confidence = float(confidence)
-        self.span = span
         self.name = str(name)
+
+    @property
+    def frame_name(self):
+        """Astropy name of the grid's frame: "icrs", "barycentricmeanecliptic" or "galactic"."""
+        return FRAMES[self.frame]
 
     def pixel(self, coord):
         """RING pixel index of ``coord`` in the map's frame."""
@@ -129,7 +158,7 @@ class LimitMap:
         from astropy.coordinates import SkyCoord
 
         if not isinstance(coord, SkyCoord) or not coord.isscalar:
-            raise ValueError("coord: give one astropy SkyCoord position (or None)")
+            raise LimitMapError("coord: give one astropy SkyCoord position (or None)")
         c = coord.transform_to(FRAMES[self.frame])
         sph = c.spherical
         return int(hp.ang2pix(self.nside, sph.lon.deg, sph.lat.deg, lonlat=True))
@@ -170,12 +199,57 @@ class LimitMap:
         ok = np.isfinite(v)
         if ok.sum() < 2:
             raise LimitMapError(f"sky map {self.name} has no value at {sky} "
-                              "(blank pixel): use a full-sky map or drop the position")
+                                "(blank pixel): use a full-sky map or drop the position")
         meta = {"sky": sky, "sky_note": note, "confidence": self.confidence,
                 "source": f"HEALPix upper-limit map {self.name}"}
         if self.span is not None:
-            meta["span"] = f"{self.span:.6g} yr"
+            meta["span"] = f"{self.span.to_value(u.yr):.6g} yr"
         return StrainCurve(self.frequency[ok], v[ok], "h0_limit", meta=meta)
+
+    def threshold_table(self, frequency, snr=5.0, nside=None):
+        """The h0 limits of every pixel at ``frequency``, on the map's own grid and frame.
+
+        Parameters
+        ----------
+        frequency : Quantity (n_f,) [frequency]; bare numbers are Hz
+            Each must be one of the map's own frequencies (:attr:`frequency`);
+            a limit map is not interpolated between its columns here.
+        snr : float
+            Ignored (an upper limit has no S/N threshold).
+        nside : int, optional
+            Ignored: the map answers at its own resolution (:attr:`nside`).
+
+        Returns
+        -------
+        HealpixThresholds
+            ``values`` (12 nside^2, n_f) in RING ordering, NaN where the map
+            has no value; ``frame`` the astropy name of the map's frame.
+
+        Raises
+        ------
+        LimitMapError
+            For a frequency that is not a column of the map.
+        """
+        try:
+            f = np.atleast_1d(quantity(frequency, u.Hz, "frequency")).value
+        except InputError as err:
+            raise LimitMapError(str(err)) from err
+        own = self.frequency.value
+        col = np.clip(np.searchsorted(own, f), 0, own.size - 1)
+        lower = np.clip(col - 1, 0, own.size - 1)
+        col = np.where(np.abs(own[lower] - f) < np.abs(own[col] - f), lower, col)
+        bad = np.flatnonzero(~np.isclose(own[col], f, rtol=1e-9, atol=0.0))
+        if bad.size:
+            raise LimitMapError(
+                f"frequency: {f[bad[0]]:.6g} Hz is not one of the {own.size} frequencies of "
+                f"sky map {self.name} ({own[0]:.4g}-{own[-1]:.4g} Hz): use the map's own "
+                "frequencies (its curve_at(None).frequency)")
+        return HealpixThresholds(self.nside, self.frame_name,
+                                 np.ascontiguousarray(self.maps[col].T))
+
+    def sky_markers(self):
+        """None: a limit map has no positions worth marking."""
+        return None
 
     def __repr__(self):
         return (f"LimitMap({self.name!r}, nside={self.nside}, frame={self.frame}, "
@@ -211,38 +285,38 @@ def load_limit_map(path):
         with fits.open(path) as hdul:
             if len(hdul) < 2 or not isinstance(hdul[1], fits.BinTableHDU):
                 raise LimitMapError(f"{name}: HDU 1 is not a binary table: write the map with "
-                                  "healpy.write_map")
+                                    "healpy.write_map")
             hdr = hdul[1].header
             ncol = len(hdul[1].columns)
     except OSError as err:
         raise LimitMapError(f"{name} is not a readable FITS file: give a HEALPix map written "
-                          "by healpy.write_map (layout in the README)") from err
+                            "by healpy.write_map (layout in the README)") from err
 
     order = str(hdr.get("ORDERING", "")).strip().upper()
     if order not in ("RING", "NESTED", "NEST"):
         raise LimitMapError(f"{name}: header keyword ORDERING is {order or 'missing'}: set it "
-                          "to 'RING' or 'NESTED'")
+                            "to 'RING' or 'NESTED'")
     if str(hdr.get("INDXSCHM", "IMPLICIT")).strip().upper() != "IMPLICIT":
         raise LimitMapError(f"{name}: partial-sky (explicit-index) maps are not supported: "
-                          "write a full-sky map with UNSEEN pixels")
+                            "write a full-sky map with UNSEEN pixels")
     csys = str(hdr.get("COORDSYS", "")).strip().upper()
     if csys not in _COORD_WORDS:
         raise LimitMapError(f"{name}: header keyword COORDSYS is {csys or 'missing'}: set it "
-                          "to 'C' (equatorial), 'E' (ecliptic) or 'G' (galactic)")
+                            "to 'C' (equatorial), 'E' (ecliptic) or 'G' (galactic)")
     kind = str(hdr.get("MAPKIND", "h0_limit")).strip().lower()
     if kind != "h0_limit":
         raise LimitMapError(f"{name} holds {kind} (a forecast), not h0 upper limits: for a "
-                          "forecast pass the pulsar list itself with --array, or give an "
-                          "upper-limit map")
+                            "forecast pass the pulsar list itself with --array, or give an "
+                            "upper-limit map")
     freqs = []
     for i in range(1, ncol + 1):
         unit = str(hdr.get(f"TUNIT{i}", "")).strip().upper()
         if unit not in _STRAIN_UNITS:
             raise LimitMapError(f"{name}: column {i} has unit {hdr[f'TUNIT{i}']!r}: a map of "
-                              "h0 is dimensionless strain (TUNIT empty or 'strain')")
+                                "h0 is dimensionless strain (TUNIT empty or 'strain')")
         if f"FREQ{i}" not in hdr:
             raise LimitMapError(f"{name}: column {i} has no frequency: add the header keyword "
-                              f"FREQ{i} = <GW frequency in Hz>")
+                                f"FREQ{i} = <GW frequency in Hz>")
         try:
             freqs.append(float(hdr[f"FREQ{i}"]))
         except (TypeError, ValueError) as err:
@@ -259,5 +333,9 @@ def load_limit_map(path):
     span = hdr.get("SPAN")
     maps = hp.read_map(str(path), field=tuple(range(ncol)), nest=False, dtype=np.float64)
     maps = np.atleast_2d(maps)
+    try:
+        span = None if span is None else positive(quantity(span, u.yr, "SPAN"), "SPAN")
+    except InputError as err:
+        raise LimitMapError(f"{name}: header keyword {err}; give the span in yr") from err
     return LimitMap(freqs * u.Hz, maps, frame=_COORD_WORDS[csys], confidence=conf,
-                       span=None if span is None else float(span), name=name)
+                    span=span, name=name)

@@ -14,7 +14,9 @@ from typing import Protocol, runtime_checkable
 
 import numpy as np
 
-__all__ = ["PositionalSensitivity", "HealpixThresholds"]
+from ..errors import InputError
+
+__all__ = ["PositionalSensitivity", "HealpixThresholds", "check_nside"]
 
 
 @dataclass(frozen=True)
@@ -89,3 +91,33 @@ class PositionalSensitivity(Protocol):
         -------
         astropy.coordinates.SkyCoord or None
         """
+
+
+def check_nside(nside):
+    """``nside`` as an int if it is a HEALPix resolution (a power of 2, 1..8192).
+
+    Parameters
+    ----------
+    nside : int
+
+    Returns
+    -------
+    int
+
+    Raises
+    ------
+    InputError
+        Naming the value and the fix.
+
+    Examples
+    --------
+    >>> check_nside(64)
+    64
+    """
+    try:
+        n = int(nside)
+    except (TypeError, ValueError):
+        n = -1
+    if n != nside or n < 1 or n > 8192 or n & (n - 1):
+        raise InputError(f"nside: {nside!r} is not a power of 2: use 8, 16, 32, 64, ...")
+    return n

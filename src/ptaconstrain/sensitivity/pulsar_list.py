@@ -9,11 +9,14 @@ pulsar a row:
 column          unit       meaning
 ==============  =========  ==================================================
 name            --         unique pulsar name
-ra, dec         deg        ICRS position: numbers (deg) or sexagesimal strings
-                           ("18h55m12s", "-37d12m00s"; an RA with h, : or a
-                           space is read in hours)
+ra, dec         deg        ICRS position under the package's one sky rule
+                           (:func:`ptaconstrain._inputs.angles_deg`): numbers
+                           are degrees, also as text ("187.7"); sexagesimal
+                           text (with h, : or inner spaces) is hours for RA
+                           ("18h55m12s", "18:55:12") and degrees for Dec
 elon, elat      deg        instead of ra/dec: ecliptic longitude/latitude
-                           (barycentric mean ecliptic of J2000)
+                           (barycentric mean ecliptic of J2000), both in
+                           degrees (also sexagesimal "d:m:s" text)
 toa_rms         us         white-noise rms of one TOA, sigma
 cadence         d          interval between TOAs, dt
 span            yr         observing span T_p, *or* both of
@@ -26,7 +29,10 @@ distance        kpc        optional; recorded only (the incoherent pulsar
                            term needs none)
 ==============  =========  ==================================================
 
-Columns without a unit are read in the units above.  When only ``span`` is
+Columns without a unit are read in the units above (the package's one
+quantity rule, :func:`ptaconstrain._inputs.quantity`); a unit of the wrong
+kind is refused.  The file format follows the suffix (:data:`TABLE_FORMATS`;
+others are left to astropy to guess).  When only ``span`` is
 given, every pulsar's timing ends at the table's meta ``end_mjd`` (default
 MJD 60000).  The meta ``name`` names the array (default: the file name).
 TOAs are taken on the regular grid start, start + dt, ... up to the end.
@@ -35,9 +41,15 @@ TOAs are taken on the regular grid start, start + dt, ... up to the end.
 import numpy as np
 from astropy import units as u
 
+from .._inputs import SKY_RANGE_TEXT, angles_deg, lonlat_deg, quantity, sky_out_of_range
+from ..errors import InputError
 from .pulsar_array import ArrayError, PulsarArray
 
-__all__ = ["load_array", "array_from_table"]
+__all__ = ["TABLE_FORMATS", "load_array", "array_from_table"]
+
+#: File suffix -> astropy table format of a pulsar list.
+TABLE_FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv", ".fits": "fits"}
+_REQUIRED = ("name", "toa_rms", "cadence")
 
 
 def load_array(path, pulsar_term=False):
@@ -65,7 +77,7 @@ def load_array(path, pulsar_term=False):
     path = Path(path)
     if not path.is_file():
         raise ArrayError(f"pulsar list {path} not found: check the path")
-    fmt = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv", ".fits": "fits"}.get(path.suffix.lower())
+    fmt = TABLE_FORMATS.get(path.suffix.lower())
     try:
         t = Table.read(path, format=fmt) if fmt else Table.read(path)
     except Exception as err:  # astropy raises many types for a malformed file
@@ -90,60 +102,64 @@ def array_from_table(table, name="pulsar array", pulsar_term=False):
     Returns
     -------
     PulsarArray
+
+    Raises
+    ------
+    ArrayError
+        One line naming the row, column and fix.
     """
     cols = set(table.colnames)
-    missing = [c for c in ("name", "toa_rms", "cadence") if c not in cols]
+    missing = [c for c in _REQUIRED if c not in cols]
     if missing:
         raise ArrayError(f"column '{missing[0]}' is missing: the pulsar list needs name, "
                          "ra/dec (or elon/elat), toa_rms, cadence and span (or "
                          "start_mjd/end_mjd)")
     names = [str(x).strip() for x in table["name"]]
-    for i, x in enumerate(names):
-        if not x or x == "--":
-            raise ArrayError(f"row {i + 1}: name is empty: give every pulsar a name")
+    empty = [i for i, x in enumerate(names) if not x or x == "--"]
+    if empty:
+        raise ArrayError(f"row {empty[0] + 1}: name is empty: give every pulsar a name")
     coord = _read_position(table, names)
     toa = _quantity(table, "toa_rms", u.us, names)
     cad = _quantity(table, "cadence", u.d, names)
     start, end = _read_epochs(table, names)
-    amp = _plain(table, "red_amp", names) if "red_amp" in cols else None
-    gam = _plain(table, "red_gamma", names) if "red_gamma" in cols else None
+    amp = _plain(table, "red_amp") if "red_amp" in cols else None
+    gam = _plain(table, "red_gamma") if "red_gamma" in cols else None
     dist = _quantity(table, "distance", u.kpc, names, allow_nan=True) \
         if "distance" in cols else None
     return PulsarArray(names, coord, toa, cad, start, end, amp, gam, dist, name=name,
                        pulsar_term=pulsar_term)
 
 
-def _values(col):
-    data = col.filled(np.nan) if hasattr(col, "filled") and np.ma.is_masked(col) else col
-    return data
+def _numbers(table, col, unit_text):
+    """A column's values as floats (masked -> NaN) and its unit (or None)."""
+    c = table[col]
+    unit = getattr(c, "unit", None)
+    raw = c.value if isinstance(c, u.Quantity) else c
+    try:
+        values = np.ma.filled(np.ma.asarray(raw, dtype=float), np.nan).reshape(-1)
+    except (TypeError, ValueError) as err:
+        raise ArrayError(f"column '{col}' is not numeric: give numbers{unit_text}") from err
+    return values, unit
 
 
 def _quantity(table, col, unit, names, allow_nan=False):
-    c = table[col]
-    cunit = getattr(c, "unit", None)
+    values, cunit = _numbers(table, col, f" in {unit}")
     try:
-        vals = np.asarray(_values(c.value if isinstance(c, u.Quantity) else c), dtype=float)
-    except (TypeError, ValueError) as err:
-        raise ArrayError(f"column '{col}' is not numeric: give numbers in {unit}") from err
-    if cunit is not None and cunit != u.dimensionless_unscaled:
-        try:
-            vals = (vals * cunit).to_value(unit)
-        except u.UnitsError as err:
-            raise ArrayError(f"column '{col}' has unit {cunit}: give it in {unit}") from err
+        q = quantity(values if cunit is None else values * cunit, unit, col,
+                     allow_nonfinite=True)
+    except InputError as err:
+        raise ArrayError(f"column '{col}' has unit {cunit}: give it in {unit}") from err
     if not allow_nan:
-        bad = np.flatnonzero(~np.isfinite(vals))
+        bad = np.flatnonzero(~np.isfinite(q.value))
         if bad.size:
             i = bad[0]
             raise ArrayError(f"row {i + 1} ({names[i]}): {col} is NaN or missing: give a "
                              f"value in {unit}")
-    return vals * unit
+    return q
 
 
-def _plain(table, col, names):
-    try:
-        return np.asarray(_values(table[col]), dtype=float).reshape(-1)
-    except (TypeError, ValueError) as err:
-        raise ArrayError(f"column '{col}' is not numeric: give numbers") from err
+def _plain(table, col):
+    return _numbers(table, col, "")[0]
 
 
 def _read_epochs(table, names):
@@ -169,9 +185,7 @@ def _read_epochs(table, names):
     return end - span, end
 
 
-def _read_position(table, names):
-    from astropy.coordinates import BarycentricMeanEcliptic, SkyCoord
-
+def _position_columns(table):
     cols = set(table.colnames)
     eq, ecl = {"ra", "dec"} & cols, {"elon", "elat"} & cols
     if eq and ecl:
@@ -184,48 +198,36 @@ def _read_position(table, names):
         if c not in cols:
             raise ArrayError(f"column '{c}' is missing: give positions as ra/dec (ICRS) or "
                              "elon/elat (ecliptic), in deg")
-    lon_col, lat_col = table[pair[0]], table[pair[1]]
+    return pair
 
-    def build(lon, lat):
-        if pair[0] == "elon":
-            return SkyCoord(lon, lat, frame=BarycentricMeanEcliptic).icrs
-        return SkyCoord(lon, lat, frame="icrs")
 
-    lon, lat = _angle_values(lon_col, pair[0]), _angle_values(lat_col, pair[1])
+def _read_position(table, names):
+    from astropy.coordinates import BarycentricMeanEcliptic, SkyCoord
+
+    pair = _position_columns(table)
+    read = angles_deg if pair[0] == "ra" else lonlat_deg
     try:
-        coord = build(lon, lat)
-    except (ValueError, TypeError, u.UnitsError):
-        for i in range(len(names)):  # find the bad row for the message (failure path only)
-            try:
-                build(lon[i], lat[i])
-            except (ValueError, TypeError, u.UnitsError) as err:
-                raise ArrayError(
-                    f"row {i + 1} ({names[i]}): cannot read position {pair[0]}="
-                    f"{lon[i]!r}, {pair[1]}={lat[i]!r} (use deg or e.g. '18h55m12s' "
-                    f"'-37d12m00s')") from err
-        raise
-    bad = np.flatnonzero(~(np.isfinite(coord.ra.deg) & np.isfinite(coord.dec.deg)))
+        lon, lat, unreadable = read(table[pair[0]], table[pair[1]])
+    except InputError as err:
+        raise ArrayError(f"columns {pair[0]}/{pair[1]}: {err}") from err
+    bad = np.flatnonzero(unreadable)
+    if bad.size:
+        i = bad[0]
+        raise ArrayError(
+            f"row {i + 1} ({names[i]}): cannot read position {pair[0]}="
+            f"{table[pair[0]][i]!r}, {pair[1]}={table[pair[1]][i]!r} (use deg or e.g. "
+            "'18h55m12s' '-37d12m00s')")
+    bad = np.flatnonzero(~(np.isfinite(lon) & np.isfinite(lat)))
     if bad.size:
         i = bad[0]
         raise ArrayError(f"row {i + 1} ({names[i]}): position is NaN or missing: give "
                          f"{pair[0]} and {pair[1]}")
-    return coord
-
-
-def _angle_values(col, name):
-    """A column as an Angle-compatible Quantity (numbers in deg, strings parsed)."""
-    from astropy.coordinates import Angle
-
-    if col.dtype.kind in "USO":
-        vals = [str(v).strip() for v in col]
-        hours = name == "ra" and any(c in v for v in vals for c in "h: ")
-        try:
-            return Angle(vals, unit=u.hourangle if hours else u.deg)
-        except (ValueError, TypeError, u.UnitsError):
-            return np.array(vals, dtype=object)  # per-row error reported by the caller
-    unit = getattr(col, "unit", None) or u.deg
-    try:
-        return (np.asarray(_values(col.value if isinstance(col, u.Quantity) else col),
-                           dtype=float) * unit).to(u.deg)
-    except u.UnitsError as err:
-        raise ArrayError(f"column '{name}' has unit {unit}: give it in deg") from err
+    bad = np.flatnonzero(sky_out_of_range(lon, lat))
+    if bad.size:
+        i = bad[0]
+        raise ArrayError(f"row {i + 1} ({names[i]}): position {pair[0]}={lon[i]:.6g} deg, "
+                         f"{pair[1]}={lat[i]:.6g} deg is out of range ({SKY_RANGE_TEXT}, "
+                         "read as longitude/latitude)")
+    if pair[0] == "elon":
+        return SkyCoord(lon * u.deg, lat * u.deg, frame=BarycentricMeanEcliptic).icrs
+    return SkyCoord(lon * u.deg, lat * u.deg, frame="icrs")
