@@ -39,6 +39,7 @@ __all__ = [
     "positive",
     "check_mass",
     "check_distance",
+    "check_redshift",
     "mass_out_of_range",
     "distance_out_of_range",
     "mass_range_text",
@@ -534,3 +535,39 @@ def coord_from(coord=None, ra=None, dec=None, field="sky position"):
     if ra is None or dec is None:
         raise InputError(f"{field}: give both RA and Dec, or neither")
     return sky_coord(ra, dec, field)
+
+
+# added by binary/analysis
+def check_redshift(redshift, field="redshift"):
+    """A cosmological redshift, refused outside 0 <= z <= ``Z_LIMIT``.
+
+    Parameters
+    ----------
+    redshift : number, array or str (dimensionless)
+    field : str
+
+    Returns
+    -------
+    float, or ndarray for array input
+
+    Raises
+    ------
+    InputError
+        For a non-number, a value with units (e.g. cz in km/s) or one out of range.
+
+    Examples
+    --------
+    >>> check_redshift("0.05")
+    0.05
+    """
+    try:
+        z = quantity(redshift, u.dimensionless_unscaled, field).value
+    except InputError as err:
+        raise InputError(f"{field}: cannot read {redshift!r} as a redshift; give a finite "
+                         "plain number z (not cz in km/s)") from err
+    out = (z < 0) | (z > Z_LIMIT)
+    if np.any(out):
+        bad = float(np.atleast_1d(z)[np.atleast_1d(out)][0])
+        raise InputError(f"{field}: {bad:g} is outside 0 <= z <= {Z_LIMIT:g}; give the "
+                         "cosmological redshift z (not cz in km/s)")
+    return float(z) if np.ndim(z) == 0 else z

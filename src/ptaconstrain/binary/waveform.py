@@ -18,6 +18,8 @@ import numpy as np
 from astropy import constants as const
 from astropy import units as u
 
+from ..errors import InputError
+
 __all__ = [
     "symmetric_mass_ratio",
     "mass_ratio_from_eta",
@@ -42,7 +44,9 @@ _C = const.c
 def _check_mass_ratio(q):
     q = np.asarray(q, dtype=float)
     if not np.all(np.isfinite(q)) or np.any(q <= 0) or np.any(q > 1):
-        raise ValueError("mass_ratio must be finite and in (0, 1] (q = m2/m1 with m2 <= m1)")
+        bad = q[~(np.isfinite(q) & (q > 0) & (q <= 1))].ravel()[0]
+        raise InputError(f"mass_ratio: {bad:g} is not in (0, 1]; give q = m2/m1 with "
+                         "m2 <= m1")
     return q
 
 

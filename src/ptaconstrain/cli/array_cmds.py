@@ -67,12 +67,12 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
     import numpy as np
 
     from .._files import check_new
-    from ..binary.host import parse_coord
+    from .._inputs import coord_from
     from ..sensitivity.curve import save_curve
     from ..sensitivity.pulsar_array import load_array
 
     check_new([out], overwrite)
-    coord = parse_coord(None, ra, dec)
+    coord = coord_from(None, ra, dec)
     arr = load_array(array_file, pulsar_term=pulsar_term)
     freq = arr.default_frequencies()
     with _progress(len(arr), "timing-model fits") as bar:
