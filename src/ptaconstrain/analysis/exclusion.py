@@ -301,6 +301,19 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     Returns
     -------
     ExclusionMap
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from ptaconstrain.binary import Host
+    >>> from ptaconstrain.sensitivity.curve import StrainCurve
+    >>> f = np.geomspace(2e-9, 3e-7, 60) * u.Hz
+    >>> limit = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit",
+    ...                     {"confidence": 0.95, "span": "15 yr"})  # an invented limit
+    >>> exclusion_map(Host("Example", 2e10, 50), limit)
+    ExclusionMap('Example', 95% upper limit, grid 300 q x 300 P;
+      tightest: q > 0.00717 excluded at P = 31.6 yr)
     """
     curve = sensitivity_for(host, curve) if warn else (
         curve.curve_at(host.coord) if hasattr(curve, "curve_at") else curve)

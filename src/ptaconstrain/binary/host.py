@@ -92,7 +92,7 @@ class Host:
     >>> from astropy.cosmology import Planck18
     >>> h = Host("Example", "2e10 solMass", 95, ra="187.7", dec="12.4", cosmology=Planck18)
     >>> round(float(h.coord.ra.deg), 6), round(h.redshift, 4)
-    (187.7, 0.0212)
+    (187.7, 0.0211)
     """
 
     def __init__(
