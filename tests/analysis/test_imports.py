@@ -14,6 +14,7 @@ MODULES = [
     "ptaconstrain.analysis",
     "ptaconstrain.analysis.exclusion",
     "ptaconstrain.analysis.sampling",
+    "ptaconstrain.analysis.isco_counts",
     "ptaconstrain.analysis.probability",
 ]
 
@@ -47,7 +48,8 @@ def test_the_import_scanner_sees_probability_imports():
 
 
 @pytest.mark.parametrize("module", ["ptaconstrain.analysis.exclusion",
-                                    "ptaconstrain.analysis.sampling"])
+                                    "ptaconstrain.analysis.sampling",
+                                    "ptaconstrain.analysis.isco_counts"])
 def test_exclusion_and_sampling_never_import_probability(module):
     assert not any(name.endswith("probability") for name in _imported_modules(module))
 
