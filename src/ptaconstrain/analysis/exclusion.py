@@ -356,7 +356,7 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     qmax = np.where(unconstrained | above_isco, np.nan, qmax)
     qchirp = np.where(eta_chirp >= 0.25, np.nan, wf.mass_ratio_from_eta(eta_chirp))
     sep = wf.separation(m, period, z)
-    r_g = (wf._G * m / wf._C**2).to(u.pc)
+    r_g = wf.gravitational_radius(m)
 
     hard = None
     if host.velocity_dispersion is not None:

@@ -9,6 +9,7 @@ from .waveform import (
     chirp_mass,
     coalescence_time,
     frequency_derivative,
+    gravitational_radius,
     gw_frequency,
     hardening_radius,
     is_chirping,
@@ -39,4 +40,5 @@ __all__ = [
     "is_chirping",
     "hardening_radius",
     "period_at_separation",
+    "gravitational_radius",
 ]

@@ -35,6 +35,7 @@ __all__ = [
     "is_chirping",
     "hardening_radius",
     "period_at_separation",
+    "gravitational_radius",
 ]
 
 _G = const.G
@@ -205,6 +206,26 @@ def separation(total_mass, period, redshift=0.0):
     """
     p_rest = period / (1.0 + np.asarray(redshift))
     return np.cbrt(_G * total_mass * p_rest**2 / (4.0 * np.pi**2)).to(u.pc)
+
+
+def gravitational_radius(total_mass):
+    """Gravitational radius r_g = G M / c^2 (half the Schwarzschild radius).
+
+    Parameters
+    ----------
+    total_mass : Quantity [mass]
+
+    Returns
+    -------
+    Quantity [pc].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> round(float(gravitational_radius(1 * u.Msun).to_value(u.km)), 4)
+    1.4766
+    """
+    return (_G * total_mass / _C**2).to(u.pc)
 
 
 def period_at_separation(total_mass, sep, redshift=0.0):
