@@ -27,7 +27,8 @@ import numpy as np
 from astropy import units as u
 
 from ptaconstrain.analysis.exclusion import default_mass_ratios, default_periods
-from ptaconstrain.analysis.probability import exclusion_probability, sample_host
+from ptaconstrain.analysis.probability import exclusion_probability
+from ptaconstrain.analysis.sampling import sample_host
 from ptaconstrain.binary import waveform as wf
 from ptaconstrain.binary.host import Host
 from ptaconstrain.data import path as data_file

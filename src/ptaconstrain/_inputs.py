@@ -50,6 +50,8 @@ __all__ = [
     "sky_coord",
     "coord_from",
     "SKY_RANGE_TEXT",
+    "lonlat_deg",
+    "check_redshift",
 ]
 
 #: field kind -> unit a bare number is read in
@@ -536,10 +538,6 @@ def coord_from(coord=None, ra=None, dec=None, field="sky position"):
     return sky_coord(ra, dec, field)
 
 
-# added by sensitivity
-__all__ += ["lonlat_deg"]
-
-
 def lonlat_deg(lon, lat):
     """Longitude and latitude of a non-equatorial frame (ecliptic, galactic) in degrees.
 
@@ -578,3 +576,38 @@ def lonlat_deg(lon, lat):
         if b is not None:
             bad |= b
     return lon_deg, lat_deg, bad
+
+
+def check_redshift(redshift, field="redshift"):
+    """A cosmological redshift, refused outside 0 <= z <= ``Z_LIMIT``.
+
+    Parameters
+    ----------
+    redshift : number, array or str (dimensionless)
+    field : str
+
+    Returns
+    -------
+    float, or ndarray for array input
+
+    Raises
+    ------
+    InputError
+        For a non-number, a value with units (e.g. cz in km/s) or one out of range.
+
+    Examples
+    --------
+    >>> check_redshift("0.05")
+    0.05
+    """
+    try:
+        z = quantity(redshift, u.dimensionless_unscaled, field).value
+    except InputError as err:
+        raise InputError(f"{field}: cannot read {redshift!r} as a redshift; give a finite "
+                         "plain number z (not cz in km/s)") from err
+    out = (z < 0) | (z > Z_LIMIT)
+    if np.any(out):
+        bad = float(np.atleast_1d(z)[np.atleast_1d(out)][0])
+        raise InputError(f"{field}: {bad:g} is outside 0 <= z <= {Z_LIMIT:g}; give the "
+                         "cosmological redshift z (not cz in km/s)")
+    return float(z) if np.ndim(z) == 0 else z

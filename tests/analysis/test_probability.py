@@ -8,10 +8,10 @@ from hypothesis import strategies as st
 from scipy import integrate, stats
 
 from ptaconstrain.analysis.exclusion import ABOVE_ISCO, UNCONSTRAINED, exclusion_map
-from ptaconstrain.analysis.probability import (
+from ptaconstrain.analysis.probability import exclusion_probability
+from ptaconstrain.analysis.sampling import (
     HostSamples,
     distance_sigma,
-    exclusion_probability,
     orientation_factor,
     sample_host,
 )

@@ -136,3 +136,10 @@ def test_h0_and_polarisations_carry_the_peters_mathews_luminosity():
     h0 = wf.strain_amplitude(total, q, f, d)
     flux = c**3 / (16 * np.pi * G) * (2 * np.pi * f) ** 2 * 1.6 * h0**2
     assert (4 * np.pi * d**2 * flux).to_value(u.W) == pytest.approx(lum.value, rel=1e-9)
+
+
+def test_gravitational_radius_of_the_sun():
+    # G Msun / c^2 = 1476.625 m (IAU 2015 Resolution B3 nominal solar mass parameter
+    # GM = 1.3271244e20 m^3 s^-2, divided by c^2)
+    assert wf.gravitational_radius(1 * u.Msun).to_value(u.m) == pytest.approx(
+        1.3271244e20 / 299792458.0**2, rel=1e-7)

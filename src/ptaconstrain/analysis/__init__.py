@@ -1,0 +1,44 @@
+"""Bounds on companions of one host: the q x P map (exclusion), host uncertainties
+(sampling) and exclusion probabilities with credible bounds (probability).
+
+probability imports exclusion and sampling; neither of those imports probability.
+"""
+
+from .exclusion import (
+    ABOVE_ISCO,
+    ALLOWED,
+    CHIRPING,
+    EXCLUDED,
+    REGION_NAMES,
+    UNCONSTRAINED,
+    ExclusionMap,
+    band_periods,
+    default_mass_ratios,
+    default_periods,
+    exclusion_map,
+    sensitivity_for,
+)
+from .probability import DEFAULT_CREDIBILITY, ProbabilityMap, exclusion_probability
+from .sampling import HostSamples, distance_sigma, orientation_factor, sample_host
+
+__all__ = [
+    "ALLOWED",
+    "EXCLUDED",
+    "UNCONSTRAINED",
+    "ABOVE_ISCO",
+    "CHIRPING",
+    "REGION_NAMES",
+    "ExclusionMap",
+    "exclusion_map",
+    "default_periods",
+    "default_mass_ratios",
+    "band_periods",
+    "sensitivity_for",
+    "HostSamples",
+    "sample_host",
+    "orientation_factor",
+    "distance_sigma",
+    "ProbabilityMap",
+    "exclusion_probability",
+    "DEFAULT_CREDIBILITY",
+]

@@ -9,11 +9,16 @@ q-vector against a P-vector, and the largest allowed mass ratio per period
 is the closed-form inverse of eta at eta_min.
 """
 
+import warnings
+from dataclasses import dataclass
+
 import numpy as np
 from astropy import units as u
 
+from .._inputs import positive, quantity
 from ..binary import waveform as wf
-from ..sensitivity.curve import FromCurve
+from ..binary.host import Host
+from ..errors import PtaconstrainWarning
 
 __all__ = [
     "ALLOWED",
@@ -27,7 +32,7 @@ __all__ = [
     "default_periods",
     "default_mass_ratios",
     "band_periods",
-    "exclusion_probability",
+    "sensitivity_for",
 ]
 
 ALLOWED = 0
@@ -74,16 +79,22 @@ def default_periods(curve, n=300, pad=1.5):
     return np.logspace(np.log10(p[0] / pad), np.log10(p[1] * pad), n) * u.yr
 
 
-class ExclusionMap(FromCurve):
+@dataclass(frozen=True, eq=False)
+class ExclusionMap:
     """Result of :func:`exclusion_map`; every array is indexed [q, P].
 
     Attributes
     ----------
     host : Host
+        The galaxy whose companions are bounded.
     curve : StrainCurve
+        The sensitivity used (at the host's position for a positional one).
     mass_ratio : ndarray (nq,)
-    period : Quantity (nP,) [yr], observer frame
-    frequency : Quantity (nP,) [Hz], f = 2/P
+        Mass ratios q = m2/m1 of the grid, in (0, 1].
+    period : Quantity (nP,) [yr]
+        Orbital periods, observer frame.
+    frequency : Quantity (nP,) [Hz]
+        GW frequency f = 2/P, observer frame.
     excluded : ndarray of bool (nq, nP)
         h0 above the threshold, inside the curve's band and below f_ISCO.
         (Cells that also chirp are flagged in ``region``.)
@@ -92,7 +103,10 @@ class ExclusionMap(FromCurve):
         CHIRPING marks cells where the monochromatic model the curve assumes
         breaks down, whatever the strain comparison says.
     h0_threshold : ndarray (nP,)
-        The curve's h0 at each period (NaN outside its band).
+        The curve's h0 at each period (dimensionless; NaN outside its band).
+    eta_min : ndarray (nP,)
+        Smallest symmetric mass ratio eta = q/(1+q)^2 excluded at each period
+        (h0 = eta x the strain of an eta = 1 binary); NaN outside the band.
     max_mass_ratio : ndarray (nP,)
         Largest mass ratio not excluded; 1 where even q = 1 is allowed; NaN
         where the curve says nothing or no binary exists (above ISCO).
@@ -101,8 +115,11 @@ class ExclusionMap(FromCurve):
     companion_mass : Quantity (nP,) [solMass]
         m2 = M q / (1 + q) at ``max_mass_ratio``.
     separation : Quantity (nP,) [pc]
+        Binary separation at each period (Kepler's third law).
     separation_rg : ndarray (nP,)
         Separation in gravitational radii G M / c^2.
+    isco_frequency : Quantity [Hz]
+        GW frequency at the innermost stable circular orbit of mass M.
     hardening_period : Quantity (nq,) [yr] or None
         Period at the hardening radius for each q when the host has a
         velocity dispersion.
@@ -112,8 +129,78 @@ class ExclusionMap(FromCurve):
         S/N threshold (noise budgets).
     """
 
-    def __init__(self, **fields):
-        self.__dict__.update(fields)
+    host: Host
+    curve: object
+    mass_ratio: np.ndarray
+    period: u.Quantity
+    frequency: u.Quantity
+    excluded: np.ndarray
+    region: np.ndarray
+    h0_threshold: np.ndarray
+    eta_min: np.ndarray
+    max_mass_ratio: np.ndarray
+    chirp_mass_ratio: np.ndarray
+    companion_mass: u.Quantity
+    separation: u.Quantity
+    separation_rg: np.ndarray
+    isco_frequency: u.Quantity
+    hardening_period: u.Quantity | None
+    span: u.Quantity
+    snr: float
+
+    def __repr__(self):
+        best = self.tightest()
+        bound = ("nothing " + self.verb if best is None else
+                 f"q > {best[1]:.3g} {self.verb} at P = {best[0].to_value(u.yr):.3g} yr")
+        return (f"ExclusionMap({self.host.name!r}, {self.label}, grid {self.mass_ratio.size} q "
+                f"x {self.period.size} P;\n  tightest: {bound})")
+
+    def to_table(self, meta=None):
+        """One row per period: the bound on companions of the host.
+
+        Calls :func:`ptaconstrain.report.tables.exclusion_table`.  Columns:
+        ``period`` [yr], ``f_gw`` [Hz], ``h0_threshold``, ``max_mass_ratio``,
+        ``companion_mass`` [solMass], ``separation`` [pc], ``separation_rg``
+        [G M / c^2], ``chirp_mass_ratio``, ``constrained``.
+
+        Parameters
+        ----------
+        meta : dict, optional
+            Provenance to store in the table meta.
+
+        Returns
+        -------
+        astropy.table.QTable
+        """
+        from ..report.tables import exclusion_table
+
+        return exclusion_table(self, meta=meta)
+
+    def plot(self, ax=None):
+        """The map: regions shaded, the bound drawn, q against P on log axes.
+
+        Parameters
+        ----------
+        ax : matplotlib Axes, optional
+            Draw into this Axes; default a new Figure.
+
+        Returns
+        -------
+        matplotlib.figure.Figure
+        """
+        from ..report.figures import exclusion_figure
+
+        return exclusion_figure(self, ax=ax)
+
+    @property
+    def is_limit(self):
+        """True for an exclusion (upper limit), False for a forecast (noise budget)."""
+        return self.curve.is_limit
+
+    @property
+    def verb(self):
+        """'excluded' or 'detectable'."""
+        return self.curve.verb
 
     @property
     def label(self):
@@ -159,7 +246,33 @@ class ExclusionMap(FromCurve):
         return float(np.mean(self.region == code))
 
 
-def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None):
+def sensitivity_for(host, curve):
+    """The curve to compare with ``host``.
+
+    A plain curve is returned as it is; a positional sensitivity (an object
+    with ``curve_at(coord)``: a pulsar array or a sky map of limits) is asked
+    for its curve at the host's position, or for the sky average, with a
+    :class:`~ptaconstrain.errors.PtaconstrainWarning`, when the host has none.
+
+    Parameters
+    ----------
+    host : Host
+    curve : StrainCurve or PositionalSensitivity
+
+    Returns
+    -------
+    StrainCurve
+    """
+    if not hasattr(curve, "curve_at"):
+        return curve
+    if host.coord is None:
+        warnings.warn(f"host {host.name!r} has no sky position, so the sky-averaged "
+                      "sensitivity is used", PtaconstrainWarning, stacklevel=3)
+    return curve.curve_at(host.coord)
+
+
+def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None, *,
+                  warn=True):
     """Which circular companions of ``host`` the sensitivity ``curve`` rules out.
 
     Parameters
@@ -178,20 +291,42 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None)
         S/N threshold, used only for noise budgets.
     span : Quantity [time], optional
         Observing span; default the curve's ``span`` meta (else 1/f_min).
+    warn : bool
+        Emit a :class:`~ptaconstrain.errors.PtaconstrainWarning` for each soft
+        assumption: the sky average used for a host without a position, the
+        orientation-averaged S/N of a noise budget (the inclination is unknown).
+        :func:`ptaconstrain.analysis.probability.exclusion_probability` turns
+        this off for the best-fit map it builds and reports its own.
 
     Returns
     -------
     ExclusionMap
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from ptaconstrain.binary import Host
+    >>> from ptaconstrain.sensitivity.curve import StrainCurve
+    >>> f = np.geomspace(2e-9, 3e-7, 60) * u.Hz
+    >>> limit = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit",
+    ...                     {"confidence": 0.95, "span": "15 yr"})  # an invented limit
+    >>> exclusion_map(Host("Example", 2e10, 50), limit)
+    ExclusionMap('Example', 95% upper limit, grid 300 q x 300 P;
+      tightest: q > 0.00717 excluded at P = 31.6 yr)
     """
-    if hasattr(curve, "curve_at"):
-        curve = curve.curve_at(host.coord)
+    curve = sensitivity_for(host, curve) if warn else (
+        curve.curve_at(host.coord) if hasattr(curve, "curve_at") else curve)
+    if warn and not curve.is_limit:
+        warnings.warn(f"host {host.name!r}: the forecast uses the orientation-averaged S/N, "
+                      "as the binary's inclination is unknown", PtaconstrainWarning,
+                      stacklevel=2)
     q = default_mass_ratios() if mass_ratio is None else np.asarray(mass_ratio, dtype=float)
     q = np.atleast_1d(q)
     eta = wf.symmetric_mass_ratio(q)  # validates q
-    period = default_periods(curve) if period is None else u.Quantity(period, u.yr)
-    period = np.atleast_1d(period).to(u.yr)
-    if not np.all(np.isfinite(period.value)) or np.any(period.value <= 0):
-        raise ValueError("period: must be finite and positive")
+    if period is None:
+        period = default_periods(curve)
+    period = np.atleast_1d(positive(quantity(period, u.yr, "period"), "period"))
     span = curve.observing_span(span)
     f = wf.gw_frequency(period)
     m, d, z = host.mass, host.distance, host.redshift
@@ -221,7 +356,7 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None)
     qmax = np.where(unconstrained | above_isco, np.nan, qmax)
     qchirp = np.where(eta_chirp >= 0.25, np.nan, wf.mass_ratio_from_eta(eta_chirp))
     sep = wf.separation(m, period, z)
-    r_g = (wf._G * m / wf._C**2).to(u.pc)
+    r_g = wf.gravitational_radius(m)
 
     hard = None
     if host.velocity_dispersion is not None:
@@ -249,6 +384,3 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None)
         snr=float(snr),
     )
 
-
-# Uncertainty-aware maps live in their own module; re-exported here for users.
-from .probability import exclusion_probability  # noqa: E402  (defined after ExclusionMap)

@@ -2,8 +2,8 @@
 
 A black-hole mass is known to 0.1-0.3 dex and a distance to 5-20 %, and the
 two are correlated when the mass is dynamical (it scales linearly with the
-distance adopted for it).  This module draws Monte-Carlo samples of the host
-(:func:`sample_host`) and turns them into the probability that each (q, P)
+distance adopted for it).  This module turns Monte-Carlo samples of the host
+(:func:`ptaconstrain.analysis.sampling.sample_host`) into the probability that each (q, P)
 cell is excluded -- or, for a noise budget, detectable -- and into credible
 bounds on the mass ratio (:func:`exclusion_probability`).
 
@@ -32,272 +32,45 @@ probability NaN, as in the deterministic map.  The chirping flag does not
 change ``excluded`` in the deterministic map and does not enter here either.
 """
 
+import warnings
+from dataclasses import dataclass, replace
+
 import numpy as np
-from astropy import constants as const
 from astropy import units as u
 
 from ..binary import waveform as wf
-from ..sensitivity.curve import ORIENTATION_MEAN, FromCurve
+from ..errors import InputError, PtaconstrainWarning
+from .exclusion import ExclusionMap, exclusion_map, sensitivity_for
+from .isco_counts import IscoCounts, kth_largest_rank
+from .sampling import HostSamples, sample_host
 
 __all__ = [
-    "HostSamples",
     "ProbabilityMap",
-    "sample_host",
     "exclusion_probability",
-    "orientation_factor",
-    "distance_sigma",
     "DEFAULT_CREDIBILITY",
 ]
 
 DEFAULT_CREDIBILITY = (0.5, 0.9, 0.95)
-_PERCENTILES = (16.0, 50.0, 84.0)
 
 
-def orientation_factor(cos_inclination):
-    """S/N^2 of an inclined binary relative to the orientation average.
-
-    With h+ = h0 (1 + cos^2 i) cos Phi and hx = 2 h0 cos i sin Phi (the
-    quadrupole polarisations for the PTA h0, see
-    :func:`ptaconstrain.binary.waveform.strain_amplitude`) the polarisation-averaged
-    S/N^2 is proportional to (1 + cos^2 i)^2 + 4 cos^2 i, whose mean over
-    isotropic inclination is 16/5 (:data:`ptaconstrain.sensitivity.curve.ORIENTATION_MEAN`),
-    the convention of :func:`ptaconstrain.sensitivity.curve.detection_threshold_h0`.  So a
-    binary of inclination i has rho^2 = g(i) x (16/5) h0^2 T / S_n with
-
-        g(i) = [(1 + cos^2 i)^2 + 4 cos^2 i] / (16/5),
-
-    from 0.3125 (edge-on) to 2.5 (face-on), mean 1.
-
-    Parameters
-    ----------
-    cos_inclination : float or array in [-1, 1]
-
-    Returns
-    -------
-    ndarray, dimensionless.
-    """
-    c2 = np.asarray(cos_inclination, dtype=float) ** 2
-    return ((1.0 + c2) ** 2 + 4.0 * c2) / ORIENTATION_MEAN
-
-
-def distance_sigma(host):
-    """One-sigma Gaussian error of the host's luminosity distance.
-
-    Combines, in quadrature (independent errors), ``host.distance_err`` and
-    the distance error implied by ``host.velocity_err``.  A peculiar velocity
-    v shifts the observed redshift by d(1+z) = (1+z) v / c, so with
-    D_L = (1+z) D_C and dD_C/dz = c / H(z) (Hogg 1999, astro-ph/9905116,
-    eqs. 15, 21)
-
-        sigma_D = (1+z) (sigma_v / c) [D_L / (1+z) + (1+z) c / H(z)],
-
-    which is the Hubble-law sigma_v / H0 at z << 1 (D ~ c z / H0).  The host's
-    cosmology supplies H(z).
-
-    Parameters
-    ----------
-    host : Host
-
-    Returns
-    -------
-    Quantity [Mpc] (zero when the host has no distance error).
-    """
-    var = 0.0 * u.Mpc**2
-    if host.distance_err is not None:
-        var = var + host.distance_err.to(u.Mpc) ** 2
-    if host.velocity_err is not None and host.velocity_err.value > 0:
-        z = host.redshift
-        c = const.c.to(u.km / u.s)
-        hz = host.cosmology.H(z)
-        dd_dz = host.distance / (1.0 + z) + (1.0 + z) * c / hz
-        sig = ((1.0 + z) * host.velocity_err / c * dd_dz).to(u.Mpc)
-        var = var + sig**2
-    return np.sqrt(var).to(u.Mpc)
-
-
-def _split_normal_dex(z, err_dex):
-    """Map standard normals ``z`` to a two-piece normal offset in dex.
-
-    An asymmetric error -lo/+hi is read as the 16th/84th percentiles around
-    the median (common practice for quoted asymmetric errors): the offset is
-    z * lo for z < 0 and z * hi for z >= 0, so each side holds half of the
-    probability, the median is the quoted value and the 15.87 % / 84.13 %
-    points are exactly -lo / +hi.  Equal errors give the usual log-normal.
-    """
-    if err_dex is None:
-        return np.zeros_like(z)
-    lo, hi = err_dex
-    return np.where(z < 0.0, z * lo, z * hi)
-
-
-def _truncated_normal(uniform, mean, sigma):
-    """Inverse-CDF draw of a normal truncated to positive values.
-
-    Non-positive distances are unphysical, so the Gaussian distance error is
-    truncated at zero (not clipped): D = mean + sigma * Phi^-1(a + x (1 - a))
-    with a = Phi(-mean / sigma) and x uniform in [0, 1).  For the usual
-    fractional errors (< 30 %) a < 1e-3 and the truncation is immaterial.
-    """
-    from scipy import special
-
-    a = special.ndtr(-mean / sigma)
-    return mean + sigma * special.ndtri(a + uniform * (1.0 - a))
-
-
-class HostSamples:
-    """Monte-Carlo samples of a host's mass, distance and orientation.
-
-    Attributes
-    ----------
-    n : int
-    seed : int
-        Seed of ``numpy.random.default_rng`` that produced the samples.
-    mass : Quantity (n,) [solMass]
-        Total mass at the sampled distance.
-    distance : Quantity (n,) [Mpc]
-        Luminosity distance.
-    redshift : float
-        Held at the host's redshift (a peculiar velocity changes (1+z) by
-        ~1e-3, which is neglected in the strain).
-    cos_inclination, polarisation : ndarray (n,) or None
-        Drawn isotropically (cos i uniform in [-1, 1], psi uniform in
-        [0, pi)) when ``orientation`` is set.  For a curve whose S_n is
-        averaged over polarisation (the convention of
-        :func:`ptaconstrain.sensitivity.curve.detection_threshold_h0`, sky-averaged or at
-        a fixed position) psi does not change the S/N; it is kept for
-        provenance and for position-resolved uses.
-    strain_prefactor : Quantity (n,) [Hz^(-2/3)]
-        S of :func:`ptaconstrain.binary.waveform.strain_prefactor` per sample.
-    orientation_factor : ndarray (n,) or None
-        g of :func:`orientation_factor` per sample.
-    isco_frequency : Quantity (n,) [Hz]
-    """
-
-    def __init__(self, **fields):
-        self.__dict__.update(fields)
-
-    def log_scale(self, reference):
-        """ln(S_s sqrt(g_s) / reference), the per-sample scalar of the algorithm.
-
-        Parameters
-        ----------
-        reference : Quantity [Hz^(-2/3)]
-            Usually the best-fit host's strain prefactor.
-
-        Returns
-        -------
-        ndarray (n,).
-        """
-        ratio = (self.strain_prefactor / reference).to_value(u.dimensionless_unscaled)
-        out = np.log(ratio)
-        if self.orientation_factor is not None:
-            out = out + 0.5 * np.log(self.orientation_factor)
-        return out
-
-    def summary(self):
-        """16th/50th/84th percentiles of mass, distance, S (and g if drawn).
-
-        Returns
-        -------
-        dict name -> Quantity or ndarray of three values (16, 50, 84 %).
-        """
-        out = {
-            "mass": np.percentile(self.mass, _PERCENTILES),
-            "distance": np.percentile(self.distance, _PERCENTILES),
-            "strain_prefactor": np.percentile(self.strain_prefactor, _PERCENTILES),
-        }
-        if self.orientation_factor is not None:
-            out["orientation_factor"] = np.percentile(self.orientation_factor, _PERCENTILES)
-        return out
-
-
-def sample_host(host, n=100_000, seed=None, orientation=False):
-    """Draw Monte-Carlo samples of the host's mass, distance and orientation.
-
-    * Distance: Gaussian with sigma from :func:`distance_sigma` (distance
-      error and/or peculiar-velocity error), truncated to D > 0.
-    * Mass: log-normal in dex around ``host.mass_at(D_s)``, two-piece for
-      asymmetric errors (see ``_split_normal_dex``).  When the host's mass was
-      measured at ``mass_distance`` each sample's mass scales linearly with
-      its distance, M_s = M_quoted (D_s / D_ref) 10^eps, so that
-      h0 ~ M^(5/3) / D ~ D^(2/3) (dynamical masses scale with distance).
-    * Orientation (``orientation=True``): cos i uniform in [-1, 1], psi
-      uniform in [0, pi).
-
-    The draws are made in a fixed order (mass normals, distance uniforms,
-    then orientation) from ``numpy.random.default_rng(seed)``, so a seed
-    reproduces the samples exactly.
-
-    Parameters
-    ----------
-    host : Host
-    n : int
-        Number of samples (>= 1).
-    seed : int, optional
-        Default: a fresh seed from ``numpy.random.SeedSequence``, recorded in
-        the result so that the run can be repeated.
-    orientation : bool
-        Draw inclination and polarisation (for noise budgets).
-
-    Returns
-    -------
-    HostSamples
-    """
-    n = int(n)
-    if n < 1:
-        raise ValueError(f"samples: need at least 1 sample, got {n}")
-    if seed is None:
-        seed = int(np.random.SeedSequence().generate_state(1)[0])  # 32 bits: easy to quote
-    try:
-        seed = int(seed)
-    except (TypeError, ValueError) as err:
-        raise ValueError(f"seed: must be an integer, got {seed!r}") from err
-    if seed < 0:
-        raise ValueError(f"seed: must be >= 0, got {seed}")
-    rng = np.random.default_rng(seed)
-    z_mass = rng.standard_normal(n)
-    x_dist = rng.random(n) + 2.0**-54  # in (0, 1): never exactly 0 (D = 0) or 1
-    d0 = host.distance.to(u.Mpc)
-    sig = distance_sigma(host)
-    if sig.value > 0:
-        d = _truncated_normal(x_dist, d0.value, sig.to_value(u.Mpc)) * u.Mpc
-    else:
-        d = np.full(n, d0.value) * u.Mpc
-    eps = _split_normal_dex(z_mass, host.mass_err_dex)
-    m = host.mass_at(d).to(u.Msun) * 10.0**eps
-    cos_i = psi = g = None
-    if orientation:
-        cos_i = rng.uniform(-1.0, 1.0, n)
-        psi = rng.uniform(0.0, np.pi, n)
-        g = orientation_factor(cos_i)
-    z = host.redshift
-    return HostSamples(
-        n=n,
-        seed=seed,
-        mass=m,
-        distance=d,
-        redshift=z,
-        cos_inclination=cos_i,
-        polarisation=psi,
-        orientation_factor=g,
-        strain_prefactor=wf.strain_prefactor(m, d, z),
-        isco_frequency=wf.isco_frequency(m, z),
-    )
-
-
-class ProbabilityMap(FromCurve):
+@dataclass(frozen=True, eq=False)
+class ProbabilityMap:
     """Result of :func:`exclusion_probability`; 2-D arrays are indexed [q, P].
 
     Attributes
     ----------
     mass_ratio : ndarray (nq,)
+        Mass ratios q = m2/m1 of the grid.
     period : Quantity (nP,) [yr]
+        Orbital periods, observer frame.
     frequency : Quantity (nP,) [Hz]
+        GW frequency f = 2/P.
     probability : ndarray (nq, nP)
         Fraction of samples in which the cell is excluded (upper limit) or
         detectable (noise budget); NaN outside the curve's band and where
         every sample is above the ISCO.
     credibility : tuple of float
+        Levels of the credible bounds.
     max_mass_ratio : dict {credibility: ndarray (nP,)}
         q_c(P): mass ratios above q_c are excluded with probability >= c,
         those below are not.  1 where even q = 1 is not excluded with
@@ -307,24 +80,100 @@ class ProbabilityMap(FromCurve):
     deterministic : ExclusionMap
         The best-fit map, for comparison.
     samples : HostSamples
+        The draws used (:func:`ptaconstrain.analysis.sampling.sample_host`).
     summary : dict
-        :meth:`HostSamples.summary`.
+        :meth:`HostSamples.summary`: 16/50/84 % of mass [solMass], distance [Mpc], ...
     seed : int
+        Seed of the draws.
     n_samples : int
+        Number of samples.
     orientation : bool
         Whether inclination was sampled (noise budgets).
     """
 
-    def __init__(self, **fields):
-        self.__dict__.update(fields)
+    mass_ratio: np.ndarray
+    period: u.Quantity
+    frequency: u.Quantity
+    probability: np.ndarray
+    credibility: tuple
+    max_mass_ratio: dict
+    above_isco_fraction: np.ndarray
+    deterministic: ExclusionMap
+    samples: HostSamples
+    summary: dict
+    seed: int
+    n_samples: int
+    orientation: bool
 
     @property
     def host(self):
+        """The host (of the best-fit map)."""
         return self.deterministic.host
 
     @property
     def curve(self):
+        """The sensitivity curve (of the best-fit map)."""
         return self.deterministic.curve
+
+    @property
+    def is_limit(self):
+        """True for an exclusion (upper limit), False for a forecast (noise budget)."""
+        return self.curve.is_limit
+
+    @property
+    def verb(self):
+        """'excluded' or 'detectable'."""
+        return self.curve.verb
+
+    @property
+    def label(self):
+        """e.g. '95% upper limit' or 'forecast, S/N >= 5'."""
+        return self.deterministic.label
+
+    def __repr__(self):
+        top = max(self.credibility)
+        best = self.tightest(top)
+        bound = ("nothing " + self.verb if best is None else
+                 f"q > {best[1]:.3g} {self.verb} at P = {best[0].to_value(u.yr):.3g} yr")
+        return (f"ProbabilityMap({self.host.name!r}, {self.label}, grid {self.mass_ratio.size} q "
+                f"x {self.period.size} P, {self.n_samples} samples, seed {self.seed};\n"
+                f"  tightest at probability >= {top:g}: {bound})")
+
+    def to_table(self, meta=None):
+        """One row per period: best-fit bound plus one credible bound per credibility.
+
+        Calls :func:`ptaconstrain.report.tables.exclusion_table` on the best-fit
+        map with this map; the columns are those of :meth:`ExclusionMap.to_table`
+        plus ``max_mass_ratio_<credibility>`` per credibility level.
+
+        Parameters
+        ----------
+        meta : dict, optional
+            Provenance to store in the table meta.
+
+        Returns
+        -------
+        astropy.table.QTable
+        """
+        from ..report.tables import exclusion_table
+
+        return exclusion_table(self.deterministic, meta=meta, prob_map=self)
+
+    def plot(self, ax=None):
+        """The best-fit map with the credible-bound contours drawn over it.
+
+        Parameters
+        ----------
+        ax : matplotlib Axes, optional
+            Draw into this Axes; default a new Figure.
+
+        Returns
+        -------
+        matplotlib.figure.Figure
+        """
+        from ..report.figures import exclusion_figure
+
+        return exclusion_figure(self.deterministic, ax=ax, prob_map=self)
 
     def tightest(self, credibility):
         """Period of the smallest credible ``max_mass_ratio`` and that ratio, or None.
@@ -371,7 +220,7 @@ def _credibility_key(mapping, credibility):
     for key in mapping:
         if np.isclose(key, credibility, rtol=0, atol=1e-12):
             return key
-    raise ValueError(
+    raise InputError(
         f"credibility: {credibility!r} was not computed; use one of "
         f"{', '.join(f'{c:g}' for c in mapping)}"
     )
@@ -380,7 +229,7 @@ def _credibility_key(mapping, credibility):
 def _check_credibility(credibility):
     levels = tuple(float(c) for c in np.atleast_1d(credibility))
     if not levels or not all(np.isfinite(c) and 0.0 < c <= 1.0 for c in levels):
-        raise ValueError(
+        raise InputError(
             f"credibility: each level must be in (0, 1], e.g. 0.95, got {credibility!r}"
         )
     return levels
@@ -394,63 +243,6 @@ def _min_count(c, n):
     while k / n < c:
         k += 1
     return k
-
-
-class _IscoCounts:
-    """Per-period bookkeeping of the samples that are above the ISCO.
-
-    Sample s is above the ISCO at frequency f iff f > f_ISCO(M_s) (the test
-    of the deterministic map).  With the grid's frequencies sorted, sample s
-    is below the ISCO for the ``b_s`` lowest ones, so for column j of rank
-    r_j the samples above the ISCO are {s : b_s <= r_j}.  Only the "at-risk"
-    samples (b_s < nP, above the ISCO somewhere on the grid) matter, and only
-    in the "partial" columns, where some but not all samples are above the
-    ISCO.  There a prefix count over the at-risk samples ordered by their
-    ln u rank answers "how many are above the ISCO with rank >= x" by one
-    lookup; it is built for a block of columns at a time in one reused buffer
-    of at most ``_BLOCK_CELLS`` entries (16 MB), a loop over column blocks
-    (about 8 for 10^5 at-risk samples and 300 periods) that bounds memory.
-    """
-
-    _BLOCK_CELLS = 4_000_000
-
-    def __init__(self, f_grid, f_isco, rank):
-        n = f_isco.size
-        order = np.argsort(f_grid, kind="stable")
-        r = np.empty(f_grid.size, dtype=np.intp)
-        r[order] = np.arange(f_grid.size)
-        b = np.searchsorted(f_grid[order], f_isco, side="right")
-        self.n = n
-        self.n_above = np.searchsorted(np.sort(b), r, side="right")  # #(b_s <= r_j)
-        self.partial = np.flatnonzero((self.n_above > 0) & (self.n_above < n))
-        self.rows = r[self.partial]
-        risk = np.flatnonzero(b < f_grid.size)
-        by_rank = np.argsort(rank[risk], kind="stable")
-        self.risk_rank = rank[risk][by_rank]  # ascending ln u ranks of at-risk samples
-        self.risk_b = b[risk][by_rank]
-
-    def blocks(self):
-        """Yield (column slice into ``partial``, above(p, x) function) per block."""
-        width = self.risk_b.size + 1
-        per = max(1, self._BLOCK_CELLS // width)
-        dtype = np.int64 if per * width >= np.iinfo(np.int32).max else np.int32
-        buf = np.zeros(min(per, self.rows.size) * width, dtype=dtype)
-        for lo in range(0, self.rows.size, per):
-            rows = self.rows[lo:lo + per]
-            pre = buf[: rows.size * width].reshape(rows.size, width)
-            # pre[p, k] = #{k' < k : b_k' <= r_p}, as one flat cumulative sum
-            # (numpy's 1-D cumsum is fast) from which each row's start is removed.
-            pre[:, 0] = 0
-            np.less_equal(self.risk_b[None, :], rows[:, None], out=pre[:, 1:],
-                          casting="unsafe")
-            np.cumsum(pre.reshape(-1), out=pre.reshape(-1))
-            total = self.n_above[self.partial[lo:lo + per]] + pre[:, 0]
-
-            def above(p, x, pre=pre, total=total):
-                k = np.searchsorted(self.risk_rank, x, side="left")
-                return total[p] - pre[p, k]
-
-            yield slice(lo, lo + rows.size), above
 
 
 def exclusion_probability(
@@ -472,8 +264,11 @@ def exclusion_probability(
     ----------
     host : Host
         Its mass error (dex), distance error, peculiar-velocity error and
-        reference distance of the mass are propagated (:func:`sample_host`).
+        reference distance of the mass are propagated
+        (:func:`ptaconstrain.analysis.sampling.sample_host`, which warns when
+        the host has no mass or distance error).
     curve : StrainCurve, or an object with ``curve_at(coord)``
+        As in :func:`ptaconstrain.analysis.exclusion.exclusion_map`.
     mass_ratio : array, optional
         Default as :func:`ptaconstrain.analysis.exclusion.exclusion_map`.
     period : Quantity [time], optional
@@ -498,20 +293,23 @@ def exclusion_probability(
     -------
     ProbabilityMap
     """
-    from . import exclusion
-
     levels = _check_credibility(credibility)
-    det = exclusion.exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span)
+    curve = sensitivity_for(host, curve)
+    det = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span, warn=False)
     if orientation is None:
         orientation = not det.is_limit
+    elif not orientation and not det.is_limit:
+        warnings.warn(f"host {host.name!r}: the forecast uses the orientation-averaged S/N, "
+                      "as orientation sampling was turned off", PtaconstrainWarning,
+                      stacklevel=2)
     if isinstance(samples, HostSamples):
         draws = samples
         if orientation and draws.orientation_factor is None:
-            raise ValueError("samples: these were drawn without orientation; redraw with it")
+            raise InputError("samples: these were drawn without orientation; redraw with it")
     else:
         draws = sample_host(host, samples, seed=seed, orientation=bool(orientation))
     if not orientation:
-        draws = HostSamples(**{**draws.__dict__, "orientation_factor": None})
+        draws = replace(draws, orientation_factor=None)
 
     s0 = wf.strain_prefactor(host.mass, host.distance, host.redshift)
     log_u = draws.log_scale(s0)
@@ -522,7 +320,7 @@ def exclusion_probability(
     n = draws.n
 
     f = det.frequency.to_value(u.Hz)
-    isco = _IscoCounts(f, draws.isco_frequency.to_value(u.Hz), rank)
+    isco = IscoCounts(f, draws.isco_frequency.to_value(u.Hz), rank)
     log_eta = np.log(wf.symmetric_mass_ratio(det.mass_ratio))
     with np.errstate(invalid="ignore"):
         log_eta_min = np.log(det.eta_min)
@@ -537,7 +335,7 @@ def exclusion_probability(
         p = np.arange(j.size)
         count[:, j] -= above(p[None, :], x[:, j])
         for c, k in ks.items():
-            xk[c][j] = _kth_largest_rank(above, p, n, k)
+            xk[c][j] = kth_largest_rank(above, p, n, k)
     nothing = np.isnan(det.eta_min) | (isco.n_above == n)
     prob = count / n
     prob[:, nothing] = np.nan
@@ -567,24 +365,3 @@ def exclusion_probability(
         n_samples=n,
         orientation=bool(orientation),
     )
-
-
-def _kth_largest_rank(above, p, n, k):
-    """Per partial column ``p``, the largest rank x with #(below ISCO, rank >= x) >= k.
-
-    Vectorised bisection over the columns (about log2 n steps); a column
-    with fewer than k samples below the ISCO returns -1.
-    """
-
-    def existing(x):
-        return (n - x) - above(p, x)
-
-    lo = np.zeros(p.size, dtype=np.intp)
-    hi = np.full(p.size, n - 1, dtype=np.intp)
-    ok0 = existing(lo) >= k
-    while np.any(lo < hi):
-        mid = (lo + hi + 1) // 2
-        ok = existing(mid) >= k
-        lo = np.where(ok, mid, lo)
-        hi = np.where(ok, hi, mid - 1)
-    return np.where(ok0, lo, -1)

@@ -1,0 +1,44 @@
+"""The binary and its host: every binary formula once (waveform), and the host galaxy (Host).
+
+Imports nothing from :mod:`ptaconstrain.sensitivity`; :mod:`ptaconstrain.analysis`
+combines the two.
+"""
+
+from .host import Host, hosts_from_table
+from .waveform import (
+    chirp_mass,
+    coalescence_time,
+    frequency_derivative,
+    gravitational_radius,
+    gw_frequency,
+    hardening_radius,
+    is_chirping,
+    isco_frequency,
+    mass_ratio_from_eta,
+    orbital_period,
+    period_at_separation,
+    separation,
+    strain_amplitude,
+    strain_prefactor,
+    symmetric_mass_ratio,
+)
+
+__all__ = [
+    "Host",
+    "hosts_from_table",
+    "symmetric_mass_ratio",
+    "mass_ratio_from_eta",
+    "chirp_mass",
+    "strain_amplitude",
+    "strain_prefactor",
+    "gw_frequency",
+    "orbital_period",
+    "separation",
+    "isco_frequency",
+    "frequency_derivative",
+    "coalescence_time",
+    "is_chirping",
+    "hardening_radius",
+    "period_at_separation",
+    "gravitational_radius",
+]

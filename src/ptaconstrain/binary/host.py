@@ -10,96 +10,18 @@ host's redshift), so that h0 scales as D^(2/3) for a fixed angular measurement.
 import numpy as np
 from astropy import units as u
 
-__all__ = ["Host", "as_quantity", "hosts_from_table", "parse_coord", "MASS_RANGE"]
+from .._inputs import (
+    check_distance,
+    check_mass,
+    check_redshift,
+    coord_from,
+    positive,
+    quantity,
+)
+from ..cosmo import get_cosmology, luminosity_distance_at, redshift_at
+from ..errors import InputError
 
-#: Plausible total black-hole masses [solMass]; anything outside is a unit slip.
-MASS_RANGE = (1e3, 1e13)
-
-
-def as_quantity(value, unit, field):
-    """Return ``value`` as a Quantity in ``unit``; bare numbers are read in ``unit``.
-
-    Parameters
-    ----------
-    value : Quantity, number or str
-        A string such as ``"2e10 solMass"`` is parsed by astropy.
-    unit : astropy unit
-    field : str
-        Named in the error message.
-
-    Returns
-    -------
-    Quantity in ``unit`` (scalar or array).
-
-    Raises
-    ------
-    ValueError
-        If the value cannot be read or has the wrong physical type.
-    """
-    try:
-        q = u.Quantity(value)
-        if q.unit == u.dimensionless_unscaled and not _has_unit(value):
-            q = q.value * unit
-        q = q.to(unit)
-    except (TypeError, ValueError, u.UnitsError) as err:
-        raise ValueError(
-            f"{field}: cannot read {value!r} as a {unit.physical_type} "
-            f"(give a number in {unit} or a value with units, e.g. '1 {unit}')"
-        ) from err
-    if not np.all(np.isfinite(q.value)):
-        raise ValueError(f"{field}: must be finite, got {value!r}")
-    return q
-
-
-def _has_unit(value):
-    if isinstance(value, u.Quantity):
-        return value.unit != u.dimensionless_unscaled
-    return isinstance(value, str) and any(c.isalpha() for c in value.replace("e", ""))
-
-
-def _positive(q, field):
-    if np.any(q.value <= 0):
-        raise ValueError(f"{field}: must be positive, got {q}")
-    return q
-
-
-def parse_coord(coord, ra, dec):
-    """A SkyCoord from ``coord`` or from RA/Dec (strings or degrees); None if none given.
-
-    Raises
-    ------
-    ValueError
-        Naming the sky position and the accepted forms.
-    """
-    if coord is None and ra is None and dec is None:
-        return None
-    from astropy.coordinates import SkyCoord
-
-    if coord is not None:
-        if isinstance(coord, SkyCoord):
-            return coord
-        try:
-            return SkyCoord(coord)
-        except (ValueError, TypeError, u.UnitsError) as err:
-            raise ValueError(f"sky position: cannot read {coord!r} ({err})") from err
-    if ra is None or dec is None:
-        raise ValueError("sky position: give both RA and Dec, or neither")
-    ra_unit = u.hourangle if isinstance(ra, str) and any(c in ra for c in "h: ") else u.deg
-    for value, lo, hi, what in ((ra, 0.0, 360.0, "RA"), (dec, -90.0, 90.0, "Dec")):
-        try:
-            x = float(value)
-        except (TypeError, ValueError):
-            continue  # sexagesimal strings are checked by SkyCoord
-        if not (lo <= x <= hi) or (what == "RA" and x == hi) or not np.isfinite(x):
-            raise ValueError(f"sky position: {what} = {value!r} deg is outside "
-                             f"[{lo:g}, {hi:g}{')' if what == 'RA' else ']'}: check it")
-    try:
-        return SkyCoord(ra, dec, unit=(ra_unit, u.deg), frame="icrs")
-    except (ValueError, TypeError, u.UnitsError) as err:
-        raise ValueError(
-            f"sky position: cannot read RA={ra!r}, Dec={dec!r} "
-            "(use e.g. '12h30m49s' '+12d23m28s' or degrees)"
-        ) from err
+__all__ = ["Host", "hosts_from_table"]
 
 
 class Host:
@@ -130,17 +52,47 @@ class Host:
         Distance at which ``mass`` was measured; the mass is rescaled
         linearly to the adopted distance.
     coord : astropy.coordinates.SkyCoord or str, optional
-    ra, dec : str or float (deg), optional
-        Alternative to ``coord``.
+    ra, dec : str or float, optional
+        Alternative to ``coord``.  Numbers are degrees; strings are degrees
+        unless sexagesimal (then RA is in hours), see
+        :func:`ptaconstrain._inputs.coord_from`.
     velocity_dispersion : Quantity [speed] or number (km/s), optional
         Central stellar velocity dispersion sigma.
     cosmology : astropy.cosmology.Cosmology, optional
-        Default Planck18.
+        Default: astropy's default cosmology at the time the host is made
+        (``astropy.cosmology.default_cosmology``, Planck18 unless changed).
+
+    Attributes
+    ----------
+    name : str
+    mass_quoted : Quantity [solMass]
+        The mass as given (at ``mass_distance`` if that is set).
+    distance : Quantity [Mpc]
+        Adopted luminosity distance.
+    redshift : float
+        Cosmological redshift (from the distance when not given).
+    mass_err_dex : (float, float) or None
+        Lower and upper mass error in dex.
+    distance_err : Quantity [Mpc] or None
+    velocity_err : Quantity [km/s] or None
+    mass_distance : Quantity [Mpc] or None
+    coord : SkyCoord (ICRS) or None
+    velocity_dispersion : Quantity [km/s] or None
+    cosmology : astropy.cosmology.Cosmology
 
     Raises
     ------
-    ValueError
-        Naming the field and the reason, for any invalid value.
+    InputError
+        One line naming the field, the value and the fix, for any invalid
+        value: masses outside 1e3-1e13 solMass, distances outside 0.1 Mpc to
+        the distance of z = 10, redshifts outside 0-10, wrong units.
+
+    Examples
+    --------
+    >>> from astropy.cosmology import Planck18
+    >>> h = Host("Example", "2e10 solMass", 95, ra="187.7", dec="12.4", cosmology=Planck18)
+    >>> round(float(h.coord.ra.deg), 6), round(h.redshift, 4)
+    (187.7, 0.0211)
     """
 
     def __init__(
@@ -164,34 +116,30 @@ class Host:
     ):
         self.name = str(name).strip()
         if not self.name:
-            raise ValueError("name: must not be empty")
-        self._cosmology = cosmology
-        self.mass_quoted = _positive(as_quantity(mass, u.Msun, "mass"), "mass")
-        if not MASS_RANGE[0] <= self.mass_quoted.to_value(u.Msun) <= MASS_RANGE[1]:
-            raise ValueError(
-                f"mass: {self.mass_quoted:.3g} is outside {MASS_RANGE[0]:.0e}-"
-                f"{MASS_RANGE[1]:.0e} solMass for a massive black hole: check the units")
+            raise InputError("name: must not be empty; give the host a name")
+        self.cosmology = get_cosmology(cosmology)
+        self.mass_quoted = _scalar(check_mass(mass, "mass"), "mass")
         if distance is None and redshift is None:
-            raise ValueError("distance: give a luminosity distance or a redshift")
-        self.distance = None
-        self.redshift = None
-        if redshift is not None:
-            z = float(redshift)
-            if not np.isfinite(z) or z < 0:
-                raise ValueError(f"redshift: must be finite and >= 0, got {redshift!r}")
-            self.redshift = z
+            raise InputError("distance: give a luminosity distance (bare numbers are Mpc) "
+                             "or a redshift")
+        self.redshift = None if redshift is None else _scalar(check_redshift(redshift),
+                                                              "redshift")
         if distance is not None:
-            self.distance = _positive(as_quantity(distance, u.Mpc, "distance"), "distance")
-        if self.distance is None:
+            self.distance = _scalar(check_distance(distance, "distance", self.cosmology),
+                                    "distance")
+        else:
             if self.redshift == 0:
-                raise ValueError("redshift: must be > 0 when no distance is given")
-            self.distance = self.cosmology.luminosity_distance(self.redshift).to(u.Mpc)
+                raise InputError("redshift: must be > 0 when no distance is given; give "
+                                 "the distance instead")
+            self.distance = check_distance(
+                luminosity_distance_at(self.redshift, self.cosmology), "redshift",
+                self.cosmology)
         if self.redshift is None:
-            self.redshift = _redshift_of(self.distance, self.cosmology)
+            self.redshift = redshift_at(self.distance, self.cosmology)
         elif distance is not None and self.redshift > 0:
-            d_z = self.cosmology.luminosity_distance(self.redshift).to(u.Mpc)
+            d_z = luminosity_distance_at(self.redshift, self.cosmology)
             if not 1 / 1.5 < (self.distance / d_z).value < 1.5:
-                raise ValueError(
+                raise InputError(
                     f"redshift: z = {self.redshift:g} means D_L = {d_z:.4g}, far from the "
                     f"distance {self.distance:.4g} given: drop one of them or correct it")
 
@@ -199,34 +147,25 @@ class Host:
         self.distance_err = _distance_sigma(self.distance, distance_err, distance_err_frac)
         self.velocity_err = None
         if velocity_err is not None:
-            self.velocity_err = as_quantity(velocity_err, u.km / u.s, "velocity_err")
-            if self.velocity_err.value < 0:
-                raise ValueError("velocity_err: must be >= 0")
+            self.velocity_err = _scalar(positive(
+                quantity(velocity_err, u.km / u.s, "velocity_err"), "velocity_err",
+                allow_zero=True), "velocity_err")
             if distance is not None:
-                raise ValueError(
+                raise InputError(
                     "velocity_err: a peculiar-velocity error applies to a redshift distance; "
                     "give the redshift without a distance, or a distance error instead")
         self.mass_distance = None
         if mass_distance is not None:
-            self.mass_distance = _positive(
-                as_quantity(mass_distance, u.Mpc, "mass_distance"), "mass_distance"
-            )
-        self.coord = parse_coord(coord, ra, dec)
+            self.mass_distance = _scalar(
+                check_distance(mass_distance, "mass_distance", self.cosmology), "mass_distance")
+        self.coord = coord_from(coord, ra, dec)
+        if self.coord is not None and not self.coord.isscalar:
+            raise InputError("sky position: give one position for a host")
         self.velocity_dispersion = None
         if velocity_dispersion is not None:
-            self.velocity_dispersion = _positive(
-                as_quantity(velocity_dispersion, u.km / u.s, "velocity_dispersion"),
-                "velocity_dispersion",
-            )
-
-    @property
-    def cosmology(self):
-        """The cosmology used for redshift <-> distance (Planck18 by default)."""
-        if self._cosmology is None:
-            from astropy.cosmology import Planck18
-
-            self._cosmology = Planck18
-        return self._cosmology
+            self.velocity_dispersion = _scalar(positive(
+                quantity(velocity_dispersion, u.km / u.s, "velocity_dispersion"),
+                "velocity_dispersion"), "velocity_dispersion")
 
     @property
     def mass(self):
@@ -284,38 +223,41 @@ class Host:
         )
 
 
-def _redshift_of(distance, cosmology):
-    """Redshift at a luminosity distance (astropy.cosmology.z_at_value)."""
-    from astropy.cosmology import z_at_value
-
-    if distance < 1 * u.Mpc:
-        # Hubble law is exact to < 1e-4 here and z_at_value has no bracket.
-        return float((cosmology.H0 * distance / _c_kms()).to_value(u.dimensionless_unscaled))
-    return float(z_at_value(cosmology.luminosity_distance, distance, zmax=20).value)
+def _scalar(q, field):
+    """Refuse arrays where a host takes one value."""
+    if np.ndim(q) != 0:
+        raise InputError(f"{field}: give one value for a host, got {np.size(q)}")
+    return q
 
 
-def _c_kms():
-    from astropy.constants import c
-
-    return c.to(u.km / u.s)
+def _fraction(value, field):
+    """A dimensionless input (dex or fraction) as floats, via the one policy."""
+    if isinstance(value, u.Quantity) and value.unit == u.dex:
+        value = value.value
+    try:
+        return np.atleast_1d(quantity(value, u.dimensionless_unscaled, field).value)
+    except InputError as err:
+        raise InputError(f"{field}: cannot read {value!r}; give a finite plain number "
+                         "(dex for mass_err_dex, a fraction such as 0.1 otherwise)") from err
 
 
 def _dex_pair(mass_err_dex, mass_err_frac):
     if mass_err_dex is not None and mass_err_frac is not None:
-        raise ValueError("mass error: give mass_err_dex or mass_err_frac, not both")
+        raise InputError("mass error: give mass_err_dex or mass_err_frac, not both")
     if mass_err_frac is not None:
-        frac = float(mass_err_frac)
-        if not np.isfinite(frac) or frac < 0:
-            raise ValueError(f"mass_err_frac: must be finite and >= 0, got {mass_err_frac!r}")
-        sig = frac / np.log(10.0)
+        frac = _fraction(mass_err_frac, "mass_err_frac")
+        if frac.size != 1 or frac[0] < 0:
+            raise InputError(f"mass_err_frac: must be one value >= 0 (e.g. 0.2 for 20%), "
+                             f"got {mass_err_frac!r}")
+        sig = float(frac[0]) / np.log(10.0)
         return (sig, sig)
     if mass_err_dex is None:
         return None
-    pair = np.atleast_1d(np.asarray(mass_err_dex, dtype=float))
+    pair = _fraction(mass_err_dex, "mass_err_dex")
     if pair.size == 1:
         pair = np.repeat(pair, 2)
-    if pair.size != 2 or not np.all(np.isfinite(pair)) or np.any(pair < 0):
-        raise ValueError(
+    if pair.size != 2 or np.any(pair < 0):
+        raise InputError(
             f"mass_err_dex: must be one or two finite values >= 0 (dex), got {mass_err_dex!r}"
         )
     return (float(pair[0]), float(pair[1]))
@@ -323,21 +265,19 @@ def _dex_pair(mass_err_dex, mass_err_frac):
 
 def _distance_sigma(distance, distance_err, distance_err_frac):
     if distance_err is not None and distance_err_frac is not None:
-        raise ValueError("distance error: give distance_err or distance_err_frac, not both")
+        raise InputError("distance error: give distance_err or distance_err_frac, not both")
     if distance_err_frac is not None:
-        frac = float(distance_err_frac)
-        if not np.isfinite(frac) or frac < 0 or frac >= 1:
-            raise ValueError(
+        frac = _fraction(distance_err_frac, "distance_err_frac")
+        if frac.size != 1 or frac[0] < 0 or frac[0] >= 1:
+            raise InputError(
                 f"distance_err_frac: must be in [0, 1) (a fraction, e.g. 0.1 for 10%), "
                 f"got {distance_err_frac!r}"
             )
-        return distance * frac
+        return distance * float(frac[0])
     if distance_err is None:
         return None
-    err = as_quantity(distance_err, u.Mpc, "distance_err")
-    if err.value < 0:
-        raise ValueError("distance_err: must be >= 0")
-    return err
+    err = quantity(distance_err, u.Mpc, "distance_err")
+    return _scalar(positive(err, "distance_err", allow_zero=True), "distance_err")
 
 
 def hosts_from_table(table):
@@ -362,7 +302,7 @@ def hosts_from_table(table):
     if "distance" not in cols and "redshift" not in cols:
         missing.append("distance (or redshift)")
     if missing:
-        raise ValueError(f"host table lacks column(s) {', '.join(missing)}: add them")
+        raise InputError(f"host table lacks column(s) {', '.join(missing)}: add them")
 
     def get(row, col, unit=None):
         if col not in cols:
@@ -386,6 +326,6 @@ def hosts_from_table(table):
                 mass_distance=get(row, "mass_distance", u.Mpc),
                 ra=get(row, "ra", u.deg), dec=get(row, "dec", u.deg),
                 velocity_dispersion=get(row, "sigma", u.km / u.s)))
-        except ValueError as err:
-            raise ValueError(f"host table row {i + 1}: {err}") from err
+        except InputError as err:
+            raise InputError(f"host table row {i + 1}: {err}") from err
     return hosts

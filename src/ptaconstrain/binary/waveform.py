@@ -18,6 +18,8 @@ import numpy as np
 from astropy import constants as const
 from astropy import units as u
 
+from ..errors import InputError
+
 __all__ = [
     "symmetric_mass_ratio",
     "mass_ratio_from_eta",
@@ -33,6 +35,7 @@ __all__ = [
     "is_chirping",
     "hardening_radius",
     "period_at_separation",
+    "gravitational_radius",
 ]
 
 _G = const.G
@@ -42,7 +45,9 @@ _C = const.c
 def _check_mass_ratio(q):
     q = np.asarray(q, dtype=float)
     if not np.all(np.isfinite(q)) or np.any(q <= 0) or np.any(q > 1):
-        raise ValueError("mass_ratio must be finite and in (0, 1] (q = m2/m1 with m2 <= m1)")
+        bad = q[~(np.isfinite(q) & (q > 0) & (q <= 1))].ravel()[0]
+        raise InputError(f"mass_ratio: {bad:g} is not in (0, 1]; give q = m2/m1 with "
+                         "m2 <= m1")
     return q
 
 
@@ -201,6 +206,26 @@ def separation(total_mass, period, redshift=0.0):
     """
     p_rest = period / (1.0 + np.asarray(redshift))
     return np.cbrt(_G * total_mass * p_rest**2 / (4.0 * np.pi**2)).to(u.pc)
+
+
+def gravitational_radius(total_mass):
+    """Gravitational radius r_g = G M / c^2 (half the Schwarzschild radius).
+
+    Parameters
+    ----------
+    total_mass : Quantity [mass]
+
+    Returns
+    -------
+    Quantity [pc].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> round(float(gravitational_radius(1 * u.Msun).to_value(u.km)), 4)
+    1.4766
+    """
+    return (_G * total_mass / _C**2).to(u.pc)
 
 
 def period_at_separation(total_mass, sep, redshift=0.0):

@@ -1,0 +1,62 @@
+"""Every module of analysis/ imports on its own; exclusion and sampling never import
+probability (no cycle); the docstring examples run."""
+
+import ast
+import doctest
+import importlib
+import importlib.util
+import subprocess
+import sys
+
+import pytest
+
+MODULES = [
+    "ptaconstrain.analysis",
+    "ptaconstrain.analysis.exclusion",
+    "ptaconstrain.analysis.sampling",
+    "ptaconstrain.analysis.isco_counts",
+    "ptaconstrain.analysis.probability",
+]
+
+
+@pytest.mark.parametrize("module", MODULES)
+def test_module_imports_alone_in_a_fresh_interpreter(module):
+    code = (f"import sys, {module}; "
+            "bad = [m for m in ('matplotlib', 'healpy') if m in sys.modules]; "
+            "assert not bad, bad")
+    res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         timeout=120)
+    assert res.returncode == 0, res.stderr
+
+
+def _imported_modules(module):
+    """Every module named in an import statement of ``module``'s source (ast)."""
+    with open(importlib.util.find_spec(module).origin) as fh:
+        tree = ast.parse(fh.read())
+    names = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.ImportFrom):
+            names.add("." * node.level + (node.module or ""))
+            names.update("." * node.level + a.name for a in node.names if not node.module)
+        elif isinstance(node, ast.Import):
+            names.update(a.name for a in node.names)
+    return names
+
+
+def test_the_import_scanner_sees_probability_imports():
+    assert ".exclusion" in _imported_modules("ptaconstrain.analysis.probability")
+
+
+@pytest.mark.parametrize("module", ["ptaconstrain.analysis.exclusion",
+                                    "ptaconstrain.analysis.sampling",
+                                    "ptaconstrain.analysis.isco_counts"])
+def test_exclusion_and_sampling_never_import_probability(module):
+    assert not any(name.endswith("probability") for name in _imported_modules(module))
+
+
+def test_exclusion_docstring_example_runs():
+    from astropy.cosmology import Planck18, default_cosmology
+
+    with default_cosmology.set(Planck18):
+        result = doctest.testmod(importlib.import_module("ptaconstrain.analysis.exclusion"))
+    assert result.attempted > 0 and result.failed == 0
