@@ -24,13 +24,8 @@ from astropy import units as u
 from astropy.table import Table
 
 from ptaconstrain.binary import waveform as wf
-from ptaconstrain.catalogue.population import (
-    PopulationModel,
-    band_thresholds,
-    mass_limits,
-    mass_nodes,
-)
-from ptaconstrain.catalogue.ranking import galaxy_metrics, rank_catalog
+from ptaconstrain.catalogue import PopulationModel, galaxy_metrics, rank_catalog
+from ptaconstrain.catalogue.population import band_thresholds, mass_limits, mass_nodes
 from ptaconstrain.data import path as data_file
 from ptaconstrain.sensitivity.curve import load_curve
 

@@ -20,7 +20,8 @@ from astropy.cosmology import Planck18
 from astropy.table import MaskedColumn, Table
 
 from ptaconstrain._files import write_table
-from ptaconstrain.catalogue.relations import shipped_relations
+from ptaconstrain.catalogue import shipped_relations
+from ptaconstrain.cosmo import redshift_at
 
 N = 400
 SEED = 51017
@@ -57,9 +58,7 @@ def make(n=N, seed=SEED):
     t["ra"] = np.round(ra, 5) * u.deg
     t["dec"] = np.round(dec, 5) * u.deg
     by_z = rng.random(n) < 0.10
-    z = Planck18.luminosity_distance  # used only to invert below
-    zs = np.interp(dist, z(np.linspace(1e-4, 0.1, 2000)).to_value(u.Mpc),
-                   np.linspace(1e-4, 0.1, 2000))
+    zs = redshift_at(dist * u.Mpc, Planck18)
     t["distance"] = MaskedColumn(np.round(dist, 2), mask=by_z, unit=u.Mpc)
     t["redshift"] = MaskedColumn(np.round(zs, 6), mask=~by_z)
     m_meas = 10.0 ** (log_m + rng.normal(0.0, 0.1, n))

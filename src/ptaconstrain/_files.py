@@ -11,7 +11,8 @@ import os
 import tempfile
 from pathlib import Path
 
-__all__ = ["OutputExistsError", "check_new", "atomic_write", "write_table", "sha256"]
+__all__ = ["OutputExistsError", "check_new", "atomic_write", "write_table", "sha256",
+           "read_toml"]
 
 
 class OutputExistsError(FileExistsError):
@@ -104,3 +105,42 @@ def sha256(path):
         for block in iter(lambda: fh.read(1 << 20), b""):
             h.update(block)
     return h.hexdigest()
+
+
+def read_toml(path, what, error=None):
+    """Read a TOML file, refusing a missing or malformed one in one line.
+
+    Parameters
+    ----------
+    path : path-like
+    what : str
+        What the file is, for the message (e.g. "relations file").
+    error : type, optional
+        The :class:`~ptaconstrain.errors.InputError` subclass to raise
+        (default InputError).
+
+    Returns
+    -------
+    dict
+
+    Raises
+    ------
+    InputError (or ``error``)
+        Naming the file, the problem and the fix.
+    """
+    import tomllib
+
+    from .errors import InputError
+
+    error = error or InputError
+    path = Path(path)
+    if not path.is_file():
+        raise error(f"{what} {path} not found: check the path")
+    try:
+        with open(path, "rb") as fh:
+            return tomllib.load(fh)
+    except tomllib.TOMLDecodeError as err:
+        first = (str(err).strip().splitlines() or ["syntax error"])[0]
+        raise error(f"{path.name} is not valid TOML ({first}): fix the {what}") from err
+    except (OSError, UnicodeDecodeError) as err:
+        raise error(f"{what} {path}: cannot read it ({err}); check the file") from err

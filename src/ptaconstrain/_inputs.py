@@ -362,6 +362,11 @@ def _parse_each(text, unit):
     out = np.full(text.shape, np.nan)
     bad = np.zeros(text.shape, dtype=bool)
     for i, s in enumerate(text):
+        try:  # a plain number ("1e-05" too, which Angle does not parse) is degrees
+            out[i] = float(s)
+            continue
+        except ValueError:
+            pass
         try:
             out[i] = Angle(s, unit=unit).deg
         except (ValueError, TypeError, u.UnitsError):

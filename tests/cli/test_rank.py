@@ -134,13 +134,47 @@ def test_demo_part(tmp_path):
 
 
 def test_exclusion_figures_of_the_top_targets(tmp_path, curve_file):
+    # named per galaxy and kind, exactly as ``exclude`` names its figure
+    from ptaconstrain.report.provenance import safe_name
+
     out = tmp_path / "out"
     res = _run("rank", CATALOGUE, "--curve", curve_file, "--out", str(out),
                "--exclusion-figures", "2")
     assert res.exit_code == 0, res.output
-    assert (out / "ranking_exclusion_001.png").is_file()
-    assert (out / "ranking_exclusion_002.png").is_file()
-    assert not (out / "ranking_exclusion_003.png").exists()
+    names = list(Table.read(out / "ranking.ecsv")["name"][:3])
+    assert (out / f"{safe_name(names[0])}_exclusion.png").is_file()
+    assert (out / f"{safe_name(names[1])}_exclusion.png").is_file()
+    assert not (out / f"{safe_name(names[2])}_exclusion.png").exists()
+    assert not list(out.glob("*_forecast.*"))
+
+
+def test_forecast_figures_are_named_forecast(tmp_path):
+    from ptaconstrain.report.provenance import safe_name
+
+    f = np.logspace(np.log10(2e-9), -7, 40)
+    psd = StrainCurve(f * u.Hz, 1e-26 * (f / 1e-8) ** -2 + 1e-28, "strain_psd",
+                      meta={"span": "15 yr"})
+    path = tmp_path / "psd.ecsv"
+    save_curve(psd, path)
+    out = tmp_path / "out"
+    res = _run("rank", CATALOGUE, "--curve", str(path), "--out", str(out),
+               "--exclusion-figures", "1")
+    assert res.exit_code == 0, res.output
+    first = Table.read(out / "ranking.ecsv")["name"][0]
+    assert (out / f"{safe_name(first)}_forecast.png").is_file()
+
+
+def test_plausibility_errors_reach_the_user_as_one_line(tmp_path, curve_file):
+    t = Table({"name": ["A", "B"], "ra": ["187.7", "12h30m00s"], "dec": ["12.4", "-05:00:00"],
+               "distance": [20.0, 30.0], "mass": [9.3, 9.5]})
+    path = tmp_path / "logmass.csv"
+    t.write(path, format="ascii.csv")
+    out = tmp_path / "out"
+    res = _run("rank", str(path), "--curve", curve_file, "--out", str(out))
+    assert res.exit_code != 0 and "Traceback" not in res.output
+    lines = res.output.strip().splitlines()
+    assert len(lines) == 1 and "log10(M/solMass)" in lines[0] and "row 1 ('A')" in lines[0]
+    assert not out.exists() or not any(out.iterdir())
 
 
 def test_cumulative_plot_starts_at_zero():

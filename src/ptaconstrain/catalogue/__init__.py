@@ -1,0 +1,48 @@
+"""Galaxy catalogues as continuous-wave targets.
+
+columns (fields and their mapping), reader (files, streamed CSV), rows (the
+input policy per row, rejections), relations (mass scaling laws as data),
+population (residence times, expected numbers), metrics (per-galaxy figures
+of merit), thresholds (h0 thresholds at galaxy positions), ranking (the
+driver and its result).
+"""
+
+from .columns import FIELDS, CatalogError, ColumnMap, load_column_map
+from .metrics import METRICS, galaxy_metrics, most_sensitive_frequency
+from .population import MassRatioDistribution, PopulationModel, expected_number
+from .ranking import Ranking, rank_catalog
+from .reader import CatalogReader
+from .relations import (
+    Relation,
+    RelationError,
+    load_relations,
+    select_relations,
+    shipped_relations,
+)
+from .rows import Rejections, duplicate_mask, prepare_chunk
+from .thresholds import ThresholdLookup
+
+__all__ = [
+    "FIELDS",
+    "CatalogError",
+    "ColumnMap",
+    "load_column_map",
+    "CatalogReader",
+    "Rejections",
+    "duplicate_mask",
+    "prepare_chunk",
+    "Relation",
+    "RelationError",
+    "load_relations",
+    "select_relations",
+    "shipped_relations",
+    "PopulationModel",
+    "MassRatioDistribution",
+    "expected_number",
+    "METRICS",
+    "galaxy_metrics",
+    "most_sensitive_frequency",
+    "ThresholdLookup",
+    "Ranking",
+    "rank_catalog",
+]

@@ -50,6 +50,7 @@ __all__ = [
     "expected_number",
     "mass_nodes",
     "mass_limits",
+    "sky_rows",
 ]
 
 _LN10 = np.log(10.0)
@@ -345,7 +346,7 @@ def mass_limits(distance, redshift, frequency, h0_threshold, sky_index=None):
     ok = ~np.isnan(g)
     g_min = np.min(np.where(ok, g, np.inf), axis=-1)
     if g.ndim == 2:
-        g_min = g_min[_sky_index(sky_index, g.shape[0], log_d.size)]
+        g_min = g_min[sky_rows(sky_index, g.shape[0], log_d.size)]
     f_lo = frequency.to_value(u.Hz)[:-1]
     any_ok = np.any(ok, axis=0) if g.ndim == 2 else ok
     f0 = f_lo[np.argmax(any_ok)] if np.any(any_ok) else np.inf
@@ -355,7 +356,22 @@ def mass_limits(distance, redshift, frequency, h0_threshold, sky_index=None):
     return lower, upper
 
 
-def _sky_index(sky_index, n_groups, n):
+def sky_rows(sky_index, n_groups, n):
+    """Row of a threshold table for each of ``n`` galaxies.
+
+    Parameters
+    ----------
+    sky_index : array of int (n,) or None
+        None: the only row (``n_groups == 1``) or row i for galaxy i (``n_groups == n``).
+    n_groups : int
+        Rows of the threshold table.
+    n : int
+        Number of galaxies.
+
+    Returns
+    -------
+    ndarray of int64 (n,)
+    """
     if sky_index is None:
         if n_groups not in (1, n):
             raise ValueError(
@@ -423,7 +439,7 @@ def expected_number(log_mass, log_mass_sigma, distance, redshift, frequency, h0_
     log_s = _constants()[0] + (5.0 / 3.0) * lg_mz - np.log10(dist.value[rows])
     g_band = band_thresholds(frequency, h0_threshold)
     g_band = g_band[None, :] if g_band.ndim == 1 else g_band
-    sky = _sky_index(sky_index, g_band.shape[0], n)
+    sky = sky_rows(sky_index, g_band.shape[0], n)
     group = sky[rows]
     contrib = _pair_numbers(lg_mz, log_s, group, frequency, g_band, population.mass_ratio,
                             max_block)

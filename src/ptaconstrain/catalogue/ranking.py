@@ -1,345 +1,109 @@
 """Rank the galaxies of a catalogue as continuous-wave targets.
 
-Per galaxy, against a sensitivity (upper limit: "excluded"; noise budget:
-"detectable"):
-
-* ``f_best`` -- the most sensitive frequency: the tabulated frequency that
-  minimises h0_threshold(f) / f^(2/3).  Since h0 = eta S f^(2/3)
-  (:func:`ptaconstrain.binary.waveform.strain_prefactor`), this is where any binary
-  of the galaxy is best constrained, whatever its mass or distance; it depends
-  on the galaxy only through its sky position (for sky-dependent sensitivity).
-* ``h0_equal_mass`` -- h0 of an equal-mass (q = 1) binary of the median total
-  mass at f_best, and ``h0_ratio`` = h0_equal_mass / h0_threshold(f_best).
-* ``min_mass_ratio`` -- the smallest mass ratio excluded (detectable) at
-  f_best, the closed-form inverse of eta at eta_min = h0_threshold / (S
-  f^(2/3)) (:func:`ptaconstrain.binary.waveform.mass_ratio_from_eta`); NaN when
-  not even q = 1 is.
-* ``prob_equal_mass`` -- the probability, over the log-normal mass
-  uncertainty, that the q = 1 binary at f_best is excluded (detectable).
-* ``expected_number`` -- expected number of excluded (detectable) binaries
-  under the population model of :mod:`ptaconstrain.catalogue.population`, marginalised
-  over the mass scatter.
-
-The strain metrics are formal at f_best even when f_best > f_ISCO (flagged
-``f_best_above_isco``); the expected number respects f_ISCO.
-
-Sky-dependent sensitivity: an object with ``curve_at(coord)`` (a pulsar array,
-a HEALPix limit map) is used as follows.  If it also has a vectorised
-``h0_threshold_at(coords, frequency, snr=, span=)`` returning an array of
-shape (n_coords, n_frequency), that is called once per chunk.  Otherwise the
-galaxies are grouped by HEALPix pixel:
-
-* a HEALPix limit map (``maps``, ``nside``, ``frame`` as in
-  :class:`ptaconstrain.sensitivity.limit_map.LimitMap`) is read at each galaxy's own
-  pixel, found in the map's frame: exact, since the map is constant over a
-  pixel;
-* an object with ``h0_threshold_map(frequency, nside=, snr=)`` (a pulsar
-  array; shape (n_frequency, 12 nside^2), RING, ICRS) gives every pixel at
-  once, at ``sky_nside`` (default 64); a galaxy takes the value at its pixel
-  centre, which for the demo array is within 0.7% of ``curve_at`` at the
-  galaxy itself at nside 64 (3.5% at nside 16; tests/test_rank.py);
-* otherwise ``curve_at`` is called once per occupied pixel centre (nside
-  ``sky_nside``, default 16), at most 12 nside^2 calls in all, cached across
-  chunks.
-
-Positions are ICRS.  ``sky="averaged"`` uses ``curve_at(None)`` (the
-sky-averaged curve) for every galaxy.  The band edges are the frequencies of
-``curve_at(None)``.
+:func:`rank_catalog` reads a catalogue chunk by chunk
+(:mod:`~ptaconstrain.catalogue.reader`), turns each chunk into per-galaxy
+arrays under the one input policy (:mod:`~ptaconstrain.catalogue.rows`), looks
+up the h0 thresholds at the galaxies' positions
+(:mod:`~ptaconstrain.catalogue.thresholds`), computes the metrics
+(:mod:`~ptaconstrain.catalogue.metrics`) and sorts.  The result is a
+:class:`Ranking`.
 """
+
+from dataclasses import dataclass
 
 import numpy as np
 from astropy import units as u
 
-from ..binary import waveform as wf
-from ..sensitivity.curve import FromCurve
-from .population import PopulationModel, _sky_index, expected_number
-from .reader import (
-    FIELDS,
-    CatalogError,
-    CatalogReader,
-    ColumnMap,
-    DistanceRedshift,
-    Rejections,
-    duplicate_mask,
-    load_column_map,
-    prepare_chunk,
-)
+from ..cosmo import DistanceRedshift
+from ..errors import InputError
+from .columns import FIELDS, CatalogError, ColumnMap, load_column_map
+from .metrics import METRICS, galaxy_metrics
+from .population import PopulationModel
+from .reader import CatalogReader
 from .relations import select_relations
+from .rows import Rejections, duplicate_mask, prepare_chunk
+from .thresholds import ThresholdLookup
 
-__all__ = [
-    "METRICS",
-    "most_sensitive_frequency",
-    "galaxy_metrics",
-    "ThresholdLookup",
-    "Ranking",
-    "rank_catalog",
-]
-
-#: metric -> (sort descending?, description with {verb})
-METRICS = {
-    "expected_number": (True, "expected number of {verb} binaries (population model)"),
-    "h0_ratio": (True, "h0 of a q = 1 binary / h0 threshold, at f_best"),
-    "prob_equal_mass": (True, "probability that a q = 1 binary at f_best is {verb}"),
-    "min_mass_ratio": (False, "smallest mass ratio {verb} at f_best"),
-}
+__all__ = ["Ranking", "rank_catalog"]
 
 
-def most_sensitive_frequency(frequency, h0_threshold):
-    """Index of the frequency minimising h0_threshold / f^(2/3) (the most sensitive one).
-
-    Parameters
-    ----------
-    frequency : Quantity [frequency] (nf,)
-    h0_threshold : array (nf,) or (n, nf)
-        NaN entries are ignored.
-
-    Returns
-    -------
-    ndarray of int, shape () or (n,); -1 where every entry is NaN.
-    """
-    g = np.asarray(h0_threshold, dtype=float) / frequency.to_value(u.Hz) ** (2.0 / 3.0)
-    empty = np.all(np.isnan(g), axis=-1)
-    idx = np.argmin(np.where(np.isnan(g), np.inf, g), axis=-1)
-    return np.where(empty, -1, idx)
-
-
-def galaxy_metrics(log_mass, log_mass_sigma, distance, redshift, frequency, h0_threshold,
-                   population=None, n_nodes=16, sky_index=None):
-    """All per-galaxy metrics, vectorised over galaxies.
-
-    Parameters
-    ----------
-    log_mass : array (n,)
-        Median log10(M / solMass), M the total black-hole mass.
-    log_mass_sigma : array (n,)
-        1 sigma of log10 M (dex).
-    distance : Quantity [length] (n,)
-        Luminosity distance.
-    redshift : array (n,)
-    frequency : Quantity [frequency] (nf,)
-        Tabulated frequencies of the sensitivity (band edges).
-    h0_threshold : array (nf,) or (G, nf)
-        Threshold strain: one curve, or G sky-dependent curves.
-    population : PopulationModel, optional
-    n_nodes : int
-        Quadrature nodes over the mass scatter.
-    sky_index : array of int (n,), optional
-        Row of ``h0_threshold`` for each galaxy (default: the only row, or
-        row i for galaxy i when G = n).
-
-    Returns
-    -------
-    dict
-        ``f_best`` (Quantity Hz), ``h0_threshold_best``, ``h0_equal_mass``,
-        ``h0_ratio``, ``min_mass_ratio``, ``prob_equal_mass``,
-        ``expected_number`` (ndarrays), ``isco_frequency`` (Quantity Hz),
-        ``f_best_above_isco`` (bool).
-    """
-    from scipy.special import ndtr
-
-    population = population or PopulationModel()
-    mu = np.atleast_1d(np.asarray(log_mass, dtype=float))
-    n = mu.size
-    sig = np.broadcast_to(np.asarray(log_mass_sigma, dtype=float), (n,))
-    dist = np.broadcast_to(u.Quantity(distance, u.Mpc), (n,), subok=True)
-    z = np.broadcast_to(np.asarray(redshift, dtype=float), (n,))
-    thr = np.asarray(h0_threshold, dtype=float)
-    f = frequency.to(u.Hz)
-
-    thr2 = thr[None, :] if thr.ndim == 1 else thr
-    sky = _sky_index(sky_index, thr2.shape[0], n)
-    idx_b = most_sensitive_frequency(f, thr2)[sky]
-    ok = idx_b >= 0
-    safe = np.where(ok, idx_b, 0)
-    thr_best = np.where(ok, thr2[sky, safe], np.nan)
-    f_best = np.where(ok, f.value[safe], np.nan) * u.Hz
-
-    mass = 10.0**mu * u.Msun
-    s_med = wf.strain_prefactor(mass, dist, z).to_value(u.Hz ** (-2.0 / 3.0))
-    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        h0_q1 = 0.25 * s_med * f_best.value ** (2.0 / 3.0)
-        ratio = h0_q1 / thr_best
-        eta_min = thr_best / (s_med * f_best.value ** (2.0 / 3.0))
-        q_min = np.where(eta_min <= 0.25, wf.mass_ratio_from_eta(eta_min), np.nan)
-        # log S is normal with sd (5/3) sigma: P(S/4 > g_best) in closed form
-        margin = np.log10(ratio)
-        spread = (5.0 / 3.0) * sig
-        prob = np.where(spread > 0, ndtr(margin / np.where(spread > 0, spread, 1.0)),
-                        (margin > 0).astype(float))
-        prob = np.where(np.isnan(margin), np.nan, prob)
-    f_isco = wf.isco_frequency(mass, z)
-    n_exp = expected_number(mu, sig, dist, z, f, thr2, population, n_nodes=n_nodes,
-                            sky_index=sky)
-    return {
-        "f_best": f_best,
-        "h0_threshold_best": thr_best,
-        "h0_equal_mass": h0_q1,
-        "h0_ratio": ratio,
-        "min_mass_ratio": q_min,
-        "prob_equal_mass": prob,
-        "expected_number": n_exp,
-        "isco_frequency": f_isco,
-        "f_best_above_isco": np.asarray(f_best > f_isco),
-    }
-
-
-class ThresholdLookup(FromCurve):
-    """Adaptor giving h0 thresholds at galaxy positions from a curve or a sky object.
-
-    Parameters
-    ----------
-    sensitivity : StrainCurve, or an object with ``curve_at(coord)``
-    snr : float
-        S/N threshold (noise budgets).
-    span : Quantity [time], optional
-        Observing span (noise budgets); default the curve's.
-    sky : {"auto", "averaged"}
-        "averaged" ignores positions (uses ``curve_at(None)``).
-    sky_nside : int, optional
-        HEALPix nside for grouping when the object has no ``nside`` and no
-        ``h0_threshold_at``; default 64 for an object with
-        ``h0_threshold_map`` (one vectorised call), else 16 (one
-        ``curve_at`` call per occupied pixel).
-
-    Attributes
-    ----------
-    curve : StrainCurve
-        The sky-averaged (reference) curve; its frequencies are the band edges.
-    mode : str
-        "curve", "averaged", "vectorised" or "healpix nside=N".
-    """
-
-    def __init__(self, sensitivity, snr=5.0, span=None, sky="auto", sky_nside=None):
-        if sky not in ("auto", "averaged"):
-            raise ValueError(f"sky: must be 'auto' or 'averaged', got {sky!r}")
-        self.source = sensitivity
-        self.snr = float(snr)
-        positional = hasattr(sensitivity, "curve_at")
-        self.curve = sensitivity.curve_at(None) if positional else sensitivity
-        self.frequency = self.curve.frequency.to(u.Hz)
-        self.span = self.curve.observing_span(span)
-        self._span_arg = span
-        self._cache = None
-        if positional and span is not None:
-            raise ValueError("span: a pulsar array or sky map carries its own observing span; "
-                             "drop the span")
-        if not positional or sky == "averaged":
-            self.mode = "curve" if not positional else "averaged"
-            self._fixed = self.curve.h0_threshold(self.frequency, snr=self.snr, span=span)
-        elif hasattr(sensitivity, "h0_threshold_at"):
-            self.mode = "vectorised"
-        else:
-            mapped = hasattr(sensitivity, "h0_threshold_map")
-            default = sky_nside if sky_nside is not None else (64 if mapped else 16)
-            self.nside = int(getattr(sensitivity, "nside", default))
-            self.mode = f"healpix nside={self.nside}"
-            self._frame = "icrs"
-            if all(hasattr(sensitivity, a) for a in ("maps", "frame", "frequency")):
-                # a HEALPix limit map: its own pixels, in its own frame
-                from ..sensitivity.limit_map import FRAMES
-
-                self._frame = FRAMES.get(sensitivity.frame, "icrs")
-                src_f = u.Quantity(sensitivity.frequency, u.Hz).value
-                col = np.searchsorted(src_f, self.frequency.value)
-                col = np.clip(col, 0, src_f.size - 1)
-                if not np.allclose(src_f[col], self.frequency.value, rtol=1e-12, atol=0):
-                    raise ValueError("sky map: curve_at(None) frequencies are not the map's")
-                self._cache = np.ascontiguousarray(np.asarray(sensitivity.maps, float)[col].T)
-                self._done = np.ones(self._cache.shape[0], dtype=bool)
-            elif mapped:
-                # all pixels in one vectorised call (shape (nf, npix))
-                table = sensitivity.h0_threshold_map(self.frequency, nside=self.nside,
-                                                     snr=self.snr)
-                self._cache = np.ascontiguousarray(np.asarray(table, dtype=float).T)
-                self._done = np.ones(self._cache.shape[0], dtype=bool)
-
-    def label(self):
-        """e.g. '95% upper limit' or 'forecast, S/N >= 5'."""
-        return self.curve.label(self.snr)
-
-    def thresholds(self, ra, dec):
-        """h0 thresholds at the band edges for galaxies at (ra, dec) in deg.
-
-        Returns
-        -------
-        (ndarray, ndarray or None)
-            A table (G, nf) of thresholds and, per galaxy, its row in it
-            (None: the only row, or one row per galaxy).
-        """
-        if self.mode in ("curve", "averaged"):
-            return self._fixed[None, :], None
-        from astropy.coordinates import SkyCoord
-
-        if self.mode == "vectorised":
-            coords = SkyCoord(ra * u.deg, dec * u.deg, frame="icrs")
-            out = np.asarray(self.source.h0_threshold_at(
-                coords, self.frequency, snr=self.snr, span=self._span_arg), dtype=float)
-            if out.shape != (len(ra), self.frequency.size):
-                raise ValueError(
-                    "h0_threshold_at: must return shape (n_coords, n_frequency), got "
-                    f"{out.shape}"
-                )
-            return out, None
-        import healpy as hp
-
-        npix = hp.nside2npix(self.nside)
-        if self._cache is None:
-            self._cache = np.full((npix, self.frequency.size), np.nan)
-            self._done = np.zeros(npix, dtype=bool)
-        if self._frame == "icrs":
-            pix = hp.ang2pix(self.nside, ra, dec, lonlat=True)
-        else:
-            sph = SkyCoord(ra * u.deg, dec * u.deg, frame="icrs").transform_to(
-                self._frame).spherical
-            pix = hp.ang2pix(self.nside, sph.lon.deg, sph.lat.deg, lonlat=True)
-        used, index = np.unique(pix, return_inverse=True)
-        new = used[~self._done[used]]
-        if new.size:
-            lon, lat = hp.pix2ang(self.nside, new, lonlat=True)
-            centres = SkyCoord(lon * u.deg, lat * u.deg, frame="icrs")
-            # one call per occupied pixel (<= 12 nside^2 overall): the
-            # interface has no vectorised form
-            for i, p in enumerate(new):
-                curve = self.source.curve_at(centres[i])
-                self._cache[p] = curve.h0_threshold(self.frequency, snr=self.snr,
-                                                    span=self._span_arg)
-            self._done[new] = True
-        return self._cache[used], index
-
-    def pulsar_coords(self):
-        """Positions of the array's pulsars (SkyCoord) when the object exposes them."""
-        from astropy.coordinates import SkyCoord
-
-        for attr in ("pulsar_coords", "coords", "coord"):
-            c = getattr(self.source, attr, None)
-            c = c() if callable(c) else c
-            if isinstance(c, SkyCoord):
-                return c
-        return None
-
-
+@dataclass(frozen=True)
 class Ranking:
-    """Result of :func:`rank_catalog`.
+    """A catalogue ranked as continuous-wave targets (from :func:`rank_catalog`).
 
     Attributes
     ----------
     table : astropy.table.QTable
-        One row per ranked galaxy, best first (see :func:`rank_catalog`).
+        One row per ranked galaxy, best first: rank, name, catalogue_row,
+        ra, dec [deg], distance [Mpc], redshift, mass_source, mass [solMass],
+        log_mass, log_mass_sigma [dex], f_best [Hz], h0_threshold_best,
+        h0_equal_mass, h0_ratio, min_mass_ratio, prob_equal_mass,
+        expected_number, cumulative_expected_number, isco_frequency [Hz],
+        f_best_above_isco, and the input fields used.  ``table.meta`` holds
+        :attr:`meta` and the provenance.
     rejections : Rejections
-        Skipped rows with reasons, and notes.
+        Rows not ranked, with reasons, and counted notes.
     metric : str
+        What the table is sorted by (a key of ``METRICS``).
     verb : str
-        'excluded' or 'detectable'.
+        "excluded" (upper limit) or "detectable" (noise budget).
     label : str
+        The sensitivity, e.g. "95% upper limit".
     meta : dict
-        Provenance (also in ``table.meta``).
-    pulsars : SkyCoord or None
+        How the ranking was made (sensitivity, sky handling, relations, population).
     n_read : int
-        Rows read from the catalogue.
+        Data rows read from the catalogue.
+    sky_markers : astropy.coordinates.SkyCoord or None
+        Positions to mark on sky figures (an array's pulsars).
+    sensitivity : ThresholdLookup
+        The thresholds used.
     """
 
-    def __init__(self, **fields):
-        self.__dict__.update(fields)
+    table: object
+    rejections: Rejections
+    metric: str
+    verb: str
+    label: str
+    meta: dict
+    n_read: int
+    sky_markers: object = None
+    sensitivity: ThresholdLookup = None
+
+    @property
+    def is_limit(self):
+        """True for an exclusion ranking (upper limit), False for a forecast."""
+        return self.verb == "excluded"
+
+    def __repr__(self):
+        t = self.table
+        best = ", ".join(str(n) for n in t["name"][:3]) if len(t) else "none"
+        return (f"Ranking of {len(t)} of {self.n_read} galaxies by {self.metric}\n"
+                f"  sensitivity: {self.label} ({self.verb}), sky: {self.meta.get('sky')}\n"
+                f"  rejected rows: {self.rejections.total}; best: {best}")
+
+    def to_table(self):
+        """The ranking as an astropy QTable (a copy, with units and provenance in meta)."""
+        return self.table.copy()
+
+    def plot(self, ax=None, top=20):
+        """Sky map of the ranked galaxies coloured by the ranking metric.
+
+        Parameters
+        ----------
+        ax : matplotlib Axes with a "mollweide" projection, optional
+            Drawn into; a new Figure otherwise.
+        top : int
+            The best ``top`` galaxies (at most 20) are labelled with their rank.
+
+        Returns
+        -------
+        matplotlib.figure.Figure
+        """
+        from ..report.rankplots import sky_figure
+
+        return sky_figure(self.table, self.metric, self.verb, self.label,
+                          markers=self.sky_markers, top=top,
+                          rate=self.meta.get("merger_rate_per_galaxy"), ax=ax)
 
     def summary_lines(self, top=5):
         """A few lines: counts, the sensitivity, and the best ``top`` targets."""
@@ -352,7 +116,7 @@ class Ranking:
         total = float(np.nansum(t["expected_number"])) if len(t) else 0.0
         lines.append(f"  expected number of {self.verb} binaries in all: {total:.3g} "
                      f"(merger rate {self.meta['merger_rate_per_galaxy']} per galaxy)")
-        ref = "limit" if self.verb == "excluded" else "threshold"
+        ref = "limit" if self.is_limit else "threshold"
         for row in t[:top]:
             q = row["min_mass_ratio"]
             qtxt = f"q >= {q:.3g}" if np.isfinite(q) else "no q"
@@ -373,17 +137,25 @@ def _sort_order(metric, values, h0_ratio, names):
     return np.lexsort((names, tie, key))
 
 
+def _column_map(columns):
+    if isinstance(columns, ColumnMap):
+        return columns
+    if isinstance(columns, dict):
+        return ColumnMap(columns)
+    return ColumnMap() if columns is None else load_column_map(columns)
+
+
 def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, population=None,
                  metric="expected_number", snr=5.0, span=None, on_bad="error",
                  chunk_size=100_000, n_nodes=16, cosmology=None, sky="auto", sky_nside=None,
-                 format=None, progress=None):
+                 format=None, progress=None, files=None, inputs=None):
     """Read a galaxy catalogue and rank it as continuous-wave targets.
 
     Parameters
     ----------
     catalog : str, path-like, astropy.table.Table or CatalogReader
-        See :mod:`ptaconstrain.catalogue.reader` for the columns.
-    sensitivity : StrainCurve or object with ``curve_at(coord)``
+        See :mod:`ptaconstrain.catalogue.columns` and :mod:`ptaconstrain.catalogue.rows`.
+    sensitivity : StrainCurve or PositionalSensitivity
     columns : ColumnMap, dict or path to a TOML file, optional
         Column mapping (dict: field -> column name).
     relations : list, optional
@@ -395,15 +167,15 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
     snr : float
         S/N threshold for noise budgets.
     span : Quantity [time], optional
-        Observing span for noise budgets.
+        Observing span for a noise-budget curve.
     on_bad : {"error", "skip"}
         Raise on the first bad row, or drop bad rows and count them.
     chunk_size : int
         Rows read and computed at a time.
     n_nodes : int
-        quadrature nodes over the mass scatter.
+        Quadrature nodes over the mass scatter.
     cosmology : astropy.cosmology.Cosmology, optional
-        For distance <-> redshift (default Planck18).
+        For distance <-> redshift (default: astropy's default cosmology).
     sky : {"auto", "averaged"}
     sky_nside : int, optional
         See :class:`ThresholdLookup`.
@@ -411,6 +183,10 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
         astropy table format of the file (default from its suffix).
     progress : callable, optional
         Called with the number of rows done after each chunk.
+    files : dict, optional
+        Role -> path of other input files, recorded with checksums in the provenance.
+    inputs : dict, optional
+        Settings recorded in the provenance.
 
     Returns
     -------
@@ -420,20 +196,24 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
     ------
     CatalogError
         For a catalogue that cannot be used (or, with on_bad="error", a bad row).
+
+    Examples
+    --------
+    >>> from astropy.table import Table
+    >>> from ptaconstrain.data import path
+    >>> from ptaconstrain.sensitivity.curve import load_curve
+    >>> t = Table({"name": ["A", "B"], "ra": [10.0, "12h30m00s"], "dec": ["-5", "12:00:00"],
+    ...            "distance": [20.0, 40.0], "mass": [3e9, 5e9]})
+    >>> r = rank_catalog(t, load_curve(path("synthetic_h0_limit.ecsv")))
+    >>> sorted(round(float(x), 9) for x in r.table["ra"].value)
+    [10.0, 187.5]
     """
     if metric not in METRICS:
-        raise ValueError(f"metric: {metric!r} is unknown; use one of {', '.join(METRICS)}")
+        raise InputError(f"metric: {metric!r} is unknown; use one of {', '.join(METRICS)}")
     if on_bad not in ("error", "skip"):
-        raise ValueError(f"on_bad: must be 'error' or 'skip', got {on_bad!r}")
+        raise InputError(f"on_bad: must be 'error' or 'skip', got {on_bad!r}")
     population = population or PopulationModel()
-    if isinstance(columns, ColumnMap):
-        colmap = columns
-    elif isinstance(columns, dict):
-        colmap = ColumnMap(columns)
-    elif columns is not None:
-        colmap = load_column_map(columns)
-    else:
-        colmap = ColumnMap()
+    colmap = _column_map(columns)
     rels = select_relations(relations)
     reader = catalog if isinstance(catalog, CatalogReader) else CatalogReader(catalog, format)
     resolved = colmap.resolve(reader.colnames)
@@ -446,27 +226,19 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
     sens = ThresholdLookup(sensitivity, snr=snr, span=span, sky=sky, sky_nside=sky_nside)
     dz = DistanceRedshift(cosmology)
     rejections = Rejections()
-    parts = []
-    if sens.mode == "vectorised":  # one threshold row per galaxy: smaller chunks
-        chunk_size = min(int(chunk_size), max(1000, 20_000_000 // sens.frequency.size))
+    parts, n_read = [], 0
     for start, piece in reader.chunks(chunk_size):
+        n_read += len(piece)
         gal = prepare_chunk(piece, colmap, resolved, rels, start, dz, rejections)
         rejections.check(on_bad)
         if gal["row"].size:
-            thr, sky_index = sens.thresholds(gal["ra"], gal["dec"])
-            met = galaxy_metrics(gal["log_mass"], gal["log_mass_sigma"],
-                                 gal["distance"] * u.Mpc, gal["redshift"], sens.frequency,
-                                 thr, population, n_nodes=n_nodes, sky_index=sky_index)
-            rejections.note("no sensitivity at the galaxy's position (e.g. a blank map "
-                            "pixel): metrics NaN, expected number 0",
-                            np.count_nonzero(np.isnan(met["f_best"].value)))
-            gal.update(met)
-            parts.append(gal)
+            parts.append(_with_metrics(gal, sens, population, n_nodes, rejections))
         if progress is not None:
             progress(len(piece))
     if not parts:
         rejections.check(on_bad)
-        raise CatalogError(f"{reader.name}: no usable rows ({rejections.total} rejected)")
+        raise CatalogError(f"{reader.name}: no usable rows ({rejections.total} rejected); "
+                           "see the reasons with --on-bad skip")
     data = {k: _concat([p[k] for p in parts]) for k in parts[0]}
     dup = duplicate_mask(data["name"])
     if dup.any():
@@ -474,13 +246,25 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
                        "duplicate name (the first occurrence is kept)")
         rejections.check(on_bad)
         data = {k: v[~dup] for k, v in data.items()}
-    table = _build_table(data, metric, sens)
-    meta = _provenance(reader, colmap, rels, population, sens, metric, on_bad, n_nodes,
-                       dz.cosmology, rejections, table)
+    table = _build_table(data, metric, sens.verb)
+    meta = _ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes,
+                         dz.cosmology, rejections, table, n_read)
     table.meta.update(meta)
+    table.meta["provenance"] = _provenance(reader, files, inputs)
     return Ranking(table=table, rejections=rejections, metric=metric, verb=sens.verb,
-                   label=sens.label(), meta=meta, pulsars=sens.pulsar_coords(),
-                   n_read=reader.n_rows, sensitivity=sens)
+                   label=sens.label(), meta=meta, n_read=n_read,
+                   sky_markers=sens.sky_markers(), sensitivity=sens)
+
+
+def _with_metrics(gal, sens, population, n_nodes, rejections):
+    thr, sky_index = sens.thresholds(gal["ra"], gal["dec"])
+    met = galaxy_metrics(gal["log_mass"], gal["log_mass_sigma"], gal["distance"] * u.Mpc,
+                         gal["redshift"], sens.frequency, thr, population, n_nodes=n_nodes,
+                         sky_index=sky_index)
+    rejections.note("no sensitivity at the galaxy's position (e.g. a blank map pixel): "
+                    "metrics NaN, expected number 0",
+                    np.count_nonzero(np.isnan(met["f_best"].value)))
+    return {**gal, **met}
 
 
 def _concat(arrays):
@@ -489,13 +273,12 @@ def _concat(arrays):
     return np.concatenate(arrays)
 
 
-def _build_table(data, metric, sens):
+def _build_table(data, metric, verb):
     from astropy.table import QTable
 
     order = _sort_order(metric, np.asarray(data[metric], dtype=float), data["h0_ratio"],
                         data["name"])
     d = {k: v[order] for k, v in data.items()}
-    verb = sens.verb
     t = QTable()
     t["rank"] = np.arange(1, order.size + 1)
     t["name"] = d["name"]
@@ -566,13 +349,18 @@ def _relations_used(rels, table):
     return out
 
 
-def _provenance(reader, colmap, rels, population, sens, metric, on_bad, n_nodes, cosmology,
-                rejections, table):
-    from .. import __version__
-    from .._files import sha256
+def _provenance(reader, files, inputs):
+    """The package's one provenance record, with the catalogue among the files."""
+    from ..report.provenance import provenance
 
+    all_files = {} if reader.path is None else {"catalogue": reader.path}
+    all_files.update(files or {})
+    return provenance(inputs, files=all_files)
+
+
+def _ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes, cosmology,
+                  rejections, table, n_read):
     meta = {
-        "ptaconstrain_version": __version__,
         "product": "continuous-wave target ranking",
         "sensitivity": sens.label(),
         "sensitivity_kind": sens.curve.kind,
@@ -582,7 +370,7 @@ def _provenance(reader, colmap, rels, population, sens, metric, on_bad, n_nodes,
         "span": f"{sens.span.to_value(u.yr):.6g} yr",
         "metric": metric,
         "catalogue": reader.name,
-        "rows_read": int(reader.n_rows),
+        "rows_read": int(n_read),
         "rows_ranked": len(table),
         "on_bad": on_bad,
         "rejected": {k: int(v) for k, v in rejections.counts.items()},
@@ -599,6 +387,4 @@ def _provenance(reader, colmap, rels, population, sens, metric, on_bad, n_nodes,
                             "counts when h0 beats the threshold at both edges",
     }
     meta.update(population.describe())
-    if reader.path is not None:
-        meta["catalogue_sha256"] = sha256(reader.path)
     return meta

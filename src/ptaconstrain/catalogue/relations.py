@@ -22,6 +22,7 @@ from pathlib import Path
 import numpy as np
 from astropy import units as u
 
+from .._files import read_toml
 from ..errors import InputError
 
 __all__ = [
@@ -180,23 +181,6 @@ class Relation:
                 f"{self.citation}{mem}")
 
 
-def _toml_load(path):
-    try:
-        import tomllib
-    except ModuleNotFoundError as err:  # Python 3.10
-        raise RelationError(
-            "reading relation files needs Python >= 3.11 (tomllib); upgrade Python"
-        ) from err
-    path = Path(path)
-    if not path.is_file():
-        raise RelationError(f"relations file {path} not found: check the path")
-    try:
-        with open(path, "rb") as fh:
-            return tomllib.load(fh)
-    except tomllib.TOMLDecodeError as err:
-        raise RelationError(f"{path.name} is not valid TOML ({err})") from err
-
-
 def load_relations(path):
     """Read relations from a TOML file (schema: see ``data/relations.toml``).
 
@@ -215,7 +199,7 @@ def load_relations(path):
         Naming the file, the entry and the problem.
     """
     path = Path(path)
-    data = _toml_load(path)
+    data = read_toml(path, "relations file", RelationError)
     entries = data.get("relation")
     if not isinstance(entries, list) or not entries:
         raise RelationError(f"{path.name}: no [[relation]] tables found (see the schema)")

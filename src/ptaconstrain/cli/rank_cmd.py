@@ -5,7 +5,8 @@ import click
 from . import main
 from .params import POSITIVE, TIME, FormatList, QuantityType
 
-__all__ = ["rank", "run_rank", "demo_part", "TABLE_FILE", "REJECTED_FILE"]
+__all__ = ["rank", "run_rank", "demo_part", "output_paths", "top_figure_stems", "top_figures",
+           "TABLE_FILE", "REJECTED_FILE"]
 
 TABLE_FILE = "ranking.ecsv"
 REJECTED_FILE = "ranking_rejected.ecsv"
@@ -50,8 +51,8 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
     return load_limit_map(limit_map_path), "limit_map", limit_map_path
 
 
-def output_paths(out_dir, formats=("png",), exclusion_figures=0):
-    """Every file ``rank`` writes into ``out_dir``."""
+def output_paths(out_dir, formats=("png",)):
+    """The files ``rank`` always writes into ``out_dir`` (table, rejected rows, figures)."""
     from pathlib import Path
 
     from ..report.rankplots import FIGURE_STEMS
@@ -59,31 +60,59 @@ def output_paths(out_dir, formats=("png",), exclusion_figures=0):
     out_dir = Path(out_dir)
     paths = [out_dir / TABLE_FILE, out_dir / REJECTED_FILE]
     paths += [out_dir / f"{stem}.{fmt}" for stem in FIGURE_STEMS for fmt in formats]
-    paths += [out_dir / f"ranking_exclusion_{i:03d}.{fmt}"
-              for i in range(1, int(exclusion_figures) + 1) for fmt in formats]
     return paths
 
 
-def exclusion_figures_for_top(ranking, sensitivity, out_dir, n, formats=("png",),
-                              overwrite=False, snr=5.0, span=None):
-    """Exclusion (or forecast) figures of the ``n`` best targets, at their median mass.
+def top_figure_stems(ranking, out_dir, n):
+    """Stems of the per-galaxy figures of the ``n`` best targets, named as ``exclude`` names them.
 
-    Files ``ranking_exclusion_NNN.<fmt>`` with NNN the rank; a loop over the
-    few galaxies asked for (at most 50), not over the catalogue.
+    ``<safe name>_exclusion`` for an upper limit, ``<safe name>_forecast`` for a
+    noise budget; two names that become the same file name get ``_rank<N>``.
+
+    Returns
+    -------
+    list of (table row, pathlib.Path)
     """
     from pathlib import Path
 
+    from ..report.provenance import safe_name
+
+    kind = "exclusion" if ranking.is_limit else "forecast"
+    out, seen = [], set()
+    for row in ranking.table[: int(n)]:  # at most 50 galaxies, not the catalogue
+        stem = safe_name(row["name"])
+        if stem in seen:
+            stem = f"{stem}_rank{int(row['rank'])}"
+        seen.add(stem)
+        out.append((row, Path(out_dir) / f"{stem}_{kind}"))
+    return out
+
+
+def top_figures(ranking, sensitivity, stems, formats=("png",), overwrite=False, snr=5.0,
+                span=None):
+    """Exclusion (or forecast) figures of the best targets, at their median mass.
+
+    Parameters
+    ----------
+    ranking : Ranking
+    sensitivity : StrainCurve or PositionalSensitivity
+    stems : list of (row, path)
+        From :func:`top_figure_stems`.
+
+    Returns
+    -------
+    list of pathlib.Path written
+    """
     from ..analysis.exclusion import exclusion_map
     from ..binary.host import Host
     from ..report.figures import exclusion_figure, save_figure
 
     written = []
-    for row in ranking.table[: int(n)]:
+    for row, stem in stems:
         host = Host(str(row["name"]), row["mass"], row["distance"],
                     redshift=float(row["redshift"]), ra=float(row["ra"].value),
                     dec=float(row["dec"].value))
         result = exclusion_map(host, sensitivity, snr=snr, span=span)
-        stem = Path(out_dir) / f"ranking_exclusion_{int(row['rank']):03d}"
         written += save_figure(exclusion_figure(result), stem, formats, overwrite)
     return written
 
@@ -92,10 +121,13 @@ def run_rank(catalog, sensitivity, out_dir, *, files=None, options=None, formats
              top=20, exclusion_figures=0, overwrite=False, progress=None, **kwargs):
     """Library calls behind ``rank``: rank, then write the table, rejected rows and figures.
 
+    Nothing is written unless every output can be (existing files are refused
+    before anything is written, unless ``overwrite``).
+
     Parameters
     ----------
-    catalog : path-like or Table
-    sensitivity : StrainCurve or object with ``curve_at``
+    catalog : path-like, Table or CatalogReader
+    sensitivity : StrainCurve or PositionalSensitivity
     out_dir : path-like
     files : dict, optional
         Role -> input path, recorded with checksums in the provenance.
@@ -107,34 +139,33 @@ def run_rank(catalog, sensitivity, out_dir, *, files=None, options=None, formats
         Also draw the exclusion (forecast) figure of this many best targets.
     overwrite : bool
     progress : callable, optional
-        See :func:`ptaconstrain.catalogue.ranking.rank_catalog`.
+        See :func:`ptaconstrain.catalogue.rank_catalog`.
     **kwargs
-        Passed to :func:`ptaconstrain.catalogue.ranking.rank_catalog`.
+        Passed to :func:`ptaconstrain.catalogue.rank_catalog`.
 
     Returns
     -------
     (Ranking, list of pathlib.Path)
     """
     from .._files import check_new, write_table
-    from ..catalogue.ranking import rank_catalog
-    from ..report.provenance import provenance
+    from ..catalogue import rank_catalog
     from ..report.rankplots import ranking_figures
 
-    paths = output_paths(out_dir, formats, exclusion_figures)
+    paths = output_paths(out_dir, formats)
     check_new(paths, overwrite)
-    ranking = rank_catalog(catalog, sensitivity, progress=progress, **kwargs)
-    prov = provenance(options, files=files)
-    ranking.table.meta["provenance"] = prov
-    write_table(ranking.table, paths[0], overwrite)
+    ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
+                           inputs=options, **kwargs)
+    stems = top_figure_stems(ranking, out_dir, exclusion_figures)
+    check_new([f"{stem}.{fmt}" for _, stem in stems for fmt in formats], overwrite)
+    write_table(ranking.to_table(), paths[0], overwrite)
     rejected = ranking.rejections.table()
     rejected.meta.update({"catalogue": ranking.meta["catalogue"], "on_bad":
-                          ranking.meta["on_bad"], "provenance": prov})
+                          ranking.meta["on_bad"],
+                          "provenance": ranking.table.meta["provenance"]})
     write_table(rejected, paths[1], overwrite)
     written = paths[:2] + ranking_figures(ranking, out_dir, formats, top, overwrite)
-    if exclusion_figures:
-        written += exclusion_figures_for_top(
-            ranking, sensitivity, out_dir, exclusion_figures, formats, overwrite,
-            snr=kwargs.get("snr", 5.0), span=kwargs.get("span"))
+    written += top_figures(ranking, sensitivity, stems, formats, overwrite,
+                           snr=kwargs.get("snr", 5.0), span=kwargs.get("span"))
     return ranking, written
 
 
@@ -197,13 +228,21 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     measured mass (solMass) or a predictor for a scaling relation
     (velocity_dispersion, bulge_mass, k_abs_mag, core_radius, stellar_mass).
     Writes ranking.ecsv (every metric, the inputs used, provenance),
-    ranking_rejected.ecsv and the figures ranking_sky / ranking_cumulative.
+    ranking_rejected.ecsv and the figures ranking_sky / ranking_cumulative;
+    with --exclusion-figures N also <name>_exclusion.* (upper limit) or
+    <name>_forecast.* (noise budget) for the N best targets.
     """
     import sys
 
-    from ..catalogue.population import MassRatioDistribution, PopulationModel
-    from ..catalogue.reader import CatalogReader, ColumnMap, load_column_map
-    from ..catalogue.relations import select_relations
+    from .._files import check_new
+    from ..catalogue import (
+        CatalogReader,
+        ColumnMap,
+        MassRatioDistribution,
+        PopulationModel,
+        load_column_map,
+        select_relations,
+    )
 
     columns = load_column_map(columns_file) if columns_file else ColumnMap()
     extra = _column_options(column_pairs)
@@ -211,10 +250,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
         columns = ColumnMap({**columns.columns, **extra}, columns.units)
     sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path)
     population = PopulationModel(rate, MassRatioDistribution(q_min, q_index))
-    check = output_paths(out, formats, exclusion_figures)
-    from .._files import check_new
-
-    check_new(check, overwrite)
+    check_new(output_paths(out, formats), overwrite)
     reader = CatalogReader(catalog)
     # fail on a missing column or relation before the progress bar starts (one-line error)
     columns.resolve(reader.colnames)

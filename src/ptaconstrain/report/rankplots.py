@@ -6,8 +6,9 @@ metric with cividis, a perceptually uniform colour map safe for colour-vision
 deficiencies (Nunez et al. 2018, PLoS ONE 13, e0199239); galaxies whose metric
 is zero or undefined are small grey dots; a logarithmic colour scale spans at
 most four decades below the best value (lower values share its lowest colour);
-the array's pulsars, when known, white stars.  matplotlib is imported inside
-the functions (Agg backend).
+the sensitivity's sky markers (an array's pulsars), when known, white stars.
+Figures are :class:`matplotlib.figure.Figure` objects (no pyplot state);
+matplotlib is imported inside the functions.
 """
 
 import numpy as np
@@ -22,13 +23,14 @@ FIGURE_STEMS = ("ranking_sky", "ranking_cumulative")
 DECADES = 4
 
 
-def _plt():
-    import matplotlib
+def _axes(ax, figsize, **kw):
+    """(figure, axes): the given axes and its figure, or a new Figure with one axes."""
+    if ax is not None:
+        return ax.figure, ax
+    from matplotlib.figure import Figure
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    return plt
+    fig = Figure(figsize=figsize)
+    return fig, fig.add_subplot(**kw)
 
 
 def metric_label(metric, verb, rate=None):
@@ -50,7 +52,7 @@ def _x(ra_deg):
     return np.radians(180.0 - np.mod(np.asarray(ra_deg, float), 360.0))
 
 
-def sky_figure(table, metric, verb, label="", pulsars=None, top=20, rate=None):
+def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, ax=None):
     """Mollweide map of the ranked galaxies coloured by ``metric``.
 
     Parameters
@@ -62,24 +64,25 @@ def sky_figure(table, metric, verb, label="", pulsars=None, top=20, rate=None):
         'excluded' or 'detectable'.
     label : str
         Sensitivity label for the title (e.g. '95% upper limit').
-    pulsars : SkyCoord, optional
+    markers : SkyCoord, optional
+        Positions to mark (an array's pulsars).
     top : int
         The best ``top`` galaxies get their rank written beside them (at most 20).
     rate : str, optional
         Merger rate, shown with the expected number.
+    ax : matplotlib Axes with projection "mollweide", optional
+        Drawn into; a new Figure otherwise.
 
     Returns
     -------
     matplotlib.figure.Figure
     """
-    plt = _plt()
     from matplotlib.colors import LogNorm, Normalize
 
     ra = u.Quantity(table["ra"], u.deg).value
     dec = u.Quantity(table["dec"], u.deg).value
     val = np.asarray(table[metric], dtype=float)
-    fig = plt.figure(figsize=(9.0, 5.2))
-    ax = fig.add_subplot(projection="mollweide")
+    fig, ax = _axes(ax, (9.0, 5.2), projection="mollweide")
     ax.grid(True, color="0.8", lw=0.5)
     ticks = np.radians(np.arange(-150, 181, 30))
     ax.set_xticks(ticks)
@@ -109,8 +112,8 @@ def sky_figure(table, metric, verb, label="", pulsars=None, top=20, rate=None):
     for i in range(n_lab):  # a handful of labels, not a loop over the catalogue
         ax.annotate(str(int(table["rank"][i])), (_x(ra[i]), np.radians(dec[i])),
                     xytext=(3, 3), textcoords="offset points", fontsize=7)
-    if pulsars is not None:
-        c = pulsars.icrs
+    if markers is not None:
+        c = markers.icrs
         ax.scatter(_x(c.ra.deg), np.radians(c.dec.deg), marker="*", s=60, c="white",
                    edgecolors="k", linewidths=0.6, label=f"pulsars ({len(c)})", zorder=5)
     ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=7, frameon=False)
@@ -120,7 +123,7 @@ def sky_figure(table, metric, verb, label="", pulsars=None, top=20, rate=None):
     return fig
 
 
-def cumulative_figure(table, verb, label="", top=20, rate=None):
+def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None):
     """Cumulative expected number of excluded (detectable) binaries against rank.
 
     Parameters
@@ -131,17 +134,18 @@ def cumulative_figure(table, verb, label="", top=20, rate=None):
     top : int
         Marked with a vertical line.
     rate : str, optional
+    ax : matplotlib Axes, optional
+        Drawn into; a new Figure otherwise.
 
     Returns
     -------
     matplotlib.figure.Figure
     """
-    plt = _plt()
-
     n_exp = np.nan_to_num(np.asarray(table["expected_number"], dtype=float))
     rank = np.asarray(table["rank"])
     cum = np.cumsum(n_exp)
-    fig, ax = plt.subplots(figsize=(6.4, 4.4))
+    own = ax is None
+    fig, ax = _axes(ax, (6.4, 4.4))
     ax.step(rank, cum, where="post", color="#0072B2", lw=1.5)
     ax.set_xscale("log")
     ax.set_ylim(bottom=0.0)  # from zero, so the share of the first targets reads right
@@ -156,7 +160,8 @@ def cumulative_figure(table, verb, label="", top=20, rate=None):
     rate_txt = f"\nmerger rate {rate} per galaxy" if rate else ""
     ax.set_title(f"Expected {verb} binaries by rank - {label}{rate_txt}", fontsize=9)
     ax.grid(True, which="both", color="0.9")
-    fig.tight_layout()
+    if own:
+        fig.tight_layout()
     return fig
 
 
@@ -182,8 +187,7 @@ def ranking_figures(ranking, out_dir, formats=("png",), top=20, overwrite=False)
     out_dir = Path(out_dir)
     rate = ranking.meta.get("merger_rate_per_galaxy")
     written = []
-    fig = sky_figure(ranking.table, ranking.metric, ranking.verb, ranking.label,
-                     pulsars=ranking.pulsars, top=top, rate=rate)
+    fig = ranking.plot(top=top)
     written += save_figure(fig, out_dir / FIGURE_STEMS[0], formats, overwrite)
     fig = cumulative_figure(ranking.table, ranking.verb, ranking.label, top=top, rate=rate)
     written += save_figure(fig, out_dir / FIGURE_STEMS[1], formats, overwrite)
