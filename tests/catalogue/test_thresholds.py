@@ -169,7 +169,7 @@ def test_array_thresholds_at_galaxies_match_curve_at_their_positions():
     from astropy.coordinates import SkyCoord
 
     from ptaconstrain.data import path as data_file
-    from ptaconstrain.sensitivity.pulsar_array import load_array
+    from ptaconstrain.sensitivity import load_array
 
     assert np.degrees(hp.nside2resol(64)) < 1.0
     arr = load_array(data_file("demo_array.ecsv"))
