@@ -399,7 +399,7 @@ class PulsarArray:
         lo, hi = band[0], band[-1]
         bad = (f < lo * (1 - 1e-9)) | (f > hi * (1 + 1e-9))
         if np.any(bad):
-            raise ValueError(
+            raise ArrayError(
                 f"frequency: {f[bad][0].to_value(u.Hz):.4g} Hz is outside the array's band "
                 f"{lo.to_value(u.nHz):.4g}-{hi.to_value(u.nHz):.4g} nHz (1/T to the "
                 "Nyquist frequency of the median cadence); bare numbers are Hz, e.g. '8 nHz'")
