@@ -102,6 +102,8 @@ ECSV_HEAD = ("# %ECSV 1.0\n# ---\n# datatype:\n"
         (["--mass-err", "0.2", "--credibility", "0.5,1.5"], "in (0, 1)"),
         (["--mass-err", "0.2", "--samples", "5"], "--samples"),
         (["--mass-err", "0.2", "--seed", "-1"], "--seed"),
+        (["--mass", "2e14"], "solMass"),  # outside the plausible black-hole masses
+        (["--mass", "9.5"], "solMass"),  # a log10 mass given as a mass
     ],
 )
 def test_bad_arguments_give_one_line_and_no_output(tmp_path, curve_file, change, message):
