@@ -105,3 +105,9 @@ def test_a_failed_command_prints_no_notes(monkeypatch, tmp_path, curve_file):
     r = _run(_args(curve_file, tmp_path / "res") + ["--period-range", "100,200"])
     assert r.exit_code == 2  # the period grid misses the band: a usage error
     assert len(r.output.strip().splitlines()) == 1 and "Note:" not in r.output
+
+
+def test_no_arguments_shows_the_help_not_an_error():
+    r = _run([])
+    assert r.output.startswith("Usage:") and "Error" not in r.output
+    assert "exclude" in r.output and len(r.output.splitlines()) > 5

@@ -24,6 +24,8 @@ __all__ = ["main", "OneLineErrors", "EXIT_INTERNAL"]
 
 #: exit status of an internal error (a bug), EX_SOFTWARE of sysexits.h
 EXIT_INTERNAL = 70
+# click >= 8.2 raises this usage error for a group called without arguments
+_NO_ARGS_IS_HELP = getattr(click.exceptions, "NoArgsIsHelpError", ())
 
 
 class OneLineErrors(click.Group):
@@ -43,6 +45,8 @@ class OneLineErrors(click.Group):
                                   standalone_mode=False, **extra)
             except click.exceptions.Abort:
                 line, status = "Aborted.", 1
+            except _NO_ARGS_IS_HELP as err:  # bare `ptaconstrain`: the help, as click shows it
+                line, status = err.format_message(), err.exit_code
             except click.UsageError as err:
                 hint = ""
                 if err.ctx is not None:
