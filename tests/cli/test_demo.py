@@ -1,4 +1,5 @@
 import numpy as np
+import pytest
 from astropy.table import QTable
 from click.testing import CliRunner
 
@@ -9,7 +10,9 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     out = tmp_path / "demo"
     r = CliRunner().invoke(main, ["demo", "--out", str(out)])
     assert r.exit_code == 0, r.output
-    assert "INVENTED" in r.output
+    assert "INVENTED" in r.stdout
+    # progress goes to stderr, results to stdout
+    assert "exclusion maps" in r.stderr and "exclusion maps" not in r.stdout
     summary = QTable.read(out / "demo_summary.ecsv")
     assert len(summary) == 5
     assert (out / "demo_overview.png").stat().st_size > 10_000
@@ -19,7 +22,8 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     # a forecast from a noise budget reaches smaller q than the present-day limit
     assert all(summary["best_q_forecast"] < summary["best_q_limit"])
     again = CliRunner().invoke(main, ["demo", "--out", str(out)])
-    assert again.exit_code != 0 and "--overwrite" in again.output
+    assert again.exit_code == 1 and "--overwrite" in again.output
+    assert len(again.output.strip().splitlines()) == 1
 
     # issue: uncertainty-aware exclusion shown for one fictional galaxy
     assert "95% credible bound" in r.output and "best-fit bound" in r.output
@@ -40,3 +44,13 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     ranking = QTable.read(out / "ranking.ecsv")
     assert len(ranking) >= 300 and (out / "ranking_sky.png").exists()
     assert np.all(np.diff(ranking["expected_number"]) <= 0)  # sorted by the default metric
+
+
+def test_run_demo_is_a_library_call_that_refuses_a_non_empty_directory(tmp_path):
+    from ptaconstrain.demo import run_demo
+    from ptaconstrain.errors import InputError
+
+    (tmp_path / "mine.txt").write_text("user data")
+    with pytest.raises(InputError, match="not empty"):
+        run_demo(tmp_path)
+    assert [p.name for p in tmp_path.iterdir()] == ["mine.txt"]

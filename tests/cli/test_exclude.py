@@ -71,8 +71,8 @@ ECSV_HEAD = ("# %ECSV 1.0\n# ---\n# datatype:\n"
     "change, message",
     [
         (["--mass", "-2e10"], "must be positive"),
-        (["--mass", "nan"], "not finite"),
-        (["--mass", "2e10 km"], "cannot read"),
+        (["--mass", "nan"], "finite"),
+        (["--mass", "2e10 km"], "is not a mass"),
         (["--distance", "-5"], "must be positive"),
         (["--distance", "abc"], "cannot read"),
         (["--mass-ratio-range", "0,1"], "0 < LOW < HIGH"),
@@ -97,11 +97,13 @@ ECSV_HEAD = ("# %ECSV 1.0\n# ---\n# datatype:\n"
         (["--mass-err", "0.1,0.2,0.3"], "--mass-err"),
         (["--mass-err", "abc%"], "not a number"),
         (["--distance-err", "-3"], "must be >= 0"),
-        (["--distance-err", "3 kg"], "cannot read"),
+        (["--distance-err", "3 kg"], "is not a length"),
         (["--velocity-err", "-30"], "must be positive"),
         (["--mass-err", "0.2", "--credibility", "0.5,1.5"], "in (0, 1)"),
         (["--mass-err", "0.2", "--samples", "5"], "--samples"),
         (["--mass-err", "0.2", "--seed", "-1"], "--seed"),
+        (["--mass", "2e14"], "solMass"),  # outside the plausible black-hole masses
+        (["--mass", "9.5"], "solMass"),  # a log10 mass given as a mass
     ],
 )
 def test_bad_arguments_give_one_line_and_no_output(tmp_path, curve_file, change, message):

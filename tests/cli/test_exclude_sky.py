@@ -38,6 +38,7 @@ def test_skymap_limit_is_taken_at_the_host_pixel(tmp_path):
                   "--grid", "60", "--format", "png"])
         assert r.exit_code == 0, r.output
         assert "at the host's position" in r.output and "ruled out" in r.output
+        assert "Note:" not in r.output  # a position was given: nothing assumed
         t = QTable.read(tmp_path / name / f"{name}_exclusion.ecsv")
         assert "limit-map" in t.meta["files"]
         bounds[name] = np.asarray(t["max_mass_ratio"])
@@ -51,6 +52,9 @@ def test_array_without_position_says_sky_averaged(tmp_path):
               "--grid", "30", "--format", "png"])
     assert r.exit_code == 0, r.output
     assert "sky-averaged" in r.output and "would be detectable" in r.output
+    # the assumption is a note on stderr, once
+    notes = [ln for ln in r.stderr.splitlines() if ln.startswith("Note:")]
+    assert notes == ["Note: no sky position (--ra/--dec): the sky-averaged sensitivity is used"]
     t = QTable.read(tmp_path / "o" / "host_forecast.ecsv")
     assert t.meta["sky"] == "averaged" and "FORECAST" in t.meta["statement"]
 

@@ -1,59 +1,120 @@
 """Command-line interface: thin click commands composed into one group.
 
 Only click is imported at start-up (``ptaconstrain --help`` must stay fast);
-each command imports the library inside its body.  Errors a user can fix are
-printed as one line, ``Error: ...``, with a non-zero exit status and no
-traceback (see :class:`OneLineErrors`).
+each command imports the library inside its body.  How problems reach the user
+(:class:`OneLineErrors`):
+
+- an input the user can fix (:class:`~ptaconstrain.errors.PtaconstrainError`),
+  an operating-system error (``<path>: <reason>``) or a click error prints one
+  line ``Error: ...``; the exit status is 1 (2 for click usage errors);
+- any other exception is a bug: one line ``internal error: ...`` and exit
+  status 70 (``EX_SOFTWARE``); ``--debug`` lets the traceback through;
+- a soft assumption (:class:`~ptaconstrain.errors.PtaconstrainWarning`) made
+  during a successful command prints one ``Note: ...`` line on stderr.
 """
 
 import sys
+import warnings
 
 import click
 
 from .. import __version__
 
-__all__ = ["main"]
+__all__ = ["main", "OneLineErrors", "EXIT_INTERNAL"]
+
+#: exit status of an internal error (a bug), EX_SOFTWARE of sysexits.h
+EXIT_INTERNAL = 70
+# click >= 8.2 raises this usage error for a group called without arguments
+_NO_ARGS_IS_HELP = getattr(click.exceptions, "NoArgsIsHelpError", ())
 
 
 class OneLineErrors(click.Group):
-    """A click group that reports usage and input errors on a single line."""
+    """A click group that reports errors on one line and soft assumptions as notes."""
 
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True,
              **extra):
-        try:
-            rv = super().main(args=args, prog_name=prog_name, complete_var=complete_var,
-                              standalone_mode=False, **extra)
-        except click.exceptions.Abort:
-            click.echo("Aborted.", err=True)
-            sys.exit(1)
-        except click.UsageError as err:
-            hint = ""
-            if err.ctx is not None:
-                hint = f" (see '{err.ctx.command_path} --help')"
-            click.echo(f"Error: {err.format_message()}{hint}", err=True)
-            sys.exit(err.exit_code)
-        except click.ClickException as err:
-            click.echo(f"Error: {err.format_message()}", err=True)
-            sys.exit(err.exit_code)
-        except (ValueError, OSError) as err:
-            click.echo(f"Error: {_one_line(err)}", err=True)
-            sys.exit(1)
+        from ..errors import PtaconstrainError, PtaconstrainWarning
+
+        argv = sys.argv[1:] if args is None else list(args)
+        debug = "--debug" in argv[:_first_command(argv)]
+        line, status = None, 0
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always", PtaconstrainWarning)
+            try:
+                rv = super().main(args=args, prog_name=prog_name, complete_var=complete_var,
+                                  standalone_mode=False, **extra)
+            except click.exceptions.Abort:
+                line, status = "Aborted.", 1
+            except _NO_ARGS_IS_HELP as err:  # bare `ptaconstrain`: the help, as click shows it
+                line, status = err.format_message(), err.exit_code
+            except click.UsageError as err:
+                hint = ""
+                if err.ctx is not None:
+                    hint = f" (see '{err.ctx.command_path} --help')"
+                line = f"Error: {_squeeze(err.format_message())}{hint}"
+                status = err.exit_code
+            except click.ClickException as err:
+                line, status = f"Error: {_squeeze(err.format_message())}", err.exit_code
+            except (PtaconstrainError, OSError) as err:
+                if debug:
+                    raise
+                line, status = f"Error: {_one_line(err)}", 1
+            except Exception as err:  # anything else is a bug, and says so
+                if debug:
+                    raise
+                line = (f"internal error: {type(err).__name__}: {_one_line(err)} — please "
+                        "report it; rerun with --debug for the traceback")
+                status = EXIT_INTERNAL
+        # notes only after a success: a failed command's one line stays one line
+        _show_warnings(caught, PtaconstrainWarning, notes=line is None)
+        if line is not None:
+            click.echo(line, err=True)
+            sys.exit(status)
         if not standalone_mode:
             return rv
         sys.exit(rv if isinstance(rv, int) else 0)
 
 
+def _first_command(argv):
+    """Index of the first non-option argument (the command), or len(argv)."""
+    for i, arg in enumerate(argv):
+        if not arg.startswith("-"):
+            return i
+    return len(argv)
+
+
+def _show_warnings(caught, ours, notes=True):
+    """``Note:`` lines for our warnings (deduplicated); others shown as Python would."""
+    seen = set()
+    for w in caught:
+        if issubclass(w.category, ours):
+            if not notes:
+                continue
+            text = _squeeze(str(w.message))
+            if text not in seen:
+                seen.add(text)
+                click.echo(f"Note: {text}", err=True)
+        else:
+            warnings.showwarning(w.message, w.category, w.filename, w.lineno, w.file, w.line)
+
+
+def _squeeze(text):
+    return " ".join(str(text).split())
+
+
 def _one_line(err):
-    text = str(err).strip() or type(err).__name__
+    """An exception as one line of text; OS errors as ``<path>: <reason>``."""
     if isinstance(err, OSError) and err.filename and err.strerror:
         # e.g. "/proc/x: no such file or directory", "out/: permission denied"
         return f"{err.filename}: {err.strerror.lower()}"
-    return " ".join(text.split())
+    return _squeeze(str(err).strip() or type(err).__name__)
 
 
 @click.group(cls=OneLineErrors, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="ptaconstrain")
-def main():
+@click.option("--debug", is_flag=True,
+              help="Show the full traceback of an error instead of one line.")
+def main(debug):
     """Bound black-hole companions in galaxies with pulsar-timing-array sensitivity.
 
     \b

@@ -6,10 +6,6 @@ from . import main
 
 __all__ = ["demo"]
 
-HOSTS_FILE = "demo_hosts.ecsv"
-LIMIT_FILE = "synthetic_h0_limit.ecsv"
-FORECAST_FILE = "synthetic_future_psd.ecsv"
-
 
 @main.command()
 @click.option("--out", type=click.Path(file_okay=False), default="ptaconstrain-demo",
@@ -25,189 +21,35 @@ def demo(out, overwrite):
     Example:
       ptaconstrain demo --out demo-output
     """
-    from pathlib import Path
+    from ..demo import run_demo
 
-    out = Path(out)
-    if out.exists() and any(out.iterdir()) and not overwrite:
-        raise click.ClickException(
-            f"{out} is not empty: choose another --out or pass --overwrite")
-    for line in run_demo(out, overwrite):
+    bars = _ProgressBars()
+    try:
+        lines = run_demo(out, overwrite=overwrite, progress=bars)
+    finally:
+        bars.close()
+    for line in lines:
         click.echo(line)
 
 
-def run_demo(out, overwrite=False):
-    """Library calls behind ``demo``; returns the lines to print."""
-    from astropy.table import QTable
+class _ProgressBars:
+    """``progress(label, done, total)`` drawn as click progress bars on stderr."""
 
-    from ..binary.host import hosts_from_table
-    from ..data import path as data_file
-    from ..sensitivity.curve import load_curve
+    def __init__(self):
+        self.label = None
+        self.bar = None
 
-    hosts = hosts_from_table(QTable.read(data_file(HOSTS_FILE)))
-    limit_path = data_file(LIMIT_FILE)
-    forecast_path = data_file(FORECAST_FILE)
-    limit, forecast = load_curve(limit_path), load_curve(forecast_path)
-    lines = [f"ptaconstrain demo: {len(hosts)} INVENTED galaxies, synthetic curves; "
-             f"output in {out}/"]
-    results = []
-    with click.progressbar(hosts, label="exclusion maps", file=None,
-                           item_show_func=lambda h: h.name if h else "") as bar:
-        for host in bar:
-            results.append(_host_outputs(host, limit, forecast, limit_path, forecast_path,
-                                         out, overwrite))
-    lines += [line for _, _, text in results for line in text]
-    lines += _summary_outputs(results, out, overwrite)
-    lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite)
-    lines += _optional_parts(out, hosts, limit, overwrite)
-    lines += _array_exclusions(out, hosts, overwrite)
-    return lines
+    def __call__(self, label, done, total):
+        import sys
 
+        if label != self.label:
+            self.close()
+            self.label = label
+            self.bar = click.progressbar(length=total, label=label, file=sys.stderr)
+            self.bar.__enter__()
+        self.bar.update(done - self.bar.pos)
 
-def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwrite):
-    from .._files import write_table
-    from ..analysis.exclusion import exclusion_map
-    from ..report.figures import exclusion_figure, save_figure
-    from ..report.provenance import provenance, safe_name
-    from ..report.tables import exclusion_table, summary_lines
-
-    text = []
-    maps = []
-    for curve, path, tag in ((limit, limit_path, "exclusion"), (forecast, forecast_path,
-                                                                "forecast")):
-        result = exclusion_map(host, curve)
-        stem = out / f"{safe_name(host.name)}_{tag}"
-        meta = provenance(host.describe(), files={"curve": path})
-        meta["demo"] = "INVENTED data: fictional host, synthetic curve"
-        write_table(exclusion_table(result, meta), f"{stem}.ecsv", overwrite)
-        save_figure(exclusion_figure(result), stem, ("png",), overwrite)
-        text += summary_lines(result)[:1]
-        maps.append(result)
-    return maps[0], maps[1], text
-
-
-def _summary_outputs(results, out, overwrite):
-    import numpy as np
-    from astropy import units as u
-    from astropy.table import QTable
-
-    from .._files import write_table
-    from ..report.figures import save_figure
-    from ..report.overview import overview_figure
-
-    t = QTable()
-    lim = [r[0] for r in results]
-    fc = [r[1] for r in results]
-    t["name"] = [r.host.name for r in lim]
-    t["mass"] = u.Quantity([r.host.mass for r in lim]).to(u.Msun)
-    t["distance"] = u.Quantity([r.host.distance for r in lim]).to(u.Mpc)
-    for tag, maps in (("limit", lim), ("forecast", fc)):
-        best = [r.tightest() for r in maps]
-        t[f"best_q_{tag}"] = [b[1] if b else np.nan for b in best]
-        t[f"best_period_{tag}"] = u.Quantity([b[0] if b else np.nan * u.yr for b in best])
-        masses = [r.smallest_excluded_companion_mass for r in maps]
-        t[f"min_companion_{tag}"] = u.Quantity(
-            [np.nan * u.Msun if m is None else m for m in masses]).to(u.Msun)
-    t["best_q_limit"].info.description = "smallest max_mass_ratio excluded by the 95% limit"
-    t["best_q_forecast"].info.description = "smallest max_mass_ratio detectable (forecast)"
-    t.meta["demo"] = "INVENTED data: fictional hosts, synthetic curves"
-    write_table(t, out / "demo_summary.ecsv", overwrite)
-    save_figure(overview_figure(lim, fc), out / "demo_overview", ("png",), overwrite)
-    return [f"summary table {out / 'demo_summary.ecsv'}; overview figure "
-            f"{out / 'demo_overview.png'}"]
-
-
-def _probability_outputs(host, limit, limit_path, out, overwrite, seed=2026):
-    """Probability map of one host from its mass and distance errors."""
-    from .._files import write_table
-    from ..analysis.probability import exclusion_probability
-    from ..report.figures import exclusion_figure, save_figure
-    from ..report.provenance import provenance, safe_name
-    from ..report.tables import credible_summary_lines, exclusion_table
-
-    prob = exclusion_probability(host, limit, samples=100_000, seed=seed)
-    stem = out / f"{safe_name(host.name)}_probability"
-    meta = provenance(host.describe(), files={"curve": limit_path})
-    meta["demo"] = "INVENTED data: fictional host, synthetic curve"
-    write_table(exclusion_table(prob.deterministic, meta, prob_map=prob), f"{stem}.ecsv",
-                overwrite)
-    save_figure(exclusion_figure(prob.deterministic, prob_map=prob), stem, ("png",), overwrite)
-    best = prob.deterministic.tightest()
-    cred = prob.tightest(0.95)
-    lines = [f"{host.name} with its errors ({host.describe().get('mass_err_dex')} dex in mass, "
-             f"{host.describe().get('distance_err')} in distance, mass scaled with distance):"]
-    if best is not None and cred is not None:
-        lines.append(f"  best-fit bound q > {best[1]:.3g} at P = {best[0].to_value('yr'):.3g} yr"
-                     f"; 95% credible bound q > {cred[1]:.3g} at P = "
-                     f"{cred[0].to_value('yr'):.3g} yr ({stem}.png)")
-    else:
-        lines += credible_summary_lines(prob)
-    return lines
-
-
-def _optional_parts(out, hosts, limit, overwrite):
-    """Parts from the array and ranking modules, when they are installed."""
-    import importlib
-
-    lines = []
-    for module, args in (("array_cmds", (out, hosts)), ("rank_cmd", (out, limit))):
-        try:
-            mod = importlib.import_module(f"ptaconstrain.cli.{module}")
-        except ModuleNotFoundError:
-            continue
-        part = getattr(mod, "demo_part", None)
-        if part is not None:
-            lines += part(*args, overwrite=overwrite)
-    return lines
-
-
-def _array_exclusions(out, hosts, overwrite):
-    """Forecasts from the demo pulsar array at each host's position vs the sky average."""
-    import numpy as np
-
-    try:
-        from .array_cmds import demo_array
-    except ModuleNotFoundError:
-        return []
-    from .._files import write_table
-    from ..analysis.exclusion import exclusion_map
-    from ..report.figures import exclusion_figure, save_figure
-    from ..report.overview import overview_figure
-    from ..report.provenance import provenance, safe_name
-    from ..report.tables import exclusion_table
-
-    arr = demo_array()
-    sky_avg = arr.sky_averaged_curve()
-    at_host, averaged, lines = [], [], []
-    for host in hosts:
-        here = exclusion_map(host, arr)  # asks the array for the curve at host.coord
-        avg = exclusion_map(host, sky_avg)
-        stem = out / f"{safe_name(host.name)}_array_forecast"
-        meta = provenance(host.describe())
-        meta["demo"] = "INVENTED data: fictional host and pulsar array"
-        meta["array"] = "src/ptaconstrain/data/demo_array.ecsv (INVENTED)"
-        write_table(exclusion_table(here, meta), f"{stem}.ecsv", overwrite)
-        save_figure(exclusion_figure(here), stem, ("png",), overwrite)
-        at_host.append(here)
-        averaged.append(avg)
-    ratios = []
-    for here, avg in zip(at_host, averaged, strict=True):
-        b_here, b_avg = here.tightest(), avg.tightest()
-        ratios.append(b_here[1] / b_avg[1] if b_here and b_avg else np.nan)
-    order = np.argsort(ratios)
-    lines.append("pulsar-array forecast (S/N >= 5) at each host's position vs sky-averaged:")
-    for i in order:
-        b_here, b_avg = at_host[i].tightest(), averaged[i].tightest()
-        if not (b_here and b_avg):
-            continue
-        where = ("well-covered direction" if ratios[i] < 0.9 else
-                 "poorly covered direction" if ratios[i] > 1.1 else "near the sky average")
-        lines.append(f"  {hosts[i].name}: q > {b_here[1]:.3g} detectable at its position, "
-                     f"q > {b_avg[1]:.3g} sky-averaged ({ratios[i]:.2f} x; {where})")
-    fig = overview_figure(
-        at_host, averaged,
-        title="INVENTED demo pulsar array (forecast, S/N >= 5): companions above each\n"
-              "line would be detectable, at the host's position or sky-averaged",
-        names=("at the host's position", "sky-averaged"))
-    save_figure(fig, out / "demo_array_overview", ("png",), overwrite)
-    lines.append(f"  figure {out / 'demo_array_overview.png'}")
-    return lines
+    def close(self):
+        if self.bar is not None:
+            self.bar.__exit__(None, None, None)
+        self.bar, self.label = None, None

@@ -213,6 +213,12 @@ def _sensitivity_at(host, array_path, limit_map_path, snr):
         sens = load_limit_map(limit_map_path)
     curve = sens.curve_at(host.coord, snr=snr) if array_path else sens.curve_at(host.coord)
     if host.coord is None:
+        import warnings
+
+        from ..errors import PtaconstrainWarning
+
+        warnings.warn("no sky position (--ra/--dec): the sky-averaged sensitivity is used",
+                      PtaconstrainWarning, stacklevel=2)
         note = "sky-averaged: the host has no --ra/--dec"
     else:
         note = f"at the host's position ({curve.sky})"

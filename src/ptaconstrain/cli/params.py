@@ -12,8 +12,10 @@ __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceErro
 class QuantityType(click.ParamType):
     """A number with optional units, e.g. ``2e10``, ``"2e10 solMass"``, ``"8 nHz"``.
 
-    Bare numbers are read in ``default_unit``; the value must be finite and,
-    if ``positive``, greater than zero.
+    Read by :func:`ptaconstrain._inputs.quantity`, the package's one unit
+    policy, so the command line and the library read the same text the same
+    way: bare numbers are in ``default_unit``, the value must be finite and,
+    if ``positive``, greater than zero (or >= 0 with ``allow_zero``).
     """
 
     name = "quantity"
@@ -24,26 +26,18 @@ class QuantityType(click.ParamType):
         self.allow_zero = allow_zero
 
     def convert(self, value, param, ctx):
-        import numpy as np
-        from astropy import units as u
+        from .. import _inputs
+        from ..errors import InputError
 
-        if isinstance(value, u.Quantity):
-            return value
-        unit = u.Unit(self.default_unit)
-        text = str(value).strip()
+        field = param.name if param is not None and param.name else "value"
         try:
-            q = u.Quantity(text)
-            q = q.value * unit if q.unit == u.dimensionless_unscaled else q.to(unit)
-        except (TypeError, ValueError, u.UnitsError):
-            self.fail(
-                f"cannot read {text!r} as a {unit.physical_type}: give a number "
-                f"(read as {unit}) or a number with units, e.g. '1 {unit}'",
-                param, ctx,
-            )
-        if not np.isfinite(q.value):
-            self.fail(f"{text!r} is not finite", param, ctx)
-        if self.positive and (q.value < 0 or (q.value == 0 and not self.allow_zero)):
-            self.fail(f"{text!r} must be {'>= 0' if self.allow_zero else 'positive'}",
+            q = _inputs.quantity(value, self.default_unit, field)
+            if self.positive:
+                _inputs.positive(q, field, allow_zero=self.allow_zero)
+        except InputError as err:
+            text = str(err)
+            # click names the option already: drop the library's field prefix
+            self.fail(text[len(field) + 2:] if text.startswith(f"{field}: ") else text,
                       param, ctx)
         return q
 

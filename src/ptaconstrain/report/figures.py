@@ -64,24 +64,25 @@ def exclusion_figure(result, ax=None, prob_map=None):
     ----------
     result : ExclusionMap
     ax : matplotlib Axes, optional
+        Draw into these axes (e.g. one panel of the caller's figure); by
+        default a new :class:`matplotlib.figure.Figure` is made, without pyplot.
     prob_map : ProbabilityMap, optional
         From :func:`ptaconstrain.analysis.probability.exclusion_probability`: its
         probability contours are drawn over the deterministic map.
 
     Returns
     -------
-    matplotlib Figure
+    matplotlib.figure.Figure
+        The new figure, or the figure that holds ``ax``.
     """
-    import matplotlib
-
-    matplotlib.use("Agg", force=False)
-    import matplotlib.pyplot as plt
     from matplotlib.colors import BoundaryNorm, ListedColormap
+    from matplotlib.figure import Figure
     from matplotlib.patches import Patch
 
     own_figure = ax is None
     if own_figure:
-        fig, ax = plt.subplots(figsize=(7.4, 5.8))
+        fig = Figure(figsize=(7.4, 5.8))
+        ax = fig.subplots()
         # Fixed margins: constrained layout doubles the drawing time.
         fig.subplots_adjust(left=0.11, right=0.87, bottom=0.23, top=0.85)
     else:
@@ -192,6 +193,9 @@ def _fit_legend_rows(fig, rows, base_rows=4, row_height=0.17):
 def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
     """Save ``fig`` as ``stem.<fmt>`` for each format, atomically.
 
+    The figure is written with :meth:`matplotlib.figure.Figure.savefig` (no
+    pyplot, no backend switch) and left open: it belongs to the caller.
+
     Parameters
     ----------
     fig : matplotlib Figure
@@ -206,8 +210,6 @@ def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
     """
     from pathlib import Path
 
-    import matplotlib.pyplot as plt
-
     from .._files import atomic_write
 
     written = []
@@ -216,5 +218,4 @@ def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
         with atomic_write(path, overwrite) as tmp:
             fig.savefig(tmp, format=fmt, dpi=dpi)
         written.append(path)
-    plt.close(fig)
     return written

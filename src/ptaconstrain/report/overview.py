@@ -27,13 +27,11 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
     -------
     matplotlib Figure
     """
-    import matplotlib
-
-    matplotlib.use("Agg", force=False)
-    import matplotlib.pyplot as plt
+    from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
 
-    fig, ax = plt.subplots(figsize=(7.2, 5.6))
+    fig = Figure(figsize=(7.2, 5.6))
+    ax = fig.subplots()
     fig.subplots_adjust(left=0.11, right=0.97, top=0.9, bottom=0.3)
     chirped = False
     for i, r in enumerate(limit_maps):

@@ -9,6 +9,8 @@ they stay apart in grey-scale print and from the blue best-fit bound of
 import numpy as np
 from astropy import units as u
 
+from ..errors import InputError
+
 __all__ = [
     "add_probability_contours",
     "probability_columns",
@@ -58,7 +60,7 @@ def add_probability_contours(ax, prob_map, levels=(0.5, 0.9, 0.95), best_fit=Fal
 
     levels = sorted(float(v) for v in np.atleast_1d(levels))
     if not levels or not all(0.0 < v < 1.0 for v in levels):
-        raise ValueError(f"levels: each contour level must be in (0, 1), got {levels!r}")
+        raise InputError(f"levels: each contour level must be in (0, 1), got {levels!r}")
     p = prob_map.period.to_value(u.yr)
     q = prob_map.mass_ratio
     z = np.ma.masked_invalid(prob_map.probability)

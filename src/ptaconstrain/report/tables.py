@@ -89,6 +89,12 @@ def exclusion_table(result, meta=None, prob_map=None):
 def summary_lines(result):
     """Two lines: the tightest bound and the lightest companion excluded.
 
+    When nothing is excluded (detectable) the second line says why, from the
+    strain comparison itself: the h0 of an equal-mass binary stays below the
+    curve; or it exceeds the curve but only where the binary chirps within
+    the span (so no CW bound is quoted); or every period of the grid in the
+    curve's band lies above ISCO (no circular binary of this mass has them).
+
     Returns
     -------
     list of str, e.g.
@@ -101,15 +107,8 @@ def summary_lines(result):
     else:
         phrase, tag = "would be detectable", f"{result.label}, not an exclusion"
     if best is None:
-        lines = [f"{host}: no companion {phrase} at any period on the grid ({tag})"]
-        band = result.curve.frequency
-        lines.append(
-            f"{host}: h0 of an equal-mass binary stays below the curve over "
-            f"{band[0].to_value(u.nHz):.3g}-{band[-1].to_value(u.nHz):.3g} nHz "
-            f"(M = {format_quantity(result.host.mass)}, D_L = "
-            f"{format_quantity(result.host.distance.to(u.Mpc))})"
-        )
-        return lines
+        return [f"{host}: no companion {phrase} at any period on the grid ({tag})",
+                _why_no_bound(result)]
     period, qmax = best
     m2 = result.smallest_excluded_companion_mass
     cut = (result.max_mass_ratio < 1.0) & result.bound_is_monochromatic
@@ -120,6 +119,43 @@ def summary_lines(result):
         f"period; some q {phrase} for P = {p.min():.3g}-{p.max():.3g} yr",
     ]
     return lines
+
+
+def _why_no_bound(result):
+    """The strain comparison behind an empty bound, as one line."""
+    from ..binary.waveform import orbital_period, strain_amplitude
+
+    host = result.host
+    f = result.frequency
+    threshold = np.asarray(getattr(result.h0_threshold, "value", result.h0_threshold),
+                           dtype=float)
+    in_band = np.isfinite(threshold)
+    below_isco = f <= result.isco_frequency
+    constrained = in_band & below_isco
+    what = "the limit" if result.is_limit else "the detection threshold"
+    mass = f"M = {format_quantity(host.mass.to(u.Msun))}"
+    if not constrained.any():
+        if in_band.any():
+            p_isco = orbital_period(result.isco_frequency).to(u.yr)
+            return (f"{host.name}: no circular binary of this mass has these periods: every "
+                    f"period of the grid in the curve's band lies above ISCO (P < "
+                    f"{format_quantity(p_isco)} for {mass}), so no bound is quoted")
+        band = orbital_period(result.curve.frequency[[-1, 0]]).to_value(u.yr)
+        return (f"{host.name}: no period of the grid lies in the curve's band (P = "
+                f"{band[0]:.3g}-{band[1]:.3g} yr), so no bound is quoted")
+    h0_equal = strain_amplitude(host.mass, 1.0, f[constrained], host.distance, host.redshift)
+    ratio = h0_equal.to_value(u.dimensionless_unscaled) / threshold[constrained]
+    top = float(ratio.max())
+    if top > 1.0:
+        # tightest() is None although q = 1 exceeds the curve: every such period chirps
+        return (f"{host.name}: h0 of an equal-mass binary exceeds {what} by up to a factor "
+                f"{top:.3g}, but every such period chirps within the "
+                f"{format_quantity(result.span.to(u.yr))} span (the monochromatic CW model "
+                "does not hold), so no CW bound is quoted")
+    f_nhz = f[constrained].to_value(u.nHz)
+    return (f"{host.name}: h0 of an equal-mass binary stays below {what} (at most "
+            f"{top:.3g} of it) over {f_nhz.min():.3g}-{f_nhz.max():.3g} nHz ({mass}, D_L = "
+            f"{format_quantity(host.distance.to(u.Mpc))})")
 
 
 def credible_summary_lines(prob_map):

@@ -1,0 +1,78 @@
+"""Figures are plain matplotlib Figures: no pyplot, drawable into a caller's Axes."""
+
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+from astropy import units as u
+from curves_for_tests import power_law_limit
+
+import ptaconstrain
+from ptaconstrain._files import OutputExistsError
+from ptaconstrain.analysis.exclusion import EXCLUDED, exclusion_map
+from ptaconstrain.binary.host import Host
+from ptaconstrain.report.figures import exclusion_figure, save_figure
+
+
+@pytest.fixture(scope="module")
+def result():
+    return exclusion_map(Host("Figure host", 2e10, 100), power_law_limit(),
+                         mass_ratio=np.geomspace(1e-3, 1, 40),
+                         period=np.geomspace(0.3, 30, 50) * u.yr)
+
+
+def test_a_figure_is_made_and_saved_without_pyplot(tmp_path):
+    src = str(Path(ptaconstrain.__file__).resolve().parent.parent)
+    tests = str(Path(__file__).resolve().parent.parent)
+    code = f"""
+import sys
+import numpy as np
+from astropy import units as u
+from curves_for_tests import power_law_limit
+from ptaconstrain.analysis.exclusion import exclusion_map
+from ptaconstrain.binary.host import Host
+from ptaconstrain.report.figures import exclusion_figure, save_figure
+from ptaconstrain.report.overview import overview_figure
+r = exclusion_map(Host("h", 2e10, 100), power_law_limit(), mass_ratio=[0.01, 0.1, 1],
+                  period=[1, 3, 10] * u.yr)
+save_figure(exclusion_figure(r), {str(tmp_path / "one")!r}, ("png", "pdf"))
+save_figure(overview_figure([r]), {str(tmp_path / "all")!r}, ("png",))
+print("matplotlib.pyplot" in sys.modules)
+"""
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join([src, tests]))
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env,
+                       timeout=120)
+    assert r.returncode == 0, r.stderr
+    assert r.stdout.strip() == "False"
+    # PNG signature (ISO/IEC 15948 section 5.2) and PDF header (ISO 32000-1 section 7.5.2)
+    assert (tmp_path / "one.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert (tmp_path / "one.pdf").read_bytes()[:5] == b"%PDF-"
+    assert (tmp_path / "all.png").stat().st_size > 1000
+
+
+def test_exclusion_figure_draws_into_a_given_axes(result):
+    from matplotlib.figure import Figure
+
+    fig = Figure()
+    left, right = fig.subplots(1, 2)
+    assert exclusion_figure(result, ax=right) is fig
+    assert right.get_xscale() == "log" and right.get_yscale() == "log"
+    assert right.collections and not left.collections and not left.lines
+    assert right.get_title().startswith("Figure host")
+    assert (result.region == EXCLUDED).any()  # the map has something to show
+
+
+def test_save_figure_keeps_the_figure_and_refuses_to_overwrite(tmp_path, result):
+    fig = exclusion_figure(result)
+    first = save_figure(fig, tmp_path / "map", ("png",))
+    assert first == [tmp_path / "map.png"]
+    before = first[0].read_bytes()
+    with pytest.raises(OutputExistsError):
+        save_figure(fig, tmp_path / "map", ("png",))
+    assert first[0].read_bytes() == before
+    # the figure was not closed: it can still be saved elsewhere, and replaced when asked
+    assert save_figure(fig, tmp_path / "again", ("svg",)) == [tmp_path / "again.svg"]
+    assert save_figure(fig, tmp_path / "map", ("png",), overwrite=True) == first
