@@ -14,7 +14,7 @@ assumptions made on the user's behalf warn with :class:`PtaconstrainWarning`.
 
 import importlib
 
-__version__ = "0.1.0"
+from ._version import __version__
 
 #: public name -> module that defines it
 _WHERE = {
@@ -22,7 +22,7 @@ _WHERE = {
     "StrainCurve": "ptaconstrain.sensitivity.curve",
     "load_curve": "ptaconstrain.sensitivity.curve",
     "PulsarArray": "ptaconstrain.sensitivity.pulsar_array",
-    "load_array": "ptaconstrain.sensitivity.pulsar_array",
+    "load_array": "ptaconstrain.sensitivity.pulsar_list",
     "LimitMap": "ptaconstrain.sensitivity.limit_map",
     "load_limit_map": "ptaconstrain.sensitivity.limit_map",
     "exclusion_map": "ptaconstrain.analysis.exclusion",

@@ -6,18 +6,20 @@ synthetic future noise budget (forecasts), one probability map from a host's
 mass and distance errors, the invented pulsar array at each host's position,
 and the ranking of the fictional catalogue.  It needs no network.
 
-The array and ranking parts still come from the command modules
-(``cli.array_cmds.demo_part``/``demo_array`` and ``cli.rank_cmd.demo_part``),
-imported when present.
+Each part is a function of its own (:func:`array_part`, :func:`ranking_part`), so
+tests and notebooks can run one of them.
 """
 
 from pathlib import Path
 
-__all__ = ["run_demo", "HOSTS_FILE", "LIMIT_FILE", "FORECAST_FILE"]
+__all__ = ["run_demo", "array_part", "ranking_part", "demo_array", "HOSTS_FILE",
+           "LIMIT_FILE", "FORECAST_FILE", "ARRAY_FILE", "CATALOGUE_FILE"]
 
 HOSTS_FILE = "demo_hosts.ecsv"
 LIMIT_FILE = "synthetic_h0_limit.ecsv"
 FORECAST_FILE = "synthetic_future_psd.ecsv"
+ARRAY_FILE = "demo_array.ecsv"
+CATALOGUE_FILE = "demo_catalogue.ecsv"
 
 
 def run_demo(out, overwrite=False, progress=None):
@@ -70,7 +72,8 @@ def run_demo(out, overwrite=False, progress=None):
     lines += [line for _, _, text in results for line in text]
     lines += _summary_outputs(results, out, overwrite)
     lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite)
-    lines += _optional_parts(out, hosts, limit, overwrite)
+    lines += array_part(out, hosts, overwrite, progress)
+    lines += ranking_part(out, limit, overwrite)
     lines += _array_exclusions(out, hosts, overwrite)
     return lines
 
@@ -156,30 +159,10 @@ def _probability_outputs(host, limit, limit_path, out, overwrite, seed=2026):
     return lines
 
 
-def _optional_parts(out, hosts, limit, overwrite):
-    """Parts from the array and ranking modules, when they are installed."""
-    import importlib
-
-    lines = []
-    for module, args in (("array_cmds", (out, hosts)), ("rank_cmd", (out, limit))):
-        try:
-            mod = importlib.import_module(f"{__package__}.cli.{module}")
-        except ModuleNotFoundError:
-            continue
-        part = getattr(mod, "demo_part", None)
-        if part is not None:
-            lines += part(*args, overwrite=overwrite)
-    return lines
-
-
 def _array_exclusions(out, hosts, overwrite):
     """Forecasts from the demo pulsar array at each host's position vs the sky average."""
     import numpy as np
 
-    try:
-        from .cli.array_cmds import demo_array
-    except ModuleNotFoundError:
-        return []
     from ._files import write_table
     from .analysis.exclusion import exclusion_map
     from .report.figures import exclusion_figure, save_figure
@@ -222,4 +205,136 @@ def _array_exclusions(out, hosts, overwrite):
         names=("at the host's position", "sky-averaged"))
     save_figure(fig, out / "demo_array_overview", ("png",), overwrite)
     lines.append(f"  figure {out / 'demo_array_overview.png'}")
+    return lines
+
+
+_DEMO = {}
+
+
+def demo_array():
+    """The shipped, invented demo array, loaded once per process (its fits are cached).
+
+    Returns
+    -------
+    ptaconstrain.sensitivity.PulsarArray
+    """
+    if "array" not in _DEMO:
+        from .data import path as data_file
+        from .sensitivity.pulsar_list import load_array
+
+        _DEMO["array"] = load_array(data_file(ARRAY_FILE))
+    return _DEMO["array"]
+
+
+def array_part(out_dir, hosts, overwrite=False, progress=None):
+    """Pulsar-array part of ``ptaconstrain demo``: sky map, figure and per-host curves.
+
+    Loads the shipped, invented demo array, maps the h0 threshold (S/N >= 5) at
+    its most sensitive sky-averaged frequency, marks ``hosts`` on the figure,
+    writes each host's curve (and the sky-averaged one) and returns summary lines.
+
+    Parameters
+    ----------
+    out_dir : path-like
+    hosts : list of ptaconstrain.binary.host.Host
+    overwrite : bool
+    progress : callable, optional
+        Called as ``progress(label, done, total)`` during the timing-model fits.
+
+    Returns
+    -------
+    list of str
+    """
+    from pathlib import Path
+
+    import numpy as np
+
+    from ._files import check_new
+    from .report.figures import save_figure
+    from .report.provenance import safe_name
+    from .report.skyplot import nhz_text, sky_map_figure, threshold_label
+    from .sensitivity.curve import save_curve
+    from .sensitivity.limit_map import write_threshold_maps
+
+    snr, nside = 5.0, 32
+    out = Path(out_dir)
+    fits_path = out / "demo_array_h0_map.fits"
+    png_stem = out / "demo_array_h0_map"
+    curve_paths = {h.name: out / f"demo_array_curve_{safe_name(h.name)}.ecsv" for h in hosts}
+    sky_path = out / "demo_array_curve_sky_averaged.ecsv"
+    check_new([fits_path, f"{png_stem}.png", sky_path, *curve_paths.values()], overwrite)
+
+    arr = demo_array()
+    freq = arr.default_frequencies()
+    done = [0]
+
+    def step(n=1):
+        done[0] += n
+        if progress is not None:
+            progress("demo pulsar array", done[0], len(arr))
+
+    arr.weights(freq, callback=step)
+    sky = arr.sky_averaged_curve(snr=snr, frequency=freq)
+    sky.meta["demo"] = "INVENTED pulsar array (src/ptaconstrain/data/demo_array.ecsv)"
+    h_sky = sky.h0_threshold(freq, snr=snr)
+    # the frequency where a given binary (h0 ~ f^(2/3)) is easiest to detect
+    i = int(np.argmin(h_sky / freq.to_value("Hz") ** (2 / 3)))
+    f_best = freq[i : i + 1]
+    m = arr.h0_threshold_map(f_best, nside=nside, snr=snr)
+    write_threshold_maps(fits_path, m, f_best, snr, arr.span,
+                         "pulsar list demo_array (INVENTED)", overwrite=overwrite)
+    fig = sky_map_figure(
+        m[0], pulsars=arr.sky_markers(), hosts=hosts,
+        title=f"INVENTED demo array: h0 detectable at S/N >= {snr:g} (forecast), "
+              f"f = {nhz_text(f_best[0])}",
+        label=threshold_label(snr))
+    save_figure(fig, png_stem, ("png",), overwrite)
+    save_curve(sky, sky_path, overwrite)
+
+    lines = [f"pulsar array: {len(arr)} INVENTED pulsars, span {arr.span.value:.3g} yr; sky "
+             f"map {fits_path.name} + {png_stem.name}.png at f = {nhz_text(f_best[0])}: sky-"
+             f"averaged h0 >= {h_sky[i]:.3g} for S/N >= {snr:g} (forecast)"]
+    for host in hosts:
+        c = arr.curve_at(host.coord, snr=snr, frequency=freq)
+        c.meta["demo"] = "INVENTED pulsar array and host"
+        save_curve(c, curve_paths[host.name], overwrite)
+        h = float(c.h0_threshold(f_best, snr=snr)[0])
+        if host.coord is None:
+            where = "no position: sky-averaged"
+        else:
+            ratio = h / h_sky[i]
+            cover = ("a well-covered direction" if ratio < 0.9 else
+                     "a poorly covered direction" if ratio > 1.1 else "near the sky average")
+            where = f"{ratio:.2f} x the sky average ({cover})"
+        lines.append(f"  {host.name}: h0 >= {h:.3g} at {nhz_text(f_best[0])} for S/N >= {snr:g}, "
+                     f"{where}; curve {curve_paths[host.name].name}")
+    return lines
+
+
+def ranking_part(out_dir, curve, overwrite=False):
+    """Rank the shipped fictional catalogue against ``curve`` (for ``ptaconstrain demo``).
+
+    Parameters
+    ----------
+    out_dir : path-like
+    curve : StrainCurve
+        The shipped synthetic h0 limit.
+    overwrite : bool
+
+    Returns
+    -------
+    list of str
+        Summary lines.
+    """
+    from .data import path as data_file
+    from .report.ranking_files import rank_to_files
+
+    path = data_file(CATALOGUE_FILE)
+    ranking, written = rank_to_files(
+        path, curve, out_dir, files={"catalogue": path},
+        options={"demo": "INVENTED galaxies (fictional catalogue), synthetic curve"},
+        overwrite=overwrite)
+    lines = ["catalogue ranking (INVENTED galaxies): " + ranking.summary_lines(0)[0]]
+    lines += ranking.summary_lines(3)[1:]
+    lines.append("  wrote " + ", ".join(p.name for p in written))
     return lines

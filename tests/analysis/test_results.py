@@ -131,6 +131,12 @@ def test_positional_sensitivity_without_a_position_warns_sky_average(limit_curve
             assert coord is None
             return limit_curve
 
+        def threshold_table(self, frequency, snr=5.0, nside=None):  # the Protocol's
+            raise AssertionError("exclusion_map asks for curve_at only")
+
+        def sky_markers(self):
+            return None
+
     with pytest.warns(PtaconstrainWarning, match="sky-averaged"):
         exclusion_map(Host("A", 1e10, 50), Positional(), Q, P)
 

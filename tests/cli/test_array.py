@@ -118,16 +118,16 @@ def test_help_shows_example():
         assert res.exit_code == 0 and "Example:" in res.output and "--array" in res.output
 
 
-def test_demo_part_covers_well_and_poorly_covered_hosts(tmp_path):
+def test_demo_array_part_covers_well_and_poorly_covered_hosts(tmp_path):
     # The shipped demo array is clustered near (280, -35) deg: a host there must
     # need a smaller h0 than the sky average, one on the far side a larger one.
     from ptaconstrain.binary.host import Host
-    from ptaconstrain.cli.array_cmds import demo_part
+    from ptaconstrain.demo import array_part
 
     hosts = [Host("Near cluster", 1e10, 50.0, ra=284.1, dec=-37.2),
              Host("Far side", 1e10, 50.0, ra=150.3, dec=21.8),
              Host("No position", 1e10, 50.0)]
-    lines = demo_part(tmp_path, hosts)
+    lines = array_part(tmp_path, hosts)
     text = "\n".join(lines)
     assert "INVENTED" in lines[0]
     near = next(x for x in lines if "Near cluster" in x)
@@ -139,7 +139,7 @@ def test_demo_part_covers_well_and_poorly_covered_hosts(tmp_path):
                  "demo_array_curve_Near_cluster.ecsv", "demo_array_curve_sky_averaged.ecsv"):
         assert (tmp_path / name).is_file(), text
     with pytest.raises(FileExistsError):
-        demo_part(tmp_path, hosts)
+        array_part(tmp_path, hosts)
 
 
 def test_curve_position_follows_the_one_sky_rule(tmp_path):

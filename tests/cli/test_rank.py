@@ -7,8 +7,8 @@ from astropy.table import Table
 from click.testing import CliRunner
 
 from ptaconstrain.cli import main
-from ptaconstrain.cli.rank_cmd import demo_part
 from ptaconstrain.data import path as data_file
+from ptaconstrain.demo import ranking_part
 from ptaconstrain.sensitivity.curve import StrainCurve, load_curve, save_curve
 
 CATALOGUE = str(data_file("demo_catalogue.ecsv"))
@@ -124,13 +124,13 @@ def test_array_option_sky_dependent(tmp_path):
     assert t.meta["sky"].startswith("healpix") and t.meta["verb"] == "detectable"
 
 
-def test_demo_part(tmp_path):
+def test_demo_ranking_part(tmp_path):
     curve = load_curve(data_file("synthetic_h0_limit.ecsv"))
-    lines = demo_part(tmp_path, curve)
+    lines = ranking_part(tmp_path, curve)
     assert any("INVENTED" in line for line in lines)
     assert (tmp_path / "ranking.ecsv").is_file() and (tmp_path / "ranking_sky.png").is_file()
     with pytest.raises(FileExistsError):
-        demo_part(tmp_path, curve)
+        ranking_part(tmp_path, curve)
 
 
 def test_exclusion_figures_of_the_top_targets(tmp_path, curve_file):

@@ -19,6 +19,7 @@ from .._inputs import positive, quantity
 from ..binary import waveform as wf
 from ..binary.host import Host
 from ..errors import PtaconstrainWarning
+from ..sensitivity.positional import PositionalSensitivity
 
 __all__ = [
     "ALLOWED",
@@ -246,7 +247,7 @@ class ExclusionMap:
         return float(np.mean(self.region == code))
 
 
-def sensitivity_for(host, curve):
+def sensitivity_for(host, curve, warn=True):
     """The curve to compare with ``host``.
 
     A plain curve is returned as it is; a positional sensitivity (an object
@@ -258,14 +259,16 @@ def sensitivity_for(host, curve):
     ----------
     host : Host
     curve : StrainCurve or PositionalSensitivity
+    warn : bool
+        Warn when the sky average stands in for a missing position.
 
     Returns
     -------
     StrainCurve
     """
-    if not hasattr(curve, "curve_at"):
+    if not isinstance(curve, PositionalSensitivity):
         return curve
-    if host.coord is None:
+    if host.coord is None and warn:
         warnings.warn(f"host {host.name!r} has no sky position, so the sky-averaged "
                       "sensitivity is used", PtaconstrainWarning, stacklevel=3)
     return curve.curve_at(host.coord)
@@ -315,8 +318,7 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     ExclusionMap('Example', 95% upper limit, grid 300 q x 300 P;
       tightest: q > 0.00717 excluded at P = 31.6 yr)
     """
-    curve = sensitivity_for(host, curve) if warn else (
-        curve.curve_at(host.coord) if hasattr(curve, "curve_at") else curve)
+    curve = sensitivity_for(host, curve, warn=warn)
     if warn and not curve.is_limit:
         warnings.warn(f"host {host.name!r}: the forecast uses the orientation-averaged S/N, "
                       "as the binary's inclination is unknown", PtaconstrainWarning,

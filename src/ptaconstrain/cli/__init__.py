@@ -18,7 +18,7 @@ import warnings
 
 import click
 
-from .. import __version__
+from .._version import __version__
 
 __all__ = ["main", "OneLineErrors", "EXIT_INTERNAL"]
 

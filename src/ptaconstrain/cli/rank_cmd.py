@@ -5,12 +5,8 @@ import click
 from . import main
 from .params import POSITIVE, TIME, FormatList, QuantityType
 
-__all__ = ["rank", "run_rank", "demo_part", "output_paths", "top_figure_stems", "top_figures",
-           "TABLE_FILE", "REJECTED_FILE"]
+__all__ = ["rank"]
 
-TABLE_FILE = "ranking.ecsv"
-REJECTED_FILE = "ranking_rejected.ecsv"
-DEMO_CATALOGUE = "demo_catalogue.ecsv"
 METRIC_CHOICES = ("expected_number", "h0_ratio", "prob_equal_mass", "min_mass_ratio")
 
 
@@ -49,124 +45,6 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
         raise click.UsageError("--limit-map needs ptaconstrain.sensitivity.limit_map, which this "
                                "installation lacks: use --curve") from err
     return load_limit_map(limit_map_path), "limit_map", limit_map_path
-
-
-def output_paths(out_dir, formats=("png",)):
-    """The files ``rank`` always writes into ``out_dir`` (table, rejected rows, figures)."""
-    from pathlib import Path
-
-    from ..report.rankplots import FIGURE_STEMS
-
-    out_dir = Path(out_dir)
-    paths = [out_dir / TABLE_FILE, out_dir / REJECTED_FILE]
-    paths += [out_dir / f"{stem}.{fmt}" for stem in FIGURE_STEMS for fmt in formats]
-    return paths
-
-
-def top_figure_stems(ranking, out_dir, n):
-    """Stems of the per-galaxy figures of the ``n`` best targets, named as ``exclude`` names them.
-
-    ``<safe name>_exclusion`` for an upper limit, ``<safe name>_forecast`` for a
-    noise budget; two names that become the same file name get ``_rank<N>``.
-
-    Returns
-    -------
-    list of (table row, pathlib.Path)
-    """
-    from pathlib import Path
-
-    from ..report.provenance import safe_name
-
-    kind = "exclusion" if ranking.is_limit else "forecast"
-    out, seen = [], set()
-    for row in ranking.table[: int(n)]:  # at most 50 galaxies, not the catalogue
-        stem = safe_name(row["name"])
-        if stem in seen:
-            stem = f"{stem}_rank{int(row['rank'])}"
-        seen.add(stem)
-        out.append((row, Path(out_dir) / f"{stem}_{kind}"))
-    return out
-
-
-def top_figures(ranking, sensitivity, stems, formats=("png",), overwrite=False, snr=5.0,
-                span=None):
-    """Exclusion (or forecast) figures of the best targets, at their median mass.
-
-    Parameters
-    ----------
-    ranking : Ranking
-    sensitivity : StrainCurve or PositionalSensitivity
-    stems : list of (row, path)
-        From :func:`top_figure_stems`.
-
-    Returns
-    -------
-    list of pathlib.Path written
-    """
-    from ..analysis.exclusion import exclusion_map
-    from ..binary.host import Host
-    from ..report.figures import exclusion_figure, save_figure
-
-    written = []
-    for row, stem in stems:
-        host = Host(str(row["name"]), row["mass"], row["distance"],
-                    redshift=float(row["redshift"]), ra=float(row["ra"].value),
-                    dec=float(row["dec"].value))
-        result = exclusion_map(host, sensitivity, snr=snr, span=span)
-        written += save_figure(exclusion_figure(result), stem, formats, overwrite)
-    return written
-
-
-def run_rank(catalog, sensitivity, out_dir, *, files=None, options=None, formats=("png",),
-             top=20, exclusion_figures=0, overwrite=False, progress=None, **kwargs):
-    """Library calls behind ``rank``: rank, then write the table, rejected rows and figures.
-
-    Nothing is written unless every output can be (existing files are refused
-    before anything is written, unless ``overwrite``).
-
-    Parameters
-    ----------
-    catalog : path-like, Table or CatalogReader
-    sensitivity : StrainCurve or PositionalSensitivity
-    out_dir : path-like
-    files : dict, optional
-        Role -> input path, recorded with checksums in the provenance.
-    options : dict, optional
-        Settings recorded in the provenance.
-    formats : sequence of str
-    top : int
-    exclusion_figures : int
-        Also draw the exclusion (forecast) figure of this many best targets.
-    overwrite : bool
-    progress : callable, optional
-        See :func:`ptaconstrain.catalogue.rank_catalog`.
-    **kwargs
-        Passed to :func:`ptaconstrain.catalogue.rank_catalog`.
-
-    Returns
-    -------
-    (Ranking, list of pathlib.Path)
-    """
-    from .._files import check_new, write_table
-    from ..catalogue import rank_catalog
-    from ..report.rankplots import ranking_figures
-
-    paths = output_paths(out_dir, formats)
-    check_new(paths, overwrite)
-    ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
-                           inputs=options, **kwargs)
-    stems = top_figure_stems(ranking, out_dir, exclusion_figures)
-    check_new([f"{stem}.{fmt}" for _, stem in stems for fmt in formats], overwrite)
-    write_table(ranking.to_table(), paths[0], overwrite)
-    rejected = ranking.rejections.table()
-    rejected.meta.update({"catalogue": ranking.meta["catalogue"], "on_bad":
-                          ranking.meta["on_bad"],
-                          "provenance": ranking.table.meta["provenance"]})
-    write_table(rejected, paths[1], overwrite)
-    written = paths[:2] + ranking_figures(ranking, out_dir, formats, top, overwrite)
-    written += top_figures(ranking, sensitivity, stems, formats, overwrite,
-                           snr=kwargs.get("snr", 5.0), span=kwargs.get("span"))
-    return ranking, written
 
 
 @main.command()
@@ -243,6 +121,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
         load_column_map,
         select_relations,
     )
+    from ..report.ranking_files import rank_to_files, ranking_output_paths
 
     columns = load_column_map(columns_file) if columns_file else ColumnMap()
     extra = _column_options(column_pairs)
@@ -250,7 +129,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
         columns = ColumnMap({**columns.columns, **extra}, columns.units)
     sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path)
     population = PopulationModel(rate, MassRatioDistribution(q_min, q_index))
-    check_new(output_paths(out, formats), overwrite)
+    check_new(ranking_output_paths(out, formats), overwrite)
     reader = CatalogReader(catalog)
     # fail on a missing column or relation before the progress bar starts (one-line error)
     columns.resolve(reader.colnames)
@@ -265,7 +144,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     # the bar is drawn on a terminal only: in a pipe or log it would add a stray line
     with click.progressbar(length=max(reader.n_rows, 1), label="ranking", file=sys.stderr,
                            hidden=not sys.stderr.isatty()) as bar:
-        ranking, written = run_rank(
+        ranking, written = rank_to_files(
             reader, sens, out, files=files, options=options, formats=formats, top=top,
             exclusion_figures=exclusion_figures, overwrite=overwrite, progress=bar.update,
             columns=columns,
@@ -275,31 +154,3 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     for line in ranking.summary_lines(top):
         click.echo(line)
     click.echo(f"wrote {len(written)} files in {out}/: " + ", ".join(p.name for p in written))
-
-
-def demo_part(out_dir, curve, overwrite=False):
-    """Rank the shipped fictional catalogue against ``curve`` (for ``ptaconstrain demo``).
-
-    Parameters
-    ----------
-    out_dir : path-like
-    curve : StrainCurve
-        The shipped synthetic h0 limit.
-    overwrite : bool
-
-    Returns
-    -------
-    list of str
-        Summary lines.
-    """
-    from ..data import path as data_file
-
-    path = data_file(DEMO_CATALOGUE)
-    ranking, written = run_rank(
-        path, curve, out_dir, files={"catalogue": path},
-        options={"demo": "INVENTED galaxies (fictional catalogue), synthetic curve"},
-        overwrite=overwrite)
-    lines = ["catalogue ranking (INVENTED galaxies): " + ranking.summary_lines(0)[0]]
-    lines += ranking.summary_lines(3)[1:]
-    lines.append("  wrote " + ", ".join(p.name for p in written))
-    return lines

@@ -20,8 +20,8 @@ def provenance(inputs=None, files=None):
     -------
     dict (JSON/YAML-serialisable, for astropy table meta).
     """
-    from .. import __version__
     from .._files import sha256
+    from .._version import __version__
 
     out = {
         "software": f"ptaconstrain {__version__}",

@@ -15,9 +15,22 @@ or ``fig.savefig``.
 
 import numpy as np
 
-__all__ = ["sky_map_figure"]
+__all__ = ["sky_map_figure", "threshold_label", "nhz_text"]
 
 _HOST_COLOUR = "#E69F00"
+
+
+def threshold_label(snr):
+    """Colour-bar label of an h0-threshold map (a forecast at S/N >= ``snr``)."""
+    return (f"h0 for S/N >= {snr:g} (dimensionless strain, orientation-averaged; "
+            "lower = more sensitive)")
+
+
+def nhz_text(frequency):
+    """A frequency as text in nHz, e.g. '8.13 nHz' (for titles and summaries)."""
+    from astropy import units as u
+
+    return f"{frequency.to_value(u.nHz):.3g} nHz"
 
 
 def _x(ra_deg):
