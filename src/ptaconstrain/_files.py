@@ -1,4 +1,5 @@
-"""File helpers: atomic writes that never replace a user's file unasked, checksums.
+"""File helpers: atomic writes that never replace a user's file unasked, checksums,
+reading tables and TOML files (one suffix -> format map, one-line errors).
 
 Every file the project writes goes through :func:`atomic_write`: the content
 is written to a temporary file beside the target and renamed into place only
@@ -12,7 +13,7 @@ import tempfile
 from pathlib import Path
 
 __all__ = ["OutputExistsError", "check_new", "atomic_write", "write_table", "sha256",
-           "read_toml"]
+           "read_toml", "TABLE_FORMATS", "table_format", "read_table", "first_line"]
 
 
 class OutputExistsError(FileExistsError):
@@ -82,7 +83,7 @@ def _umask():
 def write_table(table, path, overwrite=False):
     """Write an astropy table atomically; the format follows the suffix.
 
-    ``.ecsv`` is written as ECSV, ``.fits`` as FITS, anything else as CSV.
+    ``.csv`` is written as CSV, ``.fits`` as FITS, anything else as ECSV.
 
     Parameters
     ----------
@@ -91,9 +92,8 @@ def write_table(table, path, overwrite=False):
     overwrite : bool
     """
     path = Path(path)
-    fmt = {".ecsv": "ascii.ecsv", ".fits": "fits", ".csv": "ascii.csv"}.get(
-        path.suffix.lower(), "ascii.ecsv"
-    )
+    fmt = table_format(path)
+    fmt = fmt if fmt in ("ascii.ecsv", "fits", "ascii.csv") else "ascii.ecsv"
     with atomic_write(path, overwrite) as tmp:
         table.write(tmp, format=fmt, overwrite=True)
 
@@ -144,3 +144,106 @@ def read_toml(path, what, error=None):
         raise error(f"{path.name} is not valid TOML ({first}): fix the {what}") from err
     except (OSError, UnicodeDecodeError) as err:
         raise error(f"{what} {path}: cannot read it ({err}); check the file") from err
+
+
+#: file suffix -> astropy table format, for every table the package reads or writes
+TABLE_FORMATS = {
+    ".ecsv": "ascii.ecsv",
+    ".csv": "ascii.csv",
+    ".txt": "ascii.csv",
+    ".fits": "fits",
+    ".fit": "fits",
+    ".fits.gz": "fits",
+    ".vot": "votable",
+    ".votable": "votable",
+    ".xml": "votable",
+}
+
+
+def table_format(path):
+    """astropy format name of a table file from its suffix, or None if unknown.
+
+    Parameters
+    ----------
+    path : path-like
+
+    Returns
+    -------
+    str or None
+
+    Examples
+    --------
+    >>> table_format("galaxies.fits.gz"), table_format("limit.ECSV")
+    ('fits', 'ascii.ecsv')
+    """
+    path = Path(path)
+    suffix = path.suffix.lower()
+    if suffix == ".gz":
+        suffix = "".join(path.suffixes[-2:]).lower()
+    return TABLE_FORMATS.get(suffix)
+
+
+def first_line(err):
+    """The first line of an exception's message (its type name if it has none)."""
+    text = str(err).strip()
+    return text.splitlines()[0] if text else type(err).__name__
+
+
+def read_table(path, what, error=None, format=None, hint="", **kwargs):
+    """Read a table file, in one line on failure, with astropy's warnings kept.
+
+    astropy's warnings while reading (an unrecognised unit string, say) are
+    re-issued as :class:`~ptaconstrain.errors.PtaconstrainWarning` naming the
+    file, so the command line shows them as one ``Note:`` line each; nothing is
+    silenced.
+
+    Parameters
+    ----------
+    path : path-like
+    what : str
+        What the file is, for messages (e.g. "pulsar list").
+    error : type, optional
+        The :class:`~ptaconstrain.errors.InputError` subclass to raise.
+    format : str, optional
+        astropy format; default from the suffix (:func:`table_format`), else
+        astropy's own guess.
+    hint : str
+        The fix to name when the file cannot be read (e.g. "write it as ECSV").
+    **kwargs
+        Passed to ``Table.read``.
+
+    Returns
+    -------
+    astropy.table.Table
+
+    Raises
+    ------
+    InputError (or ``error``)
+        For a missing or unreadable file.
+    """
+    import warnings
+
+    from astropy.table import Table
+    from astropy.utils.exceptions import AstropyWarning
+
+    from .errors import InputError, PtaconstrainWarning
+
+    error = error or InputError
+    path = Path(path)
+    if not path.is_file():
+        raise error(f"{what} {path} not found: check the path")
+    fmt = format or table_format(path)
+    try:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always", AstropyWarning)
+            table = Table.read(path, format=fmt, **kwargs) if fmt else Table.read(path, **kwargs)
+    except Exception as err:  # astropy raises many types for a malformed file
+        raise error(f"{path.name} is not a readable {what} ({first_line(err)})"
+                    f"{': ' + hint if hint else ''}") from err
+    for w in caught:
+        if issubclass(w.category, AstropyWarning):
+            warnings.warn(f"{path.name}: {first_line(w.message)}", PtaconstrainWarning,
+                          stacklevel=2)
+        else:
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    return table

@@ -40,7 +40,9 @@ restricted to the masses where the summand can be non-zero
 import numpy as np
 from astropy import units as u
 
+from .._inputs import positive, quantity
 from ..binary import waveform as wf
+from ..errors import InputError
 
 __all__ = [
     "MassRatioDistribution",
@@ -72,9 +74,9 @@ class MassRatioDistribution:
     def __init__(self, q_min=0.01, index=-1.0):
         q_min, index = float(q_min), float(index)
         if not (np.isfinite(q_min) and 0.0 < q_min < 1.0):
-            raise ValueError(f"q_min: must be in (0, 1), got {q_min!r}")
+            raise InputError(f"q_min: must be in (0, 1), got {q_min!r}")
         if not np.isfinite(index):
-            raise ValueError(f"mass-ratio index: must be finite, got {index!r}")
+            raise InputError(f"mass-ratio index: must be finite, got {index!r}")
         self.q_min = q_min
         self.index = index
         self._norm = _power_integral(index, 1.0) - _power_integral(index, q_min)
@@ -162,16 +164,7 @@ class PopulationModel:
     """
 
     def __init__(self, rate=1e-10 / u.yr, mass_ratio=None):
-        rate = u.Quantity(rate)
-        if rate.unit == u.dimensionless_unscaled:
-            rate = rate.value / u.yr
-        try:
-            rate = rate.to(1 / u.yr)
-        except u.UnitsError as err:
-            raise ValueError(f"rate: {rate} is not a rate; give it per yr, e.g. 1e-10") from err
-        if not np.all(np.isfinite(rate.value)) or np.any(rate.value < 0):
-            raise ValueError(f"rate: must be finite and >= 0, got {rate}")
-        self.rate = rate
+        self.rate = positive(quantity(rate, 1 / u.yr, "rate"), "rate", allow_zero=True)
         self.mass_ratio = mass_ratio if mass_ratio is not None else MassRatioDistribution()
 
     def describe(self):
@@ -264,7 +257,7 @@ def mass_nodes(log_mass, log_mass_sigma, lower, upper, n_nodes=16, truncate=TRUN
 
     n_nodes = int(n_nodes)
     if n_nodes < 1:
-        raise ValueError(f"n_nodes: must be >= 1, got {n_nodes}")
+        raise InputError(f"n_nodes: must be >= 1, got {n_nodes}")
     mu = np.asarray(log_mass, dtype=float)
     sig = np.asarray(log_mass_sigma, dtype=float)
     t, w = np.polynomial.legendre.leggauss(n_nodes)

@@ -10,33 +10,10 @@ makes a row usable is :mod:`ptaconstrain.catalogue.rows`.
 
 from pathlib import Path
 
+from .._files import first_line, table_format
 from .columns import CatalogError
 
-__all__ = ["FORMATS", "CatalogReader"]
-
-#: file suffix -> astropy format name ("csv" is streamed)
-FORMATS = {
-    ".csv": "csv",
-    ".txt": "csv",
-    ".ecsv": "ascii.ecsv",
-    ".fits": "fits",
-    ".fit": "fits",
-    ".fits.gz": "fits",
-    ".vot": "votable",
-    ".votable": "votable",
-    ".xml": "votable",
-}
-
-
-def _suffix(path):
-    if path.suffix.lower() == ".gz":
-        return "".join(path.suffixes[-2:]).lower()
-    return path.suffix.lower()
-
-
-def _first_line(err):
-    text = str(err).strip()
-    return text.splitlines()[0] if text else type(err).__name__
+__all__ = ["CatalogReader", "count_data_rows"]
 
 
 def count_data_rows(path):
@@ -73,7 +50,7 @@ class CatalogReader:
     ----------
     source : str, path-like or astropy.table.Table
     format : str, optional
-        astropy format name; by default from the suffix (:data:`FORMATS`;
+        astropy format name; by default from the suffix (:data:`ptaconstrain._files.TABLE_FORMATS`;
         ``"csv"`` is streamed).
 
     Attributes
@@ -104,8 +81,8 @@ class CatalogReader:
             if not path.is_file():
                 raise CatalogError(f"catalogue {path} not found: check the path")
             self.path, self.name = path, path.name
-            fmt = format or FORMATS.get(_suffix(path))
-            if fmt == "csv":
+            fmt = format or table_format(path)
+            if fmt == "ascii.csv":
                 self._open_csv(path)
             else:
                 self._table = _read_whole(path, fmt)
@@ -125,7 +102,7 @@ class CatalogReader:
             head = ascii.read(path, format="csv", guess=False, data_end=2)
         except Exception as err:  # astropy raises many types for a malformed file
             raise CatalogError(
-                f"{path.name} is not a readable CSV table ({_first_line(err)}): fix the "
+                f"{path.name} is not a readable CSV table ({first_line(err)}): fix the "
                 "file or convert it to ECSV") from err
         self.colnames = list(head.colnames)
         self.n_rows = count_data_rows(path)
@@ -163,7 +140,7 @@ class CatalogReader:
             raise
         except Exception as err:  # astropy raises many types for a malformed row
             raise CatalogError(
-                f"{self.name}: cannot read rows ({_first_line(err)}): fix the file") from err
+                f"{self.name}: cannot read rows ({first_line(err)}): fix the file") from err
 
     def __repr__(self):
         how = "streamed CSV" if self.streamed else "in memory"
@@ -171,18 +148,8 @@ class CatalogReader:
 
 
 def _read_whole(path, format):
-    import warnings
+    from .._files import read_table
 
-    from astropy.table import Table
-
-    kw = {"memmap": True} if format == "fits" and _suffix(path) != ".fits.gz" else {}
-    try:
-        with warnings.catch_warnings():
-            # astropy's unit-parsing warnings for foreign files; units are checked later
-            warnings.simplefilter("ignore", category=UserWarning)
-            return Table.read(path, format=format, **kw) if format else Table.read(path)
-    except Exception as err:  # astropy raises many types for a malformed file
-        raise CatalogError(
-            f"{path.name} is not a readable table ({_first_line(err)}); use ECSV, CSV, FITS or "
-            "VOTable"
-        ) from err
+    kw = {"memmap": True} if format == "fits" and not path.name.lower().endswith(".gz") else {}
+    return read_table(path, "table", CatalogError, format=format,
+                      hint="use ECSV, CSV, FITS or VOTable", **kw)

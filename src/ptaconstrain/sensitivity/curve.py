@@ -376,13 +376,9 @@ def load_curve(path, kind=None):
 
 
 def _load_ecsv(path, kind):
-    from astropy.table import Table
+    from .._files import read_table
 
-    try:
-        t = Table.read(path, format="ascii.ecsv")
-    except Exception as err:  # astropy raises many types for a malformed file
-        msg = str(err).splitlines()[0] if str(err) else type(err).__name__
-        raise CurveError(f"{path.name} is not a readable ECSV table ({msg})") from err
+    t = read_table(path, "ECSV table", CurveError, format="ascii.ecsv")
     if "frequency" not in t.colnames:
         raise CurveError(f"{path.name} has no 'frequency' column (Hz): add one")
     present = [k for k in KINDS if k in t.colnames]

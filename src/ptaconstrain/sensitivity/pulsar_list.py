@@ -31,7 +31,7 @@ distance        kpc        optional; recorded only (the incoherent pulsar
 
 Columns without a unit are read in the units above (the package's one
 quantity rule, :func:`ptaconstrain._inputs.quantity`); a unit of the wrong
-kind is refused.  The file format follows the suffix (:data:`TABLE_FORMATS`;
+kind is refused.  The file format follows the suffix (:data:`ptaconstrain._files.TABLE_FORMATS`;
 others are left to astropy to guess).  When only ``span`` is
 given, every pulsar's timing ends at the table's meta ``end_mjd`` (default
 MJD 60000).  The meta ``name`` names the array (default: the file name).
@@ -45,10 +45,9 @@ from .._inputs import SKY_RANGE_TEXT, angles_deg, lonlat_deg, quantity, sky_out_
 from ..errors import InputError
 from .pulsar_array import ArrayError, PulsarArray
 
-__all__ = ["TABLE_FORMATS", "load_array", "array_from_table"]
+__all__ = ["load_array", "array_from_table"]
 
 #: File suffix -> astropy table format of a pulsar list.
-TABLE_FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv", ".fits": "fits"}
 _REQUIRED = ("name", "toa_rms", "cadence")
 
 
@@ -72,18 +71,10 @@ def load_array(path, pulsar_term=False):
     """
     from pathlib import Path
 
-    from astropy.table import Table
+    from .._files import read_table
 
     path = Path(path)
-    if not path.is_file():
-        raise ArrayError(f"pulsar list {path} not found: check the path")
-    fmt = TABLE_FORMATS.get(path.suffix.lower())
-    try:
-        t = Table.read(path, format=fmt) if fmt else Table.read(path)
-    except Exception as err:  # astropy raises many types for a malformed file
-        msg = str(err).splitlines()[0] if str(err) else type(err).__name__
-        raise ArrayError(f"{path.name} is not a readable table ({msg}): write it as ECSV") \
-            from err
+    t = read_table(path, "pulsar list", ArrayError, hint="write it as ECSV")
     try:
         return array_from_table(t, name=t.meta.get("name", path.stem), pulsar_term=pulsar_term)
     except ArrayError as err:
