@@ -7,8 +7,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import integrate, stats
 
-from ptaconstrain.analysis.exclusion import ABOVE_ISCO, UNCONSTRAINED, exclusion_map
+from ptaconstrain.analysis.exclusion import exclusion_map
 from ptaconstrain.analysis.probability import exclusion_probability
+from ptaconstrain.analysis.regions import ABOVE_ISCO, UNCONSTRAINED
 from ptaconstrain.analysis.sampling import (
     HostSamples,
     distance_sigma,

@@ -12,7 +12,8 @@ from curves_for_tests import power_law_limit
 
 import ptaconstrain
 from ptaconstrain._files import OutputExistsError
-from ptaconstrain.analysis.exclusion import EXCLUDED, exclusion_map
+from ptaconstrain.analysis.exclusion import exclusion_map
+from ptaconstrain.analysis.regions import EXCLUDED
 from ptaconstrain.binary.host import Host
 from ptaconstrain.report.figures import exclusion_figure, save_figure
 

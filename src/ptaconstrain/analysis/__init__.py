@@ -1,16 +1,11 @@
 """Bounds on companions of one host: the q x P map (exclusion), host uncertainties
-(sampling) and exclusion probabilities with credible bounds (probability).
+(sampling), exclusion probabilities with credible bounds (probability), and the
+region codes a map's cells hold (regions).
 
 probability imports exclusion and sampling; neither of those imports probability.
 """
 
 from .exclusion import (
-    ABOVE_ISCO,
-    ALLOWED,
-    CHIRPING,
-    EXCLUDED,
-    REGION_NAMES,
-    UNCONSTRAINED,
     ExclusionMap,
     band_periods,
     default_mass_ratios,
@@ -19,6 +14,7 @@ from .exclusion import (
     sensitivity_for,
 )
 from .probability import DEFAULT_CREDIBILITY, ProbabilityMap, exclusion_probability
+from .regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, REGION_NAMES, UNCONSTRAINED
 from .sampling import HostSamples, distance_sigma, orientation_factor, sample_host
 
 __all__ = [

@@ -19,15 +19,11 @@ from .._inputs import positive, quantity
 from ..binary import waveform as wf
 from ..binary.host import Host
 from ..errors import PtaconstrainWarning
+from ..sensitivity.curve import FromCurve
 from ..sensitivity.positional import PositionalSensitivity
+from .regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTRAINED
 
 __all__ = [
-    "ALLOWED",
-    "EXCLUDED",
-    "UNCONSTRAINED",
-    "ABOVE_ISCO",
-    "CHIRPING",
-    "REGION_NAMES",
     "ExclusionMap",
     "exclusion_map",
     "default_periods",
@@ -35,21 +31,6 @@ __all__ = [
     "band_periods",
     "sensitivity_for",
 ]
-
-ALLOWED = 0
-EXCLUDED = 1  # "detectable" for a noise budget
-UNCONSTRAINED = 2  # outside the curve's frequency range
-ABOVE_ISCO = 3  # no circular binary of this total mass
-CHIRPING = 4  # f drifts by more than 1/T over the span T
-
-REGION_NAMES = {
-    ALLOWED: "allowed",
-    EXCLUDED: "excluded",
-    UNCONSTRAINED: "not constrained",
-    ABOVE_ISCO: "above ISCO",
-    CHIRPING: "chirping within the span",
-}
-
 
 def default_mass_ratios(n=300, q_min=1e-4):
     """Log-spaced mass ratios from ``q_min`` to 1."""
@@ -81,7 +62,7 @@ def default_periods(curve, n=300, pad=1.5):
 
 
 @dataclass(frozen=True, eq=False)
-class ExclusionMap:
+class ExclusionMap(FromCurve):
     """Result of :func:`exclusion_map`; every array is indexed [q, P].
 
     Attributes
@@ -192,16 +173,6 @@ class ExclusionMap:
         from ..report.figures import exclusion_figure
 
         return exclusion_figure(self, ax=ax)
-
-    @property
-    def is_limit(self):
-        """True for an exclusion (upper limit), False for a forecast (noise budget)."""
-        return self.curve.is_limit
-
-    @property
-    def verb(self):
-        """'excluded' or 'detectable'."""
-        return self.curve.verb
 
     @property
     def label(self):

@@ -40,6 +40,7 @@ from astropy import units as u
 
 from ..binary import waveform as wf
 from ..errors import InputError, PtaconstrainWarning
+from ..sensitivity.curve import FromCurve
 from .exclusion import ExclusionMap, exclusion_map, sensitivity_for
 from .isco_counts import IscoCounts, kth_largest_rank
 from .sampling import HostSamples, sample_host
@@ -54,7 +55,7 @@ DEFAULT_CREDIBILITY = (0.5, 0.9, 0.95)
 
 
 @dataclass(frozen=True, eq=False)
-class ProbabilityMap:
+class ProbabilityMap(FromCurve):
     """Result of :func:`exclusion_probability`; 2-D arrays are indexed [q, P].
 
     Attributes
@@ -114,16 +115,6 @@ class ProbabilityMap:
     def curve(self):
         """The sensitivity curve (of the best-fit map)."""
         return self.deterministic.curve
-
-    @property
-    def is_limit(self):
-        """True for an exclusion (upper limit), False for a forecast (noise budget)."""
-        return self.curve.is_limit
-
-    @property
-    def verb(self):
-        """'excluded' or 'detectable'."""
-        return self.curve.verb
 
     @property
     def label(self):

@@ -8,7 +8,7 @@ hatching so that the figure survives grey-scale printing.
 import numpy as np
 from astropy import units as u
 
-from ..analysis.exclusion import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTRAINED
+from ..analysis.regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTRAINED
 
 __all__ = ["REGION_STYLE", "exclusion_figure", "save_figure"]
 
