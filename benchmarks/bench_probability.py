@@ -114,8 +114,8 @@ def run(name, params, curve, n, grid):
     best = fast.deterministic.tightest()
     c95 = fast.tightest(0.95)
     if best and c95:
-        print(f"  tightest bound: best-fit q < {best[1]:.3g} at P = {best[0]:.3g}; "
-              f"95% credible q < {c95[1]:.3g} at P = {c95[0]:.3g}")
+        print(f"  tightest bound: best-fit q > {best[1]:.3g} {fast.verb} at P = {best[0]:.3g}; "
+              f"95% credible q > {c95[1]:.3g} at P = {c95[0]:.3g}")
 
 
 def main():

@@ -214,6 +214,14 @@ def distance_out_of_range(distance_mpc, cosmology=None):
         return (d < DISTANCE_MIN) | (d > _d_max(cosmology))
 
 
+def _as_given(value, converted, unit):
+    """'95 km (3.08e-18 Mpc)' for a value given in other units, else '95 Mpc'."""
+    text = f"{converted:.3g} {unit}"
+    if _has_unit(value) and np.ndim(getattr(value, "value", value)) == 0:
+        return f"{str(value).strip()!r} ({text})"
+    return text
+
+
 def check_mass(mass, field="mass"):
     """A black-hole mass as a Quantity [solMass], refused outside ``MASS_RANGE``.
 
@@ -243,7 +251,7 @@ def check_mass(mass, field="mass"):
         hint = (f" (a log10 mass? give 10**{bad:g} = {10**bad:.3g})"
                 if 3 <= bad <= 13 else "")
         raise InputError(
-            f"{field}: {bad:.3g} solMass is outside the plausible {mass_range_text()} for a "
+            f"{field}: {_as_given(mass, bad, 'solMass')} is outside the plausible {mass_range_text()} for a "
             f"massive black hole; bare numbers are solMass{hint}")
     return q
 
@@ -276,7 +284,7 @@ def check_distance(distance, field="distance", cosmology=None):
     if np.any(distance_out_of_range(d, cosmology)):
         bad = float(np.atleast_1d(d)[np.atleast_1d(distance_out_of_range(d, cosmology))][0])
         raise InputError(
-            f"{field}: {bad:.3g} Mpc is outside the plausible "
+            f"{field}: {_as_given(distance, bad, 'Mpc')} is outside the plausible "
             f"{distance_range_text(_d_max(cosmology))}; bare numbers are Mpc")
     return q
 
@@ -315,7 +323,8 @@ def distance_column_hint(distance_mpc):
     d = d[np.isfinite(d) & (d > 0)]
     if d.size and np.median(d) > 3e3 and np.median(d) / 1e3 < 3e3:
         return ("; the column looks like kpc (median "
-                f"{np.median(d):.3g} read as Mpc): set its unit to kpc in the column mapping")
+                f"{np.median(d):.3g} read as Mpc): set its unit to kpc in the column mapping "
+                "(or to Mpc, if it really is Mpc)")
     return ""
 
 

@@ -237,8 +237,12 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
             progress(len(piece))
     if not parts:
         rejections.check(on_bad)
-        raise CatalogError(f"{reader.name}: no usable rows ({rejections.total} rejected); "
-                           "see the reasons with --on-bad skip")
+        counts = rejections.counts
+        top = max(counts, key=counts.get) if counts else "no rows"
+        more = f" and {len(counts) - 1} other reason(s)" if len(counts) > 1 else ""
+        raise CatalogError(f"{reader.name}: no usable rows ({rejections.total} rejected; "
+                           f"{counts.get(top, 0)} for: {top}{more}): fix the catalogue or its "
+                           "column mapping")
     data = {k: _concat([p[k] for p in parts]) for k in parts[0]}
     dup = duplicate_mask(data["name"])
     if dup.any():
