@@ -251,8 +251,8 @@ def check_mass(mass, field="mass"):
         hint = (f" (a log10 mass? give 10**{bad:g} = {10**bad:.3g})"
                 if 3 <= bad <= 13 else "")
         raise InputError(
-            f"{field}: {_as_given(mass, bad, 'solMass')} is outside the plausible {mass_range_text()} for a "
-            f"massive black hole; bare numbers are solMass{hint}")
+            f"{field}: {_as_given(mass, bad, 'solMass')} is outside the plausible "
+            f"{mass_range_text()} for a massive black hole; bare numbers are solMass{hint}")
     return q
 
 

@@ -291,7 +291,7 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     """
     curve = sensitivity_for(host, curve, warn=warn)
     if warn and not curve.is_limit:
-        warnings.warn(f"host {host.name!r}: the forecast uses the orientation-averaged S/N, "
+        warnings.warn("forecasts use the orientation-averaged S/N, "
                       "as the binary's inclination is unknown", PtaconstrainWarning,
                       stacklevel=2)
     q = default_mass_ratios() if mass_ratio is None else np.asarray(mass_ratio, dtype=float)

@@ -290,7 +290,7 @@ def exclusion_probability(
     if orientation is None:
         orientation = not det.is_limit
     elif not orientation and not det.is_limit:
-        warnings.warn(f"host {host.name!r}: the forecast uses the orientation-averaged S/N, "
+        warnings.warn("forecasts use the orientation-averaged S/N, "
                       "as orientation sampling was turned off", PtaconstrainWarning,
                       stacklevel=2)
     if isinstance(samples, HostSamples):
