@@ -42,7 +42,7 @@ from ..binary import waveform as wf
 from ..errors import InputError, PtaconstrainWarning
 from ..sensitivity.curve import FromCurve
 from .exclusion import ExclusionMap, exclusion_map, sensitivity_for
-from .isco_counts import IscoCounts, kth_largest_rank
+from .isco_counts import IscoCounts
 from .sampling import HostSamples, sample_host
 
 __all__ = [
@@ -82,8 +82,6 @@ class ProbabilityMap(FromCurve):
         The best-fit map, for comparison.
     samples : HostSamples
         The draws used (:func:`ptaconstrain.analysis.sampling.sample_host`).
-    summary : dict
-        :meth:`HostSamples.summary`: 16/50/84 % of mass [solMass], distance [Mpc], ...
     seed : int
         Seed of the draws.
     n_samples : int
@@ -101,7 +99,6 @@ class ProbabilityMap(FromCurve):
     above_isco_fraction: np.ndarray
     deterministic: ExclusionMap
     samples: HostSamples
-    summary: dict
     seed: int
     n_samples: int
     orientation: bool
@@ -120,6 +117,14 @@ class ProbabilityMap(FromCurve):
     def label(self):
         """e.g. '95% upper limit' or 'forecast, S/N >= 5'."""
         return self.deterministic.label
+
+    @property
+    def summary(self):
+        """:meth:`HostSamples.summary`: 16/50/84 % of mass [solMass], distance [Mpc], ...
+
+        Computed when asked for (percentiles of every sample cost more than the map).
+        """
+        return self.samples.summary()
 
     def __repr__(self):
         top = max(self.credibility)
@@ -236,6 +241,36 @@ def _min_count(c, n):
     return k
 
 
+def _ascending_order(values):
+    """``np.argsort(values)`` and ``values`` sorted, exactly, from one int64 sort.
+
+    The float64 bit patterns are mapped to int64 keys of the same order (flip the
+    magnitude bits of negative numbers), the low bits of each key are replaced by the
+    sample's index and the keys are sorted (numpy's vectorised integer sort, ~5x
+    faster than ``argsort``).  Values whose keys agree in the bits kept are then put
+    in order among themselves by ``np.lexsort``, so the order is exact; ties keep an
+    arbitrary order, which no count depends on.
+    """
+    n = values.size
+    bits = max(1, (n - 1).bit_length())
+    key = np.ascontiguousarray(values, dtype=np.float64).view(np.int64)
+    key = key ^ ((key >> 63) & np.int64(0x7FFF_FFFF_FFFF_FFFF))
+    packed = key >> bits
+    packed <<= bits
+    packed |= np.arange(n, dtype=np.int64)
+    packed.sort()
+    order = packed & np.int64((1 << bits) - 1)
+    ordered = values[order]
+    packed >>= bits
+    tie = np.flatnonzero(packed[1:] == packed[:-1])
+    if tie.size:
+        pos = np.union1d(tie, tie + 1)  # whole runs of equal truncated keys, ascending
+        fix = np.lexsort((ordered[pos], packed[pos]))
+        order[pos] = order[pos][fix]
+        ordered[pos] = ordered[pos][fix]
+    return order, ordered
+
+
 def exclusion_probability(
     host,
     curve,
@@ -304,14 +339,11 @@ def exclusion_probability(
 
     s0 = wf.strain_prefactor(host.mass, host.distance, host.redshift)
     log_u = draws.log_scale(s0)
-    order = np.argsort(log_u, kind="stable")
-    sorted_u = log_u[order]
-    rank = np.empty(draws.n, dtype=np.intp)
-    rank[order] = np.arange(draws.n)
+    order, sorted_u = _ascending_order(log_u)
     n = draws.n
 
     f = det.frequency.to_value(u.Hz)
-    isco = IscoCounts(f, draws.isco_frequency.to_value(u.Hz), rank)
+    isco = IscoCounts(f, draws.isco_frequency.to_value(u.Hz), order)
     log_eta = np.log(wf.symmetric_mass_ratio(det.mass_ratio))
     with np.errstate(invalid="ignore"):
         log_eta_min = np.log(det.eta_min)
@@ -319,14 +351,14 @@ def exclusion_probability(
     x = np.searchsorted(sorted_u, thr, side="right")  # first rank with ln u > threshold
     count = n - x
     ks = {c: _min_count(c, n) for c in levels}
-    # rank of the k-th largest ln u among the samples below the ISCO, per column
+    # rank of the k-th largest ln u among the samples below the ISCO, per column; only
+    # the columns where some but not all samples are above the ISCO need the counts
+    partial = np.flatnonzero((isco.n_above > 0) & (isco.n_above < n))
     xk = {c: np.full(f.size, n - k) for c, k in ks.items()}
-    for cols, above in isco.blocks():
-        j = isco.partial[cols]
-        p = np.arange(j.size)
-        count[:, j] -= above(p[None, :], x[:, j])
+    if partial.size:
+        count[:, partial] -= isco.above(partial[None, :], x[:, partial])
         for c, k in ks.items():
-            xk[c][j] = kth_largest_rank(above, p, n, k)
+            xk[c][partial] = isco.kth_largest_rank(partial, k)
     nothing = np.isnan(det.eta_min) | (isco.n_above == n)
     prob = count / n
     prob[:, nothing] = np.nan
@@ -351,7 +383,6 @@ def exclusion_probability(
         above_isco_fraction=isco.n_above / n,
         deterministic=det,
         samples=draws,
-        summary=draws.summary(),
         seed=draws.seed,
         n_samples=n,
         orientation=bool(orientation),
