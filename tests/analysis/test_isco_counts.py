@@ -1,10 +1,12 @@
 import numpy as np
 import pytest
+from astropy import units as u
 from curves_for_tests import power_law_limit
 
 from ptaconstrain.analysis import probability as prob_module
 from ptaconstrain.analysis.isco_counts import IscoCounts
 from ptaconstrain.analysis.probability import exclusion_probability
+from ptaconstrain.binary import waveform as wf
 from ptaconstrain.binary.host import Host
 
 Q = np.geomspace(1e-4, 1, 40)
@@ -62,15 +64,13 @@ def test_ascending_order_equals_argsort_exactly():
 
 def brute_probability(r):
     """Cell by cell over every sample: excluded in s iff ln u_s > threshold and below ISCO."""
-    from astropy import units as u
-
-    from ptaconstrain.binary import waveform as wf
 
     det = r.deterministic
     s0 = wf.strain_prefactor(det.host.mass, det.host.distance, det.host.redshift)
     log_u = r.samples.log_scale(s0)
+    log_eta = np.log(wf.symmetric_mass_ratio(det.mass_ratio))
     with np.errstate(invalid="ignore"):
-        thr = np.log(det.eta_min)[None, :] - np.log(wf.symmetric_mass_ratio(det.mass_ratio))[:, None]
+        thr = np.log(det.eta_min)[None, :] - log_eta[:, None]
     f = det.frequency.to_value(u.Hz)
     exists = f[None, :] <= r.samples.isco_frequency.to_value(u.Hz)[:, None]
     count = ((log_u[:, None, None] > thr[None]) & exists[:, None, :]).sum(axis=0)
@@ -84,10 +84,8 @@ def test_probability_map_equals_brute_force_bit_for_bit(n):
     # the same per-cell thresholds and samples as the fast path, compared one by one
     # (the benchmark does the same at 1e5 samples): equal, not merely close
     host = Host("B", 3e10, 200, mass_err_dex=(0.2, 0.4), distance_err=20, mass_distance=190)
-    period = np.geomspace(0.05, 60, 45)
-    from astropy import units as u
-
-    r = exclusion_probability(host, power_law_limit(), Q, period * u.yr, samples=n, seed=5)
+    period = np.geomspace(0.05, 60, 45) * u.yr
+    r = exclusion_probability(host, power_law_limit(), Q, period, samples=n, seed=5)
     partial = (r.above_isco_fraction > 0) & (r.above_isco_fraction < 1)
     assert partial.sum() >= 3
     np.testing.assert_array_equal(r.probability, brute_probability(r))
