@@ -1,30 +1,32 @@
-"""Benchmark: exclusion probability by sort-and-search against a brute-force broadcast.
-
-Both paths use the same host samples and the same per-cell thresholds:
+"""Benchmark: exclusion probability by sort-and-search against its floor and brute force.
 
 * fast path: :func:`ptaconstrain.analysis.probability.exclusion_probability` (sort the
-  per-sample ln u once, one ``np.searchsorted`` for every cell, exact
-  per-sample ISCO bookkeeping);
-* brute force: for chunks of samples, broadcast ``ln u_s > threshold(q, P)``
-  and the per-sample ISCO test over every cell and count, O(N x cells).
+  per-sample ln u once, one ``np.searchsorted`` for every cell, exact above-ISCO
+  counts from one block table), samples given;
+* floor, on the same input: ``np.sort`` of the N values of ln u plus the
+  ``np.searchsorted`` of every cell's threshold -- the least any sort-and-search
+  method does;
+* brute force: for chunks of samples, broadcast ``ln u_s > threshold(q, P)`` and the
+  per-sample ISCO test over every cell and count, O(N x cells), on ``--brute-samples``.
 
-Printed: wall times (best of a few runs for the fast path), their ratio, the
-largest |difference| of the probabilities, and peak traced memory
-(tracemalloc, measured in separate runs so that tracing does not slow the
-timings).  Targets for 10^5 samples on a 300 x 300 grid: fast path < 0.5 s,
->= 50 x faster than brute force, peak memory < 1 GB.
+Printed: the machine line, wall and CPU time (best of a few runs) of each, the ratios
+fast / floor and brute / fast, whether the probabilities equal the brute force bit for
+bit, the growth exponent of the fast path between N/10 and N, and peak traced memory
+(tracemalloc, in separate runs).  Targets: 10^6 samples, wide-error host, fast path
+within 2 x the floor; results identical to brute force.
 
 Hosts are fictional (invented demo values).  Run:
 
-    python benchmarks/bench_probability.py [--samples 100000] [--grid 300]
+    python benchmarks/bench_probability.py [--samples 1000000] [--brute-samples 100000]
 """
 
 import argparse
-import time
+import math
 import tracemalloc
 
 import numpy as np
 from astropy import units as u
+from benchtools import best_of, machine_line, timed
 
 from ptaconstrain.analysis.exclusion import default_mass_ratios, default_periods
 from ptaconstrain.analysis.probability import exclusion_probability
@@ -75,57 +77,83 @@ def peak_mb(fn):
     return peak / 2**20
 
 
-def run(name, params, curve, n, grid):
+def thresholds(prob_map):
+    det = prob_map.deterministic
+    with np.errstate(invalid="ignore"):
+        return (np.log(det.eta_min)[None, :]
+                - np.log(wf.symmetric_mass_ratio(det.mass_ratio))[:, None])
+
+
+def floor(log_u, thr):
+    """Sort the N values once and search every cell: the sort-and-search floor."""
+    return np.searchsorted(np.sort(log_u), thr, side="right")
+
+
+def line(label, wall, cpu, extra=""):
+    print(f"  {label:<34s}: wall {wall * 1e3:9.1f} ms  CPU {cpu * 1e3:9.1f} ms  {extra}")
+
+
+def run(name, params, curve, n, n_brute, grid):
     host = Host(name, params.pop("mass"), params.pop("distance"), **params)
     q = default_mass_ratios(grid)
     period = default_periods(curve, grid)
     draws = sample_host(host, n, seed=2024)
-    exclusion_probability(host, curve, q, period, samples=draws)  # warm-up (imports)
+    tenth = sample_host(host, max(1, n // 10), seed=2024)
 
-    times = []
-    for _ in range(5):
-        t0 = time.perf_counter()
-        fast = exclusion_probability(host, curve, q, period, samples=draws)
-        times.append(time.perf_counter() - t0)
-    t_fast = min(times)
-    t0 = time.perf_counter()
-    exclusion_probability(host, curve, q, period, samples=n, seed=2024)
-    t_with_sampling = time.perf_counter() - t0
+    def fast(d=draws):
+        return exclusion_probability(host, curve, q, period, samples=d)
 
-    t0 = time.perf_counter()
-    slow = brute_force(fast)
-    t_brute = time.perf_counter() - t0
+    res = fast()  # warm-up (imports)
+    s0 = wf.strain_prefactor(host.mass, host.distance, host.redshift)
+    log_u, thr = draws.log_scale(s0), thresholds(res)
+    for _ in range(2):  # interleave so that both see the same machine load
+        _, w_fast, c_fast = best_of(3, fast)
+        _, w_floor, c_floor = best_of(3, floor, log_u, thr)
+    _, w_tenth, c_tenth = best_of(3, fast, tenth)
+    _, w_sampling, c_sampling = timed(exclusion_probability, host, curve, q, period,
+                                      samples=n, seed=2024)
 
-    same_nan = np.array_equal(np.isnan(fast.probability), np.isnan(slow))
-    diff = np.nanmax(np.abs(fast.probability - slow))
-    mem_fast = peak_mb(lambda: exclusion_probability(host, curve, q, period, samples=draws))
-    mem_brute = peak_mb(lambda: brute_force(fast))
-    partial = int(np.sum((fast.above_isco_fraction > 0) & (fast.above_isco_fraction < 1)))
+    small = sample_host(host, n_brute, seed=2024)
+    fast_small, w_fs, c_fs = best_of(3, fast, small)
+    slow, w_brute, c_brute = timed(brute_force, fast_small)
+    identical = np.array_equal(fast_small.probability, slow, equal_nan=True)
+    diff = np.nanmax(np.abs(fast_small.probability - slow))
+    mem_fast = peak_mb(fast)
+    partial = int(np.sum((res.above_isco_fraction > 0) & (res.above_isco_fraction < 1)))
 
     print(f"\n{name}: {n} samples, {q.size} x {period.size} grid, "
           f"{partial} periods partly above the ISCO")
-    print(f"  fast path (samples given) : {t_fast * 1e3:9.1f} ms   (target < 500 ms)")
-    print(f"  fast path incl. sampling  : {t_with_sampling * 1e3:9.1f} ms")
-    print(f"  brute force (chunked)     : {t_brute * 1e3:9.1f} ms")
-    print(f"  ratio brute / fast        : {t_brute / t_fast:9.1f} x   (target >= 50 x)")
-    print(f"  max |p_fast - p_brute|    : {diff:9.3g}     NaN cells identical: {same_nan}")
-    print(f"  peak memory fast / brute  : {mem_fast:7.1f} MB / {mem_brute:7.1f} MB "
-          "(tracemalloc; target < 1024 MB)")
-    best = fast.deterministic.tightest()
-    c95 = fast.tightest(0.95)
+    line("fast path (samples given)", w_fast, c_fast)
+    line("floor: sort N + search cells", w_floor, c_floor)
+    print(f"  {'ratio fast / floor':<34s}: wall {w_fast / w_floor:6.2f} x   "
+          f"CPU {c_fast / c_floor:6.2f} x   (target <= 2 x)")
+    line("fast path incl. sampling", w_sampling, c_sampling)
+    line(f"fast path at {tenth.n} samples", w_tenth, c_tenth,
+         f"growth N^{math.log(w_fast / w_tenth) / math.log(n / tenth.n):.2f} (wall), "
+         f"N^{math.log(c_fast / c_tenth) / math.log(n / tenth.n):.2f} (CPU)")
+    line(f"fast path at {n_brute} samples", w_fs, c_fs)
+    line(f"brute force at {n_brute} samples", w_brute, c_brute,
+         f"ratio {w_brute / w_fs:.0f} x (wall), {c_brute / c_fs:.0f} x (CPU)")
+    print(f"  probabilities equal brute force bit for bit: {identical} "
+          f"(max |difference| {diff:.3g})")
+    print(f"  peak traced memory, fast path   : {mem_fast:7.1f} MB")
+    c95 = res.tightest(0.95)
+    best = res.deterministic.tightest()
     if best and c95:
-        print(f"  tightest bound: best-fit q > {best[1]:.3g} {fast.verb} at P = {best[0]:.3g}; "
+        print(f"  tightest bound: best-fit q > {best[1]:.3g} {res.verb} at P = {best[0]:.3g}; "
               f"95% credible q > {c95[1]:.3g} at P = {c95[0]:.3g}")
 
 
 def main():
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--samples", type=int, default=100_000)
+    ap.add_argument("--samples", type=int, default=1_000_000)
+    ap.add_argument("--brute-samples", type=int, default=100_000)
     ap.add_argument("--grid", type=int, default=300)
     args = ap.parse_args()
+    print(machine_line())
     curve = load_curve(data_file("synthetic_h0_limit.ecsv"))
     for name, params in HOSTS.items():
-        run(name, dict(params), curve, args.samples, args.grid)
+        run(name, dict(params), curve, args.samples, args.brute_samples, args.grid)
 
 
 if __name__ == "__main__":

@@ -315,13 +315,15 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     above_isco = f > f_isco
     unconstrained = np.isnan(h_thr)
 
+    # every per-cell array is 1 byte (bool or int8) and built in place: an 8-byte
+    # temporary per cell left the cache on large grids (time grew as size^1.5)
     with np.errstate(invalid="ignore"):
-        strain_cut = eta[:, None] > eta_min[None, :]
-    excluded = strain_cut & ~above_isco[None, :]
+        excluded = eta[:, None] > eta_min[None, :]
+    excluded &= ~above_isco[None, :]
     chirp = eta[:, None] > eta_chirp[None, :]
 
-    region = np.where(excluded, EXCLUDED, ALLOWED).astype(np.int8)
-    region[chirp] = CHIRPING
+    region = np.where(excluded, np.int8(EXCLUDED), np.int8(ALLOWED))
+    np.copyto(region, np.int8(CHIRPING), where=chirp)
     region[:, unconstrained] = UNCONSTRAINED
     region[:, above_isco] = ABOVE_ISCO
 
