@@ -386,7 +386,8 @@ class PulsarArray:
         ``by="frequency"``: whole-sky maps for a run of frequencies (one map per
         figure).  Each block holds about ``block_bytes`` (at least one pixel
         run or one map); the values are bit for bit those of the whole map.
-        Memory: the block plus one (pixels x pulsars) pattern chunk.
+        nside 512 with 1000 frequencies, whole, would need 25 GB; in blocks of
+        the default size, well under 1 GB (measured in benchmarks/bench_array.py).
 
         Parameters
         ----------
@@ -396,10 +397,11 @@ class PulsarArray:
         pulsar_term : bool, optional
         by : {"pixel", "frequency"}
         pixels : int, optional
-            Pixels per matrix product; default from ``block_bytes`` (by pixel,
-            a multiple of 1024) or 65536 (by frequency).
+            Pixels per matrix product; default from ``block_bytes``, a multiple
+            of 1024.
         block_bytes : int
-            Target size of one yielded block.
+            Target size of one yielded block (with its temporaries: about
+            twice this is held at most).
         callback : callable, optional
             Passed to :meth:`weights` (called once per pulsar).
 
@@ -424,12 +426,13 @@ class PulsarArray:
         scale_t = np.ascontiguousarray(scale.T)  # (n_f, n_p)
         npix = hp.nside2npix(nside)
         if by == "pixel":
-            if pixels is None:
-                pixels = max(1, block_bytes // (8 * f.size * 1024)) * 1024
+            if pixels is None:  # block and pattern chunk together within block_bytes
+                pixels = max(1, block_bytes // (8 * (f.size + len(self)) * 1024)) * 1024
             return _pixel_blocks(scale_t, self.vectors, nside, snr, int(pixels))
         per = max(1, int(block_bytes // (8 * npix)))
-        return _frequency_blocks(scale_t, self.vectors, nside, snr, per,
-                                 65536 if pixels is None else int(pixels))
+        if pixels is None:  # the pattern chunk and its product within a quarter block
+            pixels = max(1, block_bytes // (32 * (per + len(self)) * 1024)) * 1024
+        return _frequency_blocks(scale_t, self.vectors, nside, snr, per, int(pixels))
 
     def threshold_table(self, frequency, snr=5.0, nside=None, *, pulsar_term=None,
                         callback=None):
