@@ -159,8 +159,15 @@ def test_threshold_table_reads_bare_numbers_as_hz():
 def test_map_blocks_equal_whole_map_bit_for_bit(by, kwargs):
     # Reference: h0_threshold_map, itself checked above against the per-direction
     # brute force; blocking must change no bit (one frequency per block included).
-    arr = small_array(red=True)
-    f = np.array([5e-9, 7e-9, 1e-8, 2e-8, 4e-8]) * u.Hz
+    # 40 pulsars and 37 frequencies: matrices past the BLAS's smallest kernels
+    base = small_array(red=True)
+    rng = np.random.default_rng(3)
+    n = 40
+    arr = type(base)([f"P{i}" for i in range(n)],
+                     SkyCoord(rng.uniform(0, 360, n) * u.deg, rng.uniform(-80, 80, n) * u.deg),
+                     np.full(n, 1.0) * u.us, np.full(n, 30.0) * u.d, np.full(n, 55000.0),
+                     np.full(n, 58000.0))
+    f = np.geomspace(5e-9, 1e-7, 37) * u.Hz
     whole = arr.h0_threshold_map(f, nside=16)
     got = np.full_like(whole, np.nan)
     for part, block in arr.threshold_map_blocks(f, 16, by=by, **kwargs):

@@ -47,6 +47,7 @@ DEFAULT_NSIDE = 64
 PARALLEL_MIN_PULSARS = 400
 #: Default size of one block of :meth:`PulsarArray.threshold_map_blocks` (bytes of output).
 MAP_BLOCK_BYTES = 2**28
+_ROW_TILE = 32  # frequencies per matrix product (see _h0_block)
 _MIN_TOAS = 3 * N_TIMING_PARAMETERS
 _METHODS = ("exact", "analytic")
 
@@ -429,7 +430,7 @@ class PulsarArray:
             if pixels is None:  # block and pattern chunk together within block_bytes
                 pixels = max(1, block_bytes // (8 * (f.size + len(self)) * 1024)) * 1024
             return _pixel_blocks(scale_t, self.vectors, nside, snr, int(pixels))
-        per = max(1, int(block_bytes // (8 * npix)))
+        per = max(1, int(block_bytes // (8 * npix * _ROW_TILE))) * _ROW_TILE
         if pixels is None:  # the pattern chunk and its product within a quarter block
             pixels = max(1, block_bytes // (32 * (per + len(self)) * 1024)) * 1024
         return _frequency_blocks(scale_t, self.vectors, nside, snr, per, int(pixels))
@@ -481,16 +482,23 @@ class PulsarArray:
 def _h0_block(scale_t, vectors, nside, pix, snr):
     """h0 for S/N ``snr`` on the pixels ``pix`` (a slice) for the rows of ``scale_t``.
 
-    Every product is a matrix-matrix product of at least two rows, so the
-    BLAS takes the same path (and summation order) whatever the block sizes.
+    A BLAS product's rounding can depend on the matrix shape (its edge
+    kernels), so the rows go through the product in fixed tiles of
+    ``_ROW_TILE`` (the last one zero-padded); blocks of frequencies start on a
+    tile boundary, hence every value is bit for bit that of the whole map.
     """
     import healpy as hp
 
     vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=1)
     pattern_t = antenna.pattern_power_grid(vectors, vec).T  # (n_p, n_pix)
-    rows = scale_t if scale_t.shape[0] > 1 else np.concatenate([scale_t, scale_t])
-    out = rows @ pattern_t
-    out = out[: scale_t.shape[0]]
+    n = scale_t.shape[0]
+    out = np.empty((n, pattern_t.shape[1]))
+    tile = np.zeros((_ROW_TILE, scale_t.shape[1]))
+    for lo in range(0, n, _ROW_TILE):
+        hi = min(lo + _ROW_TILE, n)
+        tile[: hi - lo] = scale_t[lo:hi]
+        tile[hi - lo:] = 0.0
+        out[lo:hi] = (tile @ pattern_t)[: hi - lo]
     np.sqrt(out, out=out)
     np.divide(snr, out, out=out)
     return out
