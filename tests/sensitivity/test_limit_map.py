@@ -163,3 +163,36 @@ def test_limit_map_span_is_a_quantity_or_bare_years():
     assert limit_map.LimitMap([1e-8, 2e-8], maps, span=12).span == 12 * u.yr
     with pytest.raises(limit_map.LimitMapError, match="span"):
         limit_map.LimitMap([1e-8, 2e-8] * u.Hz, maps, span=15 * u.m)
+
+
+@pytest.mark.parametrize("nside, step", [(4, 50), (16, 1000), (16, 3072)])
+def test_streamed_threshold_file_is_byte_for_byte_healpy_write_map(tmp_path, nside, step):
+    # Reference: healpy.write_map with the same columns and header keywords; the
+    # streamed writer (whole array, or pixel blocks that do not align with the
+    # 1024-pixel table rows) must produce the identical file.
+    npix = hp.nside2npix(nside)
+    maps = np.random.default_rng(1).uniform(1e-15, 1e-14, (3, npix))
+    f = [8e-9, 2e-8, 3e-8] * u.Hz
+    limit_map.write_threshold_maps(tmp_path / "a.fits", maps, f, 5.0, 12.0 * u.yr, "t")
+    blocks = (maps[:, lo:lo + step] for lo in range(0, npix, step))
+    limit_map.write_threshold_maps(tmp_path / "b.fits", blocks, f, 5.0, 12.0 * u.yr, "t",
+                                   nside=nside)
+    header = [("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
+              ("SNR", 5.0, "S/N threshold"), ("SPAN", 12.0, "observing span [yr]"),
+              ("SOURCE", "t", ""), ("ORIENT", "mean rho^2 over incl. and polarisation", "")]
+    header += [(f"FREQ{i + 1}", fi, "GW frequency of column [Hz]")
+               for i, fi in enumerate(f.value)]
+    hp.write_map(str(tmp_path / "h.fits"), list(maps), nest=False, coord="C",
+                 column_names=[f"H0_{fi * 1e9:.4g}NHZ" for fi in f.value], column_units="",
+                 extra_header=header, dtype=np.float64)
+    ref = (tmp_path / "h.fits").read_bytes()
+    assert (tmp_path / "a.fits").read_bytes() == ref
+    assert (tmp_path / "b.fits").read_bytes() == ref
+
+
+def test_streamed_threshold_file_refuses_short_blocks(tmp_path):
+    maps = np.ones((2, hp.nside2npix(NSIDE)))
+    with pytest.raises(limit_map.LimitMapError, match="12 nside"):
+        limit_map.write_threshold_maps(tmp_path / "s.fits", iter([maps[:, :-5]]),
+                                       [8e-9, 2e-8] * u.Hz, 5.0, 12.0 * u.yr, "t", nside=NSIDE)
+    assert not list(tmp_path.iterdir())

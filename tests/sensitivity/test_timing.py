@@ -133,3 +133,17 @@ def test_analytic_weights_agree_with_exact_in_documented_domain():
     # and outside the domain (at 1/yr) the approximation is far off: the notch
     iyr = np.argmin(np.abs(fyr - 1))
     assert exact[0, iyr] < 0.5 * approx[0, iyr]
+
+
+def test_single_blas_thread_limits_and_restores_the_blas_libraries():
+    # Reference: threadpoolctl's own report of the loaded BLAS libraries.
+    from threadpoolctl import threadpool_info
+
+    from ptaconstrain.sensitivity.timing import single_blas_thread
+
+    before = [d["num_threads"] for d in threadpool_info() if d["user_api"] == "blas"]
+    with single_blas_thread():
+        inside = [d["num_threads"] for d in threadpool_info() if d["user_api"] == "blas"]
+    after = [d["num_threads"] for d in threadpool_info() if d["user_api"] == "blas"]
+    assert inside and set(inside) == {1}
+    assert after == before

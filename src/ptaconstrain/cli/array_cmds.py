@@ -117,21 +117,32 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
     check_new([fits_path] + [f"{s}.png" for s in stems], overwrite)
     arr = load_array(array_file, pulsar_term=pulsar_term)
     arr.check_band(freq)  # before the progress bar starts
-    n_chunks = -(-12 * nside**2 // 65536)
-    with _progress(len(arr) + n_chunks, "sky map") as bar:
-        maps = arr.h0_threshold_map(freq, nside=nside, snr=snr, callback=bar.update)
-    write_threshold_maps(fits_path, maps, freq, snr, arr.span,
-                         f"pulsar list {arr.name}", overwrite=overwrite)
+    with _progress(len(arr), "timing-model fits") as bar:
+        arr.weights(freq, callback=bar.update)
+    # Two passes in blocks (memory: about two blocks, never all maps): pixel runs for
+    # the FITS rows, then whole-sky maps a few frequencies at a time for the figures.
+    npix = 12 * nside**2
+    with _progress(npix, "FITS file") as bar:
+        def rows():
+            for pix, block in arr.threshold_map_blocks(freq, nside, snr, by="pixel"):
+                yield block
+                bar.update(pix.stop - pix.start)
+
+        write_threshold_maps(fits_path, rows(), freq, snr, arr.span,
+                             f"pulsar list {arr.name}", overwrite=overwrite, nside=nside)
     lines = [f"wrote {fits_path} (HEALPix nside {nside}, RING, equatorial; "
              f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"]
-    for f, m, stem in zip(freq, maps, stems, strict=True):
-        fig = sky_map_figure(
-            m, pulsars=arr.sky_markers(),
-            title=f"{arr.name}: h0 detectable at S/N >= {snr:g} (forecast), "
-                  f"f = {nhz_text(f)}",
-            label=threshold_label(snr))
-        save_figure(fig, stem, ("png",), overwrite)
-        lines.append(_map_summary(f, m, snr, nside) + f"; figure {stem}.png")
+    with _progress(freq.size, "figures") as bar:
+        for fs, maps in arr.threshold_map_blocks(freq, nside, snr, by="frequency"):
+            for f, m, stem in zip(freq[fs], maps, stems[fs], strict=True):
+                fig = sky_map_figure(
+                    m, pulsars=arr.sky_markers(),
+                    title=f"{arr.name}: h0 detectable at S/N >= {snr:g} (forecast), "
+                          f"f = {nhz_text(f)}",
+                    label=threshold_label(snr))
+                save_figure(fig, stem, ("png",), overwrite)
+                lines.append(_map_summary(f, m, snr, nside) + f"; figure {stem}.png")
+                bar.update(1)
     for line in lines:
         click.echo(line)
 

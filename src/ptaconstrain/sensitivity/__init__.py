@@ -35,13 +35,14 @@ from .curve import (
 )
 from .limit_map import LimitMap, LimitMapError, load_limit_map, write_threshold_maps
 from .positional import HealpixThresholds, PositionalSensitivity, check_nside
-from .pulsar_array import ArrayError, PulsarArray
+from .pulsar_array import MAP_BLOCK_BYTES, PARALLEL_MIN_PULSARS, ArrayError, PulsarArray
 from .pulsar_list import array_from_table, load_array
 from .timing import (
     approximate_weights,
     post_fit_weights,
     red_noise_basis,
     red_noise_psd,
+    single_blas_thread,
     timing_design_matrix,
     white_noise_psd,
 )
@@ -58,6 +59,8 @@ __all__ = [
     "HealpixThresholds",
     "check_nside",
     "PulsarArray",
+    "PARALLEL_MIN_PULSARS",
+    "MAP_BLOCK_BYTES",
     "load_array",
     "array_from_table",
     "LimitMap",
@@ -77,6 +80,7 @@ __all__ = [
     "timing_design_matrix",
     "post_fit_weights",
     "approximate_weights",
+    "single_blas_thread",
     # errors
     "CurveError",
     "ArrayError",

@@ -50,14 +50,21 @@ class LimitMapError(InputError):
 
 
 def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=False,
-                         extra=None):
+                         extra=None, nside=None):
     """Write h0-threshold maps (one per frequency) as a HEALPix FITS file, atomically.
+
+    The file is the one ``healpy.write_map`` writes (columns of 1024 pixels
+    per table row, byte for byte; tests/sensitivity/test_limit_map.py), but
+    streamed: the rows of the binary table are pixel runs, so ``maps`` may be
+    an iterator of pixel blocks and only one block is held at a time (see
+    :meth:`~ptaconstrain.sensitivity.PulsarArray.threshold_map_blocks` with
+    ``by="pixel"``).
 
     Parameters
     ----------
     path : path-like
-    maps : array (n_f, 12 nside^2)
-        RING ordering, equatorial (ICRS) pixels.
+    maps : array (n_f, 12 nside^2), or iterable of arrays (n_f, n_block)
+        RING ordering, equatorial (ICRS) pixels; blocks in pixel order.
     frequencies : Quantity (n_f,) [frequency]; bare numbers are Hz
     snr : float
     span : Quantity [time]; bare numbers are yr
@@ -66,14 +73,21 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
     overwrite : bool
     extra : dict, optional
         More header keywords (short names, string or number values).
+    nside : int, optional
+        Needed when ``maps`` is an iterable of blocks.
     """
-    import healpy as hp
-
     from .._files import atomic_write
+    from .positional import check_nside
 
-    maps = np.atleast_2d(np.asarray(maps, float))
     f = np.atleast_1d(quantity(frequencies, u.Hz, "frequency").value)
     span_yr = float(positive(quantity(span, u.yr, "span"), "span").value)
+    if isinstance(maps, np.ndarray | list | tuple):
+        maps = np.atleast_2d(np.asarray(maps, float))
+        blocks, npix = [maps], maps.shape[1]
+    else:
+        if nside is None:
+            raise InputError("nside: give the maps' nside when they come in blocks")
+        blocks, npix = maps, 12 * check_nside(nside) ** 2
     header = [("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
               ("SNR", float(snr), "S/N threshold"),
               ("SPAN", span_yr, "observing span [yr]"),
@@ -83,9 +97,59 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
                for i, fi in enumerate(f)]
     header += [(k.upper()[:8], v, "") for k, v in (extra or {}).items()]
     names = [f"H0_{fi * 1e9:.4g}NHZ" for fi in f]
-    with atomic_write(path, overwrite) as tmp:
-        hp.write_map(str(tmp), list(maps), nest=False, coord="C", column_names=names,
-                     column_units="", extra_header=header, overwrite=True, dtype=np.float64)
+    with atomic_write(path, overwrite) as tmp, open(tmp, "wb") as fh:
+        _stream_healpix_table(fh, blocks, names, npix, header)
+
+
+def _healpix_table_header(names, npix, extra_header):
+    """The BinTableHDU header healpy.write_map (fits_IDL=True, RING, 'C') writes."""
+    import healpy as hp
+    from astropy.io import fits
+
+    per_row = 1024 if npix > 1024 else 1
+    fmt = "1024D" if per_row > 1 else "D"
+    cols = [fits.Column(name=n, format=fmt, unit="") for n in names]
+    hdr = fits.BinTableHDU.from_columns(cols, nrows=0).header
+    hdr["NAXIS2"] = npix // per_row
+    hdr["PIXTYPE"] = ("HEALPIX", "HEALPIX pixelisation")
+    hdr["ORDERING"] = ("RING", "Pixel ordering scheme, either RING or NESTED")
+    hdr["COORDSYS"] = ("C", "Ecliptic, Galactic or Celestial (equatorial)")
+    hdr["EXTNAME"] = ("xtension", "name of this binary table extension")
+    hdr["NSIDE"] = (hp.npix2nside(npix), "Resolution parameter of HEALPIX")
+    hdr["FIRSTPIX"] = (0, "First pixel # (0 based)")
+    hdr["LASTPIX"] = (npix - 1, "Last pixel # (0 based)")
+    hdr["INDXSCHM"] = ("IMPLICIT", "Indexing: IMPLICIT or EXPLICIT")
+    hdr["OBJECT"] = ("FULLSKY", "Sky coverage, either FULLSKY or PARTIAL")
+    for key, *rest in extra_header:
+        hdr[key] = tuple(rest)
+    return hdr, per_row
+
+
+def _stream_healpix_table(fh, blocks, names, npix, extra_header):
+    """Write primary HDU, table header, then the rows block by block (FITS 4.0, sect. 7.3)."""
+    from astropy.io import fits
+
+    hdr, per_row = _healpix_table_header(names, npix, extra_header)
+    fh.write(fits.PrimaryHDU().header.tostring().encode("ascii"))
+    fh.write(hdr.tostring().encode("ascii"))
+    n_f, done = len(names), 0
+    carry = np.empty((n_f, 0))
+    for block in blocks:
+        block = np.asarray(block, float).reshape(n_f, -1)
+        if carry.shape[1]:
+            block = np.concatenate([carry, block], axis=1)
+        whole = block.shape[1] // per_row * per_row
+        carry = block[:, whole:]
+        if whole:
+            # row r holds pixels [r per_row, (r + 1) per_row) of every column, big-endian
+            rows = block[:, :whole].reshape(n_f, -1, per_row).transpose(1, 0, 2)
+            fh.write(np.ascontiguousarray(rows, dtype=">f8").data)
+            done += whole
+    if carry.shape[1] or done != npix:
+        raise LimitMapError(f"sky map: blocks held {done + carry.shape[1]} pixels, "
+                            f"the header {npix}: give whole maps of 12 nside^2 pixels")
+    size = npix * n_f * 8
+    fh.write(b"\0" * (-size % 2880))
 
 
 class LimitMap:

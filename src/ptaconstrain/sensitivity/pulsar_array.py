@@ -37,10 +37,17 @@ from .timing import (
     white_noise_psd,
 )
 
-__all__ = ["ArrayError", "PulsarArray", "DEFAULT_NSIDE"]
+__all__ = ["ArrayError", "PulsarArray", "DEFAULT_NSIDE", "PARALLEL_MIN_PULSARS",
+           "MAP_BLOCK_BYTES"]
 
 #: HEALPix resolution of :meth:`PulsarArray.threshold_table` when none is asked for.
 DEFAULT_NSIDE = 64
+#: From this many pulsars on, :meth:`PulsarArray.weights` uses two processes by default
+#: (measured in benchmarks/bench_array.py).
+PARALLEL_MIN_PULSARS = 400
+#: Default size of one block of :meth:`PulsarArray.threshold_map_blocks` (bytes of output).
+MAP_BLOCK_BYTES = 2**28
+_ROW_TILE = 32  # frequencies per matrix product (see _h0_block)
 _MIN_TOAS = 3 * N_TIMING_PARAMETERS
 _METHODS = ("exact", "analytic")
 
@@ -141,13 +148,15 @@ class PulsarArray:
         pr = red_noise_psd(f[None, :], self.red_amp[:, None], self.red_gamma[:, None])
         return pw + pr
 
-    def weights(self, frequency, method="exact", callback=None):
+    def weights(self, frequency, method="exact", callback=None, *, workers=None,
+                blas_threads=1):
         """Post-fit sensitivity weights w[p, f] (phase-averaged rho^2 per unit residual^2).
 
-        The loop over pulsars is kept: each has its own epochs and noise, and
-        the work inside is vectorised over frequency (the cost per pulsar is a
-        few matrix products of N x (9 + 2K) by N x n_f).  Results are cached
-        per frequency grid.
+        Each pulsar has its own epochs and noise, so the exact weights are one
+        :func:`~.timing.post_fit_weights` call per pulsar (vectorised over
+        frequency; a few matrix products of N x (9 + 2K) by N x n_f), with one
+        BLAS thread each; many pulsars are spread over processes.  The result
+        does not depend on ``workers``.  Results are cached per frequency grid.
 
         Parameters
         ----------
@@ -156,6 +165,12 @@ class PulsarArray:
             :func:`~.timing.post_fit_weights` or :func:`~.timing.approximate_weights`.
         callback : callable, optional
             Called with 1 after each pulsar (e.g. a click progress bar's update).
+        workers : int, optional
+            Processes for the exact weights; default 1 below
+            :data:`PARALLEL_MIN_PULSARS` pulsars, else min(2, CPU count).
+        blas_threads : int or None
+            BLAS threads per pulsar; None leaves the library's own setting
+            (kept for comparison: much slower on these small matrices).
 
         Returns
         -------
@@ -171,15 +186,26 @@ class PulsarArray:
             w = approximate_weights(self.n_toas[:, None], self.cadence[:, None],
                                     self.noise_psd(f))
         else:
+            jobs = [(self.epochs(i), self.toa_rms[i], f, self.red_amp[i], self.red_gamma[i],
+                     blas_threads) for i in range(len(self))]
             rows = []
-            for i in range(len(self)):
-                rows.append(post_fit_weights(self.epochs(i), self.toa_rms[i], f,
-                                             self.red_amp[i], self.red_gamma[i]).value)
+            for row in _map_jobs(jobs, self._workers(workers)):
+                rows.append(row)
                 if callback is not None:
                     callback(1)
             w = np.array(rows) * u.s**-2
         self._cache[key] = w
         return w
+
+    def _workers(self, workers):
+        if workers is None:
+            import os
+
+            return 1 if len(self) < PARALLEL_MIN_PULSARS else min(2, os.cpu_count() or 1)
+        workers = int(workers)
+        if workers < 1:
+            raise InputError(f"workers: {workers} is not a positive number of processes")
+        return workers
 
     def check_band(self, frequency):
         """Refuse frequencies outside 1/T .. 1/(2 dt), where the array says nothing.
@@ -322,7 +348,9 @@ class PulsarArray:
         """HEALPix maps (RING, ICRS) of the h0 reaching S/N ``snr`` (orientation-averaged).
 
         One matrix product per pixel chunk: pattern[pix, p] @ w[p, f] (see
-        the module docstring).
+        the module docstring).  The whole result is held (n_f x 12 nside^2
+        doubles); for large maps use :meth:`threshold_map_blocks`, whose
+        blocks are bit for bit the same numbers.
 
         Parameters
         ----------
@@ -333,17 +361,64 @@ class PulsarArray:
         callback : callable, optional
             Called with 1 after each pulsar's weights and each pixel chunk.
         chunk : int
-            Pixels per matrix product (bounds memory).
+            Pixels per matrix product (bounds the temporary memory).
 
         Returns
         -------
         ndarray (n_f, 12 nside^2), dimensionless h0.
+        """
+        nside = check_nside(nside)
+        blocks = self.threshold_map_blocks(frequencies, nside, snr, pulsar_term,
+                                           by="pixel", pixels=chunk, callback=callback)
+        parts = []
+        for _, block in blocks:
+            parts.append(block)
+            if callback is not None:
+                callback(1)
+        return np.concatenate(parts, axis=1)
+
+    def threshold_map_blocks(self, frequencies, nside=32, snr=5.0, pulsar_term=None, *,
+                             by="pixel", pixels=None, block_bytes=MAP_BLOCK_BYTES,
+                             callback=None):
+        """:meth:`h0_threshold_map` in blocks, so that no more than a block is held.
+
+        ``by="pixel"``: every frequency for a run of pixels (the rows of a HEALPix
+        FITS table, see :func:`~.limit_map.write_threshold_maps`).
+        ``by="frequency"``: whole-sky maps for a run of frequencies (one map per
+        figure).  Each block holds about ``block_bytes`` (at least one pixel
+        run or one map); the values are bit for bit those of the whole map.
+        nside 512 with 1000 frequencies, whole, would need 25 GB; in blocks of
+        the default size, well under 1 GB (measured in benchmarks/bench_array.py).
+
+        Parameters
+        ----------
+        frequencies : Quantity (n_f,) [frequency]; bare numbers are Hz
+        nside : int, power of 2
+        snr : float
+        pulsar_term : bool, optional
+        by : {"pixel", "frequency"}
+        pixels : int, optional
+            Pixels per matrix product; default from ``block_bytes``, a multiple
+            of 1024.
+        block_bytes : int
+            Target size of one yielded block (with its temporaries: about
+            twice this is held at most).
+        callback : callable, optional
+            Passed to :meth:`weights` (called once per pulsar).
+
+        Returns
+        -------
+        iterator of (slice, ndarray)
+            By pixel: the pixel range and h0 (n_f, n_pixels); by frequency: the
+            frequency range and h0 (n_block, 12 nside^2).
         """
         import healpy as hp
 
         nside = check_nside(nside)
         snr = _check_snr(snr)
         f = _check_frequency(frequencies)
+        if by not in ("pixel", "frequency"):
+            raise InputError(f"by: {by!r} is unknown; use 'pixel' or 'frequency'")
         self.check_band(f)
         w = self.weights(f, callback=callback)
         term = self._term(pulsar_term)
@@ -351,16 +426,14 @@ class PulsarArray:
         scale = antenna.orientation_averaged_snr_squared(1.0, f, w, np.eye(len(self)), term)
         scale_t = np.ascontiguousarray(scale.T)  # (n_f, n_p)
         npix = hp.nside2npix(nside)
-        out = np.empty((f.size, npix))
-        for lo in range(0, npix, chunk):
-            hi = min(lo + chunk, npix)
-            vec = np.stack(hp.pix2vec(nside, np.arange(lo, hi)), axis=1)
-            out[:, lo:hi] = scale_t @ antenna.pattern_power_grid(self.vectors, vec).T
-            if callback is not None:
-                callback(1)
-        np.sqrt(out, out=out)
-        np.divide(snr, out, out=out)
-        return out
+        if by == "pixel":
+            if pixels is None:  # block and pattern chunk together within block_bytes
+                pixels = max(1, block_bytes // (8 * (f.size + len(self)) * 1024)) * 1024
+            return _pixel_blocks(scale_t, self.vectors, nside, snr, int(pixels))
+        per = max(1, int(block_bytes // (8 * npix * _ROW_TILE))) * _ROW_TILE
+        if pixels is None:  # the pattern chunk and its product within a quarter block
+            pixels = max(1, block_bytes // (32 * (per + len(self)) * 1024)) * 1024
+        return _frequency_blocks(scale_t, self.vectors, nside, snr, per, int(pixels))
 
     def threshold_table(self, frequency, snr=5.0, nside=None, *, pulsar_term=None,
                         callback=None):
@@ -403,6 +476,75 @@ class PulsarArray:
             "toa_rms": f"{self.toa_rms.min().value:.3g}-{self.toa_rms.max().value:.3g} us",
             "red_noise": f"{int(np.sum(self.red_amp > 0))} pulsars",
         }
+
+
+# ------------------------------------------------------------------ helpers
+def _h0_block(scale_t, vectors, nside, pix, snr):
+    """h0 for S/N ``snr`` on the pixels ``pix`` (a slice) for the rows of ``scale_t``.
+
+    A BLAS product's rounding can depend on the matrix shape (its edge
+    kernels), so the rows go through the product in fixed tiles of
+    ``_ROW_TILE`` (the last one zero-padded); blocks of frequencies start on a
+    tile boundary, hence every value is bit for bit that of the whole map.
+    """
+    import healpy as hp
+
+    vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=1)
+    pattern_t = antenna.pattern_power_grid(vectors, vec).T  # (n_p, n_pix)
+    n = scale_t.shape[0]
+    out = np.empty((n, pattern_t.shape[1]))
+    tile = np.zeros((_ROW_TILE, scale_t.shape[1]))
+    for lo in range(0, n, _ROW_TILE):
+        hi = min(lo + _ROW_TILE, n)
+        tile[: hi - lo] = scale_t[lo:hi]
+        tile[hi - lo:] = 0.0
+        out[lo:hi] = (tile @ pattern_t)[: hi - lo]
+    np.sqrt(out, out=out)
+    np.divide(snr, out, out=out)
+    return out
+
+
+def _pixel_blocks(scale_t, vectors, nside, snr, pixels):
+    import healpy as hp
+
+    npix = hp.nside2npix(nside)
+    for lo in range(0, npix, pixels):
+        pix = slice(lo, min(lo + pixels, npix))
+        yield pix, _h0_block(scale_t, vectors, nside, pix, snr)
+
+
+def _frequency_blocks(scale_t, vectors, nside, snr, per, pixels):
+    import healpy as hp
+
+    npix = hp.nside2npix(nside)
+    n_f = scale_t.shape[0]
+    for flo in range(0, n_f, per):
+        fs = slice(flo, min(flo + per, n_f))
+        out = np.empty((fs.stop - fs.start, npix))
+        for lo in range(0, npix, pixels):
+            pix = slice(lo, min(lo + pixels, npix))
+            out[:, pix] = _h0_block(scale_t[fs], vectors, nside, pix, snr)
+        yield fs, out
+
+
+def _post_fit_row(job):
+    return post_fit_weights(*job[:5], blas_threads=job[5]).value
+
+
+def _map_jobs(jobs, workers):
+    """post_fit_weights over ``jobs`` in order, in this process or in ``workers`` processes."""
+    if workers <= 1 or len(jobs) < 2:
+        yield from map(_post_fit_row, jobs)
+        return
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    # fork shares the loaded modules (no re-import); elsewhere the platform default
+    methods = multiprocessing.get_all_start_methods()
+    ctx = multiprocessing.get_context("fork" if "fork" in methods else None)
+    chunk = max(1, len(jobs) // (8 * workers))
+    with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
+        yield from pool.map(_post_fit_row, jobs, chunksize=chunk)
 
 
 # -------------------------------------------------------------- validation

@@ -40,6 +40,17 @@ within 15% where red noise dominates (measured in
 tests/sensitivity/test_timing.py; the remaining difference is the fit and the
 discrete Fourier basis).  Outside that domain (the 1/T roll-off, the notches
 at 1/yr and 2/yr) use the exact weights.
+
+BLAS threads
+------------
+The matrices of one pulsar have a few hundred rows; a multi-threaded BLAS
+spends far more on waking and synchronising its threads than on the
+arithmetic (a 200 x 200 Cholesky: about 100 ms with two OpenBLAS threads,
+0.3-2 ms with one, on a busy 2-core machine).  :func:`post_fit_weights`
+therefore runs with one BLAS thread by default (:func:`single_blas_thread`,
+through threadpoolctl of the joblib / scikit-learn developers), and
+:meth:`~ptaconstrain.sensitivity.PulsarArray.weights` can spread pulsars over
+processes instead.  The arithmetic is the same either way.
 """
 
 import numpy as np
@@ -55,6 +66,7 @@ __all__ = [
     "red_noise_basis",
     "post_fit_weights",
     "approximate_weights",
+    "single_blas_thread",
 ]
 
 #: Reference frequency of the red-noise power law, 1 / (365.25 d).
@@ -65,6 +77,31 @@ _MJD_J2000 = 51544.5
 #: Columns of :func:`timing_design_matrix`.
 N_TIMING_PARAMETERS = 9
 _DAY = 86400.0
+_CONTROLLER = []  # the threadpoolctl controller, made on first use (after scipy.linalg loads)
+
+
+def single_blas_thread(threads=1):
+    """Context manager limiting the BLAS libraries of this process to ``threads`` threads.
+
+    Parameters
+    ----------
+    threads : int or None
+        None leaves the libraries' own setting (a no-op context).
+
+    Returns
+    -------
+    context manager
+    """
+    import contextlib
+
+    if threads is None:
+        return contextlib.nullcontext()
+    if not _CONTROLLER:
+        import scipy.linalg  # noqa: F401  (load its BLAS before the controller looks)
+        from threadpoolctl import ThreadpoolController
+
+        _CONTROLLER.append(ThreadpoolController())
+    return _CONTROLLER[0].limit(limits=int(threads), user_api="blas")
 
 
 # --------------------------------------------------------------------- noise
@@ -180,7 +217,7 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
     return basis, np.tile(pr / span, 2) * u.s**2
 
 
-def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0):
+def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_threads=1):
     """Exact phase-averaged post-fit S/N^2 of a unit-amplitude sinusoid, per frequency.
 
     w(f) = (c^T G c + s^T G s) / 2 with G the inverse noise covariance
@@ -194,11 +231,19 @@ def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0):
     frequency : Quantity (n_f,) [frequency]
     red_amp, red_gamma : float
         Power-law red noise (A, gamma); A = 0 for none.
+    blas_threads : int or None
+        BLAS threads for this pulsar's matrix algebra (module docstring);
+        None leaves the library's setting.
 
     Returns
     -------
     Quantity (n_f,) [1 / s^2]
     """
+    with single_blas_thread(blas_threads):
+        return _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma)
+
+
+def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma):
     from scipy import linalg
 
     mjd = np.asarray(mjd, float)
