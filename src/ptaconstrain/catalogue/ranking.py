@@ -395,7 +395,9 @@ def _build_table(d, metric, verb, first_rank=1, cum_start=0.0):
     for key in ("h0_equal_mass", "h0_ratio", "min_mass_ratio", "prob_equal_mass",
                 "expected_number"):
         t[key] = d[key]
-    t["cumulative_expected_number"] = cum_start + np.cumsum(np.nan_to_num(d["expected_number"]))
+    # one running sum continued across blocks: the same additions as a single cumsum
+    t["cumulative_expected_number"] = np.cumsum(
+        np.r_[cum_start, np.nan_to_num(d["expected_number"])])[1:]
     t["isco_frequency"] = d["isco_frequency"]
     t["f_best_above_isco"] = d["f_best_above_isco"]
     for key in FIELDS:
