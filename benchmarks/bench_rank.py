@@ -1,30 +1,35 @@
-"""Benchmark: rank a 10^6-row synthetic catalogue with the mass scatter marginalised.
+"""Benchmark: rank a 10^6-row synthetic catalogue end to end, outputs included.
 
-Prints wall time, rows per second and peak memory of ``rank_catalog`` on an
-in-memory catalogue of invented galaxies (or, with ``--csv``, a temporary CSV
-file streamed in chunks), then times the vectorised metrics against a
-brute-force reference -- a Python loop over rows that evaluates the model
-from its definition (Peters residence time per band from
+Runs ``rank_to_files`` (ranking.fits, ranking_top.ecsv, rejected rows, the two
+figures) on a FITS catalogue of invented galaxies in a fresh process, side by
+side with today's reference -- the same call in the code of the base commit
+(``--reference-rev``, default c4fea20: everything in memory, one ECSV) taken
+from git into a temporary directory and run in its own process -- and prints
+wall time, CPU time, peak RSS and rows per second of each, and their ratios.
+The two tables must list the same galaxies in the same order with the same
+values (to 1e-12).  Then the vectorised metrics are checked against a
+brute-force reference -- a Python loop over rows evaluating the model from
+its definition (Peters residence time per band from
 ``waveform.coalescence_time``, the mass-ratio weight from
 ``MassRatioDistribution.tail_from_eta``, strain from
 ``waveform.strain_prefactor``), sharing only the quadrature rule -- on a
-10^4-row subset, and checks that both agree to 1e-10.
+10^4-row subset of the written table, to 1e-10.
 
-Usage:  python benchmarks/bench_rank.py [--rows 1000000] [--subset 10000] [--csv]
+Usage:  python benchmarks/bench_rank.py [--rows 1000000] [--subset 10000]
+        [--no-reference] [--reference-rev REV] [--chunk-size 100000]
 """
 
 import argparse
-import resource
 import tempfile
-import time
 from pathlib import Path
 
 import numpy as np
 from astropy import units as u
 from astropy.table import Table
+from benchtools import machine_line, timed
 
 from ptaconstrain.binary import waveform as wf
-from ptaconstrain.catalogue import PopulationModel, galaxy_metrics, rank_catalog
+from ptaconstrain.catalogue import PopulationModel, galaxy_metrics
 from ptaconstrain.catalogue.population import band_thresholds, mass_limits, mass_nodes
 from ptaconstrain.data import path as data_file
 from ptaconstrain.sensitivity.curve import load_curve
@@ -72,67 +77,148 @@ def reference_expected_number(lm, sig, d_mpc, z, curve, population, n_nodes):
     return population.rate.to_value(1 / u.yr) * float(np.sum(weights[0][use] * per_node))
 
 
+def _child(args):
+    """Rank in this process; print one JSON line (wall, cpu, peak RSS in MB)."""
+    import json
+    import resource
+    import sys
+
+    if args.src:
+        sys.path.insert(0, args.src)
+    from ptaconstrain.data import path as data_file
+    from ptaconstrain.report.ranking_files import rank_to_files
+    from ptaconstrain.sensitivity.curve import load_curve
+
+    curve = load_curve(data_file("synthetic_h0_limit.ecsv"))
+    kw = {} if args.src else {"chunk_size": args.chunk_size}
+    _, wall, cpu = timed(rank_to_files, args.catalogue, curve, args.out, **kw)
+    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    print(json.dumps({"wall": wall, "cpu": cpu, "peak_mb": peak}))
+
+
+def _run_child(catalogue, out, src=None, chunk_size=100_000):
+    import json
+    import subprocess
+    import sys
+
+    cmd = [sys.executable, __file__, "--child", "--catalogue", str(catalogue), "--out",
+           str(out), "--chunk-size", str(chunk_size)] + (["--src", src] if src else [])
+    env = {**__import__("os").environ, "PYTHONPATH": src or "src"}
+    res = subprocess.run(cmd, check=True, capture_output=True, text=True, env=env)
+    return json.loads(res.stdout.strip().splitlines()[-1])
+
+
+def _write_catalogue(n, path, block=1_000_000):
+    """The synthetic catalogue as FITS, generated and written in blocks (bounded memory)."""
+    from ptaconstrain.report.ranking_files import write_fits_blocks
+
+    def blocks():
+        for b0 in range(0, n, block):
+            t = synthetic_catalogue(min(block, n - b0), seed=7 + b0)
+            t["name"] = np.char.add("Synth-", np.arange(b0, b0 + len(t)).astype(str))
+            t["name"] = t["name"].astype(f"S{len(str(n)) + 6}")
+            yield t
+    write_fits_blocks(blocks(), path, n)
+
+
+def _reference_source(rev, where):
+    """Today's package (commit ``rev``) extracted from git into ``where``; its src path."""
+    import subprocess
+
+    arch = subprocess.run(["git", "archive", rev, "src"], check=True, capture_output=True)
+    subprocess.run(["tar", "-x", "-C", str(where)], input=arch.stdout, check=True)
+    return str(Path(where) / "src")
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--rows", type=int, default=1_000_000)
     ap.add_argument("--subset", type=int, default=10_000)
     ap.add_argument("--nodes", type=int, default=16)
-    ap.add_argument("--csv", action="store_true", help="stream from a temporary CSV file")
+    ap.add_argument("--chunk-size", type=int, default=100_000)
+    ap.add_argument("--no-reference", action="store_true",
+                    help="skip today's path (e.g. at 10^7 rows, where it needs ~40 GB)")
+    ap.add_argument("--reference-rev", default="c4fea20")
+    ap.add_argument("--child", action="store_true", help=argparse.SUPPRESS)
+    ap.add_argument("--catalogue", help=argparse.SUPPRESS)
+    ap.add_argument("--out", help=argparse.SUPPRESS)
+    ap.add_argument("--src", help=argparse.SUPPRESS)
     args = ap.parse_args()
+    if args.child:
+        return _child(args)
+
+    from astropy.table import QTable
+
+    print(machine_line())
+    tmp = tempfile.TemporaryDirectory()
+    work = Path(tmp.name)
+    cat_path = work / "synthetic.fits"
+    _, w, _ = timed(_write_catalogue, args.rows, cat_path)
+    print(f"catalogue: {args.rows} invented rows (FITS, {cat_path.stat().st_size / 1e6:.0f} MB, "
+          f"written in {w:.1f} s); end to end = rank_to_files, outputs included")
+
+    fast = _run_child(cat_path, work / "fast", chunk_size=args.chunk_size)
+    rate = args.rows / fast["wall"]
+    print(f"streamed (this code): wall {fast['wall']:.1f} s, CPU {fast['cpu']:.1f} s, "
+          f"peak RSS {fast['peak_mb']:,.0f} MB, {rate:,.0f} rows/s "
+          f"({1e3 * fast['peak_mb'] / args.rows:.2f} kB/row)")
+    table = QTable.read(work / "fast" / "ranking.fits", memmap=True)
+    assert len(table) == args.rows and np.all(np.asarray(table["rank"]) ==
+                                              np.arange(1, args.rows + 1))
+    if not args.no_reference:
+        ref_src = _reference_source(args.reference_rev, work)
+        ref = _run_child(cat_path, work / "ref", src=ref_src)
+        print(f"today's path ({args.reference_rev}, in memory + one ECSV): wall "
+              f"{ref['wall']:.1f} s, CPU {ref['cpu']:.1f} s, peak RSS {ref['peak_mb']:,.0f} MB, "
+              f"{args.rows / ref['wall']:,.0f} rows/s")
+        print(f"ratio today/streamed: wall {ref['wall'] / fast['wall']:.2f}x, "
+              f"CPU {ref['cpu'] / fast['cpu']:.2f}x, peak RSS "
+              f"{ref['peak_mb'] / fast['peak_mb']:.2f}x")
+        old = QTable.read(work / "ref" / "ranking.ecsv")
+        same_order = np.array_equal(np.asarray(old["name"]).astype(str),
+                                    np.char.decode(np.asarray(table["name"]), "utf-8"))
+        worst = 0.0
+        for col in ("expected_number", "h0_ratio", "prob_equal_mass", "ra", "distance"):
+            a = np.asarray(getattr(old[col], "value", old[col]), float)
+            b = np.asarray(getattr(table[col], "value", table[col]), float)
+            both = np.isfinite(a) & (a != 0)
+            assert np.array_equal(np.isfinite(a), np.isfinite(b))
+            worst = max(worst, float(np.max(np.abs(a[both] - b[both]) / np.abs(a[both]))))
+        print(f"same galaxies in the same order: {same_order}; max rel diff of the values "
+              f"{worst:.1e}")
+        assert same_order and worst < 1e-12
+        ok = ref["wall"] / fast["wall"] >= 3 and fast["peak_mb"] < 1536
+        print(f"target >= 3x faster than today (wall) and < 1.5 GB peak: "
+              f"{'met' if ok else 'MISSED'} (at {args.rows} rows)")
+    else:
+        print(f"target < 3 GB peak: {'met' if fast['peak_mb'] < 3072 else 'MISSED'} "
+              f"(at {args.rows} rows)")
 
     curve = load_curve(data_file("synthetic_h0_limit.ecsv"))
     pop = PopulationModel()
-    cat = synthetic_catalogue(args.rows)
-    print(f"catalogue: {args.rows} invented rows; curve: {curve.frequency.size} frequencies "
-          f"({curve.frequency.size - 1} bands); {args.nodes} scatter nodes")
-    source = cat
-    tmp = None
-    if args.csv:
-        tmp = tempfile.TemporaryDirectory()
-        source = Path(tmp.name) / "synthetic.csv"
-        t0 = time.perf_counter()
-        cat.write(source, format="ascii.csv", fast_writer=True)
-        print(f"wrote temporary CSV in {time.perf_counter() - t0:.1f} s")
-
-    rss0 = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-    t0 = time.perf_counter()
-    ranking = rank_catalog(source, curve, population=pop, n_nodes=args.nodes)
-    wall = time.perf_counter() - t0
-    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-    n_pos = int(np.count_nonzero(ranking.table["expected_number"] > 0))
-    print(f"rank_catalog: {wall:.1f} s for {args.rows} rows = {args.rows / wall:,.0f} rows/s; "
-          f"peak RSS {peak:,.0f} MB (before: {rss0:,.0f} MB); "
-          f"{n_pos} galaxies with N > 0")
-
-    # side by side on a subset: vectorised metrics vs the per-row loop
-    sub = ranking.table[np.random.default_rng(1).permutation(len(ranking.table))
-                        [:args.subset]]
+    sub = table[np.sort(np.random.default_rng(1).permutation(len(table))[:args.subset])]
     lm = np.asarray(sub["log_mass"])
     sig = np.asarray(sub["log_mass_sigma"])
     d = sub["distance"].to_value(u.Mpc)
     z = np.asarray(sub["redshift"])
     f, thr = curve.frequency, curve.h0_threshold(curve.frequency)
-    t0 = time.perf_counter()
-    fast = galaxy_metrics(lm, sig, d * u.Mpc, z, f, thr, pop, n_nodes=args.nodes)
-    t_fast = time.perf_counter() - t0
-    t0 = time.perf_counter()
-    ref = np.array([reference_expected_number(lm[i], sig[i], d[i], z[i], curve, pop,
-                                              args.nodes) for i in range(lm.size)])
-    t_ref = time.perf_counter() - t0
-    a, b = fast["expected_number"], ref
+    fast_m, t_fast, c_fast = timed(galaxy_metrics, lm, sig, d * u.Mpc, z, f, thr, pop,
+                                   n_nodes=args.nodes)
+    ref_n, t_ref, c_ref = timed(lambda: np.array([
+        reference_expected_number(lm[i], sig[i], d[i], z[i], curve, pop, args.nodes)
+        for i in range(lm.size)]))
+    a, b = fast_m["expected_number"], ref_n
     assert np.array_equal(a == 0, b == 0), "zero pattern differs"
     nz = b > 0
     rel = float(np.max(np.abs(a[nz] - b[nz]) / b[nz])) if nz.any() else 0.0
     same_table = np.max(np.abs(a - np.asarray(sub["expected_number"])) /
                         np.where(b > 0, b, 1.0))
-    print(f"subset {lm.size} rows ({int(nz.sum())} with N > 0): vectorised {t_fast:.2f} s, "
-          f"brute-force loop {t_ref:.1f} s, ratio {t_ref / t_fast:,.0f}x; "
-          f"max rel diff {rel:.2e} (vs ranked table {same_table:.2e})")
+    print(f"subset {lm.size} rows ({int(nz.sum())} with N > 0): vectorised {t_fast:.2f} s "
+          f"(CPU {c_fast:.2f} s), brute-force loop {t_ref:.1f} s (CPU {c_ref:.1f} s), ratio "
+          f"{t_ref / t_fast:,.0f}x; max rel diff {rel:.2e} (vs written table {same_table:.2e})")
     assert rel < 1e-10 and same_table < 1e-10
-    target = "met" if wall < 60 and peak < 4096 else "MISSED"
-    print(f"target 10^6 rows < 60 s and < 4 GB: {target} (at {args.rows} rows)")
-    if tmp is not None:
-        tmp.cleanup()
+    del table, sub
+    tmp.cleanup()
 
 
 if __name__ == "__main__":

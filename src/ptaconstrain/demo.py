@@ -333,7 +333,7 @@ def ranking_part(out_dir, curve, overwrite=False):
     ranking, written = rank_to_files(
         path, curve, out_dir, files={"catalogue": path},
         options={"demo": "INVENTED galaxies (fictional catalogue), synthetic curve"},
-        overwrite=overwrite)
+        overwrite=overwrite, full_ecsv=True)
     lines = ["catalogue ranking (INVENTED galaxies): " + ranking.summary_lines(0)[0]]
     lines += ranking.summary_lines(3)[1:]
     lines.append("  wrote " + ", ".join(p.name for p in written))

@@ -1,9 +1,11 @@
 """``ptaconstrain rank`` on the command line, and the demo part."""
 
+import json
+
 import numpy as np
 import pytest
 from astropy import units as u
-from astropy.table import Table
+from astropy.table import QTable, Table
 from click.testing import CliRunner
 
 from ptaconstrain.cli import main
@@ -35,14 +37,45 @@ def test_rank_writes_table_and_figures(tmp_path, curve_file):
     assert res.exit_code == 0, res.output
     assert "ranked 400 of 400" in res.output and "excluded" in res.output
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["ranking.ecsv", "ranking_cumulative.png", "ranking_rejected.ecsv",
-                     "ranking_sky.png"]
-    t = Table.read(out / "ranking.ecsv")
+    assert names == ["ranking.fits", "ranking_cumulative.png", "ranking_rejected.ecsv",
+                     "ranking_sky.png", "ranking_top.ecsv"]
+    full = QTable.read(out / "ranking.fits")
+    top = QTable.read(out / "ranking_top.ecsv")
+    assert len(full) == 400 and len(top) == 5
     for col in ("rank", "name", "mass_source", "f_best", "h0_ratio", "min_mass_ratio",
                 "prob_equal_mass", "expected_number", "velocity_dispersion"):
-        assert col in t.colnames
-    assert t.meta["provenance"]["files"]["curve"]["sha256"]
-    assert t.meta["verb"] == "excluded"
+        assert col in full.colnames and col in top.colnames
+    assert top.meta["provenance"]["files"]["curve"]["sha256"]
+    assert top.meta["verb"] == "excluded"
+    meta = {k.lower(): v for k, v in full.meta.items()}
+    assert json.loads(meta["provenance"])["files"]["curve"]["sha256"]
+    assert meta["verb"] == "excluded" and meta["rows_ranked"] == 400
+    assert list(full["rank"]) == list(range(1, 401))
+    assert full["f_best"].unit == top["f_best"].unit == u.Hz
+    assert list(full["name"][:5]) == list(top["name"])
+    # the top rows are the first rows of the full table, value for value
+    for col in top.colnames:
+        a, b = np.asarray(top[col]), np.asarray(full[col][:5])
+        assert np.array_equal(a, b.astype(a.dtype) if a.dtype.kind == "U" else b,
+                              equal_nan=a.dtype.kind == "f"), col
+    assert np.all(np.diff(full["expected_number"]) <= 0)
+    np.testing.assert_allclose(full["cumulative_expected_number"],
+                               np.cumsum(full["expected_number"]), rtol=1e-12)
+
+
+def test_full_ecsv_on_request_equals_the_fits_table(tmp_path, curve_file):
+    out = tmp_path / "out"
+    res = _run("rank", CATALOGUE, "--curve", curve_file, "--out", str(out), "--full-ecsv")
+    assert res.exit_code == 0, res.output
+    full = QTable.read(out / "ranking.fits")
+    text = QTable.read(out / "ranking.ecsv")
+    assert text.colnames == full.colnames and len(text) == len(full) == 400
+    for col in text.colnames:
+        a, b = np.asarray(text[col]), np.asarray(full[col])
+        assert np.array_equal(a, b.astype(a.dtype) if a.dtype.kind == "U" else b,
+                              equal_nan=a.dtype.kind == "f"), col
+    assert text.meta["provenance"]["software"]
+    assert not [p for p in out.iterdir() if p.name.startswith(".")]  # runs removed
 
 
 def test_help_shows_an_example():
@@ -120,7 +153,7 @@ def test_array_option_sky_dependent(tmp_path):
     res = _run("rank", CATALOGUE, "--array", str(data_file("demo_array.ecsv")),
                "--out", str(out), "--metric", "h0_ratio")
     assert res.exit_code == 0, res.output
-    t = Table.read(out / "ranking.ecsv")
+    t = Table.read(out / "ranking_top.ecsv")
     assert t.meta["sky"].startswith("healpix") and t.meta["verb"] == "detectable"
 
 
@@ -129,6 +162,7 @@ def test_demo_ranking_part(tmp_path):
     lines = ranking_part(tmp_path, curve)
     assert any("INVENTED" in line for line in lines)
     assert (tmp_path / "ranking.ecsv").is_file() and (tmp_path / "ranking_sky.png").is_file()
+    assert len(Table.read(tmp_path / "ranking.ecsv")) == 400  # the demo asks for full ECSV
     with pytest.raises(FileExistsError):
         ranking_part(tmp_path, curve)
 
@@ -141,7 +175,7 @@ def test_exclusion_figures_of_the_top_targets(tmp_path, curve_file):
     res = _run("rank", CATALOGUE, "--curve", curve_file, "--out", str(out),
                "--exclusion-figures", "2")
     assert res.exit_code == 0, res.output
-    names = list(Table.read(out / "ranking.ecsv")["name"][:3])
+    names = list(Table.read(out / "ranking_top.ecsv")["name"][:3])
     assert (out / f"{safe_name(names[0])}_exclusion.png").is_file()
     assert (out / f"{safe_name(names[1])}_exclusion.png").is_file()
     assert not (out / f"{safe_name(names[2])}_exclusion.png").exists()
@@ -160,7 +194,7 @@ def test_forecast_figures_are_named_forecast(tmp_path):
     res = _run("rank", CATALOGUE, "--curve", str(path), "--out", str(out),
                "--exclusion-figures", "1")
     assert res.exit_code == 0, res.output
-    first = Table.read(out / "ranking.ecsv")["name"][0]
+    first = Table.read(out / "ranking_top.ecsv")["name"][0]
     assert (out / f"{safe_name(first)}_forecast.png").is_file()
 
 

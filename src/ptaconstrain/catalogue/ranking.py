@@ -5,8 +5,22 @@
 arrays under the one input policy (:mod:`~ptaconstrain.catalogue.rows`), looks
 up the h0 thresholds at the galaxies' positions
 (:mod:`~ptaconstrain.catalogue.thresholds`), computes the metrics
-(:mod:`~ptaconstrain.catalogue.metrics`) and sorts.  The result is a
-:class:`Ranking`.
+(:mod:`~ptaconstrain.catalogue.metrics`), drops repeated names as they arrive
+(:class:`~ptaconstrain.catalogue.names.NameSet`, hashes) and sorts.  The result
+is a :class:`Ranking`.
+
+Two ways to hold the result:
+
+* in memory (default): every ranked row in ``Ranking.table``;
+* streamed (``stream_dir``): each chunk is sorted and written to disk as a run
+  (:class:`~ptaconstrain.catalogue.ranked_runs.RankedRuns`) while running totals
+  (rows, expected number, rejections, relations used) are kept; at the end the
+  runs are merged into the global order, ``Ranking.table`` holds the best
+  ``top_rows`` rows and :meth:`Ranking.blocks` yields the whole table in order
+  (``ptaconstrain rank`` writes it to FITS that way).  Memory stays bounded by
+  the sort keys (~30 bytes per row) plus one chunk.
+
+Both give the same rows, values and order (``tests/catalogue/test_ranking.py``).
 """
 
 from dataclasses import dataclass
@@ -18,10 +32,12 @@ from ..cosmo import DistanceRedshift
 from ..errors import InputError
 from .columns import FIELDS, CatalogError, ColumnMap, load_column_map
 from .metrics import METRICS, galaxy_metrics
+from .names import NameSet
 from .population import PopulationModel
+from .ranked_runs import RankedRuns, ranking_order
 from .reader import CatalogReader
 from .relations import select_relations
-from .rows import Rejections, duplicate_mask, prepare_chunk
+from .rows import Rejections, prepare_chunk
 from .thresholds import ThresholdLookup
 
 __all__ = ["Ranking", "rank_catalog"]
@@ -57,6 +73,13 @@ class Ranking:
         Positions to mark on sky figures (an array's pulsars).
     sensitivity : ThresholdLookup
         The thresholds used.
+    n_ranked : int
+        Rows ranked (``len(table)`` unless streamed).
+    expected_total : float
+        Sum of the expected numbers over every ranked row.
+    runs : RankedRuns or None
+        The whole ranking on disk when streamed (``table`` then holds the top
+        rows); call :meth:`close` when done.
     """
 
     table: object
@@ -68,6 +91,9 @@ class Ranking:
     n_read: int
     sky_markers: object = None
     sensitivity: ThresholdLookup = None
+    n_ranked: int = 0
+    expected_total: float = 0.0
+    runs: RankedRuns = None
 
     @property
     def is_limit(self):
@@ -77,13 +103,53 @@ class Ranking:
     def __repr__(self):
         t = self.table
         best = ", ".join(str(n) for n in t["name"][:3]) if len(t) else "none"
-        return (f"Ranking of {len(t)} of {self.n_read} galaxies by {self.metric}\n"
+        return (f"Ranking of {self.n_ranked} of {self.n_read} galaxies by {self.metric}\n"
                 f"  sensitivity: {self.label} ({self.verb}), sky: {self.meta.get('sky')}\n"
                 f"  rejected rows: {self.rejections.total}; best: {best}")
 
+    @property
+    def streamed(self):
+        """True when the full ranking is on disk and ``table`` holds the top rows only."""
+        return self.runs is not None
+
     def to_table(self):
-        """The ranking as an astropy QTable (a copy, with units and provenance in meta)."""
+        """The ranking as an astropy QTable (a copy, with units and provenance in meta).
+
+        Every row in memory; for a streamed ranking the best rows only (use
+        :meth:`blocks` for all of them).
+        """
         return self.table.copy()
+
+    def blocks(self, size=1 << 18):
+        """Yield the whole ranking as QTables of consecutive ranks (``size`` rows each).
+
+        Text columns of a streamed ranking are UTF-8 bytes of one width.
+        """
+        if not self.streamed:
+            for b0 in range(0, len(self.table), int(size)):
+                yield self.table[b0:b0 + int(size)]
+            return
+        rank, cum = 1, 0.0
+        for d in self.runs.blocks(size):
+            t = _build_table(d, self.metric, self.verb, first_rank=rank, cum_start=cum)
+            rank += len(t)
+            cum = float(t["cumulative_expected_number"][-1])
+            yield t
+
+    def column(self, key):
+        """One column over every ranked row, in rank order (from disk when streamed)."""
+        if not self.streamed:
+            return self.table[key]
+        if key == "rank":
+            return np.arange(1, self.n_ranked + 1)
+        if key == "cumulative_expected_number":
+            return np.cumsum(np.nan_to_num(np.asarray(self.runs.column("expected_number"))))
+        return self.runs.column(key)
+
+    def close(self):
+        """Remove a streamed ranking's runs from disk (nothing to do in memory)."""
+        if self.runs is not None:
+            self.runs.close()
 
     def plot(self, ax=None, top=20):
         """Sky map of the ranked galaxies coloured by the ranking metric.
@@ -99,9 +165,15 @@ class Ranking:
         -------
         matplotlib.figure.Figure
         """
+        from astropy.table import Table
+
         from ..report.rankplots import sky_figure
 
-        return sky_figure(self.table, self.metric, self.verb, self.label,
+        data = self.table
+        if self.streamed:  # every galaxy on the map, in rank order, from disk
+            data = Table({k: self.column(k) for k in dict.fromkeys(
+                ["rank", "ra", "dec", self.metric])}, copy=False)
+        return sky_figure(data, self.metric, self.verb, self.label,
                           markers=self.sky_markers, top=top,
                           rate=self.meta.get("merger_rate_per_galaxy"), ax=ax)
 
@@ -109,11 +181,11 @@ class Ranking:
         """A few lines: counts, the sensitivity, and the best ``top`` targets."""
         t = self.table
         lines = [
-            f"ranked {len(t)} of {self.n_read} galaxies by {self.metric} "
+            f"ranked {self.n_ranked} of {self.n_read} galaxies by {self.metric} "
             f"({self.label}, {self.verb})",
         ]
         lines += ["  " + s for s in self.rejections.summary()]
-        total = float(np.nansum(t["expected_number"])) if len(t) else 0.0
+        total = self.expected_total
         lines.append(f"  expected number of {self.verb} binaries in all: {total:.3g} "
                      f"(merger rate {self.meta['merger_rate_per_galaxy']} per galaxy)")
         ref = "limit" if self.is_limit else "threshold"
@@ -129,14 +201,6 @@ class Ranking:
         return lines
 
 
-def _sort_order(metric, values, h0_ratio, names):
-    descending = METRICS[metric][0]
-    key = -values if descending else values
-    key = np.where(np.isnan(key), np.inf, key)
-    tie = np.where(np.isnan(h0_ratio), np.inf, -h0_ratio)
-    return np.lexsort((names, tie, key))
-
-
 def _column_map(columns):
     if isinstance(columns, ColumnMap):
         return columns
@@ -148,7 +212,8 @@ def _column_map(columns):
 def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, population=None,
                  metric="expected_number", snr=5.0, span=None, on_bad="error",
                  chunk_size=100_000, n_nodes=16, cosmology=None, sky="auto", sky_nside=None,
-                 format=None, progress=None, files=None, inputs=None):
+                 format=None, progress=None, files=None, inputs=None, stream_dir=None,
+                 top_rows=50):
     """Read a galaxy catalogue and rank it as continuous-wave targets.
 
     Parameters
@@ -187,6 +252,12 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
         Role -> path of other input files, recorded with checksums in the provenance.
     inputs : dict, optional
         Settings recorded in the provenance.
+    stream_dir : path-like, optional
+        Stream the ranked rows to sorted runs in a temporary directory made
+        here, keeping memory bounded (see the module notes); ``table`` then
+        holds the best ``top_rows`` rows.  Call ``Ranking.close()`` when done.
+    top_rows : int
+        Rows kept in ``table`` when streamed.
 
     Returns
     -------
@@ -226,38 +297,64 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
     sens = ThresholdLookup(sensitivity, snr=snr, span=span, sky=sky, sky_nside=sky_nside)
     dz = DistanceRedshift(cosmology)
     rejections = Rejections()
-    parts, n_read = [], 0
-    for start, piece in reader.chunks(chunk_size):
-        n_read += len(piece)
-        gal = prepare_chunk(piece, colmap, resolved, rels, start, dz, rejections)
-        rejections.check(on_bad)
-        if gal["row"].size:
-            parts.append(_with_metrics(gal, sens, population, n_nodes, rejections))
-        if progress is not None:
-            progress(len(piece))
-    if not parts:
-        rejections.check(on_bad)
-        counts = rejections.counts
-        top = max(counts, key=counts.get) if counts else "no rows"
-        more = f" and {len(counts) - 1} other reason(s)" if len(counts) > 1 else ""
-        raise CatalogError(f"{reader.name}: no usable rows ({rejections.total} rejected; "
-                           f"{counts.get(top, 0)} for: {top}{more}): fix the catalogue or its "
-                           "column mapping")
-    data = {k: _concat([p[k] for p in parts]) for k in parts[0]}
-    dup = duplicate_mask(data["name"])
-    if dup.any():
-        rejections.add(data["row"][dup], data["name"][dup],
-                       "duplicate name (the first occurrence is kept)")
-        rejections.check(on_bad)
-        data = {k: v[~dup] for k, v in data.items()}
-    table = _build_table(data, metric, sens.verb)
+    seen = NameSet()
+    runs = None if stream_dir is None else RankedRuns(metric, stream_dir)
+    parts, n_read, n_ranked, total, sources = [], 0, 0, 0.0, {}
+    try:
+        for start, piece in reader.chunks(chunk_size):
+            n_read += len(piece)
+            gal = prepare_chunk(piece, colmap, resolved, rels, start, dz, rejections)
+            rejections.check(on_bad)
+            if gal["row"].size:
+                data = _with_metrics(gal, sens, population, n_nodes, rejections)
+                dup = seen.add(data["name"])
+                if dup.any():
+                    rejections.add(data["row"][dup], data["name"][dup],
+                                   "duplicate name (the first occurrence is kept)")
+                    rejections.check(on_bad)
+                    data = {k: v[~dup] for k, v in data.items()}
+                if data["row"].size:  # running totals
+                    n_ranked += data["row"].size
+                    total += float(np.nansum(data["expected_number"]))
+                    names, counts = np.unique(data["mass_source"], return_counts=True)
+                    for name, c in zip(names.tolist(), counts.tolist(), strict=True):
+                        sources[name] = sources.get(name, 0) + c
+                    if runs is None:
+                        parts.append(data)
+                    else:
+                        runs.add(data)
+            if progress is not None:
+                progress(len(piece))
+        if not n_ranked:
+            rejections.check(on_bad)
+            counts = rejections.counts
+            top = max(counts, key=counts.get) if counts else "no rows"
+            more = f" and {len(counts) - 1} other reason(s)" if len(counts) > 1 else ""
+            raise CatalogError(f"{reader.name}: no usable rows ({rejections.total} rejected; "
+                               f"{counts.get(top, 0)} for: {top}{more}): fix the catalogue "
+                               "or its column mapping")
+        if runs is None:
+            data = {k: _concat([p[k] for p in parts]) for k in parts[0]}
+            del parts
+            order = ranking_order(metric, data[metric], data["h0_ratio"], data["name"])
+            table = _build_table({k: v[order] for k, v in data.items()}, metric, sens.verb)
+        else:
+            runs.finish()
+            table = _build_table(next(runs.blocks(max(int(top_rows), 1))), metric, sens.verb)
+            table["name"] = np.char.decode(np.asarray(table["name"]), "utf-8")
+            table["mass_source"] = np.char.decode(np.asarray(table["mass_source"]), "utf-8")
+    except BaseException:
+        if runs is not None:
+            runs.close()
+        raise
     meta = _ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes,
-                         dz.cosmology, rejections, table, n_read)
+                         dz.cosmology, rejections, n_ranked, sources, n_read)
     table.meta.update(meta)
     table.meta["provenance"] = _provenance(reader, files, inputs)
     return Ranking(table=table, rejections=rejections, metric=metric, verb=sens.verb,
                    label=sens.label(), meta=meta, n_read=n_read,
-                   sky_markers=sens.sky_markers(), sensitivity=sens)
+                   sky_markers=sens.sky_markers(), sensitivity=sens, n_ranked=n_ranked,
+                   expected_total=total, runs=runs)
 
 
 def _with_metrics(gal, sens, population, n_nodes, rejections):
@@ -277,14 +374,12 @@ def _concat(arrays):
     return np.concatenate(arrays)
 
 
-def _build_table(data, metric, verb):
+def _build_table(d, metric, verb, first_rank=1, cum_start=0.0):
+    """The ranking table of rows already in rank order (ranks from ``first_rank``)."""
     from astropy.table import QTable
 
-    order = _sort_order(metric, np.asarray(data[metric], dtype=float), data["h0_ratio"],
-                        data["name"])
-    d = {k: v[order] for k, v in data.items()}
     t = QTable()
-    t["rank"] = np.arange(1, order.size + 1)
+    t["rank"] = np.arange(first_rank, first_rank + d["row"].size)
     t["name"] = d["name"]
     t["catalogue_row"] = d["row"] + 1
     t["ra"] = d["ra"] * u.deg
@@ -300,7 +395,9 @@ def _build_table(data, metric, verb):
     for key in ("h0_equal_mass", "h0_ratio", "min_mass_ratio", "prob_equal_mass",
                 "expected_number"):
         t[key] = d[key]
-    t["cumulative_expected_number"] = np.cumsum(np.nan_to_num(d["expected_number"]))
+    # one running sum continued across blocks: the same additions as a single cumsum
+    t["cumulative_expected_number"] = np.cumsum(
+        np.r_[cum_start, np.nan_to_num(d["expected_number"])])[1:]
     t["isco_frequency"] = d["isco_frequency"]
     t["f_best_above_isco"] = d["f_best_above_isco"]
     for key in FIELDS:
@@ -341,9 +438,7 @@ def _build_table(data, metric, verb):
     return t
 
 
-def _relations_used(rels, table):
-    names, counts = np.unique(np.asarray(table["mass_source"]), return_counts=True)
-    used = dict(zip(names.tolist(), counts.tolist(), strict=True))
+def _relations_used(rels, used):
     out = {}
     if "measured" in used:
         out["measured"] = f"{used['measured']} galaxies: measured mass and error"
@@ -363,7 +458,7 @@ def _provenance(reader, files, inputs):
 
 
 def _ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes, cosmology,
-                  rejections, table, n_read):
+                  rejections, n_ranked, sources, n_read):
     meta = {
         "product": "continuous-wave target ranking",
         "sensitivity": sens.label(),
@@ -375,13 +470,13 @@ def _ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_node
         "metric": metric,
         "catalogue": reader.name,
         "rows_read": int(n_read),
-        "rows_ranked": len(table),
+        "rows_ranked": int(n_ranked),
         "on_bad": on_bad,
         "rejected": {k: int(v) for k, v in rejections.counts.items()},
         "notes": {k: int(v) for k, v in rejections.notes.items()},
         "column_mapping": colmap.describe(),
         "relations_in_order": [r.name for r in rels],
-        "relations_used": _relations_used(rels, table),
+        "relations_used": _relations_used(rels, sources),
         "scatter_quadrature": f"Gauss-Legendre, {int(n_nodes)} nodes in Phi(log10 M)",
         "cosmology": getattr(cosmology, "name", None) or str(cosmology),
         "most_sensitive_frequency": "argmin over the tabulated frequencies of "

@@ -37,7 +37,7 @@ from .. import _inputs
 from ..errors import InputError
 from .columns import FIELDS, CatalogError
 
-__all__ = ["Rejections", "duplicate_mask", "column_values", "prepare_chunk"]
+__all__ = ["Rejections", "column_values", "prepare_chunk"]
 
 _SEXAGESIMAL_HINT = "give degrees or sexagesimal text such as '12h30m49s' '+12d23m28s'"
 
@@ -138,30 +138,6 @@ class Rejections:
 
     def __repr__(self):
         return f"Rejections({self.total} rows rejected, {len(self.notes)} notes)"
-
-
-def duplicate_mask(names):
-    """True for every repeat of a name already seen earlier in ``names``.
-
-    Parameters
-    ----------
-    names : array of str
-
-    Returns
-    -------
-    ndarray of bool
-
-    Examples
-    --------
-    >>> duplicate_mask(["a", "b", "a"]).tolist()
-    [False, False, True]
-    """
-    names = np.asarray(names)
-    mask = np.ones(names.size, dtype=bool)
-    if names.size:
-        _, first = np.unique(names, return_index=True)
-        mask[first] = False
-    return mask
 
 
 def column_values(table, colmap, resolved, field):

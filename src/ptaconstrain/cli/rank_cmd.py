@@ -69,7 +69,9 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
 @click.option("--column", "column_pairs", multiple=True,
               help="One mapping FIELD=COLUMN (repeatable; overrides --columns).")
 @click.option("--top", type=click.IntRange(1), default=20, show_default=True,
-              help="Targets to list and mark.")
+              help="Targets to list, mark and write to ranking_top.ecsv.")
+@click.option("--full-ecsv", is_flag=True,
+              help="Also write the whole table as ranking.ecsv (slow; for small catalogues).")
 @click.option("--on-bad", type=click.Choice(["error", "skip"]), default="error",
               show_default=True, help="Stop at a bad row, or skip bad rows and count them.")
 @click.option("--rate", type=QuantityType("1/yr"), default="1e-10", show_default=True,
@@ -94,7 +96,7 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
               help="Figure formats, e.g. png,pdf.")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
 def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation, columns_file,
-         column_pairs, top, on_bad, rate, q_min, q_index, snr, span, sky_averaged, nodes,
+         column_pairs, top, full_ecsv, on_bad, rate, q_min, q_index, snr, span, sky_averaged, nodes,
          chunk_size, exclusion_figures, formats, overwrite):
     """Rank a galaxy catalogue as continuous-wave targets.  Example:
 
@@ -105,8 +107,10 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     The catalogue needs name, ra, dec and distance (Mpc) or redshift, plus a
     measured mass (solMass) or a predictor for a scaling relation
     (velocity_dispersion, bulge_mass, k_abs_mag, core_radius, stellar_mass).
-    Writes ranking.ecsv (every metric, the inputs used, provenance),
-    ranking_rejected.ecsv and the figures ranking_sky / ranking_cumulative;
+    Writes ranking.fits (every ranked galaxy: every metric, the inputs used,
+    provenance), ranking_top.ecsv (the --top best), ranking_rejected.ecsv,
+    with --full-ecsv also ranking.ecsv (the whole table as text), and the
+    figures ranking_sky / ranking_cumulative;
     with --exclusion-figures N also <name>_exclusion.* (upper limit) or
     <name>_forecast.* (noise budget) for the N best targets.
     """
@@ -129,7 +133,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
         columns = ColumnMap({**columns.columns, **extra}, columns.units)
     sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path)
     population = PopulationModel(rate, MassRatioDistribution(q_min, q_index))
-    check_new(ranking_output_paths(out, formats), overwrite)
+    check_new(ranking_output_paths(out, formats, full_ecsv), overwrite)
     reader = CatalogReader(catalog)
     # fail on a missing column or relation before the progress bar starts (one-line error)
     columns.resolve(reader.colnames)
@@ -147,6 +151,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
         ranking, written = rank_to_files(
             reader, sens, out, files=files, options=options, formats=formats, top=top,
             exclusion_figures=exclusion_figures, overwrite=overwrite, progress=bar.update,
+            full_ecsv=full_ecsv,
             columns=columns,
             relations=list(relation) or None, population=population, metric=metric,
             snr=snr, span=span, on_bad=on_bad, chunk_size=chunk_size, n_nodes=nodes,

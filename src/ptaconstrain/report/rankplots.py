@@ -189,6 +189,12 @@ def ranking_figures(ranking, out_dir, formats=("png",), top=20, overwrite=False)
     written = []
     fig = ranking.plot(top=top)
     written += save_figure(fig, out_dir / FIGURE_STEMS[0], formats, overwrite)
-    fig = cumulative_figure(ranking.table, ranking.verb, ranking.label, top=top, rate=rate)
+    table = ranking.table
+    if ranking.streamed:  # every ranked row, from disk
+        from astropy.table import Table
+
+        table = Table({"rank": ranking.column("rank"),
+                       "expected_number": ranking.column("expected_number")}, copy=False)
+    fig = cumulative_figure(table, ranking.verb, ranking.label, top=top, rate=rate)
     written += save_figure(fig, out_dir / FIGURE_STEMS[1], formats, overwrite)
     return written
