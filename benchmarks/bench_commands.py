@@ -1,0 +1,60 @@
+"""Benchmark: CPU time of whole ``ptaconstrain`` processes against an import floor.
+
+The floor is a process that only imports what any command needs anyway
+(``python -c "import numpy, astropy.table, matplotlib.figure"``).  Against it,
+in the same run and on the same machine:
+
+- ``ptaconstrain exclude`` for one host with one PNG (shipped synthetic limit,
+  default grid), target <= 1.3 x the floor;
+- ``ptaconstrain demo`` (every table, its figures), target <= 4 x the floor.
+
+CPU time is user + system of the process and its children (the demo draws its
+figures in worker processes), the best of several runs, so it is much less
+sensitive to the machine's load than wall time, which is printed as well.
+
+Run from the repository root:  python benchmarks/bench_commands.py [--repeat N]
+"""
+
+import argparse
+import os
+import sys
+import tempfile
+from pathlib import Path
+
+from benchtools import machine_line, process_times
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--repeat", type=int, default=3, help="runs per command (best kept)")
+    args = parser.parse_args()
+    env = dict(os.environ)
+    env["PYTHONPATH"] = os.pathsep.join(
+        [str(ROOT / "src")] + [p for p in env.get("PYTHONPATH", "").split(os.pathsep) if p])
+    py = sys.executable
+    cli = [py, "-m", "ptaconstrain.cli"]
+    curve = str(ROOT / "src" / "ptaconstrain" / "data" / "synthetic_h0_limit.ecsv")
+    print(f"bench_commands: {machine_line()}; best of {args.repeat} runs each")
+    with tempfile.TemporaryDirectory() as tmp:
+        floor = process_times([py, "-c", "import numpy, astropy.table, matplotlib.figure"],
+                              args.repeat, env)
+        exclude = process_times(
+            cli + ["exclude", "--mass", "2e10", "--distance", "100", "--curve", curve,
+                   "--format", "png", "--out", str(Path(tmp) / "exclude"), "--overwrite"],
+            args.repeat, env)
+        demo = process_times(cli + ["demo", "--out", str(Path(tmp) / "demo"), "--overwrite"],
+                             args.repeat, env)
+    rows = [("import floor", floor, None), ("exclude, one PNG", exclude, 1.3),
+            ("demo", demo, 4.0)]
+    print(f"{'process':<18} {'wall s':>8} {'CPU s':>8} {'CPU / floor':>12}  target")
+    for name, (wall, cpu), target in rows:
+        ratio = cpu / floor[1]
+        verdict = "" if target is None else (
+            f"<= {target:g}: {'met' if ratio <= target else 'NOT met'}")
+        print(f"{name:<18} {wall:8.2f} {cpu:8.2f} {ratio:12.2f}  {verdict}")
+
+
+if __name__ == "__main__":
+    main()
