@@ -52,6 +52,7 @@ def run_demo(out, overwrite=False, progress=None):
     from .binary.host import hosts_from_table
     from .data import path as data_file
     from .errors import InputError
+    from .report.provenance import safe_name
     from .sensitivity.curve import load_curve
 
     out = Path(out)
@@ -72,9 +73,12 @@ def run_demo(out, overwrite=False, progress=None):
         if progress is not None:
             progress("exclusion maps", i + 1, len(hosts))
     lines += [line for _, _, text in results for line in text]
-    lines.append(f"figures: the 95% limit for every host (<name>_exclusion.png); a forecast "
-                 f"figure for {hosts[0].name} as an example (the overview compares all hosts; "
-                 "every host has its tables)")
+    first = hosts[0]
+    lines.append(f"figures of {first.name} as examples ({safe_name(first.name)}_exclusion.png, "
+                 "_forecast.png); demo_overview.png compares every host, whose tables are all "
+                 "written; draw any host with: ptaconstrain exclude --mass "
+                 f"{first.mass.to_value('solMass'):.3g} --distance "
+                 f"{first.distance.to_value('Mpc'):.3g} --curve {limit_path} --out DIR")
     lines += _summary_outputs(results, out, overwrite, figures)
     lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite, figures)
     lines += array_part(out, hosts, overwrite, progress, figures)
@@ -137,7 +141,7 @@ def _save_drawn(draw, stem, overwrite, args, kwargs):
 
 def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwrite, figures,
                   example=False):
-    """Tables of one host for both curves; its limit figure (and forecast, if ``example``)."""
+    """Tables of one host for both curves; its two figures if it is the ``example``."""
     from ._files import check_new, write_table
     from .analysis.exclusion import exclusion_map
     from .report.figures import exclusion_figure
@@ -153,7 +157,7 @@ def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwri
         meta = provenance(host.describe(), files={"curve": path})
         meta["demo"] = "INVENTED data: fictional host, synthetic curve"
         write_table(exclusion_table(result, meta), f"{stem}.ecsv", overwrite)
-        if tag == "exclusion" or example:
+        if example:
             check_new([f"{stem}.png"], overwrite)
             figures.append(_figure_job(exclusion_figure, stem, overwrite, result))
         text += summary_lines(result)[:1]
