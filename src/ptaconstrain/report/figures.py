@@ -248,7 +248,9 @@ def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
     written = []
     for fmt in formats:
         path = Path(f"{stem}.{fmt}")
+        # PNG: zlib level 3 instead of 6 halves the encoding time for ~10% more bytes
+        extra = {"pil_kwargs": {"compress_level": 3}} if fmt == "png" else {}
         with atomic_write(path, overwrite) as tmp:
-            fig.savefig(tmp, format=fmt, dpi=dpi)
+            fig.savefig(tmp, format=fmt, dpi=dpi, **extra)
         written.append(path)
     return written
