@@ -15,6 +15,7 @@ well (the demo's wall time is below its CPU time when the figures are drawn in
 parallel).
 
 Run from the repository root:  python benchmarks/bench_commands.py [--repeat N]
+[--compare OTHER/src] (the latter times an older tree's commands in the same run).
 """
 
 import argparse
@@ -31,37 +32,45 @@ ROOT = Path(__file__).resolve().parents[1]
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=3, help="runs per command (best kept)")
+    parser.add_argument("--compare", metavar="SRC", default=None,
+                        help="also time the commands of another source tree (e.g. an older "
+                        "checkout's src/), in the same interleaved rounds")
     args = parser.parse_args()
-    env = dict(os.environ)
-    env["PYTHONPATH"] = os.pathsep.join(
-        [str(ROOT / "src")] + [p for p in env.get("PYTHONPATH", "").split(os.pathsep) if p])
     py = sys.executable
     cli = [py, "-m", "ptaconstrain.cli"]
     curve = str(ROOT / "src" / "ptaconstrain" / "data" / "synthetic_h0_limit.ecsv")
     print(f"bench_commands: {machine_line()}; best of {args.repeat} runs each")
+    trees = {"": ROOT / "src"}
+    if args.compare:
+        trees[" (compared)"] = Path(args.compare).resolve()
     with tempfile.TemporaryDirectory() as tmp:
-        commands = {
-            "floor": [py, "-c", "import numpy, astropy.table, matplotlib.figure"],
-            "exclude": cli + ["exclude", "--mass", "2e10", "--distance", "100", "--curve",
-                              curve, "--format", "png", "--out", str(Path(tmp) / "exclude"),
-                              "--overwrite"],
-            "demo": cli + ["demo", "--out", str(Path(tmp) / "demo"), "--overwrite"],
-        }
+        commands = {"import floor": ([py, "-c", "import numpy, astropy.table, matplotlib.figure"],
+                                     None, trees[""])}
+        for tag, src in trees.items():
+            out = Path(tmp) / f"out{len(commands)}"
+            commands[f"exclude, one PNG{tag}"] = (
+                cli + ["exclude", "--mass", "2e10", "--distance", "100", "--curve", curve,
+                       "--format", "png", "--out", str(out / "exclude"), "--overwrite"],
+                1.3, src)
+            commands[f"demo{tag}"] = (
+                cli + ["demo", "--out", str(out / "demo"), "--overwrite"], 4.0, src)
         # interleaved rounds, so that every command sees the same spread of machine load
         best = {k: (float("inf"), float("inf")) for k in commands}
         for _ in range(args.repeat):
-            for key, cmd in commands.items():
+            for key, (cmd, _target, src) in commands.items():
+                env = dict(os.environ)
+                env["PYTHONPATH"] = os.pathsep.join(
+                    [str(src)] + [p for p in env.get("PYTHONPATH", "").split(os.pathsep) if p])
                 wall, cpu = process_times(cmd, 1, env)
                 best[key] = (min(best[key][0], wall), min(best[key][1], cpu))
-    floor, exclude, demo = best["floor"], best["exclude"], best["demo"]
-    rows = [("import floor", floor, None), ("exclude, one PNG", exclude, 1.3),
-            ("demo", demo, 4.0)]
-    print(f"{'process':<18} {'wall s':>8} {'CPU s':>8} {'CPU / floor':>12}  target")
+    floor = best["import floor"]
+    rows = [(key, best[key], target) for key, (_c, target, _s) in commands.items()]
+    print(f"{'process':<29} {'wall s':>8} {'CPU s':>8} {'CPU / floor':>12}  target")
     for name, (wall, cpu), target in rows:
         ratio = cpu / floor[1]
         verdict = "" if target is None else (
             f"<= {target:g}: {'met' if ratio <= target else 'NOT met'}")
-        print(f"{name:<18} {wall:8.2f} {cpu:8.2f} {ratio:12.2f}  {verdict}")
+        print(f"{name:<29} {wall:8.2f} {cpu:8.2f} {ratio:12.2f}  {verdict}")
 
 
 if __name__ == "__main__":
