@@ -12,7 +12,8 @@ tests and notebooks can run one of them.
 
 from pathlib import Path
 
-__all__ = ["run_demo", "array_part", "ranking_part", "demo_array", "HOSTS_FILE",
+__all__ = ["run_demo", "array_part", "ranking_part", "demo_array", "draw_in_parallel",
+           "HOSTS_FILE",
            "LIMIT_FILE", "FORECAST_FILE", "ARRAY_FILE", "CATALOGUE_FILE"]
 
 HOSTS_FILE = "demo_hosts.ecsv"
@@ -51,6 +52,7 @@ def run_demo(out, overwrite=False, progress=None):
     from .binary.host import hosts_from_table
     from .data import path as data_file
     from .errors import InputError
+    from .report.provenance import safe_name
     from .sensitivity.curve import load_curve
 
     out = Path(out)
@@ -63,25 +65,86 @@ def run_demo(out, overwrite=False, progress=None):
     limit, forecast = load_curve(limit_path), load_curve(forecast_path)
     lines = [f"ptaconstrain demo: {len(hosts)} INVENTED galaxies, synthetic curves; "
              f"output in {out}/"]
+    figures = []  # drawn at the end, in parallel where that helps
     results = []
     for i, host in enumerate(hosts):
         results.append(_host_outputs(host, limit, forecast, limit_path, forecast_path,
-                                     out, overwrite))
+                                     out, overwrite, figures, example=i == 0))
         if progress is not None:
             progress("exclusion maps", i + 1, len(hosts))
     lines += [line for _, _, text in results for line in text]
-    lines += _summary_outputs(results, out, overwrite)
-    lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite)
-    lines += array_part(out, hosts, overwrite, progress)
+    first = hosts[0]
+    lines.append(f"figures of {first.name} as examples ({safe_name(first.name)}_exclusion.png, "
+                 "_forecast.png); demo_overview.png compares every host, whose tables are all "
+                 "written; draw any host with: ptaconstrain exclude --mass "
+                 f"{first.mass.to_value('solMass'):.3g} --distance "
+                 f"{first.distance.to_value('Mpc'):.3g} --curve {limit_path} --out DIR")
+    lines += _summary_outputs(results, out, overwrite, figures)
+    lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite, figures)
+    lines += array_part(out, hosts, overwrite, progress, figures)
     lines += ranking_part(out, limit, overwrite)
-    lines += _array_exclusions(out, hosts, overwrite)
+    lines += _array_exclusions(out, hosts, overwrite, figures)
+    draw_in_parallel(figures)
     return lines
 
 
-def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwrite):
-    from ._files import write_table
+_JOBS = []
+
+
+def _run_job(i):
+    _JOBS[i]()
+
+
+def draw_in_parallel(jobs, processes=2):
+    """Run figure-drawing jobs, in forked worker processes where that helps.
+
+    Drawing is pure Python and single-threaded, so on a machine with two or more
+    cores the figures are shared between up to ``processes`` workers.  The
+    workers are forked (they inherit the jobs and the loaded modules, so nothing
+    is pickled or imported again); where fork is unavailable, or with one core or
+    one job, the jobs run here in turn.
+
+    Parameters
+    ----------
+    jobs : list of callable
+        Each draws and writes one figure; their return values are ignored.
+    processes : int
+    """
+    import multiprocessing
+    import os
+
+    n = min(processes, len(jobs), os.cpu_count() or 1)
+    if n < 2 or "fork" not in multiprocessing.get_all_start_methods():
+        for job in jobs:
+            job()
+        return
+    _JOBS[:] = jobs
+    try:
+        with multiprocessing.get_context("fork").Pool(n) as pool:
+            pool.map(_run_job, range(len(jobs)), chunksize=1)
+    finally:
+        _JOBS.clear()
+
+
+def _figure_job(draw, stem, overwrite, *args, **kwargs):
+    """A job that draws ``draw(*args, **kwargs)`` and saves it as ``stem``.png."""
+    from functools import partial
+
+    return partial(_save_drawn, draw, stem, overwrite, args, kwargs)
+
+
+def _save_drawn(draw, stem, overwrite, args, kwargs):
+    from .report.figures import save_figure
+
+    save_figure(draw(*args, **kwargs), stem, ("png",), overwrite)
+
+
+def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwrite, figures,
+                  example=False):
+    """Tables of one host for both curves; its two figures if it is the ``example``."""
+    from ._files import check_new, write_table
     from .analysis.exclusion import exclusion_map
-    from .report.figures import exclusion_figure, save_figure
+    from .report.figures import exclusion_figure
     from .report.provenance import provenance, safe_name
     from .report.tables import exclusion_table, summary_lines
 
@@ -94,19 +157,20 @@ def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwri
         meta = provenance(host.describe(), files={"curve": path})
         meta["demo"] = "INVENTED data: fictional host, synthetic curve"
         write_table(exclusion_table(result, meta), f"{stem}.ecsv", overwrite)
-        save_figure(exclusion_figure(result), stem, ("png",), overwrite)
+        if example:
+            check_new([f"{stem}.png"], overwrite)
+            figures.append(_figure_job(exclusion_figure, stem, overwrite, result))
         text += summary_lines(result)[:1]
         maps.append(result)
     return maps[0], maps[1], text
 
 
-def _summary_outputs(results, out, overwrite):
+def _summary_outputs(results, out, overwrite, figures):
     import numpy as np
     from astropy import units as u
     from astropy.table import QTable
 
-    from ._files import write_table
-    from .report.figures import save_figure
+    from ._files import check_new, write_table
     from .report.overview import overview_figure
 
     t = QTable()
@@ -126,16 +190,17 @@ def _summary_outputs(results, out, overwrite):
     t["best_q_forecast"].info.description = "smallest max_mass_ratio detectable (forecast)"
     t.meta["demo"] = "INVENTED data: fictional hosts, synthetic curves"
     write_table(t, out / "demo_summary.ecsv", overwrite)
-    save_figure(overview_figure(lim, fc), out / "demo_overview", ("png",), overwrite)
+    check_new([out / "demo_overview.png"], overwrite)
+    figures.append(_figure_job(overview_figure, out / "demo_overview", overwrite, lim, fc))
     return [f"summary table {out / 'demo_summary.ecsv'}; overview figure "
             f"{out / 'demo_overview.png'}"]
 
 
-def _probability_outputs(host, limit, limit_path, out, overwrite, seed=2026):
+def _probability_outputs(host, limit, limit_path, out, overwrite, figures, seed=2026):
     """Probability map of one host from its mass and distance errors."""
-    from ._files import write_table
+    from ._files import check_new, write_table
     from .analysis.probability import exclusion_probability
-    from .report.figures import exclusion_figure, save_figure
+    from .report.figures import exclusion_figure
     from .report.provenance import provenance, safe_name
     from .report.tables import credible_summary_lines, exclusion_table
 
@@ -145,7 +210,9 @@ def _probability_outputs(host, limit, limit_path, out, overwrite, seed=2026):
     meta["demo"] = "INVENTED data: fictional host, synthetic curve"
     write_table(exclusion_table(prob.deterministic, meta, prob_map=prob), f"{stem}.ecsv",
                 overwrite)
-    save_figure(exclusion_figure(prob.deterministic, prob_map=prob), stem, ("png",), overwrite)
+    check_new([f"{stem}.png"], overwrite)
+    figures.append(_figure_job(exclusion_figure, stem, overwrite, prob.deterministic,
+                               prob_map=prob))
     best = prob.deterministic.tightest()
     cred = prob.tightest(0.95)
     lines = [f"{host.name} with its errors ({host.describe().get('mass_err_dex')} dex in mass, "
@@ -159,13 +226,17 @@ def _probability_outputs(host, limit, limit_path, out, overwrite, seed=2026):
     return lines
 
 
-def _array_exclusions(out, hosts, overwrite):
-    """Forecasts from the demo pulsar array at each host's position vs the sky average."""
+def _array_exclusions(out, hosts, overwrite, figures):
+    """Forecasts from the demo pulsar array at each host's position vs the sky average.
+
+    Every host gets its table; the first host with a sky position gets a figure
+    (the overview figure compares all hosts).
+    """
     import numpy as np
 
-    from ._files import write_table
+    from ._files import check_new, write_table
     from .analysis.exclusion import exclusion_map
-    from .report.figures import exclusion_figure, save_figure
+    from .report.figures import exclusion_figure
     from .report.overview import overview_figure
     from .report.provenance import provenance, safe_name
     from .report.tables import exclusion_table
@@ -181,7 +252,10 @@ def _array_exclusions(out, hosts, overwrite):
         meta["demo"] = "INVENTED data: fictional host and pulsar array"
         meta["array"] = "src/ptaconstrain/data/demo_array.ecsv (INVENTED)"
         write_table(exclusion_table(here, meta), f"{stem}.ecsv", overwrite)
-        save_figure(exclusion_figure(here), stem, ("png",), overwrite)
+        if host.coord is not None and not any(h.coord is not None for h in hosts[:len(at_host)]):
+            check_new([f"{stem}.png"], overwrite)
+            figures.append(_figure_job(exclusion_figure, stem, overwrite, here))
+            lines.append(f"  figure {stem.name}.png: {host.name} as an example")
         at_host.append(here)
         averaged.append(avg)
     ratios = []
@@ -198,12 +272,12 @@ def _array_exclusions(out, hosts, overwrite):
                  "poorly covered direction" if ratios[i] > 1.1 else "near the sky average")
         lines.append(f"  {hosts[i].name}: q > {b_here[1]:.3g} detectable at its position, "
                      f"q > {b_avg[1]:.3g} sky-averaged ({ratios[i]:.2f} x; {where})")
-    fig = overview_figure(
-        at_host, averaged,
+    check_new([out / "demo_array_overview.png"], overwrite)
+    figures.append(_figure_job(
+        overview_figure, out / "demo_array_overview", overwrite, at_host, averaged,
         title="INVENTED demo pulsar array (forecast, S/N >= 5): companions above each\n"
               "line would be detectable, at the host's position or sky-averaged",
-        names=("at the host's position", "sky-averaged"))
-    save_figure(fig, out / "demo_array_overview", ("png",), overwrite)
+        names=("at the host's position", "sky-averaged")))
     lines.append(f"  figure {out / 'demo_array_overview.png'}")
     return lines
 
@@ -226,7 +300,7 @@ def demo_array():
     return _DEMO["array"]
 
 
-def array_part(out_dir, hosts, overwrite=False, progress=None):
+def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
     """Pulsar-array part of ``ptaconstrain demo``: sky map, figure and per-host curves.
 
     Loads the shipped, invented demo array, maps the h0 threshold (S/N >= 5) at
@@ -240,6 +314,9 @@ def array_part(out_dir, hosts, overwrite=False, progress=None):
     overwrite : bool
     progress : callable, optional
         Called as ``progress(label, done, total)`` during the timing-model fits.
+    figures : list, optional
+        If given, the sky-map figure is appended to it as a job for
+        :func:`draw_in_parallel` instead of being drawn here.
 
     Returns
     -------
@@ -250,7 +327,6 @@ def array_part(out_dir, hosts, overwrite=False, progress=None):
     import numpy as np
 
     from ._files import check_new
-    from .report.figures import save_figure
     from .report.provenance import safe_name
     from .report.skyplot import nhz_text, sky_map_figure, threshold_label
     from .sensitivity.curve import save_curve
@@ -283,12 +359,15 @@ def array_part(out_dir, hosts, overwrite=False, progress=None):
     m = arr.h0_threshold_map(f_best, nside=nside, snr=snr)
     write_threshold_maps(fits_path, m, f_best, snr, arr.span,
                          "pulsar list demo_array (INVENTED)", overwrite=overwrite)
-    fig = sky_map_figure(
-        m[0], pulsars=arr.sky_markers(), hosts=hosts,
+    job = _figure_job(
+        sky_map_figure, png_stem, overwrite, m[0], pulsars=arr.sky_markers(), hosts=hosts,
         title=f"INVENTED demo array: h0 detectable at S/N >= {snr:g} (forecast), "
               f"f = {nhz_text(f_best[0])}",
         label=threshold_label(snr))
-    save_figure(fig, png_stem, ("png",), overwrite)
+    if figures is None:
+        job()
+    else:
+        figures.append(job)
     save_curve(sky, sky_path, overwrite)
 
     lines = [f"pulsar array: {len(arr)} INVENTED pulsars, span {arr.span.value:.3g} yr; sky "

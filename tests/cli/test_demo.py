@@ -16,9 +16,17 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     summary = QTable.read(out / "demo_summary.ecsv")
     assert len(summary) == 5
     assert (out / "demo_overview.png").stat().st_size > 10_000
-    # every host gets an exclusion and a forecast figure
-    assert len(list(out.glob("*_exclusion.png"))) == 5
-    assert len([p for p in out.glob("*_forecast.png") if "_array_" not in p.name]) == 5
+    # every host gets its tables; the first host's figures are the examples of each kind
+    # (the overview figures compare all hosts)
+    assert len(list(out.glob("*_exclusion.png"))) == 1
+    assert len(list(out.glob("*_exclusion.ecsv"))) == 5
+    assert len([p for p in out.glob("*_forecast.ecsv") if "_array_" not in p.name]) == 5
+    assert len(list(out.glob("*_array_forecast.ecsv"))) == 5
+    assert len([p for p in out.glob("*_forecast.png") if "_array_" not in p.name]) == 1
+    assert len(list(out.glob("*_array_forecast.png"))) == 1
+    assert all(p.stat().st_size > 10_000 for p in out.glob("*.png"))  # drawn by workers
+    assert len(list(out.glob("*.png"))) == 9
+    assert "ptaconstrain exclude --mass" in r.stdout  # how to draw any other host
     # a forecast from a noise budget reaches smaller q than the present-day limit
     assert all(summary["best_q_forecast"] < summary["best_q_limit"])
     again = CliRunner().invoke(main, ["demo", "--out", str(out)])
@@ -54,3 +62,13 @@ def test_run_demo_is_a_library_call_that_refuses_a_non_empty_directory(tmp_path)
     with pytest.raises(InputError, match="not empty"):
         run_demo(tmp_path)
     assert [p.name for p in tmp_path.iterdir()] == ["mine.txt"]
+
+
+def test_draw_in_parallel_runs_every_job(tmp_path):
+    from ptaconstrain.demo import draw_in_parallel
+
+    paths = [tmp_path / f"{i}.txt" for i in range(5)]
+    draw_in_parallel([lambda p=p: p.write_text(p.name) for p in paths])
+    assert [p.read_text() for p in paths] == [p.name for p in paths]
+    with pytest.raises(ZeroDivisionError):  # a failing job is not lost in a worker
+        draw_in_parallel([lambda: None, lambda: 1 / 0])

@@ -1,7 +1,8 @@
 """Data shipped with ptaconstrain: the invented demo inputs and the scaling relations.
 
 Every file here is invented and describes no real object or instrument, except
-``relations.toml`` (published scaling relations, cited inside).  Read them by name
+``relations.toml`` (published scaling relations, cited inside) and
+``planck18_distance.ecsv`` (computed with astropy's Planck18 cosmology).  Read them by name
 with :func:`ptaconstrain.data.path`, which works in a checkout and after ``pip install``.
 
 ===============================  ===================================================
@@ -14,6 +15,8 @@ file                             what it is
 ``demo_hosts.ecsv``              invented host galaxies for the demo
 ``demo_catalogue.ecsv``          invented catalogue of 400 massive galaxies
 ``relations.toml``               black-hole mass scaling relations (published)
+``planck18_distance.ecsv``       D_L(z) of Planck18 from astropy (spline nodes; see
+                                 ``examples/make_cosmology_table.py``)
 ===============================  ===================================================
 """
 

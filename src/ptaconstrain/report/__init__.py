@@ -8,6 +8,7 @@ from .figures import REGION_STYLE, exclusion_figure, save_figure
 from .overview import overview_figure
 from .probability_plot import add_probability_contours, probability_columns
 from .provenance import provenance, safe_name
+from .style import MSUN, minor_ticks_as_markers, sci_text, unicode_log_ticks
 from .tables import credible_summary_lines, exclusion_table, format_quantity, summary_lines
 
 __all__ = [
@@ -23,4 +24,8 @@ __all__ = [
     "summary_lines",
     "credible_summary_lines",
     "format_quantity",
+    "MSUN",
+    "sci_text",
+    "unicode_log_ticks",
+    "minor_ticks_as_markers",
 ]

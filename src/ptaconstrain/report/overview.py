@@ -3,6 +3,8 @@
 import numpy as np
 from astropy import units as u
 
+from .style import minor_ticks_as_markers, unicode_log_ticks
+
 __all__ = ["OKABE_ITO", "overview_figure"]
 
 #: Okabe & Ito (2008) colour-universal-design palette (without black).
@@ -55,9 +57,13 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
     qmin = min(np.nanmin(r.mass_ratio) for r in limit_maps)
     ax.set_ylim(max(qmin, 0.5 * min(lowest)) if lowest else qmin, 1.05)
     ax.set_xlabel("orbital period P [yr] (observer frame); each line starts at its host's ISCO")
-    ax.set_ylabel(r"bound on the mass ratio $q = m_2/m_1$")
+    ax.set_ylabel("bound on the mass ratio q = m₂/m₁")
+    # y=1.0 fixes the title where matplotlib would put it, without a layout pass
     ax.set_title(title or "Companions above each line are excluded (solid) or would be "
-                 "detectable (dashed)", fontsize=10)
+                 "detectable (dashed)", fontsize=10, y=1.0)
+    unicode_log_ticks(ax.xaxis, ax.yaxis)
+    minor_ticks_as_markers(ax, ax.xaxis, ax.get_xlim(), "bottom")
+    minor_ticks_as_markers(ax, ax.yaxis, ax.get_ylim(), "left")
     handles, _ = ax.get_legend_handles_labels()
     ax.legend(handles=handles + styles, fontsize=8, ncol=2, loc="upper center",
               bbox_to_anchor=(0.5, -0.13), frameon=False)

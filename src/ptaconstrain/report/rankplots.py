@@ -14,6 +14,8 @@ matplotlib is imported inside the functions.
 import numpy as np
 from astropy import units as u
 
+from .style import unicode_log_ticks
+
 __all__ = ["metric_label", "sky_figure", "cumulative_figure", "ranking_figures",
            "FIGURE_STEMS"]
 
@@ -108,6 +110,8 @@ def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, a
         cb = fig.colorbar(sc, ax=ax, orientation="horizontal", pad=0.07, fraction=0.05,
                           aspect=40, extend=extend)
         cb.set_label(metric_label(metric, verb, rate), fontsize=9)
+        if isinstance(norm, LogNorm):
+            unicode_log_ticks(cb.ax.xaxis)  # plain-text powers of ten, no mathtext
     n_lab = min(int(top), 20, len(table))
     for i in range(n_lab):  # a handful of labels, not a loop over the catalogue
         ax.annotate(str(int(table["rank"][i])), (_x(ra[i]), np.radians(dec[i])),
@@ -119,7 +123,7 @@ def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, a
     ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=7, frameon=False)
     ax.set_title(f"{len(table)} galaxies by {metric} - {label} ({verb})\n"
                  f"numbers: rank of the top {n_lab}; RA increases to the left", fontsize=10,
-                 pad=16)
+                 pad=16, y=1.0)  # fixed: no layout pass
     return fig
 
 
@@ -148,6 +152,7 @@ def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None):
     fig, ax = _axes(ax, (6.4, 4.4))
     ax.step(rank, cum, where="post", color="#0072B2", lw=1.5)
     ax.set_xscale("log")
+    unicode_log_ticks(ax.xaxis)
     ax.set_ylim(bottom=0.0)  # from zero, so the share of the first targets reads right
     ax.set_xlabel(f"rank in the table (as sorted; {len(table)} galaxies)")
     ax.set_ylabel(f"cumulative expected number\nof {verb} binaries [dimensionless]")
@@ -158,7 +163,7 @@ def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None):
                     xytext=(6, -14), textcoords="offset points", color="#B36B00",
                     fontsize=8)
     rate_txt = f"\nmerger rate {rate} per galaxy" if rate else ""
-    ax.set_title(f"Expected {verb} binaries by rank - {label}{rate_txt}", fontsize=9)
+    ax.set_title(f"Expected {verb} binaries by rank - {label}{rate_txt}", fontsize=9, y=1.0)
     ax.grid(True, which="both", color="0.9")
     if own:
         fig.tight_layout()

@@ -15,6 +15,8 @@ or ``fig.savefig``.
 
 import numpy as np
 
+from .style import unicode_log_ticks
+
 __all__ = ["sky_map_figure", "threshold_label", "nhz_text"]
 
 _HOST_COLOUR = "#E69F00"
@@ -86,6 +88,8 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
                          rasterized=True)
     cb = fig.colorbar(mesh, ax=ax, orientation="horizontal", pad=0.06, shrink=0.75)
     cb.set_label(label)
+    if norm is not None:
+        unicode_log_ticks(cb.ax.xaxis)  # plain-text powers of ten, no mathtext
 
     ticks = np.arange(-150, 181, 30)
     ax.set_xticks(np.radians(ticks))
@@ -111,7 +115,7 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
                           "alpha": 0.8})
     if ax.get_legend_handles_labels()[0]:
         ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=8, framealpha=0.9)
-    ax.set_title(title or "", fontsize=10, pad=14)
+    ax.set_title(title or "", fontsize=10, pad=14, y=1.0)  # fixed: no layout pass
     fig.text(0.99, 0.01, "equatorial (ICRS); RA increases to the left", ha="right",
              fontsize=7, color="0.3")
     return fig
