@@ -131,7 +131,7 @@ def run(name, params, curve, n, n_brute, grid):
     line(f"fast path at {tenth.n} samples", w_tenth, c_tenth,
          f"growth N^{math.log(w_fast / w_tenth) / math.log(n / tenth.n):.2f} (wall), "
          f"N^{math.log(c_fast / c_tenth) / math.log(n / tenth.n):.2f} (CPU)")
-    line(f"fast path at {n_brute} samples", w_fs, c_fs)
+    line(f"fast path at {n_brute} (paired run)", w_fs, c_fs)
     line(f"brute force at {n_brute} samples", w_brute, c_brute,
          f"ratio {w_brute / w_fs:.0f} x (wall), {c_brute / c_fs:.0f} x (CPU)")
     print(f"  probabilities equal brute force bit for bit: {identical} "

@@ -223,3 +223,16 @@ def test_uncertainties_add_credible_columns_contours_and_seed(tmp_path, curve_fi
     assert r2.exit_code == 0
     t2 = QTable.read(tmp_path / "again" / "Test_Host_exclusion.ecsv")
     np.testing.assert_array_equal(t2["max_mass_ratio_0.95"], b)
+
+
+def test_a_dotted_host_name_keeps_its_whole_name_in_every_file(tmp_path, curve_file):
+    # catalogue designations often hold decimal points; the table must not lose the part
+    # after the first dot (two such hosts would collide)
+    out = tmp_path / "o"
+    for name in ("Fictus J1234.5+6789", "Fictus J1234.7+1111"):
+        args = base_args(curve_file, out)
+        args[args.index("Test Host")] = name
+        assert run(args + ["--format", "png"]).exit_code == 0
+    names = sorted(p.name for p in out.iterdir())
+    assert names == ["Fictus_J1234.5_6789_exclusion.ecsv", "Fictus_J1234.5_6789_exclusion.png",
+                     "Fictus_J1234.7_1111_exclusion.ecsv", "Fictus_J1234.7_1111_exclusion.png"]

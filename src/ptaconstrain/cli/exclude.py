@@ -145,7 +145,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     # an upper limit gives an exclusion, a noise budget (or a pulsar list) a forecast
     forecast = array_path is not None or (curve is not None and not curve.is_limit)
     stem = Path(out) / f"{safe_name(name)}_{'forecast' if forecast else 'exclusion'}"
-    targets = [stem.with_suffix(".ecsv")] + [Path(f"{stem}.{f}") for f in formats]
+    targets = [Path(f"{stem}.ecsv")] + [Path(f"{stem}.{f}") for f in formats]
     check_new(targets, overwrite)  # before the slow part, so a refusal costs nothing
     sky_note = ""
     if curve is None:
