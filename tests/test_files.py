@@ -52,3 +52,25 @@ def test_written_table_reads_back_in_the_format_its_suffix_names(tmp_path):
     for name in ("t.ecsv", "t.csv", "t.fits"):
         write_table(t, tmp_path / name)
         assert list(read_table(tmp_path / name, "table")["a"]) == [1.0, 2.0]
+
+
+def test_a_file_that_appears_while_writing_is_never_replaced(tmp_path):
+    from ptaconstrain._files import OutputExistsError, atomic_write
+
+    target = tmp_path / "t.ecsv"
+    with pytest.raises(OutputExistsError, match="appeared while writing"):
+        with atomic_write(target) as tmp:
+            tmp.write_text("ours")
+            target.write_text("theirs")  # another run published first
+    assert target.read_text() == "theirs"
+    assert [p.name for p in tmp_path.iterdir()] == ["t.ecsv"]  # no temporary left
+
+
+def test_a_dangling_link_named_like_an_output_is_not_replaced_unasked(tmp_path):
+    from ptaconstrain._files import OutputExistsError, check_new
+
+    link = tmp_path / "t.ecsv"
+    link.symlink_to(tmp_path / "missing")
+    with pytest.raises(OutputExistsError):
+        check_new([link])
+    check_new([link], overwrite=True)

@@ -33,7 +33,7 @@ def check_new(paths, overwrite=False):
     """
     if overwrite:
         return
-    existing = [str(p) for p in paths if Path(p).exists()]
+    existing = [str(p) for p in paths if os.path.lexists(p)]  # a dangling link counts too
     if existing:
         more = f" (and {len(existing) - 1} more)" if len(existing) > 1 else ""
         raise OutputExistsError(
@@ -65,13 +65,31 @@ def atomic_write(path, overwrite=False):
     tmp = Path(tmp)
     try:
         yield tmp
-        if not overwrite and path.exists():
-            raise OutputExistsError(f"{path} appeared while writing: not replaced")
         os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; outputs are for sharing
-        os.replace(tmp, path)
+        if overwrite:
+            os.replace(tmp, path)
+        else:
+            _publish_new(tmp, path)
     finally:
         if tmp.exists():
             tmp.unlink()
+
+
+def _publish_new(tmp, path):
+    """Give ``tmp`` the name ``path`` only if no file of that name exists, atomically.
+
+    A hard link fails if the name exists, so two runs racing for the same name
+    cannot both succeed (checking first and renaming after can).  Where the file
+    system has no hard links, the check-then-rename fallback is used.
+    """
+    try:
+        os.link(tmp, path)
+    except FileExistsError:
+        raise OutputExistsError(f"{path} appeared while writing: not replaced") from None
+    except OSError:  # no hard links here (some network or FUSE file systems)
+        if os.path.lexists(path):
+            raise OutputExistsError(f"{path} appeared while writing: not replaced") from None
+        os.replace(tmp, path)
 
 
 def _umask():
