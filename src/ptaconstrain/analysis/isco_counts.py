@@ -22,8 +22,7 @@ column r" is #{t >= x : G[t] <= r}.  G is cut into blocks of 64 ranks:
 * per block, the 64 ranks sorted by G and the running OR of their bits
   (``P[c, k]``, a uint64 bit mask of the k ranks of block c with the smallest
   G), so that the ranks of block c with G <= r are the mask P[c, k_r] with
-  k_r = #{G <= r in block c} (a 7-step vectorised bisection of the 64 sorted
-  values).
+  k_r = #{G <= r in block c} = S[c, r] - S[c + 1, r].
 
 A query is then S[c + 1, r] + popcount(P[c, k_r] >> (x mod 64)) with c = x // 64:
 O(1) numpy operations per query, O(N + nP N / 64) to build, after the
@@ -118,7 +117,7 @@ class IscoCounts:
         cell += np.int32(n_blocks) - np.arange(n_blocks * bk, dtype=np.int32) // bk
         table = np.bincount(cell, minlength=(n_p + 1) * (n_blocks + 1))
         table = table.reshape(n_p + 1, n_blocks + 1)[:n_p]
-        np.cumsum(table, axis=1, out=table)  # suffix over blocks, along contiguous rows
+        table = np.cumsum(table, axis=1, dtype=np.int32)  # suffix over blocks, by rows
         for k in range(1, n_p):  # prefix over r, one contiguous row at a time
             np.add(table[k - 1], table[k], out=table[k])
         self._table = table
@@ -126,25 +125,10 @@ class IscoCounts:
         # OR of the offsets' bits in that order (disjoint bits: a cumulative sum)
         key = g.reshape(n_blocks + 1, bk) * np.int32(bk) + np.arange(bk, dtype=np.int32)
         key.sort(axis=1)
-        self._sorted_g = (key >> 6).ravel()
         bits = np.left_shift(np.uint64(1), (key & (bk - 1)).astype(np.uint64))
         masks = np.zeros((n_blocks + 1, bk + 1), dtype=np.uint64)
         np.cumsum(bits, axis=1, out=masks[:, 1:])
         self._masks = masks.ravel()
-
-    def _n_le(self, c, rr):
-        """#{ranks of block c with G <= rr}: bisection of the block's sorted G."""
-        bk = _WORD
-        base = c * bk - 1
-        k = np.zeros(c.shape, dtype=np.intp)
-        step = bk
-        while step:
-            cand = k + step
-            ok = cand <= bk
-            ok &= self._sorted_g[base + np.minimum(cand, bk)] <= rr
-            k = np.where(ok, cand, k)
-            step //= 2
-        return k
 
     def above(self, col, x):
         """#{samples above the ISCO in column ``col`` with ln u rank >= ``x``}.
@@ -163,13 +147,14 @@ class IscoCounts:
         col, x = np.broadcast_arrays(col, x)
         rr = self._r[col]
         c = x >> 6
-        # whole blocks after the one holding x, from the table
-        out = self._table[rr, np.maximum(self._n_blocks - 1 - c, 0)]
-        # ranks x .. end of block c: the block's mask for G <= rr, shifted past x
-        mask = self._masks[c * (_WORD + 1) + self._n_le(c, rr)]
+        # whole blocks after the one holding x, and from x's block on, from the table
+        row = rr * (self._n_blocks + 1)
+        after = self._table.ravel()[row + np.maximum(self._n_blocks - 1 - c, 0)]
+        k = self._table.ravel()[row + np.maximum(self._n_blocks - c, 0)] - after
+        # ranks x .. end of block c: the mask of the block's k ranks with G <= rr
+        mask = self._masks[c * (_WORD + 1) + k]
         mask >>= (x & (_WORD - 1)).astype(np.uint64)
-        out += np.bitwise_count(mask)
-        return out
+        return after + np.bitwise_count(mask)
 
     def kth_largest_rank(self, col, k):
         """Per column, the largest rank x with #(below the ISCO, rank >= x) >= k.
