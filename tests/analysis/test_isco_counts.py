@@ -3,6 +3,7 @@ import pytest
 from astropy import units as u
 from curves_for_tests import power_law_limit
 
+from ptaconstrain.analysis import isco_counts as isco_module
 from ptaconstrain.analysis import probability as prob_module
 from ptaconstrain.analysis.isco_counts import IscoCounts
 from ptaconstrain.analysis.probability import exclusion_probability
@@ -27,8 +28,8 @@ def direct_kth(f_grid, f_isco, rank, k):
     return np.array(out)
 
 
-@pytest.mark.parametrize("n, block", [(1, 8), (37, 8), (500, 8), (500, 16), (2049, 64)])
-def test_counts_and_kth_rank_equal_brute_force(n, block):
+@pytest.mark.parametrize("n", [1, 37, 64, 65, 500, 2049])
+def test_counts_and_kth_rank_equal_brute_force(n):
     rng = np.random.default_rng(n)
     f_grid = rng.permutation(np.geomspace(1e-9, 1e-6, 23))  # unsorted grid
     f_isco = 10 ** rng.normal(-7.5, 0.6, n)
@@ -36,7 +37,7 @@ def test_counts_and_kth_rank_equal_brute_force(n, block):
     order = rng.permutation(n)
     rank = np.empty(n, dtype=np.intp)
     rank[order] = np.arange(n)
-    c = IscoCounts(f_grid, f_isco, order, block=block)
+    c = IscoCounts(f_grid, f_isco, order)
     x = np.arange(n + 1)
     cols = np.arange(f_grid.size)
     np.testing.assert_array_equal(c.above(cols[:, None], x[None, :]),
@@ -45,6 +46,24 @@ def test_counts_and_kth_rank_equal_brute_force(n, block):
     for k in {1, max(1, n // 2), n}:
         np.testing.assert_array_equal(c.kth_largest_rank(cols, k),
                                       direct_kth(f_grid, f_isco, rank, k))
+
+
+@pytest.mark.parametrize("grid", [
+    np.geomspace(1e-9, 1e-6, 300),                       # the default-like log grid
+    np.array([3e-8]),                                     # one period
+    np.sort(np.r_[np.geomspace(1e-9, 1e-6, 50), 2e-8 * (1 + np.arange(4) * 1e-5)]),
+    np.sort(np.r_[1e-9, 1e-9, 2e-9, np.nextafter(2e-9, 1)]),  # ties and neighbours
+    np.linspace(1e-9, 1e-6, 3000),                        # too dense: binary-search path
+    np.array([1e-30, 1e30]),                              # too wide: binary-search path
+])
+def test_grid_count_equals_searchsorted(grid):
+    # reference: numpy's searchsorted(side="right"); values on, next to, below and
+    # above the grid points
+    rng = np.random.default_rng(5)
+    v = np.r_[10 ** rng.uniform(-10, -5, 20000), grid, np.nextafter(grid, 0),
+              np.nextafter(grid, np.inf), 1e-300, 1e300]
+    np.testing.assert_array_equal(isco_module._grid_count(grid, v),
+                                  np.searchsorted(grid, v, side="right"))
 
 
 def test_ascending_order_equals_argsort_exactly():
