@@ -69,6 +69,7 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
     """
     import healpy as hp
     import matplotlib.patheffects as pe
+    from matplotlib.cm import ScalarMappable
     from matplotlib.colors import LogNorm
     from matplotlib.figure import Figure
     from matplotlib.image import AxesImage
@@ -81,11 +82,15 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
     ax = fig.add_subplot(111, projection="mollweide")
     good = values[np.isfinite(values) & (values > 0)]
     norm = LogNorm(vmin=good.min(), vmax=good.max()) if good.size else None
+    # colours looked up once per image pixel (RGBA bytes; blank pixels transparent), so
+    # the drawing only resamples; the colour bar is drawn from the same scalar mapping
+    mesh = ScalarMappable(norm=norm, cmap=cmap)
+    rgba = mesh.to_rgba(grid, bytes=True)
     # axes coordinates span the projection's bounding box; the ellipse clips the image
-    mesh = AxesImage(ax, cmap=cmap, norm=norm, interpolation="nearest", origin="lower",
-                     extent=(0.0, 1.0, 0.0, 1.0), transform=ax.transAxes)
-    mesh.set_data(grid)
-    ax.add_image(mesh)
+    image = AxesImage(ax, interpolation="nearest", origin="lower",
+                      extent=(0.0, 1.0, 0.0, 1.0), transform=ax.transAxes)
+    image.set_data(rgba)
+    ax.add_image(image)
     cb = fig.colorbar(mesh, ax=ax, orientation="horizontal", pad=0.06, shrink=0.75)
     cb.set_label(label)
     if norm is not None:
