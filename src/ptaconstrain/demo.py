@@ -118,11 +118,17 @@ def draw_in_parallel(jobs, processes=2):
         for job in jobs:
             job()
         return
+    import gc
+
     _JOBS[:] = jobs
+    # objects made so far stay out of the workers' garbage collections, so the
+    # workers do not touch (and copy) the parent's memory pages just to scan them
+    gc.freeze()
     try:
         with multiprocessing.get_context("fork").Pool(n) as pool:
             pool.map(_run_job, range(len(jobs)), chunksize=1)
     finally:
+        gc.unfreeze()
         _JOBS.clear()
 
 

@@ -77,3 +77,35 @@ def test_save_figure_keeps_the_figure_and_refuses_to_overwrite(tmp_path, result)
     # the figure was not closed: it can still be saved elsewhere, and replaced when asked
     assert save_figure(fig, tmp_path / "again", ("svg",)) == [tmp_path / "again.svg"]
     assert save_figure(fig, tmp_path / "map", ("png",), overwrite=True) == first
+
+
+def test_sky_map_image_pixels_show_the_healpix_value_at_their_sky_position():
+    # reference: matplotlib's own inverse Mollweide transform (outside the package) maps
+    # each image pixel centre to (lon, lat); healpy.ang2pix gives the pixel whose value it
+    # must show, in the colour matplotlib's LogNorm + cividis give that value
+    import healpy as hp
+    from matplotlib.cm import ScalarMappable
+    from matplotlib.colors import LogNorm
+
+    from ptaconstrain.report.skyplot import sky_map_figure
+
+    nside = 8
+    code = (np.arange(hp.nside2npix(nside)) * 97) % 256  # neighbours differ in colour
+    values = 10.0 ** (code / 255.0)  # log-spaced in [1, 10]: one colour per code
+    fig = sky_map_figure(values)
+    ax = fig.axes[0]
+    rgba = np.asarray(ax.images[0].get_array())
+    ny, nx = rgba.shape[:2]
+    rng = np.random.default_rng(3)
+    i, j = rng.integers(0, ny, 4000), rng.integers(0, nx, 4000)
+    u_ax, v_ax = (j + 0.5) / nx, (i + 0.5) / ny
+    # axes fraction -> projected coordinates -> (lon, lat) with matplotlib's transforms
+    proj = ax.transAffine.inverted().transform(np.column_stack([u_ax, v_ax]))
+    lonlat = ax.transProjection.inverted().transform(proj)
+    inside = np.hypot(proj[:, 0] / (2 * np.sqrt(2)), proj[:, 1] / np.sqrt(2)) < 1 - 1e-9
+    assert inside.sum() > 2500
+    ra = np.mod(180.0 - np.degrees(lonlat[inside, 0]), 360.0)
+    pix = hp.ang2pix(nside, ra, np.degrees(lonlat[inside, 1]), lonlat=True)
+    expected = ScalarMappable(LogNorm(1.0, 10.0), "cividis").to_rgba(values[pix], bytes=True)
+    assert np.array_equal(rgba[i[inside], j[inside]], expected)
+    assert (rgba[i[~inside], j[~inside], 3] == 0).all()  # outside the sky: transparent

@@ -206,9 +206,10 @@ def _draw_regions(ax, pe, qe, region, cmap, norm):
     # image's top edge is placed at its log-fraction of the shown q range
     q_top = min(qe[-1], 1.0)
     y_top = np.log(qe[-1] / qe[0]) / np.log(q_top / qe[0])
-    image = AxesImage(ax, cmap=cmap, norm=norm, interpolation="nearest", origin="lower",
+    # colours looked up once per cell (RGBA bytes): the drawing then only resamples
+    image = AxesImage(ax, interpolation="nearest", origin="lower",
                       extent=(0.0, 1.0, 0.0, y_top), transform=ax.transAxes)
-    image.set_data(region)
+    image.set_data(cmap(norm(region), bytes=True))
     ax.add_image(image)
 
 

@@ -2,8 +2,11 @@
 
 Equatorial coordinates, right ascension increasing to the left (the sky as
 seen from inside, the astronomical convention) with 0h at the right edge and
-12h in the centre.  The map is sampled on a 0.5 deg grid with
-``healpy.ang2pix`` and drawn on matplotlib's Mollweide axes with a
+12h in the centre.  The map is drawn on matplotlib's Mollweide axes as one
+image: each image pixel is mapped back to the sky with the inverse Mollweide
+projection (Snyder 1987, Map Projections: A Working Manual, USGS PP 1395,
+p. 252) and given its HEALPix pixel's value (``healpy.ang2pix``), which is
+much cheaper to draw than a mesh of sky cells; the colours use a
 logarithmic, perceptually uniform and colour-blind-safe colour map
 (cividis, Nunez et al. 2018, PLoS ONE 13, e0199239); pulsars are white dots,
 hosts orange stars (Okabe & Ito 2008 palette) with their names.
@@ -20,6 +23,7 @@ from .style import unicode_log_ticks
 __all__ = ["sky_map_figure", "threshold_label", "nhz_text"]
 
 _HOST_COLOUR = "#E69F00"
+_RASTER_WIDTH = 1024  # image pixels across the ellipse (~ its width at 150 dpi)
 
 
 def threshold_label(snr):
@@ -65,27 +69,28 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
     """
     import healpy as hp
     import matplotlib.patheffects as pe
+    from matplotlib.cm import ScalarMappable
     from matplotlib.colors import LogNorm
     from matplotlib.figure import Figure
+    from matplotlib.image import AxesImage
 
     values = np.asarray(values, float)
     nside = hp.npix2nside(values.size)
-    ra_edges = np.linspace(360.0, 0.0, 721)
-    dec_edges = np.linspace(-90.0, 90.0, 361)
-    ra_c = 0.5 * (ra_edges[1:] + ra_edges[:-1])
-    dec_c = 0.5 * (dec_edges[1:] + dec_edges[:-1])
-    ra_g, dec_g = np.meshgrid(ra_c, dec_c)
-    pix = hp.ang2pix(nside, ra_g, dec_g, lonlat=True, nest=nest)
-    grid = np.ma.masked_invalid(values[pix])
+    grid = np.ma.masked_invalid(_mollweide_raster(values, nside, nest))
 
     fig = Figure(figsize=(9.0, 5.4))
     ax = fig.add_subplot(111, projection="mollweide")
-    x_edges = np.radians(180.0 - ra_edges)
-    y_edges = np.radians(dec_edges)
     good = values[np.isfinite(values) & (values > 0)]
     norm = LogNorm(vmin=good.min(), vmax=good.max()) if good.size else None
-    mesh = ax.pcolormesh(x_edges, y_edges, grid, cmap=cmap, norm=norm, shading="flat",
-                         rasterized=True)
+    # colours looked up once per image pixel (RGBA bytes; blank pixels transparent), so
+    # the drawing only resamples; the colour bar is drawn from the same scalar mapping
+    mesh = ScalarMappable(norm=norm, cmap=cmap)
+    rgba = mesh.to_rgba(grid, bytes=True)
+    # axes coordinates span the projection's bounding box; the ellipse clips the image
+    image = AxesImage(ax, interpolation="nearest", origin="lower",
+                      extent=(0.0, 1.0, 0.0, 1.0), transform=ax.transAxes)
+    image.set_data(rgba)
+    ax.add_image(image)
     cb = fig.colorbar(mesh, ax=ax, orientation="horizontal", pad=0.06, shrink=0.75)
     cb.set_label(label)
     if norm is not None:
@@ -119,3 +124,29 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
     fig.text(0.99, 0.01, "equatorial (ICRS); RA increases to the left", ha="right",
              fontsize=7, color="0.3")
     return fig
+
+
+def _mollweide_raster(values, nside, nest, width=_RASTER_WIDTH):
+    """``values`` sampled on a ``width`` x ``width/2`` image of the Mollweide ellipse.
+
+    Pixel centres of the image span the projection's bounding box, x in
+    [-2 sqrt2, 2 sqrt2] and y in [-sqrt2, sqrt2] (unit radius); the inverse
+    projection (Snyder 1987, eqs. 31-1 to 31-3 inverted) gives
+    theta = arcsin(y / sqrt2), latitude = arcsin((2 theta + sin 2 theta) / pi),
+    longitude = pi x / (2 sqrt2 cos theta).  Longitude is 180 deg - RA (RA
+    increasing to the left).  Pixels outside the ellipse are NaN.
+    """
+    import healpy as hp
+
+    height = width // 2
+    r2 = np.sqrt(2.0)
+    x = ((np.arange(width) + 0.5) / width * 2.0 - 1.0) * 2.0 * r2
+    y = ((np.arange(height) + 0.5) / height * 2.0 - 1.0) * r2
+    theta = np.arcsin(y / r2)
+    lat = np.degrees(np.arcsin((2.0 * theta + np.sin(2.0 * theta)) / np.pi))
+    lon = np.pi * x[None, :] / (2.0 * r2 * np.cos(theta)[:, None])
+    inside = np.abs(lon) <= np.pi
+    ra = np.mod(180.0 - np.degrees(np.where(inside, lon, 0.0)), 360.0)
+    pix = hp.ang2pix(nside, ra, np.broadcast_to(lat[:, None], ra.shape), lonlat=True,
+                     nest=nest)
+    return np.where(inside, values[pix], np.nan)
