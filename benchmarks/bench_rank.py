@@ -15,8 +15,12 @@ its definition (Peters residence time per band from
 ``waveform.strain_prefactor``), sharing only the quadrature rule -- on a
 10^4-row subset of the written table, to 1e-10.
 
+With ``--before REV`` a third process runs the code of revision REV (e.g. the
+commit before an optimisation) on the same catalogue, and the before/after
+ratios are printed; both tables must be identical.
+
 Usage:  python benchmarks/bench_rank.py [--rows 1000000] [--subset 10000]
-        [--no-reference] [--reference-rev REV] [--chunk-size 100000]
+        [--no-reference] [--reference-rev REV] [--before REV] [--chunk-size 100000]
 """
 
 import argparse
@@ -125,9 +129,40 @@ def _reference_source(rev, where):
     """Today's package (commit ``rev``) extracted from git into ``where``; its src path."""
     import subprocess
 
+    Path(where).mkdir(parents=True, exist_ok=True)
     arch = subprocess.run(["git", "archive", rev, "src"], check=True, capture_output=True)
     subprocess.run(["tar", "-x", "-C", str(where)], input=arch.stdout, check=True)
     return str(Path(where) / "src")
+
+
+def _read_ranking(out):
+    """The full ranking table a child wrote: ranking.fits, or today's ranking.ecsv."""
+    from astropy.table import QTable
+
+    fits_file = Path(out) / "ranking.fits"
+    if fits_file.exists():
+        return QTable.read(fits_file, memmap=True)
+    return QTable.read(Path(out) / "ranking.ecsv")
+
+
+def _text(column):
+    values = np.asarray(column)
+    return np.char.decode(values, "utf-8") if values.dtype.kind == "S" else values.astype(str)
+
+
+def _same_values(other, table, tolerance):
+    """Same galaxies in the same order, and the values within ``tolerance`` (relative)."""
+    same_order = np.array_equal(_text(other["name"]), _text(table["name"]))
+    worst = 0.0
+    for col in ("expected_number", "h0_ratio", "prob_equal_mass", "ra", "distance"):
+        a = np.asarray(getattr(other[col], "value", other[col]), float)
+        b = np.asarray(getattr(table[col], "value", table[col]), float)
+        both = np.isfinite(a) & (a != 0)
+        assert np.array_equal(np.isfinite(a), np.isfinite(b))
+        worst = max(worst, float(np.max(np.abs(a[both] - b[both]) / np.abs(a[both]))))
+    print(f"  same galaxies in the same order: {same_order}; max rel diff of the values "
+          f"{worst:.1e}")
+    assert same_order and worst <= tolerance
 
 
 def main():
@@ -139,6 +174,9 @@ def main():
     ap.add_argument("--no-reference", action="store_true",
                     help="skip today's path (e.g. at 10^7 rows, where it needs ~40 GB)")
     ap.add_argument("--reference-rev", default="c4fea20")
+    ap.add_argument("--before", metavar="REV",
+                    help="also run this revision's code (e.g. before a change) in the same run; "
+                         "its table must equal this code's exactly")
     ap.add_argument("--child", action="store_true", help=argparse.SUPPRESS)
     ap.add_argument("--catalogue", help=argparse.SUPPRESS)
     ap.add_argument("--out", help=argparse.SUPPRESS)
@@ -165,6 +203,16 @@ def main():
     table = QTable.read(work / "fast" / "ranking.fits", memmap=True)
     assert len(table) == args.rows and np.all(np.asarray(table["rank"]) ==
                                               np.arange(1, args.rows + 1))
+    if args.before:
+        before_src = _reference_source(args.before, work / "before_src")
+        before = _run_child(cat_path, work / "before", src=before_src)
+        print(f"before ({args.before}, streamed): wall {before['wall']:.1f} s, CPU "
+              f"{before['cpu']:.1f} s, peak RSS {before['peak_mb']:,.0f} MB, "
+              f"{args.rows / before['wall']:,.0f} rows/s")
+        print(f"ratio before/this code: wall {before['wall'] / fast['wall']:.2f}x, "
+              f"CPU {before['cpu'] / fast['cpu']:.2f}x, peak RSS "
+              f"{before['peak_mb'] / fast['peak_mb']:.2f}x")
+        _same_values(_read_ranking(work / "before"), table, 0.0)
     if not args.no_reference:
         ref_src = _reference_source(args.reference_rev, work)
         ref = _run_child(cat_path, work / "ref", src=ref_src)
@@ -174,21 +222,9 @@ def main():
         print(f"ratio today/streamed: wall {ref['wall'] / fast['wall']:.2f}x, "
               f"CPU {ref['cpu'] / fast['cpu']:.2f}x, peak RSS "
               f"{ref['peak_mb'] / fast['peak_mb']:.2f}x")
-        old = QTable.read(work / "ref" / "ranking.ecsv")
-        same_order = np.array_equal(np.asarray(old["name"]).astype(str),
-                                    np.char.decode(np.asarray(table["name"]), "utf-8"))
-        worst = 0.0
-        for col in ("expected_number", "h0_ratio", "prob_equal_mass", "ra", "distance"):
-            a = np.asarray(getattr(old[col], "value", old[col]), float)
-            b = np.asarray(getattr(table[col], "value", table[col]), float)
-            both = np.isfinite(a) & (a != 0)
-            assert np.array_equal(np.isfinite(a), np.isfinite(b))
-            worst = max(worst, float(np.max(np.abs(a[both] - b[both]) / np.abs(a[both]))))
-        print(f"same galaxies in the same order: {same_order}; max rel diff of the values "
-              f"{worst:.1e}")
         # the default cosmology now comes from a shipped Planck18 table that agrees with
         # astropy's spline to ~1e-12 (tests/test_cosmo.py); that is the size of the change
-        assert same_order and worst < 1e-9
+        _same_values(_read_ranking(work / "ref"), table, 1e-9)
         ok = ref["wall"] / fast["wall"] >= 3 and fast["peak_mb"] < 1536
         print(f"target >= 3x faster than today (wall) and < 1.5 GB peak: "
               f"{'met' if ok else 'MISSED'} (at {args.rows} rows)")

@@ -49,3 +49,12 @@ def test_utf8_bytes_keep_code_point_order():
     # UTF-8 preserves code-point order (RFC 3629, section 1)
     names = np.array(["b", "Œ", "a", "z", "é"])
     assert np.array_equal(np.argsort(name_bytes(names)), np.argsort(names))
+
+
+def test_name_bytes_is_utf8_for_any_layout():
+    # reference: numpy's own UTF-8 encoder (np.char.encode), element by element
+    names = np.array([["NGC 4486", "M 87"], ["Œuf", ""]])
+    for arr in (names, names.T, names[:, 1], names[:1].T, names.ravel()[::2], names[0, 0]):
+        got = name_bytes(arr)
+        assert got.shape == np.shape(arr)
+        assert np.array_equal(got, np.char.encode(arr, "utf-8"))

@@ -195,3 +195,44 @@ def test_bad_population_parameters():
         PopulationModel(rate=1 * u.km)
     with pytest.raises(ValueError, match="n_nodes"):
         mass_nodes([9.0], [0.3], [8.0], [10.0], 0)
+
+
+def _brute_number(lm, sig, d, z, f, thr, pop):
+    """One galaxy from the definitions: every (node, band) pair, unfiltered nodes,
+    Peters residence time per band (residence_time) and the eta-weight tail_from_eta."""
+    from ptaconstrain.catalogue.population import band_thresholds
+
+    g = band_thresholds(f, thr)
+    lo, hi = mass_limits([d] * u.Mpc, [z], f, thr)
+    nodes, weights = mass_nodes([lm], [sig], lo, hi, 16)
+    total = 0.0
+    for node, w in zip(nodes[0], weights[0], strict=True):
+        if w <= 0:
+            continue
+        m = 10.0**node * u.Msun
+        s = wf.strain_prefactor(m, d * u.Mpc, z).to_value(u.Hz ** (-2 / 3))
+        # residence time of eta = 1/4 (q = 1); the 1/eta of other q sits inside W
+        dt = residence_time(m, 1.0, f[:-1], f[1:], z).to_value(u.yr) * 0.25
+        total += w * np.nansum(dt * pop.mass_ratio.tail_from_eta(g / s))
+    return pop.rate.to_value(1 / u.yr) * total
+
+
+@pytest.mark.parametrize("index", [-1.0, 0.5])
+def test_expected_number_equals_the_row_by_row_definition(index):
+    # brute force: _brute_number above, galaxy by galaxy; the batch skips galaxies whose
+    # mass range misses the limits and works in place, which must not change the numbers
+    rng = np.random.default_rng(3)
+    n = 60
+    f = np.logspace(np.log10(2e-9), -7, 40) * u.Hz
+    x = f.value / 8e-9
+    thr = 5e-15 * (x**-2 + x)
+    lm = rng.uniform(7.0, 11.5, n)  # from far too light to f_ISCO inside the band
+    sig = np.where(rng.random(n) < 0.2, 0.0, rng.uniform(0.05, 0.5, n))
+    d = rng.uniform(10, 500, n)
+    z = d * 70 / 3e5
+    pop = PopulationModel(mass_ratio=MassRatioDistribution(0.01, index))
+    got = expected_number(lm, sig, d * u.Mpc, z, f, thr, pop)
+    ref = np.array([_brute_number(*a, f, thr, pop) for a in zip(lm, sig, d, z, strict=True)])
+    assert 0 < np.count_nonzero(ref) < n
+    assert np.array_equal(got == 0, ref == 0)
+    assert got == pytest.approx(ref, rel=1e-10, abs=0)

@@ -38,12 +38,16 @@ def name_bytes(names):
     names = np.asarray(names)
     if names.dtype.kind == "S":
         return names
-    names = names.astype(str)
+    names = names if names.dtype.kind == "U" else names.astype(str)
+    names = names if names.flags.c_contiguous else names.copy()
     if names.size == 0:
         return names.astype("S1")
-    codes = names.view(np.uint32)
-    if codes.size == 0 or int(codes.max()) < 128:  # ASCII: a plain cast, in C
-        return names.astype(f"S{max(names.dtype.itemsize // 4, 1)}")
+    width = names.dtype.itemsize // 4
+    codes = names.reshape(-1).view(np.uint32)
+    if codes.size == 0:
+        return names.astype("S1")
+    if int(codes.max()) < 128:  # ASCII: each code point is its byte (NUL padding stays NUL)
+        return codes.astype(np.uint8).view(f"S{width}").reshape(names.shape)
     return np.char.encode(names, "utf-8")
 
 

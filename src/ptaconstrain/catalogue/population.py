@@ -424,11 +424,18 @@ def expected_number(log_mass, log_mass_sigma, distance, redshift, frequency, h0_
         return out
     lower, upper = mass_limits(dist, z, frequency, h0_threshold, sky_index)
     lower, upper = np.broadcast_to(lower, (n,)), np.broadcast_to(upper, (n,))
-    lg_m, weight = mass_nodes(mu, sig, lower, upper, n_nodes)
-    rows, nodes = np.nonzero(weight > 0)
-    if rows.size == 0:
+    # only rows whose (truncated) mass range meets [lower, upper] get nodes: a
+    # necessary condition for a positive weight in mass_nodes, with a margin against
+    # rounding; the others (most galaxies of a deep catalogue) cost nothing
+    reach = (TRUNCATE + 0.01) * np.where(sig > 0, sig, 0.0)
+    with np.errstate(invalid="ignore"):
+        some = np.flatnonzero((lower < upper) & (mu + reach > lower) & (mu - reach < upper))
+    lg_m, weight = mass_nodes(mu[some], sig[some], lower[some], upper[some], n_nodes)
+    sub, nodes = np.nonzero(weight > 0)
+    if sub.size == 0:
         return out
-    lg_mz = lg_m[rows, nodes] + np.log10(1.0 + z[rows])
+    rows = some[sub]
+    lg_mz = lg_m[sub, nodes] + np.log10(1.0 + z[rows])
     log_s = _constants()[0] + (5.0 / 3.0) * lg_mz - np.log10(dist.value[rows])
     g_band = band_thresholds(frequency, h0_threshold)
     g_band = g_band[None, :] if g_band.ndim == 1 else g_band
@@ -436,7 +443,7 @@ def expected_number(log_mass, log_mass_sigma, distance, redshift, frequency, h0_
     group = sky[rows]
     contrib = _pair_numbers(lg_mz, log_s, group, frequency, g_band, population.mass_ratio,
                             max_block)
-    out = np.bincount(rows, weights=weight[rows, nodes] * contrib, minlength=n)
+    out = np.bincount(rows, weights=weight[sub, nodes] * contrib, minlength=n)
     return rate * out
 
 
@@ -460,7 +467,7 @@ def _pair_numbers(lg_mz, log_s, group, frequency, g_band, dist, max_block):
     a_s, b_s = a_all[order], b_all[order]
     d_s = a_s - b_s  # band weights when f_ISCO lies above the band
     b_top = b_all[-1] if b_all.size else np.inf  # f_ISCO above every band: no capping
-    top, norm = dist._top, dist._norm
+    norm = dist._norm
     quarter_s = 0.25 * 10.0**log_s
     # k = number of sorted bands with g < S/4 (plus one, against rounding)
     nb = g_s.shape[1]
@@ -498,11 +505,7 @@ def _pair_numbers(lg_mz, log_s, group, frequency, g_band, dist, max_block):
         else:
             gr = group[idx]
             g, dd, aa, bb = g_s[gr, :kmax], d_s[gr, :kmax], a_s[gr, :kmax], b_s[gr, :kmax]
-        e = g * inv_s[:, None]
-        q = wf.mass_ratio_from_eta(e)  # eta >= 1/4 -> q = 1 -> W = 0
-        np.clip(q, dist.q_min, 1.0, out=q)
-        wq = dist._antiderivative(q)
-        np.subtract(top, wq, out=wq)  # W * norm, exactly 0 at q = 1
+        wq = _scaled_tails(np.multiply(g, inv_s[:, None]), dist)  # W * norm
         res = wq @ dd if shared else np.einsum("ij,ij->i", wq, dd)
         c = 10.0 ** ((8.0 / 3.0) * (lm - log_isco1))  # f_ISCO^(-8/3)
         capped = np.flatnonzero(c > b_top)  # f_ISCO inside the bands
@@ -514,3 +517,31 @@ def _pair_numbers(lg_mz, log_s, group, frequency, g_band, dist, max_block):
         contrib[idx] = 10.0 ** (log_k1 - (5.0 / 3.0) * lm) * res / norm
         start = stop
     return contrib
+
+
+def _scaled_tails(eta, dist):
+    """W(eta) * norm for a block of eta values, overwriting ``eta`` (the hot loop).
+
+    The same arithmetic, operation for operation, as
+    ``dist._top - dist._antiderivative(clip(mass_ratio_from_eta(eta), q_min, 1))``
+    (so the same bits), done in place with two temporaries instead of a dozen:
+    q = 2 eta / ((1 - 2 eta) + sqrt(1 - 4 eta)); eta >= 1/4 gives q = 1 and W = 0.
+    """
+    np.minimum(eta, 0.25, out=eta)  # eta >= 0 here (thresholds and S positive)
+    root = np.multiply(eta, 4.0)
+    np.subtract(1.0, root, out=root)
+    np.sqrt(root, out=root)
+    q = np.multiply(eta, 2.0)
+    np.subtract(1.0, q, out=eta)
+    eta += root
+    np.divide(q, eta, out=q)
+    np.clip(q, dist.q_min, 1.0, out=q)
+    if dist.index == -1.0:  # log-uniform: q^-2, q^-1, q^0 -> -1/q + 2 ln q + q
+        out = np.divide(-1.0, q, out=root)
+        term = np.log(q, out=eta)
+        term *= 2.0
+        out += term
+        out += q
+    else:
+        out = dist._antiderivative(q)
+    return np.subtract(dist._top, out, out=out)

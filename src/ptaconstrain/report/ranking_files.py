@@ -16,6 +16,8 @@ written unless ``overwrite``:
 import json
 import warnings
 
+import numpy as np
+
 __all__ = ["rank_to_files", "ranking_output_paths", "top_figure_stems", "top_figures",
            "write_fits_blocks", "fits_meta", "TABLE_FILE", "TOP_FILE", "FULL_ECSV_FILE",
            "REJECTED_FILE"]
@@ -84,8 +86,6 @@ def write_fits_blocks(blocks, path, n_rows, meta=None, overwrite=False):
     meta : dict, optional
     overwrite : bool
     """
-    import io
-
     from astropy.io import fits
 
     from .._files import atomic_write
@@ -98,24 +98,90 @@ def write_fits_blocks(blocks, path, n_rows, meta=None, overwrite=False):
     header = _hdu(head).header
     header["NAXIS2"] = int(n_rows)
     width, written = int(header["NAXIS1"]), 0
+    layout = _record_dtype(header)
     with atomic_write(path, overwrite) as tmp, open(tmp, "wb") as fh:
         fh.write(fits.PrimaryHDU().header.tostring().encode("ascii"))
         fh.write(header.tostring().encode("ascii"))
         for block in _chain(first, blocks):
-            block = block.copy(copy_data=False)
-            block.meta.clear()
-            hdu = _hdu(block)
-            if int(hdu.header["NAXIS1"]) != width:
-                raise ValueError("write_fits_blocks: blocks differ in row layout")
-            buf = io.BytesIO()
-            hdu.writeto(buf)
-            size = width * len(block)  # the data are the file's last padded blocks
-            start = buf.getbuffer().nbytes - (size + (-size % _FITS_BLOCK))
-            fh.write(buf.getbuffer()[start:start + size])
+            data = _block_bytes(block, layout, width)
+            fh.write(data)
             written += len(block)
         if written != n_rows:
             raise ValueError(f"write_fits_blocks: {written} rows written, {n_rows} announced")
         fh.write(b"\0" * (-(width * written) % _FITS_BLOCK))
+
+
+#: FITS binary-table TFORM letter -> numpy big-endian type (FITS standard 4.0, table 18)
+_TFORM = {"L": "u1", "B": "u1", "I": ">i2", "J": ">i4", "K": ">i8", "E": ">f4", "D": ">f8",
+          "A": "S"}
+
+
+def _record_dtype(header):
+    """The row layout of a binary-table header as a numpy dtype, or None.
+
+    None when a column needs astropy's conversion (scaled or offset integers,
+    arrays of values, variable-length columns), so that such tables take the
+    general path.
+    """
+    import re
+
+    names, formats = [], []
+    for i in range(1, int(header["TFIELDS"]) + 1):
+        if any(f"{key}{i}" in header for key in ("TZERO", "TSCAL", "TDIM")):
+            return None
+        m = re.fullmatch(r"(\d*)([A-Z])", str(header[f"TFORM{i}"]).strip())
+        if m is None or m.group(2) not in _TFORM:
+            return None
+        count = int(m.group(1) or 1)
+        code = _TFORM[m.group(2)]
+        if code == "S":
+            code = f"S{count}"
+        elif count != 1:
+            return None
+        names.append(header[f"TTYPE{i}"])
+        formats.append(code)
+    dtype = np.dtype({"names": names, "formats": formats})
+    return dtype if dtype.itemsize == int(header["NAXIS1"]) else None
+
+
+def _block_bytes(block, layout, width):
+    """One block's rows as the bytes of a FITS binary table (big-endian records).
+
+    Logical columns become b"T" / b"F", text columns NUL-padded bytes, as astropy
+    writes them; tables without such a simple layout (masked or scaled columns,
+    arrays in cells) are converted by astropy.
+    """
+    import io
+
+    if (layout is not None and list(layout.names) == list(block.colnames)
+            and not any(getattr(block[k], "mask", np.False_).any() for k in layout.names)):
+        rec = np.empty(len(block), dtype=layout)
+        for key in layout.names:
+            col = block[key]
+            values = np.asarray(getattr(col, "value", col))
+            want = layout[key]
+            if want.kind == "S":
+                if values.dtype.kind == "U":
+                    values = np.char.encode(values, "ascii")  # as astropy encodes text
+                if values.dtype.kind != "S" or values.dtype.itemsize > want.itemsize:
+                    raise ValueError("write_fits_blocks: blocks differ in row layout")
+            elif values.dtype == bool:
+                values = np.where(values, np.uint8(ord("T")), np.uint8(ord("F")))
+            elif (values.dtype.kind != want.kind or values.dtype.itemsize != want.itemsize
+                  or values.ndim != 1):
+                raise ValueError("write_fits_blocks: blocks differ in row layout")
+            rec[key] = values
+        return rec.tobytes()
+    block = block.copy(copy_data=False)
+    block.meta.clear()
+    hdu = _hdu(block)
+    if int(hdu.header["NAXIS1"]) != width:
+        raise ValueError("write_fits_blocks: blocks differ in row layout")
+    buf = io.BytesIO()
+    hdu.writeto(buf)
+    size = width * len(block)  # the data are the file's last padded blocks
+    start = buf.getbuffer().nbytes - (size + (-size % _FITS_BLOCK))
+    return bytes(buf.getbuffer()[start:start + size])
 
 
 def _chain(first, rest):
