@@ -21,9 +21,9 @@ def _nside(ctx, param, value):
 
 
 def _progress(length, label):
-    import sys
+    from .progress import progress_bar
 
-    return click.progressbar(length=length, label=label, file=sys.stderr)
+    return progress_bar(length, label)
 
 
 # options shared by the commands of this module

@@ -40,12 +40,12 @@ class _ProgressBars:
         self.bar = None
 
     def __call__(self, label, done, total):
-        import sys
+        from .progress import progress_bar
 
         if label != self.label:
             self.close()
             self.label = label
-            self.bar = click.progressbar(length=total, label=label, file=sys.stderr)
+            self.bar = progress_bar(total, label)
             self.bar.__enter__()
         self.bar.update(done - self.bar.pos)
 

@@ -198,14 +198,12 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
 
 def _sensitivity_at(host, array_path, limit_map_path, snr):
     """The curve at ``host`` from a pulsar list or a limit map, and a note on its sky."""
-    import sys
-
     if array_path is not None:
         from ..sensitivity.pulsar_list import load_array
+        from .progress import progress_bar
 
         sens = load_array(array_path)
-        with click.progressbar(length=len(sens), label="timing-model fits per pulsar",
-                               file=sys.stderr) as bar:
+        with progress_bar(len(sens), "timing-model fits per pulsar") as bar:
             sens.weights(sens.default_frequencies(), callback=bar.update)  # cached
     else:
         from ..sensitivity.limit_map import load_limit_map

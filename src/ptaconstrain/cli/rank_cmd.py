@@ -114,8 +114,6 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     with --exclusion-figures N also <name>_exclusion.* (upper limit) or
     <name>_forecast.* (noise budget) for the N best targets.
     """
-    import sys
-
     from .._files import check_new
     from ..catalogue import (
         CatalogReader,
@@ -126,6 +124,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
         select_relations,
     )
     from ..report.ranking_files import rank_to_files, ranking_output_paths
+    from .progress import progress_bar
 
     columns = load_column_map(columns_file) if columns_file else ColumnMap()
     extra = _column_options(column_pairs)
@@ -145,9 +144,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     options = {"metric": metric, "relations": ",".join(relation) or "all shipped",
                "on_bad": on_bad, "rate": str(rate), "q_min": q_min, "q_index": q_index,
                "snr": snr, "span": str(span), "sky_averaged": sky_averaged, "nodes": nodes}
-    # the bar is drawn on a terminal only: in a pipe or log it would add a stray line
-    with click.progressbar(length=max(reader.n_rows, 1), label="ranking", file=sys.stderr,
-                           hidden=not sys.stderr.isatty()) as bar:
+    with progress_bar(reader.n_rows, "ranking") as bar:
         ranking, written = rank_to_files(
             reader, sens, out, files=files, options=options, formats=formats, top=top,
             exclusion_figures=exclusion_figures, overwrite=overwrite, progress=bar.update,
