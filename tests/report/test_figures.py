@@ -109,3 +109,23 @@ def test_sky_map_image_pixels_show_the_healpix_value_at_their_sky_position():
     expected = ScalarMappable(LogNorm(1.0, 10.0), "cividis").to_rgba(values[pix], bytes=True)
     assert np.array_equal(rgba[i[inside], j[inside]], expected)
     assert (rgba[i[~inside], j[~inside], 3] == 0).all()  # outside the sky: transparent
+
+
+def test_a_huge_ranking_sky_map_draws_a_bounded_even_sample(monkeypatch):
+    # the best rows are all drawn, the rest thinned evenly; the title says so
+    import numpy as np
+    from astropy.table import Table
+
+    from ptaconstrain.report import rankplots
+
+    monkeypatch.setattr(rankplots, "MAX_SKY_POINTS", 1000)
+    n = 25_000
+    rng = np.random.default_rng(3)
+    t = Table({"rank": np.arange(1, n + 1), "ra": rng.uniform(0, 360, n),
+               "dec": rng.uniform(-90, 90, n), "h0_ratio": np.linspace(10, 0.1, n)})
+    fig = rankplots.sky_figure(t, "h0_ratio", "excluded", "95% upper limit")
+    drawn = sum(len(c.get_offsets()) for c in fig.axes[0].collections)
+    # 100 best + ceil((25000 - 100) / 900) = 28 -> 0..24899 step 28 -> 890 more
+    assert drawn == 100 + len(range(100, n, 28))
+    assert "one in 28 of the rest" in fig.axes[0].get_title()
+    assert str(n) in fig.axes[0].get_title()
