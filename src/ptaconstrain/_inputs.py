@@ -214,6 +214,11 @@ def distance_out_of_range(distance_mpc, cosmology=None):
         return (d < DISTANCE_MIN) | (d > _d_max(cosmology))
 
 
+def _first_flagged(values, mask):
+    """The first value (scalar or array) where ``mask`` is True, as a float."""
+    return float(np.atleast_1d(values)[np.atleast_1d(mask)][0])
+
+
 def _as_given(value, converted, unit):
     """'95 km (3.08e-18 Mpc)' for a value given in other units, else '95 Mpc'."""
     text = f"{converted:.3g} {unit}"
@@ -246,8 +251,9 @@ def check_mass(mass, field="mass"):
     """
     q = quantity(mass, u.Msun, field)
     m = q.to_value(u.Msun)
-    if np.any(mass_out_of_range(m)):
-        bad = float(np.atleast_1d(m)[np.atleast_1d(mass_out_of_range(m))][0])
+    out = mass_out_of_range(m)
+    if np.any(out):
+        bad = _first_flagged(m, out)
         hint = (f" (a log10 mass? give 10**{bad:g} = {10**bad:.3g})"
                 if 3 <= bad <= 13 else "")
         raise InputError(
@@ -281,8 +287,9 @@ def check_distance(distance, field="distance", cosmology=None):
     """
     q = quantity(distance, u.Mpc, field)
     d = q.to_value(u.Mpc)
-    if np.any(distance_out_of_range(d, cosmology)):
-        bad = float(np.atleast_1d(d)[np.atleast_1d(distance_out_of_range(d, cosmology))][0])
+    out = distance_out_of_range(d, cosmology)
+    if np.any(out):
+        bad = _first_flagged(d, out)
         raise InputError(
             f"{field}: {_as_given(distance, bad, 'Mpc')} is outside the plausible "
             f"{distance_range_text(_d_max(cosmology))}; bare numbers are Mpc")
@@ -385,9 +392,10 @@ def _parse_each(text, unit):
 
 def _one_angle(values, is_ra, field):
     if isinstance(values, u.Quantity):
-        unit = _column_unit(values, field) or u.deg
-        return np.atleast_1d(values.to_value(u.deg) if values.unit != u.dimensionless_unscaled
-                             else values.value).astype(float), None
+        _column_unit(values, field)  # refuses a unit that is not an angle
+        deg = np.atleast_1d(values.to_value(u.deg) if values.unit != u.dimensionless_unscaled
+                            else values.value).astype(float)
+        return deg, np.zeros(deg.shape, dtype=bool)
     unit = _column_unit(values, field)
     data = np.ma.asarray(values)
     mask = np.ma.getmaskarray(data).ravel()
@@ -435,15 +443,17 @@ def angles_deg(ra, dec):
     >>> [round(float(x), 4) for x in ra], [round(float(x), 4) for x in dec]
     ([187.7, 187.7042], [12.4, -5.0])
     """
-    ra_deg, bad_ra = _one_angle(ra, True, "RA")
-    dec_deg, bad_dec = _one_angle(dec, False, "Dec")
-    if ra_deg.shape != dec_deg.shape:
-        raise InputError(f"sky position: {ra_deg.size} RA values but {dec_deg.size} Dec values")
-    bad = np.zeros(ra_deg.shape, dtype=bool)
-    for b in (bad_ra, bad_dec):
-        if b is not None:
-            bad |= b
-    return ra_deg, dec_deg, bad
+    return _angle_pair(ra, dec, True, ("RA", "Dec"), ("RA values", "Dec values"))
+
+
+def _angle_pair(lon, lat, lon_in_hours, fields, plural):
+    """Both angles of a position in degrees, and where either was unreadable."""
+    lon_deg, bad_lon = _one_angle(lon, lon_in_hours, fields[0])
+    lat_deg, bad_lat = _one_angle(lat, False, fields[1])
+    if lon_deg.shape != lat_deg.shape:
+        raise InputError(f"sky position: {lon_deg.size} {plural[0]} but {lat_deg.size} "
+                         f"{plural[1]}")
+    return lon_deg, lat_deg, bad_lon | bad_lat
 
 
 def sky_out_of_range(ra_deg, dec_deg):
@@ -580,16 +590,7 @@ def lonlat_deg(lon, lat):
     >>> [float(x) for x in lon], [float(x) for x in lat]
     ([100.5, 20.0], [-10.5, 5.0])
     """
-    lon_deg, bad_lon = _one_angle(lon, False, "longitude")
-    lat_deg, bad_lat = _one_angle(lat, False, "latitude")
-    if lon_deg.shape != lat_deg.shape:
-        raise InputError(f"sky position: {lon_deg.size} longitudes but {lat_deg.size} "
-                         "latitudes")
-    bad = np.zeros(lon_deg.shape, dtype=bool)
-    for b in (bad_lon, bad_lat):
-        if b is not None:
-            bad |= b
-    return lon_deg, lat_deg, bad
+    return _angle_pair(lon, lat, False, ("longitude", "latitude"), ("longitudes", "latitudes"))
 
 
 def check_redshift(redshift, field="redshift"):
@@ -621,7 +622,7 @@ def check_redshift(redshift, field="redshift"):
                          "plain number z (not cz in km/s)") from err
     out = (z < 0) | (z > Z_LIMIT)
     if np.any(out):
-        bad = float(np.atleast_1d(z)[np.atleast_1d(out)][0])
+        bad = _first_flagged(z, out)
         raise InputError(f"{field}: {bad:g} is outside 0 <= z <= {Z_LIMIT:g}; give the "
                          "cosmological redshift z (not cz in km/s)")
     return float(z) if np.ndim(z) == 0 else z
