@@ -128,14 +128,7 @@ def main(debug):
 
 
 def _register():
-    from . import demo, exclude  # noqa: F401  (commands attach themselves)
-
-    for optional in ("array_cmds", "rank_cmd"):
-        try:
-            __import__(f"{__name__}.{optional}")
-        except ModuleNotFoundError as err:
-            if err.name != f"{__name__}.{optional}":
-                raise
+    from . import array_cmds, demo, exclude, rank_cmd  # noqa: F401  (commands attach themselves)
 
 
 _register()

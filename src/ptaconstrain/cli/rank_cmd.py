@@ -33,17 +33,11 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
     if kind is not None:
         raise click.UsageError("--kind applies to --curve only")
     if array_path is not None:
-        try:
-            from ..sensitivity.pulsar_list import load_array
-        except ModuleNotFoundError as err:
-            raise click.UsageError("--array needs ptaconstrain.sensitivity.pulsar_list, "
-                                   "which this installation lacks: use --curve") from err
+        from ..sensitivity.pulsar_list import load_array
+
         return load_array(array_path), "array", array_path
-    try:
-        from ..sensitivity.limit_map import load_limit_map
-    except ModuleNotFoundError as err:
-        raise click.UsageError("--limit-map needs ptaconstrain.sensitivity.limit_map, which this "
-                               "installation lacks: use --curve") from err
+    from ..sensitivity.limit_map import load_limit_map
+
     return load_limit_map(limit_map_path), "limit_map", limit_map_path
 
 
