@@ -5,6 +5,7 @@ imports (``ast``) and import each module in a fresh interpreter.
 """
 
 import ast
+import json
 import subprocess
 import sys
 from concurrent.futures import ThreadPoolExecutor
@@ -79,16 +80,39 @@ def _imports(module, path):
     return found
 
 
-def test_every_module_imports_alone_in_a_fresh_interpreter():
-    def run(name):
-        res = subprocess.run([sys.executable, "-c", f"import {name}"],
-                             capture_output=True, text=True, timeout=300)
-        return name, res.returncode, res.stderr.strip().splitlines()[-1:] or [""]
+#: below the report layer nothing draws or touches HEALPix at import time (DESIGN.md:
+#: matplotlib and healpy are imported inside the functions that need them)
+_LIGHT_PARTS = {"errors", "_version", "data", "cosmo", "_files", "_inputs", "binary",
+                "sensitivity", "analysis", "catalogue"}
+_PROBE = ("import json, sys, {name}; print(json.dumps(sorted(m for m in sys.modules "
+          "if m in ('matplotlib', 'healpy') or m.startswith('ptaconstrain.'))))")
 
+
+def _loaded_alone(name):
+    """Import ``name`` in a fresh interpreter: (name, error line or None, modules loaded)."""
+    res = subprocess.run([sys.executable, "-c", _PROBE.format(name=name)],
+                         capture_output=True, text=True, timeout=300)
+    if res.returncode != 0:
+        return name, (res.stderr.strip().splitlines()[-1:] or [""])[0], []
+    return name, None, json.loads(res.stdout.strip().splitlines()[-1])
+
+
+def test_every_module_imports_alone_in_a_fresh_interpreter():
+    names = [m for m, _ in MODULES if not m.endswith("__main__")]  # those run the CLI
     with ThreadPoolExecutor(max_workers=4) as pool:
-        names = [m for m, _ in MODULES if not m.endswith("__main__")]  # those run the CLI
-        failures = [(n, err[0]) for n, rc, err in pool.map(run, names) if rc != 0]
+        results = list(pool.map(_loaded_alone, names))
+    failures = [(n, err) for n, err, _ in results if err is not None]
     assert not failures, failures
+    heavy, sibling = [], []
+    for name, _, loaded in results:
+        part = _part(name)
+        if part in _LIGHT_PARTS:
+            heavy += [(name, m) for m in loaded if m in ("matplotlib", "healpy")]
+        other = {"binary": "sensitivity", "sensitivity": "binary"}.get(part)
+        if other:  # siblings: neither loads the other, not even indirectly
+            sibling += [(name, m) for m in loaded if _part(m) == other]
+    assert not heavy, heavy
+    assert not sibling, sibling
 
 
 def test_no_private_names_imported_across_modules():

@@ -1,21 +1,8 @@
-"""Every module of binary/ imports on its own, without sensitivity/ (its sibling)."""
+"""The docstring example of binary/host runs (importing every module alone, and
+binary/ never loading sensitivity/, is checked for the whole package in
+tests/test_layout.py)."""
 
 import doctest
-import subprocess
-import sys
-
-import pytest
-
-
-@pytest.mark.parametrize("module", ["ptaconstrain.binary", "ptaconstrain.binary.waveform",
-                                    "ptaconstrain.binary.host"])
-def test_module_imports_alone_without_sensitivity(module):
-    code = (f"import sys, {module}; "
-            "bad = [m for m in sys.modules if m.startswith('ptaconstrain.sensitivity') "
-            "or m in ('matplotlib', 'healpy')]; assert not bad, bad")
-    res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         timeout=120)
-    assert res.returncode == 0, res.stderr
 
 
 def test_host_docstring_example_runs():
