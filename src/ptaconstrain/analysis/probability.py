@@ -34,6 +34,7 @@ change ``excluded`` in the deterministic map and does not enter here either.
 
 import warnings
 from dataclasses import dataclass, replace
+from functools import cached_property
 
 import numpy as np
 from astropy import units as u
@@ -118,11 +119,12 @@ class ProbabilityMap(FromCurve):
         """e.g. '95% upper limit' or 'forecast, S/N >= 5'."""
         return self.deterministic.label
 
-    @property
+    @cached_property
     def summary(self):
         """:meth:`HostSamples.summary`: 16/50/84 % of mass [solMass], distance [Mpc], ...
 
-        Computed when asked for (percentiles of every sample cost more than the map).
+        Computed when first asked for (percentiles of every sample cost more than the
+        map), then kept.
         """
         return self.samples.summary()
 
