@@ -14,12 +14,15 @@ def provenance(inputs=None, files=None):
     inputs : dict, optional
         Input values as strings (with units).
     files : dict, optional
-        Role -> path of input files; each is recorded with its SHA-256.
+        Role -> path of input files; each is recorded with its SHA-256 (a directory,
+        such as a partitioned catalogue, with ``"directory"`` instead).
 
     Returns
     -------
     dict (JSON/YAML-serialisable, for astropy table meta).
     """
+    from pathlib import Path
+
     from .._files import sha256
     from .._version import __version__
 
@@ -32,7 +35,9 @@ def provenance(inputs=None, files=None):
         out["inputs"] = {str(k): str(v) for k, v in inputs.items()}
     if files:
         out["files"] = {
-            role: {"path": str(path), "sha256": sha256(path)} for role, path in files.items()
+            role: {"path": str(path),
+                   "sha256": "directory" if Path(path).is_dir() else sha256(path)}
+            for role, path in files.items()
         }
     return out
 
