@@ -345,7 +345,8 @@ def rank_catalog_dask(catalog, sensitivity, out_dir, *, workers=2, scheduler=Non
                       columns=None, relations=None, population=None, metric="expected_number",
                       snr=5.0, span=None, on_bad="error", chunk_size=100_000, n_nodes=16,
                       cosmology=None, sky="auto", sky_nside=None, files=None, inputs=None,
-                      top_rows=50, memory_limit=None, timeout=None, progress=None):
+                      top_rows=50, memory_limit=None, timeout=None, progress=None,
+                      overwrite=False):
     """Rank a Parquet or HATS catalogue on a Dask cluster; write ``out_dir/ranking.parquet``.
 
     Parameters
@@ -365,6 +366,8 @@ def rank_catalog_dask(catalog, sensitivity, out_dir, *, workers=2, scheduler=Non
         Seconds to wait for ``scheduler``.
     progress : callable, optional
         Called with a short text as each stage starts.
+    overwrite : bool
+        Replace an existing ``ranking.parquet`` (only once the new one is complete).
     columns, relations, population, metric, snr, span, on_bad, chunk_size, n_nodes, \
 cosmology, sky, sky_nside, files, inputs, top_rows
         As for :func:`~ptaconstrain.catalogue.rank_catalog` (``chunk_size``: rows
@@ -404,7 +407,7 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     plan = RankPlan(colmap, resolved, rels, sens, population, int(n_nodes), dz, metric)
     out_dir = Path(out_dir)
     final = out_dir / PARQUET_DIR
-    if final.exists():
+    if final.exists() and not overwrite:
         raise FileExistsError(f"{final} already exists: choose another --out or pass "
                               "--overwrite")
     out_dir.mkdir(parents=True, exist_ok=True)
@@ -422,6 +425,8 @@ cosmology, sky, sky_nside, files, inputs, top_rows
         say("writing the ranking")
         _write_ranked(work / "sorted", work / PARQUET_DIR, metric, sens.verb, offsets,
                       {k: v for k, v in meta.items()})
+        if final.exists():  # overwrite: the old ranking goes only now
+            os.rename(final, work / "replaced")
         os.rename(work / PARQUET_DIR, final)
     finally:
         shutil.rmtree(work, ignore_errors=True)

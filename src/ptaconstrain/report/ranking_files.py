@@ -11,6 +11,12 @@ written unless ``overwrite``:
 * ``ranking.ecsv``: the whole table as ECSV, only on request (``full_ecsv``;
   held in memory while written);
 * ``ranking_rejected.ecsv`` and the figures.
+
+With ``engine="dask"`` (a Parquet or HATS catalogue ranked on a Dask cluster,
+:func:`ptaconstrain.catalogue.dask_engine.rank_catalog_dask`) the whole table is
+``ranking.parquet/``, a directory of Parquet files in rank order, instead of
+``ranking.fits``; the figures of a ranking of more than 200,000 rows are drawn
+from a bounded sample of it.
 """
 
 import json
@@ -18,9 +24,11 @@ import warnings
 
 import numpy as np
 
+from ..catalogue.dask_engine import PARQUET_DIR
+
 __all__ = ["rank_to_files", "ranking_output_paths", "top_figure_stems", "top_figures",
            "write_fits_blocks", "fits_meta", "TABLE_FILE", "TOP_FILE", "FULL_ECSV_FILE",
-           "REJECTED_FILE"]
+           "REJECTED_FILE", "PARQUET_DIR"]
 
 TABLE_FILE = "ranking.fits"
 TOP_FILE = "ranking_top.ecsv"
@@ -29,14 +37,15 @@ REJECTED_FILE = "ranking_rejected.ecsv"
 _FITS_BLOCK = 2880
 
 
-def ranking_output_paths(out_dir, formats=("png",), full_ecsv=False):
+def ranking_output_paths(out_dir, formats=("png",), full_ecsv=False, engine="memory"):
     """The files ``rank`` always writes into ``out_dir`` (tables, rejected rows, figures)."""
     from pathlib import Path
 
     from .rankplots import FIGURE_STEMS
 
     out_dir = Path(out_dir)
-    paths = [out_dir / TABLE_FILE, out_dir / TOP_FILE, out_dir / REJECTED_FILE]
+    whole = PARQUET_DIR if engine == "dask" else TABLE_FILE
+    paths = [out_dir / whole, out_dir / TOP_FILE, out_dir / REJECTED_FILE]
     if full_ecsv:
         paths.append(out_dir / FULL_ECSV_FILE)
     paths += [out_dir / f"{stem}.{fmt}" for stem in FIGURE_STEMS for fmt in formats]
@@ -245,7 +254,8 @@ def top_figures(ranking, sensitivity, stems, formats=("png",), overwrite=False, 
 
 def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, formats=("png",),
                   top=20, exclusion_figures=0, overwrite=False, progress=None,
-                  full_ecsv=False, **kwargs):
+                  full_ecsv=False, engine="memory", workers=2, scheduler=None, stage=None,
+                  **kwargs):
     """Rank a catalogue, then write the tables, the rejected rows and the figures.
 
     Nothing is written unless every output can be (existing files are refused
@@ -270,7 +280,15 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
         Also draw the exclusion (forecast) figure of this many best targets.
     overwrite : bool
     progress : callable, optional
-        See :func:`ptaconstrain.catalogue.rank_catalog`.
+        See :func:`ptaconstrain.catalogue.rank_catalog` (memory engine).
+    engine : {"memory", "dask"}
+        "dask" ranks a Parquet or HATS catalogue on a Dask cluster and writes
+        ``ranking.parquet/`` instead of ``ranking.fits``.
+    workers, scheduler : int, str
+        The Dask cluster: a local one of ``workers`` processes, or the one at
+        ``scheduler`` (see :func:`ptaconstrain.catalogue.dask_engine.rank_catalog_dask`).
+    stage : callable, optional
+        Called with a short text as each stage of the Dask engine starts.
     **kwargs
         Passed to :func:`ptaconstrain.catalogue.rank_catalog`.
 
@@ -287,16 +305,34 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
     from ..catalogue import rank_catalog
     from .rankplots import ranking_figures
 
-    paths = ranking_output_paths(out_dir, formats, full_ecsv)
+    if engine not in ("memory", "dask"):
+        raise ValueError(f"rank_to_files: engine must be 'memory' or 'dask', not {engine!r}")
+    if engine == "dask" and full_ecsv:
+        from ..errors import InputError
+
+        raise InputError("full_ecsv: the Dask engine writes the whole ranking as "
+                         f"{PARQUET_DIR}; drop --full-ecsv")
+    paths = ranking_output_paths(out_dir, formats, full_ecsv, engine)
     check_new(paths, overwrite)
-    ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
-                           inputs=options, stream_dir=Path(out_dir),
-                           top_rows=max(int(top), int(exclusion_figures), 1), **kwargs)
+    top_rows = max(int(top), int(exclusion_figures), 1)
+    if engine == "dask":
+        from ..catalogue.dask_engine import rank_catalog_dask
+
+        source = getattr(catalog, "path", catalog)
+        ranking = rank_catalog_dask(source, sensitivity, out_dir, workers=workers,
+                                    scheduler=scheduler, files=files, inputs=options,
+                                    top_rows=top_rows, overwrite=overwrite, progress=stage,
+                                    **kwargs)
+    else:
+        ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
+                               inputs=options, stream_dir=Path(out_dir), top_rows=top_rows,
+                               **kwargs)
     try:
         stems = top_figure_stems(ranking, out_dir, exclusion_figures)
         check_new([f"{stem}.{fmt}" for _, stem in stems for fmt in formats], overwrite)
         meta = ranking.table.meta
-        write_fits_blocks(ranking.blocks(), paths[0], ranking.n_ranked, meta, overwrite)
+        if engine == "memory":
+            write_fits_blocks(ranking.blocks(), paths[0], ranking.n_ranked, meta, overwrite)
         write_table(ranking.table[: int(top)], paths[1], overwrite)
         rejected = ranking.rejections.table()
         rejected.meta.update({"catalogue": ranking.meta["catalogue"], "on_bad":
