@@ -167,7 +167,7 @@ def _mapped(path, kind, plan, chunk_size):
         cat = lsdb.open_catalog(path)
         pixels = cat.get_healpix_pixels()
         index_of = {(p.order, p.pixel): i for i, p in enumerate(pixels)}
-        meta = _rank_partition(cat._ddf._meta, plan, 0, chunk_size)
+        meta = _rank_partition(cat.meta, plan, 0, chunk_size)
         mapped = cat.map_partitions(_hats_kernel, plan, index_of, chunk_size,
                                     include_pixel=True, meta=meta)
         return mapped.to_dask_dataframe(divisions=False)
