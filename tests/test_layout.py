@@ -117,7 +117,7 @@ def test_every_module_imports_alone_in_a_fresh_interpreter():
 
 #: the optional scale extra (Parquet, HATS, Dask): loaded only by the code paths that use it
 _SCALE = ("lsdb", "hats", "nested_pandas", "dask", "distributed", "pyarrow", "pandas")
-_SCALE_PROBE = """
+_SCALE_PROBE = f"""
 import json, sys
 from click.testing import CliRunner
 import ptaconstrain
@@ -126,8 +126,8 @@ for args in (["--help"], ["rank", "--help"]):
     assert CliRunner().invoke(main, args).exit_code == 0
 import ptaconstrain.catalogue, ptaconstrain.report.ranking_files
 import ptaconstrain.catalogue.dask_engine, ptaconstrain.catalogue.cluster
-print(json.dumps(sorted({m.split(".")[0] for m in sys.modules} & set(%r))))
-""" % (_SCALE,)
+print(json.dumps(sorted({{m.split(".")[0] for m in sys.modules}} & set({_SCALE!r}))))
+"""
 
 
 def test_base_import_and_help_load_no_scale_library():
