@@ -304,7 +304,7 @@ class ParquetRanking:
         skip = {"rank", "catalogue_row", "mass", "cumulative_expected_number"}
         names = None if columns is None else list(dict.fromkeys(
             ["catalogue_row" if c == "row" else c for c in columns]))
-        for batch in self._dataset.to_batches(columns=names, batch_size=int(size)):
+        for batch in self._batches(int(size), names):
             out = {}
             for name, col in zip(batch.schema.names, batch.columns, strict=True):
                 v = col.to_numpy(zero_copy_only=False)
@@ -319,6 +319,22 @@ class ParquetRanking:
                 out[name] = v * u.Unit(unit) if unit and name in _UNITS else v
             if out:
                 yield out
+
+    def _batches(self, size, names):
+        """Record batches of exactly ``size`` rows (the last one shorter), across files."""
+        import pyarrow as pa
+
+        held, n_held = [], 0
+        for batch in self._dataset.to_batches(columns=names, batch_size=size):
+            held.append(batch)
+            n_held += batch.num_rows
+            while n_held >= size:
+                table = pa.Table.from_batches(held)
+                yield table.slice(0, size).combine_chunks().to_batches()[0]
+                rest = table.slice(size)
+                held, n_held = rest.to_batches(), rest.num_rows
+        if n_held:
+            yield pa.Table.from_batches(held).combine_chunks().to_batches()[0]
 
     def column(self, key):
         """One column of every row, in rank order."""
@@ -483,6 +499,7 @@ def _run(path, kind, plan, chunk_size, on_bad, work, say):
     if not n_ranked:
         raise no_rows_error(path.name, rejections)
     say("sorting")
-    ranked.sort_values(["_key", "_tie"], sort_function=_sort_frame).to_parquet(
+    ranked.sort_values(["_key", "_tie"], npartitions="auto",
+                       sort_function=_sort_frame).to_parquet(
         str(work / "sorted"), write_index=False, name_function=_part_name)
     return rejections, offsets, n_read, sources, n_ranked
