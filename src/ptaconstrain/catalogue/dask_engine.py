@@ -71,6 +71,8 @@ __all__ = ["rank_catalog_dask", "ParquetRanking", "PARQUET_DIR", "DUPLICATE_REAS
 
 #: the ranking written by the Dask engine (a directory of Parquet files, in rank order)
 PARQUET_DIR = "ranking.parquet"
+#: rows per partition of the sorted ranking (about 100 MB in memory)
+SORTED_ROWS = 500_000
 DUPLICATE_REASON = "duplicate name (the first occurrence is kept)"
 _RANKED, _REJECTED, _NOTE, _READ = 0, 1, 2, 3
 _UNITS = {"f_best": "Hz", "isco_frequency": "Hz"}
@@ -362,7 +364,7 @@ def rank_catalog_dask(catalog, sensitivity, out_dir, *, workers=2, scheduler=Non
                       snr=5.0, span=None, on_bad="error", chunk_size=100_000, n_nodes=16,
                       cosmology=None, sky="auto", sky_nside=None, files=None, inputs=None,
                       top_rows=50, memory_limit=None, timeout=None, progress=None,
-                      overwrite=False):
+                      overwrite=False, parquet_path=None, work_dir=None):
     """Rank a Parquet or HATS catalogue on a Dask cluster; write ``out_dir/ranking.parquet``.
 
     Parameters
@@ -384,6 +386,12 @@ def rank_catalog_dask(catalog, sensitivity, out_dir, *, workers=2, scheduler=Non
         Called with a short text as each stage starts.
     overwrite : bool
         Replace an existing ``ranking.parquet`` (only once the new one is complete).
+    parquet_path : path-like, optional
+        Where the Parquet ranking goes instead of ``out_dir/ranking.parquet``
+        (e.g. a staged path of an output set); must not exist.
+    work_dir : path-like, optional
+        Where the private work directory is made (default ``out_dir``); on a
+        real cluster it must be a file system every worker sees.
     columns, relations, population, metric, snr, span, on_bad, chunk_size, n_nodes, \
 cosmology, sky, sky_nside, files, inputs, top_rows
         As for :func:`~ptaconstrain.catalogue.rank_catalog` (``chunk_size``: rows
@@ -422,12 +430,13 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     dz = DistanceRedshift(cosmology)
     plan = RankPlan(colmap, resolved, rels, sens, population, int(n_nodes), dz, metric)
     out_dir = Path(out_dir)
-    final = out_dir / PARQUET_DIR
+    final = Path(parquet_path) if parquet_path is not None else out_dir / PARQUET_DIR
     if final.exists() and not overwrite:
         raise FileExistsError(f"{final} already exists: choose another --out or pass "
                               "--overwrite")
-    out_dir.mkdir(parents=True, exist_ok=True)
-    work = Path(tempfile.mkdtemp(prefix=".ranking-dask-", dir=out_dir))
+    work_dir = Path(work_dir) if work_dir is not None else out_dir
+    work_dir.mkdir(parents=True, exist_ok=True)
+    work = Path(tempfile.mkdtemp(prefix=".ranking-dask-", dir=work_dir))
     say = progress or (lambda text: None)
     try:
         with dask_client(workers, scheduler, memory_limit or DEFAULT_MEMORY_LIMIT,
@@ -499,7 +508,7 @@ def _run(path, kind, plan, chunk_size, on_bad, work, say):
     if not n_ranked:
         raise no_rows_error(path.name, rejections)
     say("sorting")
-    ranked.sort_values(["_key", "_tie"], npartitions="auto",
+    ranked.sort_values(["_key", "_tie"], npartitions=-(-n_ranked // SORTED_ROWS),
                        sort_function=_sort_frame).to_parquet(
         str(work / "sorted"), write_index=False, name_function=_part_name)
     return rejections, offsets, n_read, sources, n_ranked

@@ -296,14 +296,7 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
     -------
     (Ranking, list of pathlib.Path)
     """
-    from pathlib import Path
-
-    import numpy as np
-    from astropy.table import vstack
-
-    from .._files import check_new, write_table
-    from ..catalogue import rank_catalog
-    from .rankplots import ranking_figures
+    from .._files import check_new, output_set
 
     if engine not in ("memory", "dask"):
         raise ValueError(f"rank_to_files: engine must be 'memory' or 'dask', not {engine!r}")
@@ -314,42 +307,64 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
                          f"{PARQUET_DIR}; drop --full-ecsv")
     paths = ranking_output_paths(out_dir, formats, full_ecsv, engine)
     check_new(paths, overwrite)
-    top_rows = max(int(top), int(exclusion_figures), 1)
-    if engine == "dask":
-        from ..catalogue.dask_engine import rank_catalog_dask
+    how = {"engine": engine, "workers": workers, "scheduler": scheduler, "stage": stage}
+    # every file is staged and published with the rest, or none is (see output_set)
+    # (a record lists them when the per-galaxy figures make the names vary)
+    with output_set(out_dir, "ranking", overwrite, record=exclusion_figures > 0) as oset:
+        return _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files,
+                               options, formats, top, exclusion_figures, overwrite, progress,
+                               full_ecsv, how, kwargs)
 
-        source = getattr(catalog, "path", catalog)
-        ranking = rank_catalog_dask(source, sensitivity, out_dir, workers=workers,
-                                    scheduler=scheduler, files=files, inputs=options,
-                                    top_rows=top_rows, overwrite=overwrite, progress=stage,
-                                    **kwargs)
-    else:
-        ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
-                               inputs=options, stream_dir=Path(out_dir), top_rows=top_rows,
-                               **kwargs)
-    try:
-        stems = top_figure_stems(ranking, out_dir, exclusion_figures)
-        check_new([f"{stem}.{fmt}" for _, stem in stems for fmt in formats], overwrite)
-        meta = ranking.table.meta
-        if engine == "memory":
-            write_fits_blocks(ranking.blocks(), paths[0], ranking.n_ranked, meta, overwrite)
-        write_table(ranking.table[: int(top)], paths[1], overwrite)
-        rejected = ranking.rejections.table()
-        rejected.meta.update({"catalogue": ranking.meta["catalogue"], "on_bad":
-                              ranking.meta["on_bad"], "provenance": meta["provenance"]})
-        write_table(rejected, paths[2], overwrite)
-        written = paths[:3]
-        if full_ecsv:
-            full = vstack(list(ranking.blocks()), metadata_conflicts="silent")
-            for key in ("name", "mass_source"):
-                full[key] = np.char.decode(np.asarray(full[key]), "utf-8")
-            full.meta.clear()
-            full.meta.update(meta)
-            write_table(full, paths[3], overwrite)
-            written.append(paths[3])
-        written += ranking_figures(ranking, out_dir, formats, top, overwrite)
-        written += top_figures(ranking, sensitivity, stems, formats, overwrite,
-                               snr=kwargs.get("snr", 5.0), span=kwargs.get("span"))
-    finally:
-        ranking.close()
+
+def _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files, options, formats,
+                    top, exclusion_figures, overwrite, progress, full_ecsv, engine, kwargs):
+    import contextlib
+
+    import numpy as np
+    from astropy.table import vstack
+
+    from .._files import check_new, write_table
+    from ..catalogue import rank_catalog
+    from .rankplots import ranking_figures
+
+    top_rows = max(int(top), int(exclusion_figures), 1)
+    with contextlib.ExitStack() as stack:
+        if engine["engine"] == "dask":  # the Parquet directory is staged with the set
+            from ..catalogue.dask_engine import rank_catalog_dask
+
+            staged = stack.enter_context(oset.stage_directory(paths[0]))
+            ranking = rank_catalog_dask(
+                getattr(catalog, "path", catalog), sensitivity, out_dir, files=files,
+                inputs=options, top_rows=top_rows, workers=engine["workers"],
+                scheduler=engine["scheduler"], progress=engine["stage"], parquet_path=staged,
+                work_dir=oset.scratch, **kwargs)
+        else:
+            ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
+                                   inputs=options, stream_dir=oset.scratch, top_rows=top_rows,
+                                   **kwargs)
+        try:
+            stems = top_figure_stems(ranking, out_dir, exclusion_figures)
+            check_new([f"{stem}.{fmt}" for _, stem in stems for fmt in formats], overwrite)
+            meta = ranking.table.meta
+            if engine["engine"] == "memory":
+                write_fits_blocks(ranking.blocks(), paths[0], ranking.n_ranked, meta, overwrite)
+            write_table(ranking.table[: int(top)], paths[1], overwrite)
+            rejected = ranking.rejections.table()
+            rejected.meta.update({"catalogue": ranking.meta["catalogue"], "on_bad":
+                                  ranking.meta["on_bad"], "provenance": meta["provenance"]})
+            write_table(rejected, paths[2], overwrite)
+            written = paths[:3]
+            if full_ecsv:
+                full = vstack(list(ranking.blocks()), metadata_conflicts="silent")
+                for key in ("name", "mass_source"):
+                    full[key] = np.char.decode(np.asarray(full[key]), "utf-8")
+                full.meta.clear()
+                full.meta.update(meta)
+                write_table(full, paths[3], overwrite)
+                written.append(paths[3])
+            written += ranking_figures(ranking, out_dir, formats, top, overwrite)
+            written += top_figures(ranking, sensitivity, stems, formats, overwrite,
+                                   snr=kwargs.get("snr", 5.0), span=kwargs.get("span"))
+        finally:
+            ranking.close()
     return ranking, written
