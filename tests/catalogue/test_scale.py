@@ -30,7 +30,7 @@ CURVE = str(data_path("synthetic_h0_limit.ecsv"))  # the shipped invented limit
 
 
 def _invented_catalogue(n, seed=11):
-    """Invented galaxies: measured masses, sigma-predicted masses, redshifts, bad rows, repeats."""
+    """Invented galaxies: measured and sigma-predicted masses, redshifts, bad rows, repeats."""
     rng = np.random.default_rng(seed)
     df = pd.DataFrame({
         "name": [f"INV-{i:06d}" for i in range(n)],
@@ -49,7 +49,7 @@ def _invented_catalogue(n, seed=11):
     df.loc[zrows, "distance"] = np.nan
     df.loc[5, "mass"] = 3.0  # implausible mass
     df.loc[17, "distance"] = -4.0  # impossible distance
-    df.loc[23, "dec"] = np.nan  # missing position
+    df.loc[23, "ra"] = 365.0  # position out of range (HATS holds no blank positions)
     copies = df.iloc[[40, 41, 42]].copy()  # exact repeats: the kept copy is the same row
     return pd.concat([df, copies], ignore_index=True)
 

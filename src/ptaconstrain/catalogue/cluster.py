@@ -15,7 +15,7 @@ __all__ = ["ClusterError", "dask_client", "DEFAULT_MEMORY_LIMIT", "CONNECT_TIMEO
 #: memory limit of each local worker (Dask spills to disk well before it)
 DEFAULT_MEMORY_LIMIT = "2GB"
 #: seconds to wait for a scheduler given by address
-CONNECT_TIMEOUT = 10.0
+CONNECT_TIMEOUT = 5.0
 
 
 class ClusterError(InputError):
