@@ -61,8 +61,8 @@ def catalogue(tmp_path_factory):
     base = tmp_path_factory.mktemp("scale")
     df = _invented_catalogue(N_ROWS)
     df.to_parquet(base / "galaxies.parquet", row_group_size=20_000, index=False)
-    lsdb.from_dataframe(df, lowest_order=1, highest_order=4,
-                        partition_rows=20_000).write_catalog(base / "galaxies_hats")
+    lsdb.from_dataframe(df, lowest_order=0, highest_order=3,
+                        partition_rows=40_000).write_catalog(base / "galaxies_hats")
     return base, df
 
 
@@ -145,7 +145,7 @@ def _small_ecsv(base, tmp_path):
 
 
 def test_wrong_type_in_parquet_is_the_same_one_line_error(tmp_path):
-    df = _invented_catalogue(30)
+    df = _invented_catalogue(60)
     df["mass"] = ["heavy"] * len(df)
     df.to_parquet(tmp_path / "bad.parquet", index=False)
     Table.from_pandas(df).write(tmp_path / "bad.ecsv")
