@@ -81,7 +81,7 @@ def test_full_ecsv_on_request_equals_the_fits_table(tmp_path, curve_file):
 def test_help_shows_an_example():
     res = _run("rank", "--help")
     assert res.exit_code == 0
-    assert "ptaconstrain rank src/ptaconstrain/data/demo_catalogue.ecsv" in res.output
+    assert "ptaconstrain rank demo_catalogue --curve synthetic_h0_limit" in res.output
 
 
 def _bad_catalogue(tmp_path, **change):
@@ -136,7 +136,7 @@ def test_refuses_to_overwrite(tmp_path, curve_file):
 
 
 @pytest.mark.parametrize("extra, words", [
-    (("--array", "x.ecsv"), "exactly one of"),
+    (("--array", "demo_array"), "exactly one of"),
     (("--column", "distance"), "FIELD=COLUMN"),
     (("--relation", "no_such"), "unknown"),
     (("--rate", "1 km"), "--rate"),

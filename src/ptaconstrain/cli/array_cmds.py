@@ -3,7 +3,7 @@
 import click
 
 from . import main
-from .params import FREQUENCY, POSITIVE
+from .params import ARRAY_FILE, FREQUENCY, POSITIVE
 
 __all__ = ["curve", "threshold_map"]
 
@@ -28,8 +28,9 @@ def _progress(length, label):
 
 # options shared by the commands of this module
 _array_option = click.option(
-    "--array", "array_file", type=click.Path(dir_okay=False), required=True,
-    help="Pulsar list (ECSV; columns in the README).")
+    "--array", "array_file", type=ARRAY_FILE, required=True,
+    help="Pulsar list: an ECSV file, or a shipped name such as demo_array "
+    "('ptaconstrain data' lists them).")
 _pulsar_term_option = click.option(
     "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2).")
 
@@ -50,8 +51,7 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
 
     \b
     Example:
-      ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --ra 284.1 --dec -37.2 \\
-          --out curve.ecsv
+      ptaconstrain curve --array demo_array --ra 284.1 --dec -37.2 --out curve.ecsv
     """
     import numpy as np
 
@@ -95,8 +95,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
 
     \b
     Example:
-      ptaconstrain threshold-map --array src/ptaconstrain/data/demo_array.ecsv \\
-          --frequency "8 nHz" \\
+      ptaconstrain threshold-map --array demo_array --frequency "8 nHz" \\
           --frequency "20 nHz" --nside 32 --out maps
     """
     from pathlib import Path
