@@ -57,6 +57,7 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
 
     from .._files import check_new
     from .._inputs import coord_from
+    from ..report.provenance import provenance
     from ..report.skyplot import nhz_text
     from ..sensitivity.curve import save_curve
     from ..sensitivity.pulsar_list import load_array
@@ -68,6 +69,9 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
     with _progress(len(arr), "timing-model fits") as bar:
         arr.weights(freq, callback=bar.update)
     result = arr.curve_at(coord, snr=snr, frequency=freq)
+    result.meta["provenance"] = provenance(
+        {"ra": str(ra), "dec": str(dec), "snr": f"{snr:g}", "pulsar_term": str(pulsar_term)},
+        files={"array": array_file})
     save_curve(result, out, overwrite=overwrite)
     h0 = result.h0_threshold(result.frequency, snr=snr)
     i = int(np.argmin(h0))
@@ -105,6 +109,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
 
     from .._files import check_new
     from ..report.figures import save_figure
+    from ..report.provenance import fits_cards, provenance
     from ..report.skyplot import nhz_text, sky_map_figure, threshold_label
     from ..sensitivity.limit_map import write_threshold_maps
     from ..sensitivity.pulsar_list import load_array
@@ -128,7 +133,8 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
                 bar.update(pix.stop - pix.start)
 
         write_threshold_maps(fits_path, rows(), freq, snr, arr.span,
-                             f"pulsar list {arr.name}", overwrite=overwrite, nside=nside)
+                             f"pulsar list {arr.name}", overwrite=overwrite, nside=nside,
+                             extra=fits_cards(provenance()))
     lines = [f"wrote {fits_path} (HEALPix nside {nside}, RING, equatorial; "
              f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"]
     with _progress(freq.size, "figures") as bar:

@@ -12,7 +12,7 @@ import platform
 import subprocess
 from pathlib import Path
 
-__all__ = ["provenance", "safe_name", "source_revision"]
+__all__ = ["provenance", "fits_cards", "safe_name", "source_revision"]
 
 #: seconds allowed for each git call; provenance must never hang a run
 GIT_TIMEOUT = 3.0
@@ -57,6 +57,29 @@ def provenance(inputs=None, files=None):
                 entry["shipped"] = name
             out["files"][role] = entry
     return out
+
+
+def fits_cards(meta):
+    """The version part of a provenance record as FITS header keywords.
+
+    FITS string values hold at most 68 characters, so the source revision is given as
+    ``git describe`` text (abbreviated commit, ``+dirty``) rather than the full hash.
+
+    Parameters
+    ----------
+    meta : dict
+        A record from :func:`provenance`.
+
+    Returns
+    -------
+    dict
+        ``SOFTWARE``, ``CREATED`` and, from a checkout, ``SRCREV``.
+    """
+    cards = {"SOFTWARE": meta["software"][:68], "CREATED": meta["created"]}
+    if "source" in meta:
+        describe = meta["source"].split(" (commit ")[0]
+        cards["SRCREV"] = (describe + ("+dirty" if "+dirty" in meta["source"] else ""))[:68]
+    return cards
 
 
 @functools.cache
