@@ -88,3 +88,15 @@ def test_git_that_cannot_answer_is_recorded_not_raised(checkout, monkeypatch):
 
     monkeypatch.setattr(prov.subprocess, "run", hang)
     assert _revision(pkg).startswith("unknown (git failed")
+
+
+def test_fits_cards_fit_in_fits_strings_and_keep_the_dirty_mark():
+    meta = {"software": "ptaconstrain 1.2.3", "created": "2026-01-01T00:00:00Z",
+            "source_revision": "v1.2.3-4-gabcdef0 (commit " + "a" * 40 + ", +dirty)"}
+    cards = prov.fits_cards(meta)
+    assert cards["SRCREV"] == "v1.2.3-4-gabcdef0+dirty"
+    # astropy.io.fits is the reference: each card must fit one 80-character header line
+    from astropy.io import fits
+
+    for key, value in cards.items():
+        assert len(fits.Card(key, value).image) == 80

@@ -33,7 +33,8 @@ def provenance(inputs=None, files=None):
     -------
     dict
         JSON/YAML-serialisable, for astropy table meta: ``software`` (name and
-        version), ``source`` (the git revision, only when running from a checkout),
+        version), ``source_revision`` (the git revision, only when running from a
+        checkout),
         ``created`` (UTC), ``python``, and ``inputs`` and ``files`` when given.
     """
     from .._files import sha256
@@ -43,7 +44,7 @@ def provenance(inputs=None, files=None):
     out = {"software": f"ptaconstrain {__version__}"}
     revision = source_revision()
     if revision is not None:
-        out["source"] = revision
+        out["source_revision"] = revision
     out["created"] = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
     out["python"] = platform.python_version()
     if inputs:
@@ -76,9 +77,10 @@ def fits_cards(meta):
         ``SOFTWARE``, ``CREATED`` and, from a checkout, ``SRCREV``.
     """
     cards = {"SOFTWARE": meta["software"][:68], "CREATED": meta["created"]}
-    if "source" in meta:
-        describe = meta["source"].split(" (commit ")[0]
-        cards["SRCREV"] = (describe + ("+dirty" if "+dirty" in meta["source"] else ""))[:68]
+    revision = meta.get("source_revision")
+    if revision is not None:
+        describe = revision.split(" (commit ")[0]
+        cards["SRCREV"] = (describe + ("+dirty" if "+dirty" in revision else ""))[:68]
     return cards
 
 
