@@ -256,7 +256,7 @@ def _array_exclusions(out, hosts, overwrite, figures):
         stem = out / f"{safe_name(host.name)}_array_forecast"
         meta = provenance(host.describe())
         meta["demo"] = "INVENTED data: fictional host and pulsar array"
-        meta["array"] = "src/ptaconstrain/data/demo_array.ecsv (INVENTED)"
+        meta["array"] = "demo_array (shipped with ptaconstrain, INVENTED)"
         write_table(exclusion_table(here, meta), f"{stem}.ecsv", overwrite)
         if host.coord is not None and not any(h.coord is not None for h in hosts[:len(at_host)]):
             check_new([f"{stem}.png"], overwrite)
@@ -358,7 +358,7 @@ def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
 
     arr.weights(freq, callback=step)
     sky = arr.sky_averaged_curve(snr=snr, frequency=freq)
-    sky.meta["demo"] = "INVENTED pulsar array (src/ptaconstrain/data/demo_array.ecsv)"
+    sky.meta["demo"] = "INVENTED pulsar array (shipped demo_array)"
     h_sky = sky.h0_threshold(freq, snr=snr)
     # the frequency where a given binary (h0 ~ f^(2/3)) is easiest to detect
     i = int(np.argmin(h_sky / freq.to_value("Hz") ** (2 / 3)))
