@@ -125,7 +125,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     import numpy as np
     from astropy import units as u
 
-    from .._files import check_new, write_table
+    from .._files import check_new, output_set, write_table
     from ..analysis.exclusion import band_periods, exclusion_map
     from ..binary.host import Host
     from ..binary.waveform import orbital_period
@@ -191,8 +191,12 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
     table = exclusion_table(result, meta, prob_map=prob)
     fig = exclusion_figure(result, prob_map=prob)
-    write_table(table, targets[0], overwrite)
-    written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
+    # the table and figures are published together or not at all; with --overwrite
+    # every file of the host's earlier set goes (e.g. a PDF this run does not make)
+    every_format = [f"{stem.name}.{ext}" for ext in ("ecsv", *FormatList().choices)]
+    with output_set(out, stem.name, overwrite, earlier=every_format):
+        write_table(table, targets[0], overwrite)
+        written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
     lines = summary_lines(result)
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")
