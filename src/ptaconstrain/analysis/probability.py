@@ -39,6 +39,7 @@ from functools import cached_property
 import numpy as np
 from astropy import units as u
 
+from ..binary import eccentric as ecc
 from ..binary import waveform as wf
 from ..errors import InputError, PtaconstrainWarning
 from ..sensitivity.curve import FromCurve
@@ -285,6 +286,7 @@ def exclusion_probability(
     span=None,
     *,
     orientation=None,
+    eccentricity=0.0,
 ):
     """Probability that each companion (q, P) of ``host`` is excluded (or detectable).
 
@@ -316,6 +318,10 @@ def exclusion_probability(
     orientation : bool, optional
         Sample the inclination; default True for noise budgets and False for
         upper limits (an h0 limit already bounds h0 itself).
+    eccentricity : float in [0, 0.95]
+        Orbital eccentricity, as in :func:`~ptaconstrain.analysis.exclusion.exclusion_map`;
+        each sample's ISCO test uses its pericentre (f_ISCO (1 - e)^(3/2)), and the
+        orientation factor of the circular quadrupole stands in for every harmonic.
 
     Returns
     -------
@@ -323,7 +329,8 @@ def exclusion_probability(
     """
     levels = _check_credibility(credibility)
     curve = sensitivity_for(host, curve)
-    det = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span, warn=False)
+    det = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span,
+                        eccentricity=eccentricity, warn=False)
     if orientation is None:
         orientation = not det.is_limit
     elif not orientation and not det.is_limit:
@@ -345,7 +352,9 @@ def exclusion_probability(
     n = draws.n
 
     f = det.frequency.to_value(u.Hz)
-    isco = IscoCounts(f, draws.isco_frequency.to_value(u.Hz), order)
+    # no binary whose pericentre lies inside the ISCO; a factor 1 at e = 0
+    f_isco = draws.isco_frequency.to_value(u.Hz) * ecc.pericentre_isco_factor(det.eccentricity)
+    isco = IscoCounts(f, f_isco, order)
     log_eta = np.log(wf.symmetric_mass_ratio(det.mass_ratio))
     with np.errstate(invalid="ignore"):
         log_eta_min = np.log(det.eta_min)

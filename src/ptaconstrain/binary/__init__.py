@@ -4,6 +4,17 @@ Imports nothing from :mod:`ptaconstrain.sensitivity`; :mod:`ptaconstrain.analysi
 combines the two.
 """
 
+from .eccentric import (
+    decay_rates,
+    enhancement_factor,
+    harmonic_amplitude_ratio,
+    harmonic_numbers,
+    harmonic_power,
+    merger_time,
+    merger_time_factor,
+    pericentre_isco_factor,
+    pericentre_isco_frequency,
+)
 from .host import Host, hosts_from_table
 from .waveform import (
     chirp_mass,
@@ -41,4 +52,13 @@ __all__ = [
     "hardening_radius",
     "period_at_separation",
     "gravitational_radius",
+    "harmonic_power",
+    "enhancement_factor",
+    "harmonic_amplitude_ratio",
+    "harmonic_numbers",
+    "decay_rates",
+    "merger_time",
+    "merger_time_factor",
+    "pericentre_isco_frequency",
+    "pericentre_isco_factor",
 ]

@@ -72,6 +72,9 @@ def _grid(text):
               show_default=True, help="S/N threshold for noise-budget curves.")
 @click.option("--span", type=TIME, default=None,
               help="Observing span (default: the curve's; bare numbers are yr).")
+@click.option("--eccentricity", default="0", show_default=True,
+              help="Orbital eccentricity e in [0, 0.95] of every companion orbit; e > 0 "
+              "sums the Peters & Mathews harmonics.")
 @click.option("--mass-ratio-range", type=RangeType(upper=1.0), default="1e-4,1",
               show_default=True, help="Mass-ratio range LOW,HIGH within (0, 1].")
 @click.option("--period-range", type=RangeType("yr"), default=None,
@@ -102,6 +105,8 @@ def exclude(**opts):
       ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
           --distance-err 10% --mass-distance 100 --seed 1 \\
           --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+      ptaconstrain exclude --mass 2e10 --distance 100 --eccentricity 0.5 \\
+          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
     """
     for line in run_exclusion(**opts):
         click.echo(line)
@@ -110,7 +115,7 @@ def exclude(**opts):
 def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, velocity_dispersion,
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
-                  period_range, grid, formats, out, overwrite):
+                  period_range, grid, formats, out, overwrite, eccentricity="0"):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -118,6 +123,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from astropy import units as u
 
     from .._files import check_new, write_table
+    from .._inputs import check_eccentricity
     from ..analysis.exclusion import band_periods, exclusion_map
     from ..binary.host import Host
     from ..binary.waveform import orbital_period
@@ -127,6 +133,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from ..sensitivity.curve import load_curve
 
     nq, n_p = _grid(grid)
+    ecc = check_eccentricity(eccentricity, "--eccentricity")
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
                 ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
                 velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))
@@ -163,10 +170,12 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         from ..analysis.probability import exclusion_probability
 
         prob = exclusion_probability(host, curve, q, period, samples=samples, seed=seed,
-                                     credibility=credibility, snr=snr, span=span)
+                                     credibility=credibility, snr=snr, span=span,
+                                     eccentricity=ecc)
         result = prob.deterministic
     else:
-        result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
+        result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span,
+                               eccentricity=ecc)
 
     if not np.isfinite(result.max_mass_ratio).any():
         band = band_periods(curve).value
@@ -179,6 +188,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
             "change --period-range")
     inputs = host.describe()
     inputs.update(snr=f"{snr:g}", span=str(result.span), grid=f"{nq}x{n_p}",
+                  eccentricity=f"{ecc:g}",
                   mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
                   period_range=f"{period[0]:.4g},{period[-1]:.4g}")
     inputs["sensitivity_sky"] = sky_note
