@@ -3,7 +3,7 @@
 import click
 
 from . import main
-from .params import FREQUENCY, POSITIVE
+from .params import BACKGROUND_HELP, FREQUENCY, POSITIVE, BackgroundType
 
 __all__ = ["curve", "threshold_map"]
 
@@ -32,6 +32,8 @@ _array_option = click.option(
     help="Pulsar list (ECSV; columns in the README).")
 _pulsar_term_option = click.option(
     "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2).")
+_background_option = click.option(
+    "--background", type=BackgroundType(), default=None, help=BACKGROUND_HELP)
 
 
 @main.command()
@@ -44,14 +46,17 @@ _pulsar_term_option = click.option(
 @click.option("--snr", type=POSITIVE, default=5.0, show_default=True,
               help="S/N threshold quoted in the summary (stored in the curve's meta).")
 @_pulsar_term_option
+@_background_option
 @click.option("--overwrite", is_flag=True, help="Replace an existing --out file.")
-def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
+def curve(array_file, out, ra, dec, snr, pulsar_term, background, overwrite):
     """Noise-budget curve (strain PSD) of a pulsar array, at a position or sky-averaged.
 
     \b
     Example:
       ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --ra 284.1 --dec -37.2 \\
           --out curve.ecsv
+      ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --background 2.4e-15 \\
+          --out curve_background.ecsv
     """
     import numpy as np
 
@@ -63,7 +68,7 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
 
     check_new([out], overwrite)
     coord = coord_from(ra=ra, dec=dec)
-    arr = load_array(array_file, pulsar_term=pulsar_term)
+    arr = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
     freq = arr.default_frequencies()
     with _progress(len(arr), "timing-model fits") as bar:
         arr.weights(freq, callback=bar.update)
@@ -75,7 +80,8 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
         f"wrote {out}: strain-noise PSD [1/Hz] of {len(arr)} pulsars ({arr.name}), sky "
         f"{result.sky}, {nhz_text(result.frequency[0])} - {nhz_text(result.frequency[-1])}; "
         f"most sensitive at {nhz_text(result.frequency[i])}: detectable (forecast) for h0 >= "
-        f"{h0[i]:.3g} (dimensionless strain) at S/N >= {snr:g}, orientation-averaged")
+        f"{h0[i]:.3g} (dimensionless strain) at S/N >= {snr:g}, orientation-averaged; "
+        f"background: {result.meta['background']}")
 
 
 @main.command()
@@ -89,8 +95,9 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (FITS map + PNG figure per frequency).")
 @_pulsar_term_option
+@_background_option
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
-def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwrite):
+def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, background, overwrite):
     """HEALPix map of the h0 a binary needs for S/N >= --snr (a forecast).
 
     \b
@@ -115,7 +122,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
     fits_path = out / f"{MAP_STEM}.fits"
     stems = [out / f"{MAP_STEM}_{f.to_value(u.nHz):.4g}nHz" for f in freq]
     check_new([fits_path] + [f"{s}.png" for s in stems], overwrite)
-    arr = load_array(array_file, pulsar_term=pulsar_term)
+    arr = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
     arr.check_band(freq)  # before the progress bar starts
     with _progress(len(arr), "timing-model fits") as bar:
         arr.weights(freq, callback=bar.update)
@@ -128,8 +135,11 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
                 yield block
                 bar.update(pix.stop - pix.start)
 
+        bg = ({} if background is None else
+              {"BGAMP": background.amplitude, "BGGAMMA": background.gamma})
         write_threshold_maps(fits_path, rows(), freq, snr, arr.span,
-                             f"pulsar list {arr.name}", overwrite=overwrite, nside=nside)
+                             f"pulsar list {arr.name}", overwrite=overwrite, nside=nside,
+                             extra=bg)
     lines = [f"wrote {fits_path} (HEALPix nside {nside}, RING, equatorial; "
              f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"]
     with _progress(freq.size, "figures") as bar:
@@ -138,7 +148,8 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
                 fig = sky_map_figure(
                     m, pulsars=arr.sky_markers(),
                     title=f"{arr.name}: h0 detectable at S/N >= {snr:g} (forecast), "
-                          f"f = {nhz_text(f)}",
+                          f"f = {nhz_text(f)}" + ("" if background is None else
+                                                  f", background A = {background.amplitude:.3g}"),
                     label=threshold_label(snr))
                 save_figure(fig, stem, ("png",), overwrite)
                 lines.append(_map_summary(f, m, snr, nside) + f"; figure {stem}.png")

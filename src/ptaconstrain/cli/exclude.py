@@ -4,10 +4,12 @@ import click
 
 from . import main
 from .params import (
+    BACKGROUND_HELP,
     DISTANCE,
     MASS,
     SPEED,
     TIME,
+    BackgroundType,
     DistanceError,
     FormatList,
     LevelList,
@@ -63,6 +65,8 @@ def _grid(text):
               help="Sensitivity curve: ECSV, or two-column text with --kind.")
 @click.option("--array", "array_path", type=click.Path(dir_okay=False), default=None,
               help="Pulsar list (ECSV) instead of --curve: a forecast at the host's position.")
+@click.option("--background", type=BackgroundType(), default=None,
+              help=BACKGROUND_HELP + " With --array only.")
 @click.option("--limit-map", "limit_map_path", type=click.Path(dir_okay=False), default=None,
               help="HEALPix FITS map of h0 upper limits instead of --curve: the limit at "
               "the host's pixel.")
@@ -115,7 +119,8 @@ def exclude(**opts):
 def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, velocity_dispersion,
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
-                  period_range, grid, formats, out, overwrite, eccentricity="0"):
+                  period_range, grid, formats, out, overwrite, eccentricity="0",
+                  background=None):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -145,6 +150,9 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     source_path = sources[given[0]]
     if not Path(source_path).is_file():
         raise click.UsageError(f"{given[0]} {source_path}: file not found; check the path")
+    if background is not None and array_path is None:
+        raise click.UsageError("--background: the background enters a forecast from a pulsar "
+                               "list; give --array (or drop --background)")
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")
@@ -156,7 +164,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     check_new(targets, overwrite)  # before the slow part, so a refusal costs nothing
     sky_note = ""
     if curve is None:
-        curve, sky_note = _sensitivity_at(host, array_path, limit_map_path, snr)
+        curve, sky_note = _sensitivity_at(host, array_path, limit_map_path, snr, background)
     q = np.logspace(np.log10(mass_ratio_range[0]), np.log10(mass_ratio_range[1]), nq)
     if period_range is None:
         from ..analysis.exclusion import default_periods
@@ -192,6 +200,8 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
                   period_range=f"{period[0]:.4g},{period[-1]:.4g}")
     inputs["sensitivity_sky"] = sky_note
+    if array_path is not None:
+        inputs["background"] = curve.meta["background"]
     meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
     table = exclusion_table(result, meta, prob_map=prob)
     fig = exclusion_figure(result, prob_map=prob)
@@ -206,13 +216,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     return lines
 
 
-def _sensitivity_at(host, array_path, limit_map_path, snr):
+def _sensitivity_at(host, array_path, limit_map_path, snr, background=None):
     """The curve at ``host`` from a pulsar list or a limit map, and a note on its sky."""
     if array_path is not None:
         from ..sensitivity.pulsar_list import load_array
         from .progress import progress_bar
 
-        sens = load_array(array_path)
+        sens = load_array(array_path).with_background(background)
         with progress_bar(len(sens), "timing-model fits per pulsar") as bar:
             sens.weights(sens.default_frequencies(), callback=bar.update)  # cached
     else:

@@ -6,7 +6,8 @@ astropy is imported only when a value is converted, never at start-up.
 import click
 
 __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
-           "LevelList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
+           "LevelList", "BackgroundType", "BACKGROUND_HELP", "MASS", "DISTANCE", "TIME",
+           "FREQUENCY", "SPEED", "POSITIVE"]
 
 
 class QuantityType(click.ParamType):
@@ -159,6 +160,27 @@ class LevelList(click.ParamType):
                       param, ctx)
         return tuple(sorted(set(levels)))
 
+
+class BackgroundType(click.ParamType):
+    """The background as common red noise: ``A`` or ``A,gamma`` (gamma 13/3 if omitted)."""
+
+    name = "A[,gamma]"
+
+    def convert(self, value, param, ctx):
+        from ..errors import InputError
+        from ..sensitivity.background import Background, parse_background
+
+        if value is None or isinstance(value, Background):
+            return value
+        try:
+            return parse_background(value)
+        except InputError as err:
+            self.fail(str(err), param, ctx)
+
+
+#: Help text of every ``--background`` option.
+BACKGROUND_HELP = ("Background as common red noise in every pulsar: A or A,gamma (gamma "
+                   "13/3 by default), e.g. 2.4e-15; per pulsar, without cross-correlations.")
 
 MASS = QuantityType("solMass")
 DISTANCE = QuantityType("Mpc")
