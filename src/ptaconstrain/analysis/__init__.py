@@ -5,6 +5,7 @@ region codes a map's cells hold (regions).
 probability imports exclusion and sampling; neither of those imports probability.
 """
 
+from .epochs import EpochForecast, forecast_over_time
 from .exclusion import (
     ExclusionMap,
     band_periods,
@@ -37,4 +38,6 @@ __all__ = [
     "ProbabilityMap",
     "exclusion_probability",
     "DEFAULT_CREDIBILITY",
+    "EpochForecast",
+    "forecast_over_time",
 ]

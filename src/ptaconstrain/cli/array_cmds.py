@@ -3,7 +3,7 @@
 import click
 
 from . import main
-from .params import BACKGROUND_HELP, FREQUENCY, POSITIVE, BackgroundType
+from .params import BACKGROUND_HELP, FREQUENCY, POSITIVE, BackgroundType, YearList
 
 __all__ = ["curve", "threshold_map"]
 
@@ -47,8 +47,14 @@ _background_option = click.option(
               help="S/N threshold quoted in the summary (stored in the curve's meta).")
 @_pulsar_term_option
 @_background_option
+@click.option("--years", type=YearList(), default=None,
+              help="Forecast over time: extend every pulsar's schedule by these years at its "
+              "own cadence, one curve per epoch (OUT_plus<Y>yr.ecsv), e.g. 5,10,20.")
+@click.option("--rms-factor", type=click.FloatRange(min=1), default=1.0, show_default=True,
+              help="With --years: divide every TOA rms by this (a better backend).")
 @click.option("--overwrite", is_flag=True, help="Replace an existing --out file.")
-def curve(array_file, out, ra, dec, snr, pulsar_term, background, overwrite):
+def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_factor,
+          overwrite):
     """Noise-budget curve (strain PSD) of a pulsar array, at a position or sky-averaged.
 
     \b
@@ -57,7 +63,11 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, background, overwrite):
           --out curve.ecsv
       ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --background 2.4e-15 \\
           --out curve_background.ecsv
+      ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --years 5,10,20 \\
+          --out curve.ecsv
     """
+    from pathlib import Path
+
     import numpy as np
 
     from .._files import check_new
@@ -66,22 +76,30 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, background, overwrite):
     from ..sensitivity.curve import save_curve
     from ..sensitivity.pulsar_list import load_array
 
-    check_new([out], overwrite)
+    if years is None and rms_factor != 1.0:
+        raise click.UsageError("--rms-factor applies to --years only")
+    outs = [Path(out)] if years is None else [
+        Path(out).with_name(f"{Path(out).stem}_plus{y:g}yr{Path(out).suffix or '.ecsv'}")
+        for y in years]
+    check_new(outs, overwrite)
     coord = coord_from(ra=ra, dec=dec)
-    arr = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
-    freq = arr.default_frequencies()
-    with _progress(len(arr), "timing-model fits") as bar:
-        arr.weights(freq, callback=bar.update)
-    result = arr.curve_at(coord, snr=snr, frequency=freq)
-    save_curve(result, out, overwrite=overwrite)
-    h0 = result.h0_threshold(result.frequency, snr=snr)
-    i = int(np.argmin(h0))
-    click.echo(
-        f"wrote {out}: strain-noise PSD [1/Hz] of {len(arr)} pulsars ({arr.name}), sky "
-        f"{result.sky}, {nhz_text(result.frequency[0])} - {nhz_text(result.frequency[-1])}; "
-        f"most sensitive at {nhz_text(result.frequency[i])}: detectable (forecast) for h0 >= "
-        f"{h0[i]:.3g} (dimensionless strain) at S/N >= {snr:g}, orientation-averaged; "
-        f"background: {result.meta['background']}")
+    base = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
+    arrays = [base] if years is None else [base.extended(y, rms_factor) for y in years]
+    for arr, path in zip(arrays, outs, strict=True):
+        freq = arr.default_frequencies()
+        with _progress(len(arr), f"timing-model fits ({arr.name})") as bar:
+            arr.weights(freq, callback=bar.update)
+        result = arr.curve_at(coord, snr=snr, frequency=freq)
+        save_curve(result, path, overwrite=overwrite)
+        h0 = result.h0_threshold(result.frequency, snr=snr)
+        i = int(np.argmin(h0))
+        click.echo(
+            f"wrote {path}: strain-noise PSD [1/Hz] of {len(arr)} pulsars ({arr.name}, span "
+            f"{arr.span.to_value('yr'):.3g} yr), sky {result.sky}, "
+            f"{nhz_text(result.frequency[0])} - {nhz_text(result.frequency[-1])}; most "
+            f"sensitive at {nhz_text(result.frequency[i])}: detectable (forecast) for h0 >= "
+            f"{h0[i]:.3g} (dimensionless strain) at S/N >= {snr:g}, orientation-averaged; "
+            f"background: {result.meta['background']}")
 
 
 @main.command()

@@ -15,6 +15,7 @@ from .params import (
     LevelList,
     MassError,
     RangeType,
+    YearList,
 )
 
 __all__ = ["exclude", "run_exclusion"]
@@ -67,6 +68,13 @@ def _grid(text):
               help="Pulsar list (ECSV) instead of --curve: a forecast at the host's position.")
 @click.option("--background", type=BackgroundType(), default=None,
               help=BACKGROUND_HELP + " With --array only.")
+@click.option("--years", type=YearList(), default=None,
+              help="With --array: also the forecast over time, each pulsar's schedule "
+              "extended by these years (e.g. 0,5,10,20): OUT/<name>_over_time.ecsv/.png.")
+@click.option("--rms-factor", type=click.FloatRange(min=1), default=1.0, show_default=True,
+              help="With --years: divide every TOA rms by this (a better backend).")
+@click.option("--target-q", type=click.FloatRange(0, 1, min_open=True), default=None,
+              help="With --years: report the first epoch at which this q becomes detectable.")
 @click.option("--limit-map", "limit_map_path", type=click.Path(dir_okay=False), default=None,
               help="HEALPix FITS map of h0 upper limits instead of --curve: the limit at "
               "the host's pixel.")
@@ -109,6 +117,9 @@ def exclude(**opts):
       ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
           --distance-err 10% --mass-distance 100 --seed 1 \\
           --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+      ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
+          --array src/ptaconstrain/data/demo_array.ecsv --years 0,5,10,20 \\
+          --target-q 0.01 --out results
       ptaconstrain exclude --mass 2e10 --distance 100 --eccentricity 0.5 \\
           --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
     """
@@ -120,7 +131,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
                   period_range, grid, formats, out, overwrite, eccentricity="0",
-                  background=None):
+                  background=None, years=None, rms_factor=1.0, target_q=None):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -153,6 +164,11 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     if background is not None and array_path is None:
         raise click.UsageError("--background: the background enters a forecast from a pulsar "
                                "list; give --array (or drop --background)")
+    if years is None and (rms_factor != 1.0 or target_q is not None):
+        raise click.UsageError("--rms-factor and --target-q apply to --years only")
+    if years is not None and array_path is None:
+        raise click.UsageError("--years: a forecast over time extends a pulsar list's "
+                               "schedules; give --array")
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")
@@ -161,6 +177,9 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     forecast = array_path is not None or (curve is not None and not curve.is_limit)
     stem = Path(out) / f"{safe_name(name)}_{'forecast' if forecast else 'exclusion'}"
     targets = [Path(f"{stem}.ecsv")] + [Path(f"{stem}.{f}") for f in formats]
+    time_stem = Path(out) / f"{safe_name(name)}_over_time"
+    if years is not None:
+        targets += [Path(f"{time_stem}.ecsv"), Path(f"{time_stem}.png")]
     check_new(targets, overwrite)  # before the slow part, so a refusal costs nothing
     sky_note = ""
     if curve is None:
@@ -212,7 +231,43 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         lines.append(f"{host.name}: sensitivity {sky_note}")
     if prob is not None:
         lines += credible_summary_lines(prob)
+    if years is not None:
+        lines += _over_time(host, array_path, background, years, rms_factor, target_q, q,
+                            period, snr, ecc, time_stem, meta, overwrite, written)
     lines.append("wrote " + ", ".join(str(p) for p in written))
+    return lines
+
+
+def _over_time(host, array_path, background, years, rms_factor, target_q, q, period, snr,
+               ecc, stem, meta, overwrite, written):
+    """The forecast over time for ``exclude --years``: writes table and figure, returns lines."""
+    from astropy import units as u
+
+    from .._files import write_table
+    from ..analysis.epochs import forecast_over_time
+    from ..report.figures import save_figure
+    from ..sensitivity.pulsar_list import load_array
+    from .progress import progress_bar
+
+    arr = load_array(array_path).with_background(background)
+    with progress_bar(len(arr) * len(years), "timing-model fits over the epochs") as bar:
+        result = forecast_over_time(host, arr, list(years) * u.yr, rms_factor, mass_ratio=q,
+                                    period=period, snr=snr, eccentricity=ecc,
+                                    callback=bar.update)
+    table = result.to_table(meta=meta, target_q=target_q)
+    write_table(table, stem.with_suffix(".ecsv"), overwrite)
+    written += [stem.with_suffix(".ecsv")]
+    written += save_figure(result.plot(target_q=target_q), stem, ("png",), overwrite)
+    lines = []
+    for y, s, qq in zip(result.years.to_value(u.yr), result.span.to_value(u.yr),
+                        result.tightest_mass_ratio, strict=True):
+        bound = "nothing detectable" if not qq == qq else f"q > {qq:.3g} would be detectable"
+        lines.append(f"{host.name}: +{y:g} yr (span {s:.3g} yr): {bound} (forecast)")
+    if target_q is not None:
+        first = result.first_epoch(target_q)
+        lines.append(f"{host.name}: q = {target_q:g} " + (
+            "is not reached within these epochs" if first is None else
+            f"becomes detectable after +{first.to_value(u.yr):g} yr"))
     return lines
 
 

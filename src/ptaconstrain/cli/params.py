@@ -6,7 +6,7 @@ astropy is imported only when a value is converted, never at start-up.
 import click
 
 __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
-           "LevelList", "BackgroundType", "BACKGROUND_HELP", "MASS", "DISTANCE", "TIME",
+           "LevelList", "BackgroundType", "BACKGROUND_HELP", "YearList", "MASS", "DISTANCE", "TIME",
            "FREQUENCY", "SPEED", "POSITIVE"]
 
 
@@ -176,6 +176,21 @@ class BackgroundType(click.ParamType):
             return parse_background(value)
         except InputError as err:
             self.fail(str(err), param, ctx)
+
+
+class YearList(click.ParamType):
+    """Comma-separated non-negative years, e.g. ``5,10,20`` (sorted, duplicates dropped)."""
+
+    name = "y1,y2,..."
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, tuple):
+            return value
+        years = tuple(_float(p, self, param, ctx) for p in str(value).split(","))
+        if not years or not all(0 <= y <= 100 for y in years):
+            self.fail(f"{value!r}: give years added to the schedules, each in [0, 100], "
+                      "e.g. 5,10,20", param, ctx)
+        return tuple(sorted(set(years)))
 
 
 #: Help text of every ``--background`` option.

@@ -124,6 +124,40 @@ class PulsarArray:
         new._cache = {}
         return new
 
+    def extended(self, years, rms_factor=1.0):
+        """The array observed ``years`` longer, each pulsar at its own cadence.
+
+        Every pulsar's last epoch moves ``years`` later (its TOAs continue at its
+        cadence); with ``rms_factor`` f > 1 every TOA rms becomes toa_rms / f.
+        The model has one white-noise rms per pulsar, so the improvement is
+        applied to the whole data set, old TOAs included: an optimistic reading
+        of a better future backend (exact when the new data dominate).
+
+        Parameters
+        ----------
+        years : Quantity [time] or number (yr), >= 0
+        rms_factor : float >= 1
+
+        Returns
+        -------
+        PulsarArray
+            A new array (with this one's background and pulsar-term setting).
+        """
+        extra = quantity(years, u.yr, "years")
+        if extra.size != 1 or extra.value < 0:
+            raise InputError(f"years: give one non-negative time, got {years!r}")
+        rms_factor = float(rms_factor)
+        if not (np.isfinite(rms_factor) and rms_factor >= 1.0):
+            raise InputError(f"rms_factor: {rms_factor:g} must be >= 1 (toa_rms is divided "
+                             "by it)")
+        label = f"{self.name} +{extra.to_value(u.yr):g} yr"
+        if rms_factor != 1.0:
+            label += f", rms / {rms_factor:g}"
+        return PulsarArray(self.names, self.coord, self.toa_rms / rms_factor, self.cadence,
+                           self.start_mjd, self.end_mjd + extra.to_value(u.d),
+                           self.red_amp, self.red_gamma, self.distance, name=label,
+                           pulsar_term=self.pulsar_term, background=self.background)
+
     # ------------------------------------------------------------ schedule
     def __len__(self):
         return len(self.names)
