@@ -16,7 +16,13 @@ from .exclusion import (
 )
 from .probability import DEFAULT_CREDIBILITY, ProbabilityMap, exclusion_probability
 from .regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, REGION_NAMES, UNCONSTRAINED
-from .sampling import HostSamples, distance_sigma, orientation_factor, sample_host
+from .sampling import (
+    HostSamples,
+    distance_sigma,
+    orientation_factor,
+    resample_host,
+    sample_host,
+)
 
 __all__ = [
     "ALLOWED",
@@ -33,6 +39,7 @@ __all__ = [
     "sensitivity_for",
     "HostSamples",
     "sample_host",
+    "resample_host",
     "orientation_factor",
     "distance_sigma",
     "ProbabilityMap",

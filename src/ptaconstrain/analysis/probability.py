@@ -45,7 +45,7 @@ from ..errors import InputError, PtaconstrainWarning
 from ..sensitivity.curve import FromCurve
 from .exclusion import ExclusionMap, exclusion_map, sensitivity_for
 from .isco_counts import IscoCounts
-from .sampling import HostSamples, sample_host
+from .sampling import HostSamples, resample_host, sample_host
 
 __all__ = [
     "ProbabilityMap",
@@ -287,6 +287,7 @@ def exclusion_probability(
     *,
     orientation=None,
     eccentricity=0.0,
+    mass_samples=None,
 ):
     """Probability that each companion (q, P) of ``host`` is excluded (or detectable).
 
@@ -318,6 +319,11 @@ def exclusion_probability(
     orientation : bool, optional
         Sample the inclination; default True for noise budgets and False for
         upper limits (an h0 limit already bounds h0 itself).
+    mass_samples : MassSamples, optional
+        Posterior samples of the mass (and distance)
+        (:class:`ptaconstrain.binary.mass_samples.MassSamples`): the host samples are
+        drawn from them (:func:`ptaconstrain.analysis.sampling.resample_host`)
+        instead of the host's parametric errors.
     eccentricity : float in [0, 0.95]
         Orbital eccentricity, as in :func:`~ptaconstrain.analysis.exclusion.exclusion_map`;
         each sample's ISCO test uses its pericentre (f_ISCO (1 - e)^(3/2)), and the
@@ -341,6 +347,9 @@ def exclusion_probability(
         draws = samples
         if orientation and draws.orientation_factor is None:
             raise InputError("samples: these were drawn without orientation; redraw with it")
+    elif mass_samples is not None:
+        draws = resample_host(host, mass_samples, samples, seed=seed,
+                              orientation=bool(orientation))
     else:
         draws = sample_host(host, samples, seed=seed, orientation=bool(orientation))
     if not orientation:

@@ -16,6 +16,7 @@ from .eccentric import (
     pericentre_isco_frequency,
 )
 from .host import Host, hosts_from_table
+from .mass_samples import MassSamples, MassSamplesError, load_mass_samples
 from .waveform import (
     chirp_mass,
     coalescence_time,
@@ -37,6 +38,9 @@ from .waveform import (
 __all__ = [
     "Host",
     "hosts_from_table",
+    "MassSamples",
+    "MassSamplesError",
+    "load_mass_samples",
     "symmetric_mass_ratio",
     "mass_ratio_from_eta",
     "chirp_mass",

@@ -56,6 +56,11 @@ def _grid(text):
               help="Distance error: Gaussian sigma ('5', Mpc) or '10%'.")
 @click.option("--velocity-err", type=SPEED, default=None,
               help="Peculiar-velocity error of a redshift distance (km/s).")
+@click.option("--mass-samples", "mass_samples_path", type=click.Path(dir_okay=False),
+              default=None,
+              help="Posterior samples of the mass: a table with a 'mass' column (solMass), "
+              "optionally 'distance' (Mpc) and 'weight'; replaces --mass-err (and "
+              "--distance-err if it has distances). Turns on probability maps.")
 @click.option("--samples", type=click.IntRange(min=100), default=100_000, show_default=True,
               help="Monte-Carlo samples of the host for probability maps.")
 @click.option("--seed", type=click.IntRange(min=0), default=None,
@@ -120,6 +125,8 @@ def exclude(**opts):
       ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
           --array src/ptaconstrain/data/demo_array.ecsv --years 0,5,10,20 \\
           --target-q 0.01 --out results
+      ptaconstrain exclude --mass 2e10 --distance 100 --mass-samples posterior.ecsv \\
+          --seed 1 --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
       ptaconstrain exclude --mass 2e10 --distance 100 --eccentricity 0.5 \\
           --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
     """
@@ -131,7 +138,8 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
                   period_range, grid, formats, out, overwrite, eccentricity="0",
-                  background=None, years=None, rms_factor=1.0, target_q=None):
+                  background=None, years=None, rms_factor=1.0, target_q=None,
+                  mass_samples_path=None):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -164,6 +172,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     if background is not None and array_path is None:
         raise click.UsageError("--background: the background enters a forecast from a pulsar "
                                "list; give --array (or drop --background)")
+    posterior = _mass_samples(mass_samples_path, mass_err, distance_err, velocity_err)
     if years is None and (rms_factor != 1.0 or target_q is not None):
         raise click.UsageError("--rms-factor and --target-q apply to --years only")
     if years is not None and array_path is None:
@@ -193,12 +202,12 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         lo, hi = (p.to_value(u.yr) for p in period_range)
         period = np.logspace(np.log10(lo), np.log10(hi), n_p) * u.yr
     prob = None
-    if mass_err or distance_err or velocity_err is not None:
+    if mass_err or distance_err or velocity_err is not None or posterior is not None:
         from ..analysis.probability import exclusion_probability
 
         prob = exclusion_probability(host, curve, q, period, samples=samples, seed=seed,
                                      credibility=credibility, snr=snr, span=span,
-                                     eccentricity=ecc)
+                                     eccentricity=ecc, mass_samples=posterior)
         result = prob.deterministic
     else:
         result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span,
@@ -219,9 +228,14 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
                   period_range=f"{period[0]:.4g},{period[-1]:.4g}")
     inputs["sensitivity_sky"] = sky_note
+    if posterior is not None:
+        inputs.update(posterior.describe())
     if array_path is not None:
         inputs["background"] = curve.meta["background"]
-    meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
+    files = {given[0].lstrip("-"): source_path}
+    if posterior is not None:
+        files["mass_samples"] = mass_samples_path
+    meta = provenance(inputs, files=files)
     table = exclusion_table(result, meta, prob_map=prob)
     fig = exclusion_figure(result, prob_map=prob)
     write_table(table, targets[0], overwrite)
@@ -236,6 +250,21 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                             period, snr, ecc, time_stem, meta, overwrite, written)
     lines.append("wrote " + ", ".join(str(p) for p in written))
     return lines
+
+
+def _mass_samples(path, mass_err, distance_err, velocity_err):
+    """The posterior-sample table of ``--mass-samples`` (or None), with its conflicts refused."""
+    if path is None:
+        return None
+    from ..binary.mass_samples import load_mass_samples
+
+    if mass_err:
+        raise click.UsageError("--mass-samples replaces --mass-err: give one of them")
+    posterior = load_mass_samples(path)
+    if posterior.distance is not None and (distance_err or velocity_err is not None):
+        raise click.UsageError(f"--mass-samples: {path} has a distance per sample, which "
+                               "replaces --distance-err/--velocity-err: drop those")
+    return posterior
 
 
 def _over_time(host, array_path, background, years, rms_factor, target_q, q, period, snr,
