@@ -3,7 +3,7 @@
 import click
 
 from . import main
-from .params import BACKGROUND_HELP, FREQUENCY, POSITIVE, BackgroundType, YearList
+from .params import ARRAY_FILE, BACKGROUND_HELP, FREQUENCY, POSITIVE, BackgroundType, YearList
 
 __all__ = ["curve", "threshold_map"]
 
@@ -28,8 +28,9 @@ def _progress(length, label):
 
 # options shared by the commands of this module
 _array_option = click.option(
-    "--array", "array_file", type=click.Path(dir_okay=False), required=True,
-    help="Pulsar list (ECSV; columns in the README).")
+    "--array", "array_file", type=ARRAY_FILE, required=True,
+    help="Pulsar list: an ECSV file, or a shipped name such as demo_array "
+    "('ptaconstrain data' lists them).")
 _pulsar_term_option = click.option(
     "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2).")
 _background_option = click.option(
@@ -59,38 +60,46 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_fac
 
     \b
     Example:
-      ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --ra 284.1 --dec -37.2 \\
-          --out curve.ecsv
-      ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --background 2.4e-15 \\
-          --out curve_background.ecsv
-      ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --years 5,10,20 \\
-          --out curve.ecsv
+      ptaconstrain curve --array demo_array --ra 284.1 --dec -37.2 --out curve.ecsv
+      ptaconstrain curve --array demo_array --background 2.4e-15 --out curve_background.ecsv
+      ptaconstrain curve --array demo_array --years 5,10,20 --out curve.ecsv
     """
     from pathlib import Path
 
     import numpy as np
 
-    from .._files import check_new
+    from .._files import check_new, output_set
     from .._inputs import coord_from
+    from ..report.provenance import provenance, safe_name
     from ..report.skyplot import nhz_text
     from ..sensitivity.curve import save_curve
     from ..sensitivity.pulsar_list import load_array
 
     if years is None and rms_factor != 1.0:
         raise click.UsageError("--rms-factor applies to --years only")
-    outs = [Path(out)] if years is None else [
-        Path(out).with_name(f"{Path(out).stem}_plus{y:g}yr{Path(out).suffix or '.ecsv'}")
+    out_path = Path(out)
+    outs = [out_path] if years is None else [
+        out_path.with_name(f"{out_path.stem}_plus{y:g}yr{out_path.suffix or '.ecsv'}")
         for y in years]
     check_new(outs, overwrite)
     coord = coord_from(ra=ra, dec=dec)
     base = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
     arrays = [base] if years is None else [base.extended(y, rms_factor) for y in years]
-    for arr, path in zip(arrays, outs, strict=True):
+    results = []
+    for arr in arrays:
         freq = arr.default_frequencies()
         with _progress(len(arr), f"timing-model fits ({arr.name})") as bar:
             arr.weights(freq, callback=bar.update)
         result = arr.curve_at(coord, snr=snr, frequency=freq)
-        save_curve(result, path, overwrite=overwrite)
+        result.meta["provenance"] = provenance(
+            {"ra": str(ra), "dec": str(dec), "snr": f"{snr:g}", "pulsar_term": str(pulsar_term),
+             "background": result.meta["background"], "array_epoch": arr.name},
+            files={"array": array_file})
+        results.append(result)
+    with output_set(out_path.parent, safe_name(out_path.name), overwrite):
+        for result, path in zip(results, outs, strict=True):
+            save_curve(result, path, overwrite=overwrite)
+    for arr, result, path in zip(arrays, results, outs, strict=True):
         h0 = result.h0_threshold(result.frequency, snr=snr)
         i = int(np.argmin(h0))
         click.echo(
@@ -120,8 +129,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, backgro
 
     \b
     Example:
-      ptaconstrain threshold-map --array src/ptaconstrain/data/demo_array.ecsv \\
-          --frequency "8 nHz" \\
+      ptaconstrain threshold-map --array demo_array --frequency "8 nHz" \\
           --frequency "20 nHz" --nside 32 --out maps
     """
     from pathlib import Path
@@ -129,10 +137,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, backgro
     import numpy as np
     from astropy import units as u
 
-    from .._files import check_new
-    from ..report.figures import save_figure
-    from ..report.skyplot import nhz_text, sky_map_figure, threshold_label
-    from ..sensitivity.limit_map import write_threshold_maps
+    from .._files import check_new, output_set
     from ..sensitivity.pulsar_list import load_array
 
     freq = np.unique(u.Quantity(list(frequencies)).to_value(u.Hz)) * u.Hz
@@ -146,6 +151,21 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, backgro
         arr.weights(freq, callback=bar.update)
     # Two passes in blocks (memory: about two blocks, never all maps): pixel runs for
     # the FITS rows, then whole-sky maps a few frequencies at a time for the figures.
+    # the map and all its figures are published together; --overwrite removes every
+    # figure of an earlier run (other frequencies included)
+    earlier = [p.name for p in out.glob(f"{MAP_STEM}_*nHz.png")] if out.is_dir() else []
+    with output_set(out, MAP_STEM, overwrite, earlier=earlier):
+        lines = _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite)
+    for line in lines:
+        click.echo(line)
+
+
+def _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite):
+    from ..report.figures import save_figure
+    from ..report.provenance import fits_cards, provenance
+    from ..report.skyplot import nhz_text, sky_map_figure, threshold_label
+    from ..sensitivity.limit_map import write_threshold_maps
+
     npix = 12 * nside**2
     with _progress(npix, "FITS file") as bar:
         def rows():
@@ -153,11 +173,9 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, backgro
                 yield block
                 bar.update(pix.stop - pix.start)
 
-        bg = ({} if background is None else
-              {"BGAMP": background.amplitude, "BGGAMMA": background.gamma})
         write_threshold_maps(fits_path, rows(), freq, snr, arr.span,
                              f"pulsar list {arr.name}", overwrite=overwrite, nside=nside,
-                             extra=bg)
+                             extra={**fits_cards(provenance()), **_background_cards(arr)})
     lines = [f"wrote {fits_path} (HEALPix nside {nside}, RING, equatorial; "
              f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"]
     with _progress(freq.size, "figures") as bar:
@@ -166,14 +184,22 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, backgro
                 fig = sky_map_figure(
                     m, pulsars=arr.sky_markers(),
                     title=f"{arr.name}: h0 detectable at S/N >= {snr:g} (forecast), "
-                          f"f = {nhz_text(f)}" + ("" if background is None else
-                                                  f", background A = {background.amplitude:.3g}"),
+                          f"f = {nhz_text(f)}" + _background_title(arr),
                     label=threshold_label(snr))
                 save_figure(fig, stem, ("png",), overwrite)
                 lines.append(_map_summary(f, m, snr, nside) + f"; figure {stem}.png")
                 bar.update(1)
-    for line in lines:
-        click.echo(line)
+    return lines
+
+
+def _background_cards(arr):
+    bg = arr.background
+    return {} if bg is None else {"BGAMP": bg.amplitude, "BGGAMMA": bg.gamma}
+
+
+def _background_title(arr):
+    bg = arr.background
+    return "" if bg is None else f", background A = {bg.amplitude:.3g}"
 
 
 def _map_summary(f, m, snr, nside):
