@@ -114,9 +114,11 @@ def exclude(**opts):
     Writes OUT/<name>_exclusion.ecsv (one row per period) and the figure
     OUT/<name>_exclusion.png/.pdf, and prints a two-line summary; a noise
     budget or a pulsar list gives a forecast, written as OUT/<name>_forecast.*.  With
-    --mass-err, --distance-err or --velocity-err the host's uncertainties
-    are sampled: the figure gains probability contours, the table one
-    max_mass_ratio_<credibility> column per level.
+    --mass-err, --distance-err, --velocity-err or --mass-samples the host's
+    uncertainties are sampled: the figure gains probability contours, the
+    table one max_mass_ratio_<credibility> column per level.  --eccentricity
+    gives every companion orbit that eccentricity; --years (with --array) adds
+    OUT/<name>_over_time.* (the bound against the observing epoch).
 
     \b
     Example:
