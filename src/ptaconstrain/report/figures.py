@@ -178,7 +178,7 @@ def exclusion_figure(result, ax=None, prob_map=None):
     # the automatic title position matplotlib lays the top axis out a second time.
     ax.set_title(
         f"{host.name}: M = {sci_text(m_tot)} {MSUN}, luminosity distance "
-        f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}", fontsize=10, y=1.0,
+        f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}; {result.orbit}", fontsize=10, y=1.0,
         pad=_TITLE_PAD)
     return fig
 

@@ -79,6 +79,11 @@ def exclusion_table(result, meta=None, prob_map=None):
     t.meta["total_mass"] = format_quantity(result.host.mass.to(u.Msun))
     t.meta["luminosity_distance"] = format_quantity(result.host.distance.to(u.Mpc))
     t.meta["f_isco"] = format_quantity(result.isco_frequency.to(u.Hz))
+    t.meta["eccentricity"] = f"{result.eccentricity:g}"
+    if result.harmonics is not None:
+        t.meta["harmonics"] = (f"n = 1-{int(result.harmonics.max())} of the orbital frequency "
+                               "(99.9% of the power; Peters & Mathews 1963)"
+                               if result.eccentricity > 0 else "n = 2 (circular quadrupole)")
     if prob_map is not None:
         t.meta.update(prob_map.describe())
     if meta:
@@ -106,6 +111,8 @@ def summary_lines(result):
         phrase, tag = "ruled out", result.label
     else:
         phrase, tag = "would be detectable", f"{result.label}, not an exclusion"
+    if result.eccentricity > 0:
+        tag += f"; {result.orbit}"
     if best is None:
         return [f"{host}: no companion {phrase} at any period on the grid ({tag})",
                 _why_no_bound(result)]

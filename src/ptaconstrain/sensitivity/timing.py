@@ -177,8 +177,12 @@ def timing_design_matrix(mjd):
     return m / np.sqrt(np.mean(m**2, axis=0))
 
 
-def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
+def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma, background=None):
     """Fourier basis F and prior variances Phi of a pulsar's red noise.
+
+    With ``background`` (an object with ``amplitude`` and ``gamma``, e.g.
+    :class:`~.background.Background`) its power law is added to the pulsar's
+    own on the same modes: P = P_r + P_b.
 
     Modes f_k = k / T_p, k = 1..K, sine and cosine, each of variance
     P_r(f_k) / T_p, with K the last mode where P_r >= 1e-4 P_w (at most
@@ -194,13 +198,15 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
         White noise, for the cut at 1e-4 P_w.
     red_amp, red_gamma : float
         Power law (A, gamma); A = 0 for none.
+    background : Background, optional
+        A common red process, treated as this pulsar's own (no correlations).
 
     Returns
     -------
     (ndarray (N, 2K), Quantity (2K,) [s^2]) or None
         None when the red noise is negligible at every mode.
     """
-    if not red_amp > 0:
+    if not (red_amp > 0 or background is not None):
         return None
     t = u.Quantity(t, u.s).value
     span = u.Quantity(span, u.s).value
@@ -208,6 +214,8 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
     kmax = int(min(100, t.size // 4))
     fk = np.arange(1, kmax + 1) / span
     pr = red_noise_psd(fk * u.Hz, red_amp, red_gamma).value
+    if background is not None:
+        pr = pr + red_noise_psd(fk * u.Hz, background.amplitude, background.gamma).value
     keep = np.flatnonzero(pr >= 1e-4 * pw)
     if keep.size == 0:
         return None
@@ -217,7 +225,8 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
     return basis, np.tile(pr / span, 2) * u.s**2
 
 
-def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_threads=1):
+def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_threads=1,
+                     background=None):
     """Exact phase-averaged post-fit S/N^2 of a unit-amplitude sinusoid, per frequency.
 
     w(f) = (c^T G c + s^T G s) / 2 with G the inverse noise covariance
@@ -234,16 +243,20 @@ def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_t
     blas_threads : int or None
         BLAS threads for this pulsar's matrix algebra (module docstring);
         None leaves the library's setting.
+    background : Background, optional
+        A common red process (:mod:`.background`) added to this pulsar's noise
+        covariance, exactly, on its red-noise basis; cross-pulsar correlations
+        are not part of a single pulsar's weight.
 
     Returns
     -------
     Quantity (n_f,) [1 / s^2]
     """
     with single_blas_thread(blas_threads):
-        return _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma)
+        return _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background)
 
 
-def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma):
+def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background=None):
     from scipy import linalg
 
     mjd = np.asarray(mjd, float)
@@ -264,7 +277,7 @@ def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma):
 
     a_mb = m.T @ b  # sig^2 M^T C^-1 B, white part
     d_bb = np.einsum("ij,ij->j", b[:, nm:], b[:, nm:])  # diagonal of sig^2 Q^T C^-1 Q
-    red = red_noise_basis(t, span, sig, cadence, red_amp, red_gamma)
+    red = red_noise_basis(t, span, sig, cadence, red_amp, red_gamma, background)
     if red is not None:
         basis, phi = red[0], red[1].to_value(u.s**2)
         # Woodbury: C = sig^2 (I + F D F^T), C^-1 = sig^-2 (I - F K^-1 F^T), K = D^-1 + F^T F
