@@ -28,12 +28,12 @@ def name_bytes(names):
 
     Returns
     -------
-    ndarray of bytes_
+    ndarray of ``numpy.bytes_``
 
     Examples
     --------
-    >>> name_bytes(["NGC 4486", "Œ"]).tolist()
-    [b'NGC 4486', b'\\xc5\\x92']
+    >>> name_bytes(["Invented 1", "Œ"]).tolist()
+    [b'Invented 1', b'\\xc5\\x92']
     """
     names = np.asarray(names)
     if names.dtype.kind == "S":

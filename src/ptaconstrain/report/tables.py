@@ -161,10 +161,15 @@ def _why_no_bound(result):
 def credible_summary_lines(prob_map):
     """One line per credibility: the tightest credible bound with the host's errors.
 
+    Parameters
+    ----------
+    prob_map : ProbabilityMap
+
     Returns
     -------
-    list of str, e.g. ``["Host A: q > 0.046 ruled out at P = 4.8 yr with
-    probability >= 0.95 (mass, distance errors; 100000 samples, seed 1)"]``
+    list of str
+        e.g. "Host A: q > 0.046 ruled out at P = 4.8 yr with probability >= 0.95
+        (mass, distance errors; 100000 samples, seed 1)".
     """
     phrase = "ruled out" if prob_map.is_limit else "detectable"
     name = prob_map.host.name

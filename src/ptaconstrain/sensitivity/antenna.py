@@ -169,7 +169,7 @@ def pattern_power(pulsar, source):
 
     Polarisation-independent closed form of the sum of squares of
     :func:`antenna_pattern` (e+ and ex project p p onto the plane transverse
-    to the wave, |.|^2 = (1 - (Omega.p)^2)^2).
+    to the wave, ``|.|^2 = (1 - (Omega.p)^2)^2``).
 
     Parameters
     ----------
