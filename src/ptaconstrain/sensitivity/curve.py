@@ -64,7 +64,8 @@ class CurveError(InputError):
     ...     StrainCurve([2, 1] * u.nHz, [1e-14, 1e-14], "h0_limit")
     ... except CurveError as err:
     ...     print(err)
-    curve frequency must be strictly increasing (row 2 is not): sort the file by frequency and drop duplicates
+    curve frequency must be strictly increasing (row 2 is not): sort the file by
+    frequency and drop duplicates
     """
 
 
