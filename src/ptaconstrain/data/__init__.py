@@ -32,6 +32,12 @@ def names():
     Returns
     -------
     list of str
+
+    Examples
+    --------
+    >>> from ptaconstrain import data
+    >>> "synthetic_h0_limit.ecsv" in data.names()
+    True
     """
     root = resources.files(__name__)
     return sorted(p.name for p in root.iterdir() if p.is_file() and not p.name.endswith(".py"))
