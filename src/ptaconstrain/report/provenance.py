@@ -19,6 +19,19 @@ def provenance(inputs=None, files=None):
     Returns
     -------
     dict (JSON/YAML-serialisable, for astropy table meta).
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     curve_file = Path(tmp) / "limit.ecsv"
+    ...     _ = curve_file.write_text("an invented curve")
+    ...     record = provenance({"mass": "2e10 solMass"}, {"curve": curve_file})
+    >>> sorted(record)
+    ['created', 'files', 'inputs', 'python', 'software']
+    >>> record["files"]["curve"]["sha256"][:12]
+    '8df2a293b39f'
     """
     from .._files import sha256
     from .._version import __version__
@@ -38,6 +51,21 @@ def provenance(inputs=None, files=None):
 
 
 def safe_name(name):
-    """A file-name-safe version of a host name ('NGC 1' -> 'NGC_1')."""
+    """A file-name-safe version of a host name ('Host A 1' -> 'Host_A_1').
+
+    Parameters
+    ----------
+    name : str
+
+    Returns
+    -------
+    str
+        Letters, digits, '-', '_' and '.' kept, anything else '_'; "host" if nothing is left.
+
+    Examples
+    --------
+    >>> safe_name("Invented galaxy 1/2")
+    'Invented_galaxy_1_2'
+    """
     keep = "".join(c if c.isalnum() or c in "-_." else "_" for c in str(name).strip())
     return keep.strip("._") or "host"
