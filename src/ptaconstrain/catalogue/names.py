@@ -61,6 +61,12 @@ def name_hashes(names):
     Returns
     -------
     ndarray of uint64
+
+    Examples
+    --------
+    >>> h = name_hashes(["Invented 1", "Invented 2", "Invented 1"])
+    >>> h.dtype, bool(h[0] == h[2]), bool(h[0] != h[1])
+    (dtype('uint64'), True, True)
     """
     names = np.asarray(names)
     if names.dtype.kind == "S":
