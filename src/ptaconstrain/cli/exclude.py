@@ -4,7 +4,10 @@ import click
 
 from . import main
 from .params import (
+    ARRAY_FILE,
+    CURVE_FILE,
     DISTANCE,
+    LIMIT_MAP_FILE,
     MASS,
     SPEED,
     TIME,
@@ -59,13 +62,15 @@ def _grid(text):
               help="Random seed (recorded in the table; drawn afresh if omitted).")
 @click.option("--credibility", type=LevelList(), default="0.5,0.9,0.95", show_default=True,
               help="Credibility levels of the probabilistic bounds.")
-@click.option("--curve", "curve_path", type=click.Path(dir_okay=False), default=None,
-              help="Sensitivity curve: ECSV, or two-column text with --kind.")
-@click.option("--array", "array_path", type=click.Path(dir_okay=False), default=None,
-              help="Pulsar list (ECSV) instead of --curve: a forecast at the host's position.")
-@click.option("--limit-map", "limit_map_path", type=click.Path(dir_okay=False), default=None,
-              help="HEALPix FITS map of h0 upper limits instead of --curve: the limit at "
-              "the host's pixel.")
+@click.option("--curve", "curve_path", type=CURVE_FILE, default=None,
+              help="Sensitivity curve: ECSV, two-column text with --kind, or a shipped "
+              "name (e.g. synthetic_h0_limit; 'ptaconstrain data' lists them).")
+@click.option("--array", "array_path", type=ARRAY_FILE, default=None,
+              help="Pulsar list (ECSV, or a shipped name such as demo_array) instead of "
+              "--curve: a forecast at the host's position.")
+@click.option("--limit-map", "limit_map_path", type=LIMIT_MAP_FILE, default=None,
+              help="HEALPix FITS map of h0 upper limits (or a shipped name such as "
+              "synthetic_h0_limit_map) instead of --curve: the limit at the host's pixel.")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What a plain-text curve holds.")
 @click.option("--snr", type=click.FloatRange(min=0, min_open=True), default=5.0,
@@ -96,12 +101,15 @@ def exclude(**opts):
     \b
     Example:
       ptaconstrain exclude --mass 2e10 --distance 100 \\
-          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+          --curve synthetic_h0_limit --out results
       ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
-          --array src/ptaconstrain/data/demo_array.ecsv --out results
+          --array demo_array --out results
       ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
           --distance-err 10% --mass-distance 100 --seed 1 \\
-          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+          --curve synthetic_h0_limit --out results
+
+    The shipped (invented) curves, pulsar list and limit map are named as
+    'ptaconstrain data' lists them; any other value is a file path.
     """
     for line in run_exclusion(**opts):
         click.echo(line)
@@ -117,7 +125,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     import numpy as np
     from astropy import units as u
 
-    from .._files import check_new, write_table
+    from .._files import check_new, output_set, write_table
     from ..analysis.exclusion import band_periods, exclusion_map
     from ..binary.host import Host
     from ..binary.waveform import orbital_period
@@ -135,9 +143,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     if len(given) != 1:
         raise click.UsageError("give exactly one of --curve, --array or --limit-map"
                                + (f" (got {', '.join(given)})" if given else ""))
-    source_path = sources[given[0]]
-    if not Path(source_path).is_file():
-        raise click.UsageError(f"{given[0]} {source_path}: file not found; check the path")
+    source_path = sources[given[0]]  # an existing file (InputFile checked it)
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")
@@ -185,8 +191,12 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
     table = exclusion_table(result, meta, prob_map=prob)
     fig = exclusion_figure(result, prob_map=prob)
-    write_table(table, targets[0], overwrite)
-    written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
+    # the table and figures are published together or not at all; with --overwrite
+    # every file of the host's earlier set goes (e.g. a PDF this run does not make)
+    every_format = [f"{stem.name}.{ext}" for ext in ("ecsv", *FormatList().choices)]
+    with output_set(out, stem.name, overwrite, earlier=every_format):
+        write_table(table, targets[0], overwrite)
+        written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
     lines = summary_lines(result)
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")
