@@ -65,8 +65,9 @@ def generate(n, where):
     writer.close()
     whole = pd.concat(frames, ignore_index=True)
     del frames
-    lsdb.from_dataframe(whole, lowest_order=2, highest_order=6,
-                        partition_rows=250_000).write_catalog(hats)
+    # partitions of up to 250,000 rows (few, so their fixed cost is small); no margin cache
+    lsdb.from_dataframe(whole, lowest_order=0, highest_order=6, partition_rows=250_000,
+                        margin_threshold=None).write_catalog(hats)
     return parquet, hats
 
 

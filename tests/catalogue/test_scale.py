@@ -61,8 +61,8 @@ def catalogue(tmp_path_factory):
     base = tmp_path_factory.mktemp("scale")
     df = _invented_catalogue(N_ROWS)
     df.to_parquet(base / "galaxies.parquet", row_group_size=20_000, index=False)
-    lsdb.from_dataframe(df, lowest_order=0, highest_order=3,
-                        partition_rows=40_000).write_catalog(base / "galaxies_hats")
+    lsdb.from_dataframe(df, lowest_order=0, highest_order=3, partition_rows=40_000,
+                        margin_threshold=None).write_catalog(base / "galaxies_hats")
     return base, df
 
 
