@@ -189,7 +189,7 @@ def _source_columns(path, kind):
     return list(ds.dataset(str(path), format="parquet").schema.names)
 
 
-def _first_rows(rows, offsets):
+def _bookkeeping(rows, offsets):
     """Rejections, notes and rows read, reduced from the per-partition bookkeeping rows."""
     rejections = Rejections()
     rej = rows[rows["_status"] == _REJECTED]
@@ -247,7 +247,10 @@ def _table_frame(frame, metric, verb, first_rank, cum_start, offsets):
 
 
 def _write_ranked(sorted_dir, out_dir, metric, verb, offsets, meta):
-    """Write the sorted partitions as ranking tables, ranks and running sums continued."""
+    """Write the sorted partitions as ranking tables, ranks and running sums continued.
+
+    Returns the sum of the expected number over every row.
+    """
     import pyarrow as pa
     import pyarrow.dataset as ds
     import pyarrow.parquet as pq
@@ -276,7 +279,7 @@ def _write_ranked(sorted_dir, out_dir, metric, verb, offsets, meta):
             n_out += 1
             r0 += len(t)
             c0 = float(t["cumulative_expected_number"].iloc[-1])
-    return int(np.sum(sizes))
+    return float(np.sum(sums))
 
 
 class ParquetRanking:
@@ -448,8 +451,8 @@ cosmology, sky, sky_nside, files, inputs, top_rows
         where = f"scheduler {scheduler}" if scheduler else f"{workers} local workers"
         meta["engine"] = f"dask ({where}); {kind} input"
         say("writing the ranking")
-        _write_ranked(work / "sorted", work / PARQUET_DIR, metric, sens.verb, offsets,
-                      {k: v for k, v in meta.items()})
+        total = _write_ranked(work / "sorted", work / PARQUET_DIR, metric, sens.verb, offsets,
+                              dict(meta))
         if final.exists():  # overwrite: the old ranking goes only now
             os.rename(final, work / "replaced")
         os.rename(work / PARQUET_DIR, final)
@@ -461,7 +464,6 @@ cosmology, sky, sky_nside, files, inputs, top_rows
         table[key] = np.char.decode(np.asarray(table[key]), "utf-8")
     table.meta.update(meta)
     table.meta["provenance"] = ranking_provenance(_Named(path.name, path), files, inputs)
-    total = float(np.sum(np.nan_to_num(runs.column("expected_number"))))
     return Ranking(table=table, rejections=rejections, metric=metric, verb=sens.verb,
                    label=sens.label(), meta=meta, n_read=n_read,
                    sky_markers=sens.sky_markers(), sensitivity=sens, n_ranked=n_ranked,
@@ -491,7 +493,7 @@ def _run(path, kind, plan, chunk_size, on_bad, work, say):
     sizes[read.index.to_numpy()] = read.to_numpy()
     offsets = np.r_[0, np.cumsum(sizes)[:-1]].astype(np.int64)
     n_read = int(sizes.sum())
-    rejections = _first_rows(book, offsets)
+    rejections = _bookkeeping(book, offsets)
     rejections.check(on_bad)
     ranked = rows[rows["_status"] == _RANKED]
     say("finding repeated names")
