@@ -26,7 +26,7 @@ How the work divides (:func:`rank_catalog_dask`):
    each range);
 4. **rank**: per-partition row counts and sums of the expected number give
    each partition its first rank and its starting cumulative sum; each
-   partition is then written as the usual ranking table
+   partition is then written, by a worker, as the usual ranking table
    (:func:`~ptaconstrain.catalogue.ranking.ranking_table`) into
    ``ranking.parquet/`` (``part.000000.parquet`` ...; units and the ranking's
    meta in the Parquet metadata, key ``ptaconstrain``).
@@ -246,39 +246,62 @@ def _table_frame(frame, metric, verb, first_rank, cum_start, offsets):
     return pd.DataFrame({k: np.asarray(getattr(t[k], "value", t[k])) for k in t.colnames}), units
 
 
-def _write_ranked(sorted_dir, out_dir, metric, verb, offsets, meta):
-    """Write the sorted partitions as ranking tables, ranks and running sums continued.
+def _size_and_sum(path):
+    """Rows of one sorted file and the sum of their expected numbers (runs on a worker)."""
+    import pyarrow.parquet as pq
 
-    Returns the sum of the expected number over every row.
-    """
+    col = pq.read_table(path, columns=["expected_number"])["expected_number"].to_numpy()
+    return col.size, float(np.sum(np.nan_to_num(col)))
+
+
+def _write_part(source, target, first_rank, cum_start, offsets, metric, verb, meta_json):
+    """Write one sorted file as ranking-table rows, by blocks (runs on a worker)."""
     import pyarrow as pa
     import pyarrow.dataset as ds
     import pyarrow.parquet as pq
 
-    files = sorted(Path(sorted_dir).glob("*.parquet"), key=lambda p: int(p.stem.split(".")[1]))
-    sizes, sums = [], []
-    for f in files:  # one small column per partition, to place each one
-        col = pq.read_table(f, columns=["expected_number"])["expected_number"].to_numpy()
-        sizes.append(col.size)
-        sums.append(float(np.sum(np.nan_to_num(col))))
-    first = np.r_[1, 1 + np.cumsum(sizes)[:-1]].astype(np.int64)
-    start = np.r_[0.0, np.cumsum(sums)[:-1]]
-    Path(out_dir).mkdir()
-    n_out = 0
-    for f, r0, c0 in zip(files, first, start, strict=True):  # a loop over partitions
-        for batch in ds.dataset(str(f), format="parquet").to_batches(batch_size=1 << 18):
+    writer = None
+    try:
+        for batch in ds.dataset(str(source), format="parquet").to_batches(batch_size=1 << 18):
             frame = batch.to_pandas()
             if not len(frame):
                 continue
-            t, units = _table_frame(frame, metric, verb, int(r0), float(c0), offsets)
+            t, units = _table_frame(frame, metric, verb, first_rank, cum_start, offsets)
             table = pa.Table.from_pandas(t, preserve_index=False)
-            table = table.replace_schema_metadata(
-                {b"ptaconstrain": json.dumps({"units": units, "meta": meta},
-                                             default=str).encode()})
-            pq.write_table(table, Path(out_dir) / _part_name(n_out))
-            n_out += 1
-            r0 += len(t)
-            c0 = float(t["cumulative_expected_number"].iloc[-1])
+            if writer is None:
+                info = json.dumps({"units": units, "meta": json.loads(meta_json)})
+                schema = table.schema.with_metadata({b"ptaconstrain": info.encode()})
+                writer = pq.ParquetWriter(str(target), schema)
+            writer.write_table(table.replace_schema_metadata(writer.schema.metadata))
+            first_rank += len(t)
+            cum_start = float(t["cumulative_expected_number"].iloc[-1])
+    finally:
+        if writer is not None:
+            writer.close()
+
+
+def _write_ranked(sorted_dir, out_dir, metric, verb, offsets, meta):
+    """Write the sorted partitions as ranking tables, ranks and running sums continued.
+
+    Two distributed steps: the rows and expected-number sum of every sorted file
+    (a small reduction placing each file: its first rank, its starting running
+    sum), then each file written as ranking rows by a worker.  Returns the sum of
+    the expected number over every row.
+    """
+    import dask
+
+    files = sorted(Path(sorted_dir).glob("*.parquet"), key=lambda p: int(p.stem.split(".")[1]))
+    placed = dask.compute(*[dask.delayed(_size_and_sum)(str(f)) for f in files])
+    sizes = np.array([n for n, _ in placed], dtype=np.int64)
+    sums = np.array([x for _, x in placed], dtype=float)
+    first = np.r_[1, 1 + np.cumsum(sizes)[:-1]].astype(np.int64)
+    start = np.r_[0.0, np.cumsum(sums)[:-1]]
+    Path(out_dir).mkdir()
+    meta_json = json.dumps(meta, default=str)
+    keep = [i for i in range(len(files)) if sizes[i]]
+    dask.compute(*[dask.delayed(_write_part)(
+        str(files[i]), str(Path(out_dir) / _part_name(k)), int(first[i]), float(start[i]),
+        offsets, metric, verb, meta_json) for k, i in enumerate(keep)])
     return float(np.sum(sums))
 
 
@@ -445,14 +468,15 @@ cosmology, sky, sky_nside, files, inputs, top_rows
         with dask_client(workers, scheduler, memory_limit or DEFAULT_MEMORY_LIMIT,
                          CONNECT_TIMEOUT if timeout is None else timeout):
             result = _run(path, kind, plan, int(chunk_size), on_bad, work, say)
-        rejections, offsets, n_read, sources, n_ranked = result
-        meta = ranking_meta(_Named(path.name), colmap, rels, population, sens, metric, on_bad,
-                            n_nodes, dz.cosmology, rejections, n_ranked, sources, n_read)
-        where = f"scheduler {scheduler}" if scheduler else f"{workers} local workers"
-        meta["engine"] = f"dask ({where}); {kind} input"
-        say("writing the ranking")
-        total = _write_ranked(work / "sorted", work / PARQUET_DIR, metric, sens.verb, offsets,
-                              dict(meta))
+            rejections, offsets, n_read, sources, n_ranked = result
+            meta = ranking_meta(_Named(path.name), colmap, rels, population, sens, metric,
+                                on_bad, n_nodes, dz.cosmology, rejections, n_ranked, sources,
+                                n_read)
+            where = f"scheduler {scheduler}" if scheduler else f"{workers} local workers"
+            meta["engine"] = f"dask ({where}); {kind} input"
+            say("writing the ranking")
+            total = _write_ranked(work / "sorted", work / PARQUET_DIR, metric, sens.verb,
+                                  offsets, dict(meta))
         if final.exists():  # overwrite: the old ranking goes only now
             os.rename(final, work / "replaced")
         os.rename(work / PARQUET_DIR, final)
