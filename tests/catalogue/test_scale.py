@@ -25,6 +25,13 @@ from ptaconstrain.cli import main  # noqa: E402
 from ptaconstrain.data import path as data_path  # noqa: E402
 from ptaconstrain.sensitivity.curve import load_curve  # noqa: E402
 
+# lsdb 0.11 and nested-pandas 0.7 call pandas methods with inplace=True, deprecated in pandas
+# 3.1, and dask.distributed may leave a socket to the garbage collector when a cluster
+# stops: their warnings, not ours
+pytestmark = [pytest.mark.filterwarnings("ignore:The inplace keyword"),
+              pytest.mark.filterwarnings("ignore::ResourceWarning"),
+              pytest.mark.filterwarnings("ignore::pytest.PytestUnraisableExceptionWarning")]
+
 N_ROWS = 100_000
 CURVE = str(data_path("synthetic_h0_limit.ecsv"))  # the shipped invented limit
 
@@ -66,6 +73,7 @@ def catalogue(tmp_path_factory):
     return base, df
 
 
+@pytest.mark.slow
 def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path):
     base, df = catalogue
     curve = load_curve(CURVE)
@@ -158,6 +166,7 @@ def test_wrong_type_in_parquet_is_the_same_one_line_error(tmp_path):
     assert "'mass' (mass) is not numeric" in lines[0]
 
 
+@pytest.mark.slow
 def test_unreachable_scheduler_is_one_line_and_leaves_nothing(catalogue, tmp_path):
     base, _ = catalogue
     curve = CURVE

@@ -63,7 +63,7 @@ def dask_client(workers=2, scheduler=None, memory_limit=DEFAULT_MEMORY_LIMIT,
             with dask.config.set({"distributed.worker.profile.enabled": False}):
                 cluster = LocalCluster(n_workers=int(workers), threads_per_worker=1,
                                        processes=True, memory_limit=memory_limit,
-                                       dashboard_address=None, silence_logs=logging.ERROR)
+                                       dashboard_address=":0", silence_logs=logging.ERROR)
             client = Client(cluster, set_as_default=True)
     except (OSError, TimeoutError, ValueError) as err:
         if cluster is not None:

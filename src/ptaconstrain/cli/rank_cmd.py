@@ -130,13 +130,12 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     \b
       ptaconstrain rank demo_catalogue --curve synthetic_h0_limit --out ranking
       ptaconstrain rank demo_catalogue --array demo_array --background 2.4e-15 --out ranking
-      ptaconstrain rank galaxies_hats/ --engine dask --workers 2 \\
-          --curve synthetic_h0_limit --out ranking
 
     CATALOG is a table file or a shipped (invented) catalogue named as
     'ptaconstrain data' lists them, like --curve, --array and --limit-map;
     with the 'scale' extra also a Parquet file, a directory of Parquet files
-    or a HATS catalogue.
+    or a HATS catalogue, which --engine dask ranks on a Dask cluster (the
+    manual's page "Very large catalogues" shows how).
 
     The catalogue needs name, ra, dec and distance (Mpc) or redshift, plus a
     measured mass (solMass) or a predictor for a scaling relation
