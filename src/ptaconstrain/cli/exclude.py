@@ -10,7 +10,6 @@ from .params import (
     DISTANCE,
     LIMIT_MAP_FILE,
     MASS,
-    MASS_SAMPLES_FILE,
     SPEED,
     TIME,
     BackgroundType,
@@ -60,7 +59,7 @@ def _grid(text):
               help="Distance error: Gaussian sigma ('5', Mpc) or '10%'.")
 @click.option("--velocity-err", type=SPEED, default=None,
               help="Peculiar-velocity error of a redshift distance (km/s).")
-@click.option("--mass-samples", "mass_samples_path", type=MASS_SAMPLES_FILE,
+@click.option("--mass-samples", "mass_samples_path", type=click.Path(dir_okay=False),
               default=None,
               help="Posterior samples of the mass: a table with a 'mass' column (solMass), "
               "optionally 'distance' (Mpc) and 'weight'; replaces --mass-err (and "
@@ -132,7 +131,7 @@ def exclude(**opts):
           --curve synthetic_h0_limit --out results
       ptaconstrain exclude --mass 2e10 --distance 100 --eccentricity 0.5 \\
           --curve synthetic_h0_limit --out results
-      ptaconstrain exclude --mass 2e10 --distance 100 --mass-samples demo_mass_posterior \\
+      ptaconstrain exclude --mass 2e10 --distance 100 --mass-samples posterior.ecsv \\
           --seed 1 --curve synthetic_h0_limit --out results
       ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
           --array demo_array --background 2.4e-15 --years 0,5,10,20 \\

@@ -37,7 +37,6 @@ KINDS = {
     "catalogue": "galaxy catalogue",
     "hosts": "hosts table",
     "relations": "scaling relations",
-    "mass samples": "mass posterior samples",
     "cosmology": "cosmology table",
 }
 
@@ -91,9 +90,6 @@ _SHIPPED = (
                 "INVENTED host galaxies of the demo (fictional names, masses, positions)"),
     ShippedFile("demo_catalogue", "demo_catalogue.ecsv", "catalogue",
                 "INVENTED catalogue of 400 fictional massive galaxies"),
-    ShippedFile("demo_mass_posterior", "demo_mass_posterior.ecsv", "mass samples",
-                "INVENTED posterior samples (mass, distance, weight) of a fictional "
-                "galaxy's black hole, near 2e10 solMass at 100 Mpc"),
     ShippedFile("relations", "relations.toml", "relations",
                 "published black-hole mass scaling relations, each cited (not invented)"),
     ShippedFile("planck18_distance", "planck18_distance.ecsv", "cosmology",
