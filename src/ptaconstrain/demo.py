@@ -87,7 +87,7 @@ def _demo_outputs(out, overwrite, progress):
                  "_forecast.png); demo_overview.png compares every host, whose tables are all "
                  "written; draw any host with: ptaconstrain exclude --mass "
                  f"{first.mass.to_value('solMass'):.3g} --distance "
-                 f"{first.distance.to_value('Mpc'):.3g} --curve {limit_path} --out DIR")
+                 f"{first.distance.to_value('Mpc'):.3g} --curve {Path(LIMIT_FILE).stem} --out DIR")
     lines += _summary_outputs(results, out, overwrite, figures)
     lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite, figures)
     lines += array_part(out, hosts, overwrite, progress, figures)

@@ -36,6 +36,7 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     assert "e = 0.5: q >" in r.stdout and "with background: q >" in r.stdout
     assert len(list(out.glob("*.png"))) == 11
     assert "ptaconstrain exclude --mass" in r.stdout  # how to draw any other host
+    assert "--curve synthetic_h0_limit --out" in r.stdout  # a shipped name: runs anywhere
     # a forecast from a noise budget reaches smaller q than the present-day limit
     assert all(summary["best_q_forecast"] < summary["best_q_limit"])
     again = CliRunner().invoke(main, ["demo", "--out", str(out)])

@@ -56,7 +56,25 @@ __all__ = [
 ]
 
 def default_mass_ratios(n=300, q_min=1e-4):
-    """Log-spaced mass ratios from ``q_min`` to 1."""
+    """Log-spaced mass ratios from ``q_min`` to 1.
+
+    Parameters
+    ----------
+    n : int
+        Number of mass ratios.
+    q_min : float
+        Smallest mass ratio, in (0, 1).
+
+    Returns
+    -------
+    ndarray (n,)
+        Dimensionless, increasing.
+
+    Examples
+    --------
+    >>> default_mass_ratios(5)
+    array([1.e-04, 1.e-03, 1.e-02, 1.e-01, 1.e+00])
+    """
     return np.logspace(np.log10(q_min), 0.0, n)
 
 
@@ -66,6 +84,18 @@ def band_periods(curve):
     Returns
     -------
     Quantity (2,) [yr].
+
+    Parameters
+    ----------
+    curve : StrainCurve
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> band_periods(curve)   # 2 / (50 nHz) and 2 / (2 nHz)
+    <Quantity [ 1.26752351, 31.68808781] yr>
     """
     return wf.orbital_period(curve.frequency[[-1, 0]]).to(u.yr)
 
@@ -79,6 +109,22 @@ def default_periods(curve, n=300, pad=1.5):
     Returns
     -------
     Quantity [yr].
+
+    Parameters
+    ----------
+    curve : StrainCurve
+    n : int
+        Number of periods.
+    pad : float
+        Factor by which the band's period range is widened on each side.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> default_periods(curve, n=3)
+    <Quantity [ 0.845,  6.338, 47.532] yr>
     """
     p = band_periods(curve).value
     return np.logspace(np.log10(p[0] / pad), np.log10(p[1] * pad), n) * u.yr
@@ -141,6 +187,18 @@ class ExclusionMap(FromCurve):
     harmonics : ndarray of int
         Harmonics n of the orbital frequency used (those holding 99.9 % of
         the power; [2] for a circular orbit).
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> from ptaconstrain import Host, exclusion_map
+    >>> result = exclusion_map(Host("Invented galaxy", 2e10, 100), curve)
+    >>> result.region.shape, result.max_mass_ratio.shape      # [q, P] and [P]
+    ((300, 300), (300,))
+    >>> result.to_table().colnames[:4]
+    ['period', 'f_gw', 'h0_threshold', 'max_mass_ratio']
     """
 
     host: Host
@@ -278,6 +336,16 @@ def sensitivity_for(host, curve, warn=True):
     Returns
     -------
     StrainCurve
+
+    Examples
+    --------
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain import Host, load_array
+    >>> from ptaconstrain.data import path
+    >>> array = load_array(path("demo_array.ecsv"))          # invented pulsar array
+    >>> host = Host("Invented galaxy", 2e10, 100, coord=SkyCoord(280, -35, unit="deg"))
+    >>> sensitivity_for(host, array).kind                    # the array's curve at the host
+    'strain_psd'
     """
     if not isinstance(curve, PositionalSensitivity):
         return curve

@@ -90,6 +90,17 @@ class ProbabilityMap(FromCurve):
         Number of samples.
     orientation : bool
         Whether inclination was sampled (noise budgets).
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> from ptaconstrain import Host, exclusion_probability
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=10)
+    >>> prob = exclusion_probability(host, curve, samples=2000, seed=1)
+    >>> prob.probability.shape, prob.credibility
+    ((300, 300), (0.5, 0.9, 0.95))
     """
 
     mass_ratio: np.ndarray
@@ -332,6 +343,19 @@ def exclusion_probability(
     Returns
     -------
     ProbabilityMap
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=10)
+    >>> prob = exclusion_probability(host, curve, samples=2000, seed=1)
+    >>> period, q95 = prob.tightest(0.95)     # q above q95 excluded with probability >= 0.95
+    >>> period_best, q_best = prob.deterministic.tightest()
+    >>> bool(q95 > q_best)                     # the errors loosen the bound
+    True
     """
     levels = _check_credibility(credibility)
     curve = sensitivity_for(host, curve)

@@ -57,6 +57,13 @@ class ShippedFile:
         A key of :data:`KINDS`.
     description : str
         One line: what the file holds, and whether it is invented.
+
+    Examples
+    --------
+    >>> from ptaconstrain import data
+    >>> entry = data.shipped()[0]
+    >>> entry.name, entry.kind, entry.path.name
+    ('synthetic_h0_limit', 'curve', 'synthetic_h0_limit.ecsv')
     """
 
     name: str
@@ -118,6 +125,12 @@ def names():
     Returns
     -------
     list of str
+
+    Examples
+    --------
+    >>> from ptaconstrain import data
+    >>> "synthetic_h0_limit.ecsv" in data.names()
+    True
     """
     root = resources.files(__name__)
     return sorted(p.name for p in root.iterdir()
@@ -217,6 +230,12 @@ def shipped_name(file):
     Returns
     -------
     str or None
+
+    Examples
+    --------
+    >>> from ptaconstrain import data
+    >>> data.shipped_name(data.path("demo_array")), data.shipped_name("my_array.ecsv")
+    ('demo_array', None)
     """
     try:
         target = Path(file).resolve()

@@ -36,6 +36,19 @@ def provenance(inputs=None, files=None):
         version), ``source_revision`` (the git revision, only when running from a
         checkout),
         ``created`` (UTC), ``python``, and ``inputs`` and ``files`` when given.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     curve_file = Path(tmp) / "limit.ecsv"
+    ...     _ = curve_file.write_text("an invented curve")
+    ...     record = provenance({"mass": "2e10 solMass"}, {"curve": curve_file})
+    >>> {"software", "created", "python", "inputs", "files"} <= set(record)
+    True
+    >>> record["files"]["curve"]["sha256"][:12]
+    '8df2a293b39f'
     """
     from .._files import sha256
     from .._version import __version__
@@ -137,10 +150,19 @@ def safe_name(name):
     so that names differing only in such characters keep distinct files.  Dots
     are kept: the whole name survives.
 
+    Parameters
+    ----------
+    name : str
+
+    Returns
+    -------
+    str
+        "host" for an empty name.
+
     Examples
     --------
-    >>> safe_name("NGC 1"), safe_name("Fictus J1234.5+6789")
-    ('NGC_1', 'Fictus_J1234.5_6789_04703a')
+    >>> safe_name("Host A 1"), safe_name("Fictus J1234.5+6789")
+    ('Host_A_1', 'Fictus_J1234.5_6789_04703a')
     """
     import hashlib
 

@@ -53,7 +53,25 @@ _METHODS = ("exact", "analytic")
 
 
 class ArrayError(InputError):
-    """A pulsar list or array that cannot be used; the message names the fix."""
+    """A pulsar list or array that cannot be used; the message names the fix.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain.sensitivity import ArrayError, PulsarArray
+    >>> try:
+    ...     PulsarArray(["P1"], SkyCoord([10], [20], unit="deg"), [-1] * u.us, [14] * u.d,
+    ...                 [55000], [58000])
+    ... except ArrayError as err:
+    ...     print(err)
+    row 1 (P1): toa_rms = -1 is not positive and finite: give a positive TOA rms in us
+    """
 
 
 class PulsarArray:
@@ -83,6 +101,19 @@ class PulsarArray:
     ------
     ArrayError
         Naming the row, the column and the fix.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> array = PulsarArray(["Invented A", "Invented B"],
+    ...                     SkyCoord([10, 200], [20, -40], unit="deg"),
+    ...                     [0.5, 1.0] * u.us, [14, 14] * u.d, [53000, 53000], [58479, 58479])
+    >>> array.span.round(1)
+    <Quantity 15. yr>
+    >>> curve = array.curve_at(SkyCoord(100, 0, unit="deg"), snr=5.0)   # a forecast
+    >>> curve.kind
+    'strain_psd'
     """
 
     def __init__(self, names, coord, toa_rms, cadence, start_mjd, end_mjd, red_amp=None,
@@ -655,7 +686,7 @@ def _validate_array(arr):
     for values, col, fix in checks:
         bad = np.flatnonzero(~(np.isfinite(values) & (values > 0)))
         if bad.size:
-            fail(bad[0], f"{col} = {values[bad[0]]!r} is not positive and finite: {fix}")
+            fail(bad[0], f"{col} = {values[bad[0]]:g} is not positive and finite: {fix}")
     for col in ("start_mjd", "end_mjd"):
         bad = np.flatnonzero(~np.isfinite(getattr(arr, col)))
         if bad.size:

@@ -91,6 +91,14 @@ def single_blas_thread(threads=1):
     Returns
     -------
     context manager
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> with single_blas_thread():
+    ...     x = np.linalg.solve(np.eye(3), np.ones(3))
+    >>> x
+    array([1., 1., 1.])
     """
     import contextlib
 
@@ -142,6 +150,13 @@ def red_noise_psd(frequency, amplitude, gamma):
     Returns
     -------
     Quantity [s^2 / Hz], broadcast over the inputs.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> f_yr = 1 / u.yr
+    >>> red_noise_psd(f_yr, 1e-14, 13 / 3).to(u.s**2 / u.Hz)   # A^2 / (12 pi^2) f_yr^-3
+    <Quantity 2.654e-08 s2 / Hz>
     """
     x = (frequency / F_YR).to_value(u.dimensionless_unscaled)
     amp = np.asarray(amplitude, float)
@@ -166,6 +181,12 @@ def timing_design_matrix(mjd):
     Returns
     -------
     ndarray (N, 9)
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> timing_design_matrix(np.linspace(55000.0, 58650.0, 100)).shape
+    (100, 9)
     """
     mjd = np.asarray(mjd, float)
     span = max(mjd[-1] - mjd[0], 1.0)
@@ -205,6 +226,17 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma, background=No
     -------
     (ndarray (N, 2K), Quantity (2K,) [s^2]) or None
         None when the red noise is negligible at every mode.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> t = np.arange(0.0, 3652.5, 14.0) * u.d
+    >>> red_noise_basis(t, 10 * u.yr, 1 * u.us, 14 * u.d, 0.0, 0.0) is None   # no red noise
+    True
+    >>> basis, power = red_noise_basis(t, 10 * u.yr, 1 * u.us, 14 * u.d, 1e-14, 13 / 3)
+    >>> basis.shape[0] == t.size and basis.shape[1] == power.size
+    True
     """
     if not (red_amp > 0 or background is not None):
         return None
@@ -251,6 +283,18 @@ def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_t
     Returns
     -------
     Quantity (n_f,) [1 / s^2]
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> mjd = np.arange(53000.0, 53000.0 + 3652.5, 14.0)          # 10 yr, every 14 d
+    >>> w = post_fit_weights(mjd, 1 * u.us, [0.5, 10.0] * u.nHz)
+    >>> w.unit
+    Unit("1 / s2")
+    >>> flat = approximate_weights(mjd.size, 14 * u.d, white_noise_psd(1 * u.us, 14 * u.d))
+    >>> (w / flat).to_value("").round(2)   # the timing fit absorbs slow signals
+    array([0.  , 0.95])
     """
     with single_blas_thread(blas_threads):
         return _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background)
