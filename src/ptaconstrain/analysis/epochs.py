@@ -41,6 +41,18 @@ class EpochForecast(FromCurve):
         The period of that bound (NaN when none).
     rms_factor : float
         TOA-rms improvement factor of the extended data (1: unchanged).
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain.binary import Host
+    >>> from ptaconstrain.sensitivity import PulsarArray
+    >>> arr = PulsarArray(["A", "B", "C"], SkyCoord([10, 100, 200], [-20, 30, 5], unit="deg"),
+    ...                   [0.2] * 3 * u.us, [14] * 3 * u.d, [55000] * 3, [57200] * 3)
+    >>> r = forecast_over_time(Host("Invented", 1e10, 30, ra=150, dec=10), arr, [0, 10])
+    >>> bool(r.tightest_mass_ratio[1] < r.tightest_mass_ratio[0])  # longer is deeper
+    True
     """
 
     host: object
@@ -117,6 +129,18 @@ def forecast_over_time(host, array, years, rms_factor=1.0, mass_ratio=None, peri
     Returns
     -------
     EpochForecast
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain.binary import Host
+    >>> from ptaconstrain.sensitivity import PulsarArray
+    >>> arr = PulsarArray(["A", "B"], SkyCoord([10, 100], [-20, 30], unit="deg"),
+    ...                   [0.2] * 2 * u.us, [14] * 2 * u.d, [55000] * 2, [57200] * 2)
+    >>> r = forecast_over_time(Host("Invented", 1e10, 30, ra=150, dec=10), arr, [0, 5, 10])
+    >>> r.span.round(1)
+    <Quantity [ 6., 11., 16.] yr>
     """
     years = np.atleast_1d(quantity(years, u.yr, "years"))
     if years.size == 0 or np.any(years.value < 0):

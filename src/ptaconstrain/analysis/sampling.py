@@ -372,6 +372,15 @@ def resample_host(host, mass_samples, n=100_000, seed=None, orientation=False):
     Returns
     -------
     HostSamples
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.binary import Host, MassSamples
+    >>> post = MassSamples([1e9, 2e9] * u.Msun, distance=[20, 22] * u.Mpc, weights=[1, 3])
+    >>> s = resample_host(Host("Invented", 1.5e9, 21), post, n=1000, seed=1)
+    >>> float(abs((s.mass.value == 2e9).mean() - 0.75)) < 0.05
+    True
     """
     n, seed = _check_draws(n, seed)
     rng = np.random.default_rng(seed)

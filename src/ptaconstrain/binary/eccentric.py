@@ -193,6 +193,13 @@ def decay_rates(total_mass, mass_ratio, separation, eccentricity):
     Returns
     -------
     (Quantity [m/s], Quantity [1/s])
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> dadt, dedt = decay_rates(1e9 * u.Msun, 0.5, 0.01 * u.pc, 0.5)
+    >>> print(f"{dadt:.3g}, {dedt:.3g}")
+    -456 m / s, -5.41e-13 1 / s
     """
     eta = wf.symmetric_mass_ratio(mass_ratio)
     e = np.asarray(eccentricity, dtype=float)
@@ -220,6 +227,11 @@ def merger_time_factor(eccentricity):
     Returns
     -------
     float, 1 at e0 = 0, decreasing towards (768/425) (1 - e0^2)^(7/2) as e0 -> 1.
+
+    Examples
+    --------
+    >>> round(merger_time_factor(0.5), 4)
+    0.3578
     """
     from scipy import integrate
 
@@ -257,6 +269,12 @@ def merger_time(total_mass, mass_ratio, period, eccentricity, redshift=0.0):
     Returns
     -------
     Quantity [yr], broadcast over the inputs.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> print(f"{merger_time(1e9 * u.Msun, 0.5, 1 * u.yr, 0.5):.4g}")
+    517 yr
     """
     e = check_eccentricity(eccentricity)
     tc = wf.coalescence_time(total_mass, mass_ratio, wf.gw_frequency(period), redshift)
@@ -285,6 +303,12 @@ def pericentre_isco_frequency(total_mass, eccentricity, redshift=0.0):
     Returns
     -------
     Quantity [Hz]
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> print(f"{pericentre_isco_frequency(1e10 * u.Msun, 0.5):.4g}")
+    1.555e-07 Hz
     """
     return wf.isco_frequency(total_mass, redshift) * pericentre_isco_factor(eccentricity)
 
@@ -301,5 +325,10 @@ def pericentre_isco_factor(eccentricity):
     Returns
     -------
     float
+
+    Examples
+    --------
+    >>> pericentre_isco_factor(0.0), round(pericentre_isco_factor(0.5), 4)
+    (1.0, 0.3536)
     """
     return (1.0 - check_eccentricity(eccentricity)) ** 1.5

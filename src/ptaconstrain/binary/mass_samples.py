@@ -26,7 +26,21 @@ __all__ = ["MassSamples", "MassSamplesError", "load_mass_samples"]
 
 
 class MassSamplesError(InputError):
-    """A posterior-sample table that cannot be used; the message names the fix."""
+    """A posterior-sample table that cannot be used; the message names the fix.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> try:
+    ...     MassSamples([1e9])
+    ... except MassSamplesError as err:
+    ...     print(err)
+    mass samples: need at least two samples in one column
+    """
 
 
 @dataclass(frozen=True, eq=False)
@@ -128,6 +142,13 @@ def load_mass_samples(path):
     ------
     MassSamplesError
         One line naming the file, the column and the fix.
+
+    Examples
+    --------
+    >>> from ptaconstrain.data import path
+    >>> post = load_mass_samples(path("demo_mass_samples.ecsv"))  # INVENTED samples
+    >>> post.size, post.distance.unit
+    (2000, Unit("Mpc"))
     """
     from pathlib import Path
 

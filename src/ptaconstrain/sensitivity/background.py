@@ -203,6 +203,19 @@ def correlated_snr_squared(array, background, h0, frequency, coord, correlated=T
     Returns
     -------
     ndarray (n_f,)
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain.sensitivity import PulsarArray
+    >>> arr = PulsarArray(["A", "B", "C"], SkyCoord([10, 100, 200], [-20, 30, 5], unit="deg"),
+    ...                   [0.2] * 3 * u.us, [28] * 3 * u.d, [55000] * 3, [57922] * 3)
+    >>> f, src, bg = [3e-9, 3e-8] * u.Hz, SkyCoord(150, 10, unit="deg"), Background(2.4e-15)
+    >>> hd = correlated_snr_squared(arr, bg, 1e-14, f, src)
+    >>> per_pulsar = correlated_snr_squared(arr, bg, 1e-14, f, src, correlated=False)
+    >>> bool(np.all(np.abs(hd / per_pulsar - 1) < 0.2))
+    True
     """
     from scipy import linalg
 
