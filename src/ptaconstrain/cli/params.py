@@ -7,8 +7,8 @@ import click
 
 __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
            "LevelList", "InputFile", "CURVE_FILE", "ARRAY_FILE", "LIMIT_MAP_FILE",
-           "CATALOGUE_FILE", "BackgroundType", "BACKGROUND_HELP", "YearList", "MASS",
-           "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
+           "CATALOGUE_FILE", "MASS_SAMPLES_FILE", "BackgroundType", "BACKGROUND_HELP",
+           "YearList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
 
 
 class QuantityType(click.ParamType):
@@ -203,6 +203,7 @@ CURVE_FILE = InputFile("curve")
 ARRAY_FILE = InputFile("pulsar list")
 LIMIT_MAP_FILE = InputFile("limit map")
 CATALOGUE_FILE = InputFile("catalogue", "hosts", directories=True)
+MASS_SAMPLES_FILE = InputFile("mass samples")
 
 
 class BackgroundType(click.ParamType):
