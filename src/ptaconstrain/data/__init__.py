@@ -17,6 +17,7 @@ name                        kind           what it is
 ``demo_array``              pulsar list    invented pulsar list (a fictional array)
 ``demo_hosts``              hosts          invented host galaxies for the demo
 ``demo_catalogue``          catalogue      invented catalogue of 400 massive galaxies
+``demo_mass_samples``       mass samples   invented posterior samples of a black-hole mass
 ``relations``               relations      black-hole mass scaling relations (published)
 ``planck18_distance``       cosmology      D_L(z) of Planck18 from astropy (spline
                                            nodes; ``examples/make_cosmology_table.py``)
@@ -36,6 +37,7 @@ KINDS = {
     "limit map": "HEALPix limit map",
     "catalogue": "galaxy catalogue",
     "hosts": "hosts table",
+    "mass samples": "posterior samples of a black-hole mass",
     "relations": "scaling relations",
     "cosmology": "cosmology table",
 }
@@ -90,6 +92,9 @@ _SHIPPED = (
                 "INVENTED host galaxies of the demo (fictional names, masses, positions)"),
     ShippedFile("demo_catalogue", "demo_catalogue.ecsv", "catalogue",
                 "INVENTED catalogue of 400 fictional massive galaxies"),
+    ShippedFile("demo_mass_samples", "demo_mass_samples.ecsv", "mass samples",
+                "INVENTED weighted posterior samples of a black-hole mass and distance "
+                "(2e10 solMass at 100 Mpc, skewed)"),
     ShippedFile("relations", "relations.toml", "relations",
                 "published black-hole mass scaling relations, each cited (not invented)"),
     ShippedFile("planck18_distance", "planck18_distance.ecsv", "cosmology",
