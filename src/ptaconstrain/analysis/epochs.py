@@ -46,13 +46,15 @@ class EpochForecast(FromCurve):
     --------
     >>> from astropy import units as u
     >>> from astropy.coordinates import SkyCoord
-    >>> from ptaconstrain.binary import Host
-    >>> from ptaconstrain.sensitivity import PulsarArray
-    >>> arr = PulsarArray(["A", "B", "C"], SkyCoord([10, 100, 200], [-20, 30, 5], unit="deg"),
-    ...                   [0.2] * 3 * u.us, [14] * 3 * u.d, [55000] * 3, [57200] * 3)
-    >>> r = forecast_over_time(Host("Invented", 1e10, 30, ra=150, dec=10), arr, [0, 10])
-    >>> bool(r.tightest_mass_ratio[1] < r.tightest_mass_ratio[0])  # longer is deeper
-    True
+    >>> from ptaconstrain import PulsarArray
+    >>> array = PulsarArray(["Invented A", "Invented B"],
+    ...                     SkyCoord([10, 200], [20, -40], unit="deg"), [1, 1] * u.us,
+    ...                     [30, 30] * u.d, [55000, 55000], [56826, 56826])
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 20, coord=SkyCoord(100, 0, unit="deg"))
+    >>> result = forecast_over_time(host, array, [0, 5])
+    >>> result.span.round(1)
+    <Quantity [ 5., 10.] yr>
     """
 
     host: object
@@ -134,13 +136,15 @@ def forecast_over_time(host, array, years, rms_factor=1.0, mass_ratio=None, peri
     --------
     >>> from astropy import units as u
     >>> from astropy.coordinates import SkyCoord
-    >>> from ptaconstrain.binary import Host
-    >>> from ptaconstrain.sensitivity import PulsarArray
-    >>> arr = PulsarArray(["A", "B"], SkyCoord([10, 100], [-20, 30], unit="deg"),
-    ...                   [0.2] * 2 * u.us, [14] * 2 * u.d, [55000] * 2, [57200] * 2)
-    >>> r = forecast_over_time(Host("Invented", 1e10, 30, ra=150, dec=10), arr, [0, 5, 10])
-    >>> r.span.round(1)
-    <Quantity [ 6., 11., 16.] yr>
+    >>> from ptaconstrain import PulsarArray
+    >>> array = PulsarArray(["Invented A", "Invented B"],
+    ...                     SkyCoord([10, 200], [20, -40], unit="deg"), [1, 1] * u.us,
+    ...                     [30, 30] * u.d, [55000, 55000], [56826, 56826])
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 20, coord=SkyCoord(100, 0, unit="deg"))
+    >>> result = forecast_over_time(host, array, [0, 5])   # today, and 5 more years
+    >>> result.tightest_mass_ratio.round(3)                 # longer data, smaller companions
+    array([0.04 , 0.021])
     """
     years = np.atleast_1d(quantity(years, u.yr, "years"))
     if years.size == 0 or np.any(years.value < 0):

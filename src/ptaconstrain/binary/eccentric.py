@@ -197,9 +197,10 @@ def decay_rates(total_mass, mass_ratio, separation, eccentricity):
     Examples
     --------
     >>> from astropy import units as u
-    >>> dadt, dedt = decay_rates(1e9 * u.Msun, 0.5, 0.01 * u.pc, 0.5)
-    >>> print(f"{dadt:.3g}, {dedt:.3g}")
-    -456 m / s, -5.41e-13 1 / s
+    >>> da0, de0 = decay_rates(1e9 * u.Msun, 1.0, 0.01 * u.pc, 0.0)
+    >>> da5, de5 = decay_rates(1e9 * u.Msun, 1.0, 0.01 * u.pc, 0.5)
+    >>> float(de0.value), round(float(da5 / da0), 4)   # circular stays circular; x F(0.5)
+    (-0.0, 4.8843)
     """
     eta = wf.symmetric_mass_ratio(mass_ratio)
     e = np.asarray(eccentricity, dtype=float)
@@ -230,8 +231,8 @@ def merger_time_factor(eccentricity):
 
     Examples
     --------
-    >>> round(merger_time_factor(0.5), 4)
-    0.3578
+    >>> merger_time_factor(0.0), round(merger_time_factor(0.5), 4)
+    (1.0, 0.3578)
     """
     from scipy import integrate
 
@@ -273,8 +274,11 @@ def merger_time(total_mass, mass_ratio, period, eccentricity, redshift=0.0):
     Examples
     --------
     >>> from astropy import units as u
-    >>> print(f"{merger_time(1e9 * u.Msun, 0.5, 1 * u.yr, 0.5):.4g}")
-    517 yr
+    >>> from ptaconstrain.binary.waveform import coalescence_time, gw_frequency
+    >>> merger_time(1e10 * u.Msun, 1.0, 5 * u.yr, 0.0).to(u.kyr)
+    <Quantity 2.023 kyr>
+    >>> coalescence_time(1e10 * u.Msun, 1.0, gw_frequency(5 * u.yr)).to(u.kyr)   # e = 0
+    <Quantity 2.023 kyr>
     """
     e = check_eccentricity(eccentricity)
     tc = wf.coalescence_time(total_mass, mass_ratio, wf.gw_frequency(period), redshift)
@@ -307,8 +311,10 @@ def pericentre_isco_frequency(total_mass, eccentricity, redshift=0.0):
     Examples
     --------
     >>> from astropy import units as u
-    >>> print(f"{pericentre_isco_frequency(1e10 * u.Msun, 0.5):.4g}")
-    1.555e-07 Hz
+    >>> pericentre_isco_frequency(1 * u.Msun, 0.0)     # the circular f_ISCO at e = 0
+    <Quantity 4397.2 Hz>
+    >>> pericentre_isco_frequency(1 * u.Msun, 0.5)
+    <Quantity 1554.6 Hz>
     """
     return wf.isco_frequency(total_mass, redshift) * pericentre_isco_factor(eccentricity)
 
@@ -328,7 +334,7 @@ def pericentre_isco_factor(eccentricity):
 
     Examples
     --------
-    >>> pericentre_isco_factor(0.0), round(pericentre_isco_factor(0.5), 4)
-    (1.0, 0.3536)
+    >>> round(pericentre_isco_factor(0.5), 4)   # 0.5^(3/2)
+    0.3536
     """
     return (1.0 - check_eccentricity(eccentricity)) ** 1.5

@@ -145,10 +145,14 @@ def load_mass_samples(path):
 
     Examples
     --------
-    >>> from ptaconstrain.data import path
-    >>> post = load_mass_samples(path("demo_mass_samples.ecsv"))  # INVENTED samples
-    >>> post.size, post.distance.unit
-    (2000, Unit("Mpc"))
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     table = Path(tmp) / "posterior.csv"
+    ...     _ = table.write_text(chr(10).join(["mass", "1.8e10", "2.0e10", "2.3e10"]))
+    ...     samples = load_mass_samples(table)
+    >>> samples.mass
+    <Quantity [1.8e+10, 2.0e+10, 2.3e+10] solMass>
     """
     from pathlib import Path
 

@@ -172,13 +172,18 @@ class InputFile(click.ParamType):
 
     name = "file|shipped-name"
 
-    def __init__(self, *kinds):
+    def __init__(self, *kinds, directories=False):
         self.kinds = kinds
+        self.directories = directories  # a partitioned catalogue is a directory
 
     def convert(self, value, param, ctx):
+        from pathlib import Path
+
         from ..data import resolve
         from ..errors import InputError
 
+        if self.directories and Path(value).is_dir():
+            return str(value)
         try:
             return str(resolve(value, self.kinds))
         except InputError as err:
@@ -197,7 +202,7 @@ class InputFile(click.ParamType):
 CURVE_FILE = InputFile("curve")
 ARRAY_FILE = InputFile("pulsar list")
 LIMIT_MAP_FILE = InputFile("limit map")
-CATALOGUE_FILE = InputFile("catalogue", "hosts")
+CATALOGUE_FILE = InputFile("catalogue", "hosts", directories=True)
 MASS_SAMPLES_FILE = InputFile("mass samples")
 
 
