@@ -4,6 +4,8 @@ Figures are :class:`matplotlib.figure.Figure` objects made without pyplot;
 matplotlib is imported only inside the functions that draw.
 """
 
+from .comparison import comparison_figure
+from .epochs import epoch_figure, epoch_table
 from .figures import REGION_STYLE, exclusion_figure, save_figure
 from .overview import overview_figure
 from .probability_plot import add_probability_contours, probability_columns
@@ -28,4 +30,7 @@ __all__ = [
     "sci_text",
     "unicode_log_ticks",
     "minor_ticks_as_markers",
+    "comparison_figure",
+    "epoch_table",
+    "epoch_figure",
 ]

@@ -17,6 +17,20 @@ def comparison_figure(left, right, title):
     Returns
     -------
     matplotlib.figure.Figure
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, StrainCurve, exclusion_map
+    >>> f = np.geomspace(2e-9, 3e-7, 40) * u.Hz
+    >>> limit = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit",
+    ...                     {"span": "15 yr"})  # an invented limit
+    >>> host = Host("Invented", 2e10, 50)
+    >>> fig = comparison_figure(exclusion_map(host, limit),
+    ...                         exclusion_map(host, limit, eccentricity=0.5), "e = 0 and 0.5")
+    >>> fig.get_suptitle()
+    'e = 0 and 0.5'
     """
     from matplotlib.figure import Figure
 

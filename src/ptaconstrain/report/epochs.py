@@ -15,9 +15,27 @@ def epoch_table(result, meta=None, target_q=None):
     (FORECAST), the host, the TOA-rms factor and the first epoch reaching
     ``target_q``.
 
+    Parameters
+    ----------
+    result : EpochForecast
+    meta : dict, optional
+        More provenance for the table meta.
+    target_q : float, optional
+
     Returns
     -------
     astropy.table.QTable
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain import Host, PulsarArray, forecast_over_time
+    >>> arr = PulsarArray(["A", "B"], SkyCoord([10, 100], [-20, 30], unit="deg"),
+    ...                   [0.2] * 2 * u.us, [14] * 2 * u.d, [55000] * 2, [57200] * 2)
+    >>> r = forecast_over_time(Host("Invented", 1e10, 30, ra=150, dec=10), arr, [0, 10])
+    >>> epoch_table(r, target_q=1.0).colnames[:3]
+    ['added_years', 'span', 'tightest_mass_ratio']
     """
     from astropy.table import QTable
 
@@ -63,6 +81,17 @@ def epoch_figure(result, ax=None, target_q=None):
     Returns
     -------
     matplotlib.figure.Figure
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain import Host, PulsarArray, forecast_over_time
+    >>> arr = PulsarArray(["A", "B"], SkyCoord([10, 100], [-20, 30], unit="deg"),
+    ...                   [0.2] * 2 * u.us, [14] * 2 * u.d, [55000] * 2, [57200] * 2)
+    >>> r = forecast_over_time(Host("Invented", 1e10, 30, ra=150, dec=10), arr, [0, 10])
+    >>> epoch_figure(r).axes[0].get_xlabel()
+    'observing span of the array [yr]'
     """
     from matplotlib.figure import Figure
 
