@@ -33,8 +33,19 @@ def _grid(text):
 
 
 @main.command()
-@click.option("--mass", type=MASS, required=True,
-              help="Total black-hole mass M = m1 + m2; bare numbers are solMass.")
+@click.option("--mass", type=MASS, default=None,
+              help="Total black-hole mass M = m1 + m2; bare numbers are solMass "
+              "(required unless --hosts).")
+@click.option("--hosts", type=click.Path(dir_okay=False), default=None,
+              help="A table of hosts (any table astropy reads; columns as for 'rank'): "
+              "bound every host, write a summary table and an overview figure.")
+@click.option("--columns", "columns_file", type=click.Path(dir_okay=False), default=None,
+              help="With --hosts: TOML column mapping ([columns] FIELD = \"name\", [units]).")
+@click.option("--column", "column_pairs", multiple=True,
+              help="With --hosts: one mapping FIELD=COLUMN (repeatable).")
+@click.option("--on-bad", type=click.Choice(["error", "skip"]), default="error",
+              show_default=True,
+              help="With --hosts: stop at a bad row or host, or skip and count them.")
 @click.option("--distance", type=DISTANCE, default=None,
               help="Luminosity distance; bare numbers are Mpc.")
 @click.option("--redshift", type=click.FloatRange(min=0), default=None,
@@ -78,8 +89,8 @@ def _grid(text):
               help="Orbital period range LOW,HIGH (yr); default: the curve's band.")
 @click.option("--grid", default="300", show_default=True,
               help="Grid size N (N x N) or NQxNP.")
-@click.option("--format", "formats", type=FormatList(), default="png,pdf", show_default=True,
-              help="Figure formats, comma-separated.")
+@click.option("--format", "formats", type=FormatList(allow_none=True), default="png,pdf",
+              show_default=True, help="Figure formats, comma-separated; 'none': tables only.")
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (created if needed).")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
@@ -102,8 +113,26 @@ def exclude(**opts):
       ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
           --distance-err 10% --mass-distance 100 --seed 1 \\
           --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+      ptaconstrain exclude --hosts src/ptaconstrain/data/example_hosts.ecsv \\
+          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+
+    With --hosts TABLE every host of the table is bounded in one run:
+    OUT/<name>_exclusion.* per host, OUT/hosts_summary.ecsv (one row per host)
+    and OUT/hosts_overview.png/.pdf.
     """
-    for line in run_exclusion(**opts):
+    if opts["hosts"] is not None:
+        from .batch import run_batch
+
+        lines = run_batch({**opts, "grid": _grid(opts["grid"])})
+    else:
+        if opts["mass"] is None:
+            raise click.UsageError("give --mass (one host) or --hosts TABLE (many hosts)")
+        for key, option in (("hosts", "--hosts"), ("columns_file", "--columns"),
+                            ("column_pairs", "--column"), ("on_bad", "--on-bad")):
+            if opts.pop(key) not in (None, (), "error"):
+                raise click.UsageError(f"{option} applies to --hosts only")
+        lines = run_exclusion(**opts)
+    for line in lines:
         click.echo(line)
 
 
@@ -184,9 +213,10 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     inputs["sensitivity_sky"] = sky_note
     meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
     table = exclusion_table(result, meta, prob_map=prob)
-    fig = exclusion_figure(result, prob_map=prob)
     write_table(table, targets[0], overwrite)
-    written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
+    written = [targets[0]]
+    if formats:
+        written += save_figure(exclusion_figure(result, prob_map=prob), stem, formats, overwrite)
     lines = summary_lines(result)
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")

@@ -13,6 +13,7 @@ file                             what it is
 ``synthetic_h0_limit_map.fits``  invented HEALPix map of h0 upper limits
 ``demo_array.ecsv``              invented pulsar list (the demo's fictional array)
 ``demo_hosts.ecsv``              invented host galaxies for the demo
+``example_hosts.ecsv``           invented hosts table for ``exclude --hosts``
 ``demo_catalogue.ecsv``          invented catalogue of 400 massive galaxies
 ``relations.toml``               black-hole mass scaling relations (published)
 ``planck18_distance.ecsv``       D_L(z) of Planck18 from astropy (spline nodes; see

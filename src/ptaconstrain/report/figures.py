@@ -9,6 +9,7 @@ import numpy as np
 from astropy import units as u
 
 from ..analysis.regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTRAINED
+from .statements import figure_statement, probability_footer
 from .style import MSUN, minor_ticks_as_markers, sci_text, unicode_log_ticks
 
 __all__ = ["REGION_STYLE", "exclusion_figure", "save_figure"]
@@ -168,11 +169,10 @@ def exclusion_figure(result, ax=None, prob_map=None):
               ncol=2, fontsize=8, frameon=False)
     if own_figure:
         _fit_legend_rows(fig, (len(entries) + 1) // 2)
-    if lim:
-        kind = f"exclusion, {result.label}"
-    else:
-        kind = (f"forecast, not an exclusion: S/N ≥ {result.snr:g} over "
-                f"{result.span.to_value(u.yr):.3g} yr")
+    kind = figure_statement(result)
+    if prob_map is not None:
+        fig.text(0.01, 0.005, probability_footer(prob_map), fontsize=7, color="0.3",
+                 ha="left", va="bottom")
     host = result.host
     # A fixed offset above the top axis (its tick labels and label take ~31 pt): with
     # the automatic title position matplotlib lays the top axis out a second time.
