@@ -32,21 +32,24 @@ def column_map(columns_file, column_pairs):
     return ColumnMap({**columns.columns, **extra}, columns.units) if extra else columns
 
 
-def run_batch(opts):
+def run_batch(opts, explicit=frozenset()):
     """Library calls behind ``exclude --hosts``; returns the summary lines.
 
     Parameters
     ----------
     opts : dict
         The ``exclude`` command's options.
+    explicit : set of str
+        The options given on the command line (for notes on ignored ones).
     """
     import numpy as np
     from astropy import units as u
 
     from .._files import check_new
-    from ..analysis.batch import bound_hosts
+    from ..analysis.batch import bound_hosts, has_errors
     from ..analysis.exclusion import default_periods
     from ..catalogue.hosts import read_hosts
+    from .notes import note_assumed_span, note_ignored_options
     from .progress import progress_bar
     from .sources import load_sensitivity
 
@@ -58,7 +61,11 @@ def run_batch(opts):
     table = read_hosts(opts["hosts"], column_map(opts["columns_file"], opts["column_pairs"]),
                        on_bad=opts["on_bad"])
     sens = load_sensitivity(opts["curve_path"], opts["kind"], opts["array_path"],
-                            opts["limit_map_path"], opts["snr"])
+                            opts["limit_map_path"], opts["snr"], opts["confidence"])
+    note_ignored_options(explicit, sens.forecast, any(map(has_errors, table.hosts)),
+                         sens.option)
+    if sens.option == "--curve":
+        note_assumed_span(sens.source, opts["span"])
     nq, n_p = opts["grid"]
     lo_q, hi_q = opts["mass_ratio_range"]
     q = np.logspace(np.log10(lo_q), np.log10(hi_q), nq)

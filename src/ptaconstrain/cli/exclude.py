@@ -3,6 +3,7 @@
 import click
 
 from . import main
+from .notes import explicit_options, note_assumed_span, note_ignored_options
 from .params import (
     DISTANCE,
     MASS,
@@ -79,6 +80,9 @@ def _grid(text):
               "the host's pixel.")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What a plain-text curve holds.")
+@click.option("--confidence", type=click.FloatRange(0, 1, min_open=True, max_open=True),
+              default=None, help="Confidence of a --curve upper limit that states none "
+              "(plain text); default 0.95, with a note.")
 @click.option("--snr", type=click.FloatRange(min=0, min_open=True), default=5.0,
               show_default=True, help="S/N threshold for noise-budget curves.")
 @click.option("--span", type=TIME, default=None,
@@ -123,7 +127,7 @@ def exclude(**opts):
     if opts["hosts"] is not None:
         from .batch import run_batch
 
-        lines = run_batch({**opts, "grid": _grid(opts["grid"])})
+        lines = run_batch({**opts, "grid": _grid(opts["grid"])}, explicit_options())
     else:
         if opts["mass"] is None:
             raise click.UsageError("give --mass (one host) or --hosts TABLE (many hosts)")
@@ -131,7 +135,7 @@ def exclude(**opts):
                             ("column_pairs", "--column"), ("on_bad", "--on-bad")):
             if opts.pop(key) not in (None, (), "error"):
                 raise click.UsageError(f"{option} applies to --hosts only")
-        lines = run_exclusion(**opts)
+        lines = run_exclusion(**opts, explicit=explicit_options())
     for line in lines:
         click.echo(line)
 
@@ -139,7 +143,8 @@ def exclude(**opts):
 def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, velocity_dispersion,
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
-                  period_range, grid, formats, out, overwrite):
+                  period_range, grid, formats, out, overwrite, confidence=None,
+                  explicit=frozenset()):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -170,9 +175,12 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")
-    curve = load_curve(curve_path, kind=kind) if curve_path is not None else None
+    curve = (load_curve(curve_path, kind=kind, confidence=confidence)
+             if curve_path is not None else None)
     # an upper limit gives an exclusion, a noise budget (or a pulsar list) a forecast
     forecast = array_path is not None or (curve is not None and not curve.is_limit)
+    sampled = bool(mass_err or distance_err or velocity_err is not None)
+    note_ignored_options(explicit, forecast, sampled, given[0])
     stem = Path(out) / f"{safe_name(name)}_{'forecast' if forecast else 'exclusion'}"
     targets = [Path(f"{stem}.ecsv")] + [Path(f"{stem}.{f}") for f in formats]
     check_new(targets, overwrite)  # before the slow part, so a refusal costs nothing
@@ -187,8 +195,9 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     else:
         lo, hi = (p.to_value(u.yr) for p in period_range)
         period = np.logspace(np.log10(lo), np.log10(hi), n_p) * u.yr
+    note_assumed_span(curve, span)
     prob = None
-    if mass_err or distance_err or velocity_err is not None:
+    if sampled:
         from ..analysis.probability import exclusion_probability
 
         prob = exclusion_probability(host, curve, q, period, samples=samples, seed=seed,
@@ -198,6 +207,11 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
 
     if not np.isfinite(result.max_mass_ratio).any():
+        from ..sensitivity.curve import frequency_unit_hint
+
+        hint = frequency_unit_hint(curve.frequency)
+        if hint:  # the likelier mistake: a text curve written in nHz or mHz
+            raise click.UsageError(f"no period of the grid is constrained: {hint}")
         band = band_periods(curve).value
         p_isco = orbital_period(result.isco_frequency).value
         raise click.UsageError(

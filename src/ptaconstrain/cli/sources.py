@@ -36,7 +36,7 @@ class Sensitivity:
         return self.option.lstrip("-").replace("-", "_")
 
 
-def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0):
+def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0, confidence=None):
     """Load the one sensitivity given; an array's timing fits run behind a progress bar.
 
     Raises
@@ -62,7 +62,7 @@ def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0):
     if option == "--curve":
         from ..sensitivity.curve import load_curve
 
-        source = load_curve(path, kind=kind)
+        source = load_curve(path, kind=kind, confidence=confidence)
     elif option == "--array":
         from ..sensitivity.pulsar_list import load_array
 

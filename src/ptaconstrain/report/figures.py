@@ -12,7 +12,7 @@ from ..analysis.regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTR
 from .statements import figure_statement, probability_footer
 from .style import MSUN, minor_ticks_as_markers, sci_text, unicode_log_ticks
 
-__all__ = ["REGION_STYLE", "exclusion_figure", "save_figure"]
+__all__ = ["REGION_STYLE", "exclusion_figure", "save_figure", "unify_symbols", "SYMBOLS"]
 
 # code: (label for limits, label for forecasts, colour, hatch)
 REGION_STYLE = {
@@ -244,14 +244,39 @@ def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
     """
     from pathlib import Path
 
+    from matplotlib import rc_context
+
     from .._files import atomic_write
 
+    unify_symbols(fig)
     written = []
     for fmt in formats:
         path = Path(f"{stem}.{fmt}")
         # PNG: zlib level 3 instead of 6 halves the encoding time for ~10% more bytes
         extra = {"pil_kwargs": {"compress_level": 3}} if fmt == "png" else {}
-        with atomic_write(path, overwrite) as tmp:
+        # TrueType (Type 42) fonts in PDF/PS: journals ask for them, and text stays editable
+        with atomic_write(path, overwrite) as tmp, rc_context(
+                {"pdf.fonttype": 42, "ps.fonttype": 42}):
             fig.savefig(tmp, format=fmt, dpi=dpi, **extra)
         written.append(path)
     return written
+
+
+#: ASCII comparison signs and the symbols every figure shows instead
+SYMBOLS = {">=": "≥", "<=": "≤"}
+
+
+def unify_symbols(fig):
+    """Write ≥ and ≤ in every text of ``fig`` (titles, labels, legends, annotations).
+
+    Labels come from several places (curve labels use ASCII ``>=``); a figure
+    shows one form only.  Mathtext (``$...$``) is left alone.
+    """
+    from matplotlib.text import Text
+
+    for text in fig.findobj(Text):
+        s = text.get_text()
+        if s and "$" not in s and any(k in s for k in SYMBOLS):
+            for ascii_sign, symbol in SYMBOLS.items():
+                s = s.replace(ascii_sign, symbol)
+            text.set_text(s)
