@@ -58,8 +58,10 @@ def run_batch(opts, explicit=frozenset()):
         name = _OPTION_NAMES.get(given[0], "--" + given[0].replace("_", "-"))
         raise click.UsageError(f"{name}: with --hosts every host's values come from the "
                                f"table; drop {name} (or map a column with --column)")
+    from ..cosmo import cosmology_by_name
+
     table = read_hosts(opts["hosts"], column_map(opts["columns_file"], opts["column_pairs"]),
-                       on_bad=opts["on_bad"])
+                       on_bad=opts["on_bad"], cosmology=cosmology_by_name(opts["cosmology"]))
     sens = load_sensitivity(opts["curve_path"], opts["kind"], opts["array_path"],
                             opts["limit_map_path"], opts["snr"], opts["confidence"])
     note_ignored_options(explicit, sens.forecast, any(map(has_errors, table.hosts)),
@@ -92,9 +94,13 @@ def run_batch(opts, explicit=frozenset()):
 
 
 def _lines(bounds, table, outputs):
+    from ..cosmo import cosmology_name
     from ..report.batch_tables import batch_summary_lines
 
     lines = batch_summary_lines(bounds)
+    lines.append(f"D_L, z ({cosmology_name(table.hosts[0].cosmology)}) and the masses used "
+                 f"(rescaled to the adopted distance where mass_distance is given) are in "
+                 f"{outputs.summary_path.name}")
     lines += [f"{table.name}: {line}" for line in table.rejections.summary()]
     for host, reason in bounds.failed:
         lines.append(f"{host.name}: skipped ({reason})")

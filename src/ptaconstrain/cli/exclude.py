@@ -50,7 +50,10 @@ def _grid(text):
 @click.option("--distance", type=DISTANCE, default=None,
               help="Luminosity distance; bare numbers are Mpc.")
 @click.option("--redshift", type=click.FloatRange(min=0), default=None,
-              help="Redshift (instead of, or as well as, --distance; Planck18).")
+              help="Redshift (instead of, or as well as, --distance; see --cosmology).")
+@click.option("--cosmology", default="Planck18", show_default=True,
+              help="Cosmology for redshift <-> distance: one of astropy's realizations "
+              "(Planck18, Planck15, Planck13, WMAP9, WMAP7, WMAP5, WMAP3, WMAP1).")
 @click.option("--mass-distance", type=DISTANCE, default=None,
               help="Distance the mass was measured at; it is rescaled linearly.")
 @click.option("--name", default="host", show_default=True, help="Host name for labels and files.")
@@ -144,7 +147,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
                   period_range, grid, formats, out, overwrite, confidence=None,
-                  explicit=frozenset()):
+                  cosmology="Planck18", explicit=frozenset()):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -161,9 +164,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from ..sensitivity.curve import load_curve
 
     nq, n_p = _grid(grid)
+    from ..cosmo import cosmology_by_name
+    from ..report.statements import host_line
+
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
                 ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
-                velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))
+                velocity_err=velocity_err, cosmology=cosmology_by_name(cosmology),
+                **(mass_err or {}), **(distance_err or {}))
     sources = {"--curve": curve_path, "--array": array_path, "--limit-map": limit_map_path}
     given = [k for k, v in sources.items() if v is not None]
     if len(given) != 1:
@@ -231,7 +238,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     written = [targets[0]]
     if formats:
         written += save_figure(exclusion_figure(result, prob_map=prob), stem, formats, overwrite)
-    lines = summary_lines(result)
+    lines = summary_lines(result) + [host_line(host, distance is None)]
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")
     if prob is not None:

@@ -85,6 +85,10 @@ def summary_table(bounds, meta=None, files=None, rows=None, mass_source=None):
         "EXCLUSION from an upper limit" if bounds.is_limit
         else "FORECAST from a noise budget (detectable, not excluded)")
     t.meta["sensitivity"] = first.label
+    from ..cosmo import cosmology_name
+
+    t.meta["cosmology"] = cosmology_name(hosts[0].cosmology)
+    t["redshift"].info.description = f"redshift ({t.meta['cosmology']})"
     t.meta["probability_seed"] = str(bounds.seed)
     t.meta["probability_credibility"] = ", ".join(f"{c:g}" for c in bounds.credibility)
     if meta:

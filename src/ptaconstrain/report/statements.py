@@ -9,7 +9,7 @@ import re
 
 from astropy import units as u
 
-__all__ = ["figure_statement", "sky_text", "probability_footer"]
+__all__ = ["figure_statement", "sky_text", "probability_footer", "host_line", "derived_meta"]
 
 _POSITION = re.compile(r"ra=\s*([-+\d.eE]+)\s*deg\s+dec=\s*([-+\d.eE]+)\s*deg")
 
@@ -81,3 +81,50 @@ def probability_footer(prob_map):
     what = "the limit's own confidence" if prob_map.is_limit else "the S/N threshold"
     return (f"Contours: probability over the host's mass and distance errors "
             f"({prob_map.n_samples} samples), on top of {what}")
+
+
+def derived_meta(host):
+    """What was derived for ``host``, for table meta: z, D_L, the cosmology, a rescaled mass.
+
+    Returns
+    -------
+    dict of str
+    """
+    from ..cosmo import cosmology_name
+
+    out = {"luminosity_distance": f"{host.distance.to_value(u.Mpc):.6g} Mpc",
+           "redshift": f"{host.redshift:.6g}",
+           "cosmology": cosmology_name(host.cosmology)}
+    if host.mass_distance is not None:
+        out["mass_rescaled"] = (
+            f"{host.mass_quoted.to_value(u.Msun):.6g} solMass at "
+            f"{host.mass_distance.to_value(u.Mpc):.6g} Mpc -> "
+            f"{host.mass.to_value(u.Msun):.6g} solMass at {host.distance.to_value(u.Mpc):.6g} "
+            "Mpc (dynamical masses scale linearly with distance)")
+    return out
+
+
+def host_line(host, distance_from_redshift=False):
+    """One console line echoing the host as used: M (rescaled?), D_L, z and the cosmology.
+
+    Parameters
+    ----------
+    host : Host
+    distance_from_redshift : bool
+        The distance was derived from the redshift (say so).
+
+    Returns
+    -------
+    str, e.g. ``'A: M = 2.1e+10 solMass (rescaled from 2e+10 solMass at 100 Mpc), D_L =
+    105 Mpc, z = 0.0233 (Planck18)'``
+    """
+    from ..cosmo import cosmology_name
+
+    mass = f"M = {host.mass.to_value(u.Msun):.4g} solMass"
+    if host.mass_distance is not None:
+        mass += (f" (rescaled from {host.mass_quoted.to_value(u.Msun):.4g} solMass at "
+                 f"{host.mass_distance.to_value(u.Mpc):.4g} Mpc)")
+    d = f"D_L = {host.distance.to_value(u.Mpc):.4g} Mpc"
+    z = f"z = {host.redshift:.4g}"
+    dz = f"{d} from {z}" if distance_from_redshift else f"{d}, {z}"
+    return f"{host.name}: {mass}, {dz} ({cosmology_name(host.cosmology)})"

@@ -79,6 +79,9 @@ def exclusion_table(result, meta=None, prob_map=None):
     t.meta["total_mass"] = format_quantity(result.host.mass.to(u.Msun))
     t.meta["luminosity_distance"] = format_quantity(result.host.distance.to(u.Mpc))
     t.meta["f_isco"] = format_quantity(result.isco_frequency.to(u.Hz))
+    from .statements import derived_meta
+
+    t.meta.update(derived_meta(result.host))
     if prob_map is not None:
         t.meta.update(prob_map.describe())
     if meta:
