@@ -80,7 +80,8 @@ def run_batch(opts, explicit=frozenset()):
         period = None  # each host's own curve band
     outputs = _Outputs(opts["out"], [h.name for h in table.hosts], table.rows,
                        "forecast" if sens.forecast else "exclusion", opts["formats"],
-                       opts["overwrite"], skipped=opts["on_bad"] == "skip")
+                       opts["overwrite"], skipped=opts["on_bad"] == "skip",
+                       style=opts["style"], latex="latex" in opts["table_formats"])
     check_new(outputs.all_paths(), opts["overwrite"])  # before any work: a refusal costs nothing
     credible = opts["credibility"]
     with outputs.removed_on_failure(), progress_bar(len(table), "hosts") as bar:
@@ -114,12 +115,14 @@ def _lines(bounds, table, outputs):
 class _Outputs:
     """Every path the batch writes, known before the work starts; written as it goes."""
 
-    def __init__(self, out, names, rows, tag, formats, overwrite, skipped):
+    def __init__(self, out, names, rows, tag, formats, overwrite, skipped, style="page",
+                 latex=False):
         from pathlib import Path
 
         from ..report.provenance import safe_name
 
         self.out, self.tag, self.formats, self.overwrite = Path(out), tag, formats, overwrite
+        self.style = style
         self.stems, seen = [], set()
         for name, row in zip(names, rows, strict=True):
             stem = safe_name(name)
@@ -128,6 +131,7 @@ class _Outputs:
             seen.add(stem.lower())
             self.stems.append(stem)
         self.summary_path = self.out / "hosts_summary.ecsv"
+        self.latex_path = self.out / "hosts_summary.tex" if latex else None
         self.overview_stem = self.out / "hosts_overview"
         self.rejected_path = self.out / "hosts_rejected.ecsv" if skipped else None
         self.written, self.shared_written = [], []
@@ -139,7 +143,8 @@ class _Outputs:
 
     def all_paths(self):
         paths = [p for s in self.stems for p in self.host_paths(s)]
-        paths += [self.summary_path] + [self.overview_stem.with_name(
+        paths += [p for p in (self.summary_path, self.latex_path) if p is not None]
+        paths += [self.overview_stem.with_name(
             f"{self.overview_stem.name}.{f}") for f in self.formats]
         return paths + ([self.rejected_path] if self.rejected_path else [])
 
@@ -155,7 +160,9 @@ class _Outputs:
         write_table(table, path, self.overwrite)
         self.written.append(path)
         if self.formats:
-            fig = result.plot()
+            from ..report.paper_style import apply_style
+
+            fig = apply_style(result.plot(), self.style)
             self.written += save_figure(fig, path.with_suffix(""), self.formats, self.overwrite)
 
     def summary(self, bounds, table, sens, hosts_path):
@@ -178,8 +185,16 @@ class _Outputs:
                                 rows=table.rows[index], mass_source=table.mass_source[index])
         write_table(summary, self.summary_path, self.overwrite)
         self.shared_written.append(self.summary_path)
+        if self.latex_path is not None:
+            from ..report.batch_tables import write_summary_latex
+
+            write_summary_latex(summary, self.latex_path, self.overwrite)
+            self.shared_written.append(self.latex_path)
         if self.formats:
-            self.shared_written += save_figure(bounds.plot(), self.overview_stem, self.formats,
+            from ..report.paper_style import apply_style
+
+            self.shared_written += save_figure(apply_style(bounds.plot(), self.style),
+                                               self.overview_stem, self.formats,
                                                self.overwrite)
         if self.rejected_path is not None:
             rejected = table.rejections.table()

@@ -98,6 +98,12 @@ def _grid(text):
               help="Grid size N (N x N) or NQxNP.")
 @click.option("--format", "formats", type=FormatList(allow_none=True), default="png,pdf",
               show_default=True, help="Figure formats, comma-separated; 'none': tables only.")
+@click.option("--style", type=click.Choice(["column", "page", "slide"]), default="page",
+              show_default=True, help="Figure size: a journal column (3.5 in), a page "
+              "(7.1 in) or a slide (10 in), text sized to match.")
+@click.option("--table-format", "table_formats", type=FormatList(("ecsv", "latex")),
+              default="ecsv", show_default=True,
+              help="Summary table formats: ecsv, and latex (AASTeX) for --hosts.")
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (created if needed).")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
@@ -138,6 +144,9 @@ def exclude(**opts):
                             ("column_pairs", "--column"), ("on_bad", "--on-bad")):
             if opts.pop(key) not in (None, (), "error"):
                 raise click.UsageError(f"{option} applies to --hosts only")
+        if "latex" in opts.pop("table_formats"):
+            raise click.UsageError("--table-format latex writes the summary table of "
+                                   "--hosts; a single host's table is ECSV")
         lines = run_exclusion(**opts, explicit=explicit_options())
     for line in lines:
         click.echo(line)
@@ -147,7 +156,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
                   period_range, grid, formats, out, overwrite, confidence=None,
-                  cosmology="Planck18", explicit=frozenset()):
+                  cosmology="Planck18", style="page", explicit=frozenset()):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -237,7 +246,10 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     write_table(table, targets[0], overwrite)
     written = [targets[0]]
     if formats:
-        written += save_figure(exclusion_figure(result, prob_map=prob), stem, formats, overwrite)
+        from ..report.paper_style import apply_style
+
+        fig = apply_style(exclusion_figure(result, prob_map=prob), style)
+        written += save_figure(fig, stem, formats, overwrite)
     lines = summary_lines(result) + [host_line(host, distance is None)]
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")

@@ -3,7 +3,7 @@
 import numpy as np
 from astropy import units as u
 
-__all__ = ["summary_table", "batch_summary_lines"]
+__all__ = ["summary_table", "batch_summary_lines", "write_summary_latex"]
 
 
 def summary_table(bounds, meta=None, files=None, rows=None, mass_source=None):
@@ -115,3 +115,58 @@ def batch_summary_lines(bounds, names_shown=5):
             lines.append(f"  {maps[i].host.name}: q > {q[i]:.3g} {phrase} at P = "
                          f"{period[i].to_value(u.yr):.3g} yr")
     return lines
+
+
+def write_summary_latex(table, path, overwrite=False):
+    """Write the paper columns of a summary table as an AASTeX deluxetable.
+
+    Columns: host, M [solMass], D_L [Mpc], z, tightest q and its period [yr], and
+    the credible q at the highest credibility when any host was sampled.  Written
+    with astropy's ``ascii.aastex`` writer, atomically.
+
+    Parameters
+    ----------
+    table : astropy.table.QTable
+        From :func:`summary_table`.
+    path : path-like
+    overwrite : bool
+    """
+    from astropy.table import Table
+
+    from .._files import atomic_write
+
+    verb = "excluded" if str(table.meta.get("statement", "")).startswith("EXCL") else \
+        "detectable"
+    out = Table()
+    out["Host"] = table["name"]
+    out["$M$"] = _tex_numbers(table["mass"].to_value(u.Msun), "sci")
+    out["$D_L$"] = _tex_numbers(table["distance"].to_value(u.Mpc), "%.4g")
+    out["$z$"] = _tex_numbers(table["redshift"], "%.4f")
+    out["$q_{\\rm min}$"] = _tex_numbers(table["tightest_q"], "%.3g")
+    out["$P$"] = _tex_numbers(table["tightest_period"].to_value(u.yr), "%.3g")
+    cred = sorted(c for c in table.colnames if c.startswith("tightest_q_"))
+    if cred and np.isfinite(np.asarray(table[cred[-1]], dtype=float)).any():
+        level = float(cred[-1].removeprefix("tightest_q_"))
+        out[f"$q_{{{level * 100:g}\\%}}$"] = _tex_numbers(table[cred[-1]], "%.3g")
+    units = {"$M$": "M$_\\odot$", "$D_L$": "Mpc", "$P$": "yr"}
+    sens = str(table.meta.get("sensitivity", "")).replace("%", "\\%").replace(">=", "$\\geq$")
+    caption = (f"Tightest bound per host: companions with $q > q_{{\\rm min}}$ at period $P$ "
+               f"are {verb} ({sens}; cosmology {table.meta.get('cosmology', '')}); "
+               "\\nodata: none.")
+    latexdict = {"units": units, "caption": caption, "tabletype": "deluxetable*"}
+    with atomic_write(path, overwrite) as tmp:
+        out.write(tmp, format="ascii.aastex", latexdict=latexdict, overwrite=True)
+
+
+def _tex_numbers(values, fmt):
+    """Numbers as LaTeX text: ``'sci'`` gives $2.1\\times10^{10}$; NaN gives \\nodata."""
+    out = []
+    for v in np.asarray(values, dtype=float):
+        if not np.isfinite(v):
+            out.append("\\nodata")
+        elif fmt == "sci":
+            mant, exp = f"{v:.2e}".split("e")
+            out.append(f"${mant.rstrip('0').rstrip('.')}\\times10^{{{int(exp)}}}$")
+        else:
+            out.append(fmt % v)
+    return out

@@ -12,7 +12,8 @@ from ..analysis.regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTR
 from .statements import figure_statement, probability_footer
 from .style import MSUN, minor_ticks_as_markers, sci_text, unicode_log_ticks
 
-__all__ = ["REGION_STYLE", "exclusion_figure", "save_figure", "unify_symbols", "SYMBOLS"]
+__all__ = ["REGION_STYLE", "exclusion_figure", "save_figure", "unify_symbols", "SYMBOLS",
+           "shows_in"]
 
 # code: (label for limits, label for forecasts, colour, hatch)
 REGION_STYLE = {
@@ -164,7 +165,7 @@ def exclusion_figure(result, ax=None, prob_map=None):
                      hatch=REGION_STYLE[c][3], label=REGION_STYLE[c][0 if lim else 1])
                for c in codes if np.any(result.region == c)]
     line_handles, _ = ax.get_legend_handles_labels()
-    entries = handles + line_handles
+    entries = handles + [h for h in line_handles if shows_in(ax, h)]
     ax.legend(handles=entries, loc="upper center", bbox_to_anchor=(0.5, -0.11),
               ncol=2, fontsize=8, frameon=False)
     if own_figure:
@@ -181,6 +182,22 @@ def exclusion_figure(result, ax=None, prob_map=None):
         f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}", fontsize=10, y=1.0,
         pad=_TITLE_PAD)
     return fig
+
+
+def shows_in(ax, artist):
+    """False for a line with data, none of it inside the axes' limits (no legend entry).
+
+    Artists without data (legend-only entries) and non-lines count as shown.
+    """
+    from matplotlib.lines import Line2D
+
+    if not isinstance(artist, Line2D):
+        return True
+    x, y = (np.asarray(a, dtype=float) for a in artist.get_data())
+    if x.size == 0:
+        return True
+    (x0, x1), (y0, y1) = sorted(ax.get_xlim()), sorted(ax.get_ylim())
+    return bool(np.any((x >= x0) & (x <= x1) & (y >= y0) & (y <= y1)))
 
 
 def _log_uniform(edges):
