@@ -2,22 +2,33 @@
 reading tables and TOML files (one suffix -> format map, one-line errors).
 
 Every file the project writes goes through :func:`atomic_write`: the content
-is written to a temporary file beside the target and renamed into place only
-when complete, so a failure leaves no partial output behind.
+is written to a temporary file and given its name only when complete, so a
+failure leaves no partial file behind.  A command that writes several files
+opens an :func:`output_set` first: every file is then staged in a private
+directory and the whole set is published only when all of it was written, so
+a failure (a full disk included) leaves neither a partial set nor a touched
+earlier one.
 """
 
 import contextlib
+import contextvars
 import hashlib
 import os
+import shutil
 import tempfile
 from pathlib import Path
 
-__all__ = ["OutputExistsError", "check_new", "atomic_write", "write_table", "sha256",
-           "read_toml", "TABLE_FORMATS", "table_format", "read_table", "first_line"]
+__all__ = ["OutputExistsError", "OutputBusyError", "check_new", "atomic_write",
+           "output_set", "OutputSet", "write_table", "sha256", "read_toml", "TABLE_FORMATS",
+           "table_format", "read_table", "first_line"]
 
 
 class OutputExistsError(FileExistsError):
     """An output file already exists and overwriting was not asked for."""
+
+
+class OutputBusyError(OutputExistsError):
+    """Another run is writing the same output set into the same directory."""
 
 
 def check_new(paths, overwrite=False):
@@ -59,6 +70,11 @@ def atomic_write(path, overwrite=False):
     """
     path = Path(path)
     check_new([path], overwrite)
+    active = _set_for(path)
+    if active is not None:
+        with active.stage(path) as tmp:
+            yield tmp
+        return
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=path.suffix, dir=path.parent)
     os.close(fd)
@@ -90,6 +106,263 @@ def _publish_new(tmp, path):
         if os.path.lexists(path):
             raise OutputExistsError(f"{path} appeared while writing: not replaced") from None
         os.replace(tmp, path)
+
+
+_ACTIVE_SETS = contextvars.ContextVar("ptaconstrain_output_sets", default=())
+
+
+def _set_for(path):
+    """The open output set whose directory holds ``path``, or None."""
+    parent = os.path.realpath(Path(path).parent)
+    for active in _ACTIVE_SETS.get():
+        if active.real_dir == parent:
+            return active
+    return None
+
+
+class OutputSet:
+    """The files one command writes into one directory, published all or none.
+
+    Made by :func:`output_set`; while it is open, :func:`atomic_write` (and so
+    every table, figure and map writer of the package) stages each file of the
+    directory in a private temporary directory inside it.
+
+    Attributes
+    ----------
+    directory : pathlib.Path
+        Where the files are published.
+    product : str
+        Name of the set (e.g. ``"ranking"`` or a host's file stem); its lock,
+        staging directory and record of files are named after it.
+    scratch : pathlib.Path
+        A private directory for temporary files of the command (removed at the end).
+    """
+
+    def __init__(self, directory, product, overwrite, staging, earlier=(), record=False):
+        self._earlier = set(earlier)
+        self._record = record
+        self.directory = Path(directory)
+        self.real_dir = os.path.realpath(self.directory)
+        self.product = product
+        self.overwrite = overwrite
+        self._staging = Path(staging)
+        self._files = self._staging / "files"
+        self.scratch = self._staging / "scratch"
+        self._files.mkdir()
+        self.scratch.mkdir()
+
+    @property
+    def record(self):
+        """Path of the hidden file listing the files of the published set."""
+        return self.directory / f".{self.product}.files"
+
+    @contextlib.contextmanager
+    def stage(self, path):
+        """Yield a temporary path that becomes ``path``'s staged copy on success."""
+        path = Path(path)
+        staged = self._files / path.name
+        if os.path.lexists(staged):
+            raise OutputExistsError(f"{path}: written twice by one command (a name collision)")
+        fd, tmp = tempfile.mkstemp(prefix=".part-", suffix=path.suffix, dir=self._files)
+        os.close(fd)
+        tmp = Path(tmp)
+        try:
+            try:
+                yield tmp
+            except OSError as err:  # name the output, not the hidden staging file
+                if err.filename and str(err.filename).startswith(str(self._staging)):
+                    raise OSError(err.errno, err.strerror, str(path)) from err
+                raise
+            os.chmod(tmp, 0o666 & ~_umask())
+            _link_new(tmp, staged)  # exclusive: two writers of one name cannot both succeed
+        finally:
+            if os.path.lexists(tmp):
+                tmp.unlink()
+
+    def staged_names(self):
+        """Names of the files staged so far (by this process or its forked workers)."""
+        return sorted(p.name for p in self._files.iterdir() if not p.name.startswith(".part-"))
+
+    def publish(self):
+        """Give every staged file its name, all or none (called when the command succeeded)."""
+        names = self.staged_names()
+        published = list(names)
+        if self._record:
+            (self._files / self.record.name).write_text("".join(f"{n}\n" for n in names))
+            names.append(self.record.name)
+        earlier = {n for n in _recorded_names(self.record) | self._earlier | set(names)
+                   if os.path.lexists(self.directory / n)}
+        if earlier and not self.overwrite:
+            first = sorted(earlier - {self.record.name}) or [self.record.name]
+            raise OutputExistsError(f"{self.directory / first[0]} already exists (an earlier "
+                                    "set): choose another --out or pass --overwrite")
+        old = self._staging / "old"
+        old.mkdir()
+        moved, linked = [], []
+        try:
+            for name in sorted(earlier):  # the whole earlier set leaves, so none of it survives
+                if os.path.lexists(self.directory / name):
+                    os.rename(self.directory / name, old / name)
+                    moved.append(name)
+            for name in names:
+                _link_new(self._files / name, self.directory / name)
+                linked.append(name)
+        except OSError as err:
+            for name in linked:
+                (self.directory / name).unlink()
+            for name in moved:
+                with contextlib.suppress(OSError):
+                    os.link(old / name, self.directory / name)
+            if isinstance(err, FileExistsError):
+                raise OutputExistsError(f"{err.filename or self.directory} appeared while "
+                                        "writing: nothing was replaced") from None
+            raise
+        return [self.directory / n for n in published]
+
+
+def _link_new(src, dst):
+    """Give ``src``'s file the name ``dst`` too, failing if ``dst`` exists (atomic).
+
+    Where the file system has no hard links, the check-then-rename fallback
+    moves ``src`` instead.
+    """
+    try:
+        os.link(src, dst)
+    except FileExistsError:
+        raise
+    except OSError as err:
+        import errno
+
+        if err.errno not in (errno.EPERM, errno.ENOTSUP, errno.EOPNOTSUPP, errno.ENOSYS):
+            raise
+        if os.path.lexists(dst):
+            raise FileExistsError(errno.EEXIST, "file exists", str(dst)) from None
+        os.replace(src, dst)
+
+
+def _recorded_names(record):
+    """Names listed in an earlier set's record (none if there is no record)."""
+    try:
+        text = Path(record).read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError):
+        return set()
+    names = {line.strip() for line in text.splitlines()}
+    # only plain names of this directory: a tampered record cannot reach elsewhere
+    names = {n for n in names if n and "/" not in n and "\\" not in n and n not in (".", "..")}
+    return names | {Path(record).name}
+
+
+def _lock(path, product):
+    """Take the exclusive lock of ``path`` (a file in the output directory), or refuse."""
+    import fcntl
+
+    while True:
+        fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o666 & ~_umask())
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+        except BlockingIOError:
+            os.close(fd)
+            raise OutputBusyError(f"{Path(path).parent}: another run is writing {product} "
+                                  "there now; wait for it or choose another --out") from None
+        mine = os.fstat(fd)
+        try:
+            now = os.stat(path)
+        except FileNotFoundError:
+            now = None
+        if now is not None and (now.st_dev, now.st_ino) == (mine.st_dev, mine.st_ino):
+            return fd
+        os.close(fd)  # the previous holder removed it meanwhile: take the new one
+
+
+@contextlib.contextmanager
+def output_set(directory, product, overwrite=False, earlier=(), record=False):
+    """Stage every file a command writes into ``directory``; publish all of them or none.
+
+    While the context is open, each :func:`atomic_write` into ``directory``
+    (tables, figures, maps) goes to a private staging directory
+    ``.<product>.staging-XXXX`` inside it.  When the block succeeds the staged
+    files get their names by hard link, which never replaces a file that
+    appeared meanwhile (with ``record``, a hidden file ``.<product>.files``
+    lists them, for a set whose names vary from run to run).  On any
+    failure (a full disk included) the staging directory is removed: nothing
+    new remains and nothing old was touched.
+
+    - A lock file ``.<product>.lock`` in ``directory`` is held throughout: a
+      second run of the same product into the same directory is refused
+      before it writes anything (:class:`OutputBusyError`).
+    - Stale staging directories of the same product (left by a killed run)
+      are removed at the start.
+    - With ``overwrite`` the whole earlier set of the product (the files its
+      record lists, and any file of the new set's names) is replaced, so no
+      file of an earlier run survives beside the new ones; without it, any of
+      them existing is refused (:class:`OutputExistsError`).
+
+    An output set opened inside another one for the same directory joins it.
+
+    Parameters
+    ----------
+    directory : path-like
+        The output directory (created if needed; removed again on failure if
+        it was created here and stayed empty).
+    product : str
+        Name of the set, file-name safe (e.g. ``"ranking"``).
+    overwrite : bool
+    earlier : iterable of str
+        Names that belong to the product's earlier set even if no record lists
+        them (e.g. every figure format of a host's stem).
+    record : bool
+        Also publish the record ``.<product>.files`` of the set's names (an
+        earlier record is always honoured).
+
+    Yields
+    ------
+    OutputSet
+        Its :meth:`~OutputSet.publish` runs when the block ends without error.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> d = pathlib.Path(tempfile.mkdtemp())
+    >>> with output_set(d, "example", record=True) as s:
+    ...     with atomic_write(d / "a.txt") as tmp:
+    ...         _ = tmp.write_text("a")
+    ...     (d / "a.txt").exists()
+    False
+    >>> sorted(p.name for p in d.iterdir())
+    ['.example.files', 'a.txt']
+    """
+    directory = Path(directory)
+    for active in _ACTIVE_SETS.get():
+        if active.real_dir == os.path.realpath(directory):
+            yield active
+            return
+    created = not os.path.lexists(directory)
+    directory.mkdir(parents=True, exist_ok=True)
+    lock_path = directory / f".{product}.lock"
+    fd = None
+    try:
+        fd = _lock(lock_path, product)
+        for stale in directory.glob(f".{product}.staging-*"):
+            shutil.rmtree(stale, ignore_errors=True)
+        staging = tempfile.mkdtemp(prefix=f".{product}.staging-", dir=directory)
+        try:
+            oset = OutputSet(directory, product, overwrite, staging, earlier, record)
+            token = _ACTIVE_SETS.set(_ACTIVE_SETS.get() + (oset,))
+            try:
+                yield oset
+            finally:
+                _ACTIVE_SETS.reset(token)
+            oset.publish()
+        finally:
+            shutil.rmtree(staging, ignore_errors=True)
+    finally:
+        if fd is not None:
+            with contextlib.suppress(OSError):
+                os.unlink(lock_path)
+            os.close(fd)
+        if created:
+            with contextlib.suppress(OSError):
+                directory.rmdir()  # only if it stayed empty
 
 
 def _umask():

@@ -47,18 +47,26 @@ def run_demo(out, overwrite=False, progress=None):
     InputError
         If ``out`` is a non-empty directory and ``overwrite`` is false.
     """
-    from astropy.table import QTable
-
-    from .binary.host import hosts_from_table
-    from .data import path as data_file
+    from ._files import output_set
     from .errors import InputError
-    from .report.provenance import safe_name
-    from .sensitivity.curve import load_curve
 
     out = Path(out)
     if out.is_dir() and any(out.iterdir()) and not overwrite:
         raise InputError(f"out: {out} is not empty; choose another directory or allow "
                          "overwriting (--overwrite)")
+    # every file of the demo is published together, or none is
+    with output_set(out, "demo", overwrite):
+        return _demo_outputs(out, overwrite, progress)
+
+
+def _demo_outputs(out, overwrite, progress):
+    from astropy.table import QTable
+
+    from .binary.host import hosts_from_table
+    from .data import path as data_file
+    from .report.provenance import safe_name
+    from .sensitivity.curve import load_curve
+
     hosts = hosts_from_table(QTable.read(data_file(HOSTS_FILE)))
     limit_path = data_file(LIMIT_FILE)
     forecast_path = data_file(FORECAST_FILE)

@@ -234,5 +234,20 @@ def test_a_dotted_host_name_keeps_its_whole_name_in_every_file(tmp_path, curve_f
         args[args.index("Test Host")] = name
         assert run(args + ["--format", "png"]).exit_code == 0
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["Fictus_J1234.5_6789_exclusion.ecsv", "Fictus_J1234.5_6789_exclusion.png",
-                     "Fictus_J1234.7_1111_exclusion.ecsv", "Fictus_J1234.7_1111_exclusion.png"]
+    # '+' cannot stay in a file name: a stable suffix from the original name is added
+    # (6 hex digits of hashlib.blake2s(name, digest_size=3))
+    assert names == ["Fictus_J1234.5_6789_04703a_exclusion.ecsv",
+                     "Fictus_J1234.5_6789_04703a_exclusion.png",
+                     "Fictus_J1234.7_1111_1034ef_exclusion.ecsv",
+                     "Fictus_J1234.7_1111_1034ef_exclusion.png"]
+
+
+def test_names_differing_only_in_unsafe_characters_keep_distinct_files(tmp_path, curve_file):
+    # J1234.5+6789 and J1234.5/6789 would both sanitise to J1234.5_6789
+    out = tmp_path / "o"
+    for name in ("Fictus J1234.5+6789", "Fictus J1234.5/6789"):
+        args = base_args(curve_file, out)
+        args[args.index("Test Host")] = name
+        r = run(args + ["--format", "png"])
+        assert r.exit_code == 0, r.output
+    assert len(list(out.glob("*_exclusion.ecsv"))) == 2

@@ -61,8 +61,8 @@ def test_batch_bound_equals_the_single_host_bound(tmp_path, curve_file):
     res = _run("--hosts", path, "--curve", curve_file, "--out", str(out), "--grid", "60",
                "--format", "none")
     assert res.exit_code == 0, res.output
-    assert sorted(p.name for p in out.iterdir()) == ["Alpha_exclusion.ecsv",
-                                                     "hosts_summary.ecsv"]
+    shown = sorted(p.name for p in out.iterdir() if not p.name.startswith("."))
+    assert shown == ["Alpha_exclusion.ecsv", "hosts_summary.ecsv"]
     summary = QTable.read(out / "hosts_summary.ecsv")
     from ptaconstrain.analysis.exclusion import default_periods
 
@@ -122,7 +122,8 @@ def test_existing_outputs_are_not_overwritten(tmp_path, curve_file):
     res = _run("--hosts", path, "--curve", curve_file, "--out", str(out), "--format", "none")
     assert res.exit_code == 1 and "--overwrite" in res.output
     assert (out / "hosts_summary.ecsv").read_text() == "mine"
-    assert sorted(p.name for p in out.iterdir()) == ["hosts_summary.ecsv"]
+    assert sorted(p.name for p in out.iterdir() if not p.name.startswith(".")) == [
+        "hosts_summary.ecsv"]
 
 
 def test_column_mapping_as_for_rank(tmp_path, curve_file):
@@ -136,3 +137,26 @@ def test_column_mapping_as_for_rank(tmp_path, curve_file):
                "--column", "mass=M_bh", "--format", "none")
     assert res.exit_code == 0, res.output
     assert (out / "Alpha_exclusion.ecsv").is_file()
+
+
+def test_a_failure_midway_leaves_no_output(tmp_path, curve_file, monkeypatch):
+    # the third host fails while the first two are already written: nothing is published
+    import ptaconstrain.analysis.batch as batch
+
+    real = batch.exclusion_map
+    calls = []
+
+    def failing(host, *args, **kwargs):
+        calls.append(host.name)
+        if len(calls) == 3:
+            raise OSError(28, "No space left on device", "disk")
+        return real(host, *args, **kwargs)
+
+    monkeypatch.setattr(batch, "exclusion_map", failing)
+    path = _table(tmp_path, [(n, 10.0 * i, 5.0, 50.0, 2e10, 0.0)
+                             for i, n in enumerate(("A", "B", "C", "D"), 1)])
+    out = tmp_path / "out"
+    res = _run("--hosts", path, "--curve", curve_file, "--out", str(out), "--grid", "30",
+               "--format", "none")
+    assert res.exit_code == 1 and "no space left" in res.output.lower()
+    assert not out.exists() or not [p for p in out.iterdir() if not p.name.startswith(".")]

@@ -53,10 +53,13 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
       ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --ra 284.1 --dec -37.2 \\
           --out curve.ecsv
     """
+    from pathlib import Path
+
     import numpy as np
 
-    from .._files import check_new
+    from .._files import check_new, output_set
     from .._inputs import coord_from
+    from ..report.provenance import safe_name
     from ..report.skyplot import nhz_text
     from ..sensitivity.curve import save_curve
     from ..sensitivity.pulsar_list import load_array
@@ -68,7 +71,9 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
     with _progress(len(arr), "timing-model fits") as bar:
         arr.weights(freq, callback=bar.update)
     result = arr.curve_at(coord, snr=snr, frequency=freq)
-    save_curve(result, out, overwrite=overwrite)
+    out_path = Path(out)
+    with output_set(out_path.parent, safe_name(out_path.name), overwrite):
+        save_curve(result, out, overwrite=overwrite)
     h0 = result.h0_threshold(result.frequency, snr=snr)
     i = int(np.argmin(h0))
     click.echo(
@@ -104,10 +109,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
     import numpy as np
     from astropy import units as u
 
-    from .._files import check_new
-    from ..report.figures import save_figure
-    from ..report.skyplot import nhz_text, sky_map_figure, threshold_label
-    from ..sensitivity.limit_map import write_threshold_maps
+    from .._files import check_new, output_set
     from ..sensitivity.pulsar_list import load_array
 
     freq = np.unique(u.Quantity(list(frequencies)).to_value(u.Hz)) * u.Hz
@@ -121,6 +123,20 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
         arr.weights(freq, callback=bar.update)
     # Two passes in blocks (memory: about two blocks, never all maps): pixel runs for
     # the FITS rows, then whole-sky maps a few frequencies at a time for the figures.
+    # the map and all its figures are published together; --overwrite removes every
+    # figure of an earlier run (other frequencies included)
+    earlier = [p.name for p in out.glob(f"{MAP_STEM}_*nHz.png")] if out.is_dir() else []
+    with output_set(out, MAP_STEM, overwrite, earlier=earlier):
+        lines = _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite)
+    for line in lines:
+        click.echo(line)
+
+
+def _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite):
+    from ..report.figures import save_figure
+    from ..report.skyplot import nhz_text, sky_map_figure, threshold_label
+    from ..sensitivity.limit_map import write_threshold_maps
+
     npix = 12 * nside**2
     with _progress(npix, "FITS file") as bar:
         def rows():
@@ -143,8 +159,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
                 save_figure(fig, stem, ("png",), overwrite)
                 lines.append(_map_summary(f, m, snr, nside) + f"; figure {stem}.png")
                 bar.update(1)
-    for line in lines:
-        click.echo(line)
+    return lines
 
 
 def _map_summary(f, m, snr, nside):

@@ -45,7 +45,7 @@ def run_batch(opts, explicit=frozenset()):
     import numpy as np
     from astropy import units as u
 
-    from .._files import check_new
+    from .._files import check_new, output_set
     from ..analysis.batch import bound_hosts, has_errors
     from ..analysis.exclusion import default_periods
     from ..catalogue.hosts import read_hosts
@@ -84,7 +84,9 @@ def run_batch(opts, explicit=frozenset()):
                        style=opts["style"], latex="latex" in opts["table_formats"])
     check_new(outputs.all_paths(), opts["overwrite"])  # before any work: a refusal costs nothing
     credible = opts["credibility"]
-    with outputs.removed_on_failure(), progress_bar(len(table), "hosts") as bar:
+    # every file is staged and published together, or none is (a failure, a full disk)
+    with output_set(outputs.out, "hosts", opts["overwrite"], record=True), \
+            progress_bar(len(table), "hosts") as bar:
         bounds = bound_hosts(
             table.hosts, sens.source, q, period, opts["snr"], opts["span"],
             samples=opts["samples"], seed=opts["seed"], credibility=credible,
@@ -208,21 +210,3 @@ class _Outputs:
             write_table(rejected, self.rejected_path, self.overwrite)
             self.shared_written.append(self.rejected_path)
         self.written += self.shared_written
-
-    def removed_on_failure(self):
-        """Context: if the run fails, remove the files it made (no partial output)."""
-        import contextlib
-        import os
-
-        existed = {p for p in self.all_paths() if os.path.lexists(p)}
-
-        @contextlib.contextmanager
-        def guard():
-            try:
-                yield
-            except BaseException:
-                for p in self.written:
-                    if p not in existed and os.path.lexists(p):
-                        os.unlink(p)
-                raise
-        return guard()

@@ -163,7 +163,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     import numpy as np
     from astropy import units as u
 
-    from .._files import check_new, write_table
+    from .._files import check_new, output_set, write_table
     from ..analysis.exclusion import band_periods, exclusion_map
     from ..binary.host import Host
     from ..binary.waveform import orbital_period
@@ -243,13 +243,19 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     inputs["sensitivity_sky"] = sky_note
     meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
     table = exclusion_table(result, meta, prob_map=prob)
-    write_table(table, targets[0], overwrite)
-    written = [targets[0]]
+    fig = None
     if formats:
         from ..report.paper_style import apply_style
 
         fig = apply_style(exclusion_figure(result, prob_map=prob), style)
-        written += save_figure(fig, stem, formats, overwrite)
+    # the table and figures are published together or not at all; with --overwrite
+    # every file of the host's earlier set goes (e.g. a PDF this run does not make)
+    every_format = [f"{stem.name}.{ext}" for ext in ("ecsv", *FormatList().choices)]
+    with output_set(out, stem.name, overwrite, earlier=every_format):
+        write_table(table, targets[0], overwrite)
+        written = [targets[0]]
+        if fig is not None:
+            written += save_figure(fig, stem, formats, overwrite)
     lines = summary_lines(result) + [host_line(host, distance is None)]
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")

@@ -38,6 +38,26 @@ def provenance(inputs=None, files=None):
 
 
 def safe_name(name):
-    """A file-name-safe version of a host name ('NGC 1' -> 'NGC_1')."""
-    keep = "".join(c if c.isalnum() or c in "-_." else "_" for c in str(name).strip())
-    return keep.strip("._") or "host"
+    """A file-name-safe version of a host name, distinct for distinct names.
+
+    Spaces become ``_``; any other character that cannot stay in a file name
+    (``+``, ``/``, ...) also becomes ``_``, and then a short stable suffix
+    derived from the original name (6 hex digits of its BLAKE2 hash) is added,
+    so that names differing only in such characters keep distinct files.  Dots
+    are kept: the whole name survives.
+
+    Examples
+    --------
+    >>> safe_name("NGC 1"), safe_name("Fictus J1234.5+6789")
+    ('NGC_1', 'Fictus_J1234.5_6789_04703a')
+    """
+    import hashlib
+
+    text = str(name).strip()
+    if not text:
+        return "host"
+    keep = "".join(c if c.isalnum() or c in "-_." else "_" for c in text)
+    out = keep.strip("._") or "host"
+    if out != text.replace(" ", "_"):  # lost more than its spaces: keep it distinct
+        out += "_" + hashlib.blake2s(text.encode("utf-8"), digest_size=3).hexdigest()
+    return out

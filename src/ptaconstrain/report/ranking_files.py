@@ -278,8 +278,20 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
     -------
     (Ranking, list of pathlib.Path)
     """
-    from pathlib import Path
+    from .._files import check_new, output_set
 
+    paths = ranking_output_paths(out_dir, formats, full_ecsv)
+    check_new(paths, overwrite)
+    # every file is staged and published with the rest, or none is (see output_set)
+    # (a record lists them when the per-galaxy figures make the names vary)
+    with output_set(out_dir, "ranking", overwrite, record=exclusion_figures > 0) as oset:
+        return _rank_and_write(catalog, sensitivity, out_dir, paths, oset.scratch, files,
+                               options, formats, top, exclusion_figures, overwrite, progress,
+                               full_ecsv, kwargs)
+
+
+def _rank_and_write(catalog, sensitivity, out_dir, paths, scratch, files, options, formats,
+                    top, exclusion_figures, overwrite, progress, full_ecsv, kwargs):
     import numpy as np
     from astropy.table import vstack
 
@@ -287,10 +299,8 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
     from ..catalogue import rank_catalog
     from .rankplots import ranking_figures
 
-    paths = ranking_output_paths(out_dir, formats, full_ecsv)
-    check_new(paths, overwrite)
     ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
-                           inputs=options, stream_dir=Path(out_dir),
+                           inputs=options, stream_dir=scratch,
                            top_rows=max(int(top), int(exclusion_figures), 1), **kwargs)
     try:
         stems = top_figure_stems(ranking, out_dir, exclusion_figures)
