@@ -23,6 +23,7 @@ import numpy as np
 from astropy import units as u
 
 __all__ = ["get_cosmology", "cosmology_by_name", "cosmology_name", "REALIZATIONS",
+           "hubble_time",
            "DistanceRedshift", "redshift_at", "luminosity_distance_at",
            "spline_nodes", "Z_MAX", "PLANCK18"]
 
@@ -132,6 +133,24 @@ def cosmology_name(cosmology):
     """A cosmology's name for outputs ('Planck18', 'WMAP9', or its repr if unnamed)."""
     name = getattr(cosmology, "name", None)
     return str(name) if name else repr(cosmology)
+
+
+def hubble_time(cosmology=None):
+    """The Hubble time 1/H0 of ``cosmology`` (Quantity [Gyr]), without astropy.cosmology.
+
+    H0 follows from the distance spline's first node, where Hubble's law
+    D_L = c z / H0 holds to the node's z = 1e-8.
+
+    Examples
+    --------
+    >>> round(float(hubble_time().value), 3)  # Planck18: H0 = 67.66 km/s/Mpc
+    14.452
+    """
+    from astropy import constants as const
+
+    nodes = DistanceRedshift(cosmology)._nodes
+    z0, d0 = np.exp(nodes[0][0]), np.exp(nodes[1][0]) * u.Mpc
+    return (d0 / (const.c * z0)).to(u.Gyr)
 
 
 def _is_planck18(cosmology):

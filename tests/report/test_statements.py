@@ -49,7 +49,8 @@ def test_forecast_at_a_position_states_snr_span_and_position():
         result = exclusion_map(Host("A", 2e10, 50), _psd("ra=10.0000deg dec=-5.0000deg"),
                                snr=7)
     line = figure_statement(result)
-    assert line == "forecast, not an exclusion: S/N ≥ 7 over 12 yr; at RA 10.00°, Dec -5.00°"
+    assert line == ("forecast, not an exclusion: S/N ≥ 7 over 12 yr (orientation-averaged); "
+                    "at RA 10.00°, Dec -5.00°")
     assert line in _texts(result.plot())
 
 

@@ -102,7 +102,8 @@ class HostBounds:
 
 def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=None, *,
                 samples=100_000, seed=None, credibility=DEFAULT_CREDIBILITY, curve_for=None,
-                on_bad="error", on_result=None, keep_samples=True, progress=None):
+                on_bad="error", on_result=None, keep_samples=True, orientation=None,
+                progress=None):
     """Bound the companions of every host in ``hosts`` against one sensitivity.
 
     Parameters
@@ -130,6 +131,9 @@ def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=
     curve_for : callable, optional
         ``curve_for(host) -> StrainCurve``, overriding how the sensitivity is
         asked for a host's curve (e.g. to pass an S/N to a pulsar array).
+    orientation : bool, optional
+        Passed to :func:`~ptaconstrain.analysis.probability.exclusion_probability`
+        (False when the curve is already at a known inclination).
     on_bad : {"error", "skip"}
         A host that cannot be bounded (an input error, e.g. no sky-map value
         at its position) stops the run, or is skipped and recorded.
@@ -172,7 +176,8 @@ def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=
             if has_errors(host):
                 result = exclusion_probability(host, curve, mass_ratio, period,
                                                samples=samples, seed=host_seed,
-                                               credibility=levels, snr=snr, span=span)
+                                               credibility=levels, snr=snr, span=span,
+                                               orientation=orientation)
             else:
                 result = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span)
         except PtaconstrainError as err:

@@ -128,7 +128,13 @@ def main(debug):
 
 
 def _register():
-    from . import array_cmds, demo, exclude, rank_cmd  # noqa: F401  (commands attach themselves)
+    from . import (  # noqa: F401  (commands attach themselves)
+        array_cmds,
+        demo,
+        exclude,
+        overlay_cmd,
+        rank_cmd,
+    )
 
 
 _register()

@@ -81,7 +81,8 @@ def run_batch(opts, explicit=frozenset()):
     outputs = _Outputs(opts["out"], [h.name for h in table.hosts], table.rows,
                        "forecast" if sens.forecast else "exclusion", opts["formats"],
                        opts["overwrite"], skipped=opts["on_bad"] == "skip",
-                       style=opts["style"], latex="latex" in opts["table_formats"])
+                       style=opts["style"], latex="latex" in opts["table_formats"],
+                       merger_lines=opts["merger_lines"])
     check_new(outputs.all_paths(), opts["overwrite"])  # before any work: a refusal costs nothing
     credible = opts["credibility"]
     # every file is staged and published together, or none is (a failure, a full disk)
@@ -90,10 +91,21 @@ def run_batch(opts, explicit=frozenset()):
         bounds = bound_hosts(
             table.hosts, sens.source, q, period, opts["snr"], opts["span"],
             samples=opts["samples"], seed=opts["seed"], credibility=credible,
-            curve_for=sens.curve_for, on_bad=opts["on_bad"], keep_samples=False,
+            curve_for=_curve_for(sens, opts["inclination"]), on_bad=opts["on_bad"],
+            keep_samples=False,
+            orientation=False if opts["inclination"] is not None else None,
             on_result=lambda i, r: outputs.host(i, r, sens), progress=bar.update)
         outputs.summary(bounds, table, sens, opts["hosts"])
     return _lines(bounds, table, outputs)
+
+
+def _curve_for(sens, inclination):
+    """How to ask the sensitivity for a host's curve, at a known inclination if given."""
+    if inclination is None:
+        return sens.curve_for
+    from ..analysis.readouts import curve_at_inclination
+
+    return lambda host: curve_at_inclination(sens.curve_for(host), inclination)
 
 
 def _lines(bounds, table, outputs):
@@ -118,13 +130,13 @@ class _Outputs:
     """Every path the batch writes, known before the work starts; written as it goes."""
 
     def __init__(self, out, names, rows, tag, formats, overwrite, skipped, style="page",
-                 latex=False):
+                 latex=False, merger_lines=False):
         from pathlib import Path
 
         from ..report.provenance import safe_name
 
         self.out, self.tag, self.formats, self.overwrite = Path(out), tag, formats, overwrite
-        self.style = style
+        self.style, self.merger_lines = style, merger_lines
         self.stems, seen = [], set()
         for name, row in zip(names, rows, strict=True):
             stem = safe_name(name)
@@ -162,9 +174,14 @@ class _Outputs:
         write_table(table, path, self.overwrite)
         self.written.append(path)
         if self.formats:
+            from ..analysis.probability import ProbabilityMap
+            from ..report.figures import exclusion_figure
             from ..report.paper_style import apply_style
 
-            fig = apply_style(result.plot(), self.style)
+            prob = result if isinstance(result, ProbabilityMap) else None
+            best = result.deterministic if prob is not None else result
+            fig = apply_style(exclusion_figure(best, prob_map=prob, merger_times=(
+                True if self.merger_lines else None)), self.style)
             self.written += save_figure(fig, path.with_suffix(""), self.formats, self.overwrite)
 
     def summary(self, bounds, table, sens, hosts_path):

@@ -13,6 +13,7 @@ from .params import (
     FormatList,
     LevelList,
     MassError,
+    QuantityType,
     RangeType,
 )
 
@@ -88,6 +89,11 @@ def _grid(text):
               "(plain text); default 0.95, with a note.")
 @click.option("--snr", type=click.FloatRange(min=0, min_open=True), default=5.0,
               show_default=True, help="S/N threshold for noise-budget curves.")
+@click.option("--inclination", type=QuantityType("deg", allow_zero=True), default=None,
+              help="Known inclination of the binary (deg; 0 face-on) for forecasts: replaces "
+              "the orientation average by that inclination, averaged over polarisation.")
+@click.option("--merger-lines", is_flag=True,
+              help="Draw lines of equal merger time (1 Myr, 100 Myr, Hubble time) on figures.")
 @click.option("--span", type=TIME, default=None,
               help="Observing span (default: the curve's; bare numbers are yr).")
 @click.option("--mass-ratio-range", type=RangeType(upper=1.0), default="1e-4,1",
@@ -156,7 +162,8 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
                   period_range, grid, formats, out, overwrite, confidence=None,
-                  cosmology="Planck18", style="page", explicit=frozenset()):
+                  cosmology="Planck18", style="page", inclination=None, merger_lines=False,
+                  explicit=frozenset()):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -212,12 +219,17 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         lo, hi = (p.to_value(u.yr) for p in period_range)
         period = np.logspace(np.log10(lo), np.log10(hi), n_p) * u.yr
     note_assumed_span(curve, span)
+    if inclination is not None:
+        from ..analysis.readouts import curve_at_inclination
+
+        curve = curve_at_inclination(curve, inclination)
     prob = None
     if sampled:
         from ..analysis.probability import exclusion_probability
 
         prob = exclusion_probability(host, curve, q, period, samples=samples, seed=seed,
-                                     credibility=credibility, snr=snr, span=span)
+                                     credibility=credibility, snr=snr, span=span,
+                                     orientation=False if inclination is not None else None)
         result = prob.deterministic
     else:
         result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
@@ -247,7 +259,8 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     if formats:
         from ..report.paper_style import apply_style
 
-        fig = apply_style(exclusion_figure(result, prob_map=prob), style)
+        fig = apply_style(exclusion_figure(result, prob_map=prob,
+                                           merger_times=True if merger_lines else None), style)
     # the table and figures are published together or not at all; with --overwrite
     # every file of the host's earlier set goes (e.g. a PDF this run does not make)
     every_format = [f"{stem.name}.{ext}" for ext in ("ecsv", *FormatList().choices)]

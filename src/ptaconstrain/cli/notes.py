@@ -45,6 +45,9 @@ def note_ignored_options(explicit, forecast, sampled, option=None):
     if not forecast and "snr" in explicit:
         _note("--snr is ignored: an upper limit is compared with h0 directly; the S/N "
               "threshold applies to noise budgets and pulsar lists")
+    if not forecast and "inclination" in explicit:
+        _note("--inclination is ignored: an upper limit bounds h0 itself; the inclination "
+              "applies to forecasts from noise budgets and pulsar lists")
     if option in ("--array", "--limit-map") and "confidence" in explicit:
         _note(f"--confidence is ignored with {option}: it sets the confidence of a "
               "--curve that states none")

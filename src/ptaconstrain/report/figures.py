@@ -54,7 +54,7 @@ def _m2_to_q(m2, m_tot):
         return m2 / (m_tot - m2)
 
 
-def exclusion_figure(result, ax=None, prob_map=None):
+def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
     """Draw an :class:`~ptaconstrain.analysis.exclusion.ExclusionMap` on log axes.
 
     Parameters
@@ -66,6 +66,9 @@ def exclusion_figure(result, ax=None, prob_map=None):
     prob_map : ProbabilityMap, optional
         From :func:`ptaconstrain.analysis.probability.exclusion_probability`: its
         probability contours are drawn over the deterministic map.
+    merger_times : Quantity [time] or True, optional
+        Draw lines of equal rest-frame merger time (Peters 1964) as guides; True
+        gives 1 Myr, 100 Myr and the Hubble time.
 
     Returns
     -------
@@ -126,6 +129,8 @@ def exclusion_figure(result, ax=None, prob_map=None):
                         ha="right", bbox={"boxstyle": "round", "fc": "white", "ec": "0.6",
                                           "alpha": 0.9},
                         arrowprops={"arrowstyle": "-", "color": "black"})
+    if merger_times is not None:
+        _merger_lines(ax, result, None if merger_times is True else merger_times)
     if result.hardening_period is not None:
         ax.plot(result.hardening_period.to_value(u.yr), q, color="#009E73", ls="--", lw=1.4,
                 label="hardening radius aₕ = Gμ/4σ² (guide)")
@@ -182,6 +187,23 @@ def exclusion_figure(result, ax=None, prob_map=None):
         f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}", fontsize=10, y=1.0,
         pad=_TITLE_PAD)
     return fig
+
+
+def _merger_lines(ax, result, times):
+    """Grey guide lines: binaries above each merge within that (rest-frame) time."""
+    from ..analysis.readouts import merger_time_lines
+
+    times, q = merger_time_lines(result, times)
+    p = result.period.to_value(u.yr)
+    styles = ("-", "--", ":", "-.")
+    for i, (t, line) in enumerate(zip(times, q, strict=True)):
+        years = t.to_value(u.yr)
+        text = (f"{years / 1e9:.3g} Gyr" if years >= 1e9 else f"{years / 1e6:.3g} Myr"
+                if years >= 1e6 else f"{years:.3g} yr")
+        if i == len(times) - 1 and len(times) == 3:
+            text += " (Hubble time)"
+        ax.plot(p, line, color="0.25", lw=0.9, ls=styles[i % len(styles)],
+                label=f"merges within {text} above (Peters 1964)")
 
 
 def shows_in(ax, artist):

@@ -65,6 +65,9 @@ def figure_statement(result):
     else:
         kind = (f"forecast, not an exclusion: S/N ≥ {result.snr:g} over "
                 f"{result.span.to_value(u.yr):.3g} yr")
+        inc = result.curve.meta.get("inclination")
+        kind += (f" at inclination {inc.replace(' deg', '°')} (polarisation-averaged)" if inc
+                 else " (orientation-averaged)")
     sky = sky_text(result.curve)
     where = f"at {sky}" if sky.startswith("RA ") else (
         sky if sky == "sky-averaged" else f"sky: {sky}")

@@ -47,6 +47,10 @@ def exclusion_table(result, meta=None, prob_map=None):
     t["separation"] = result.separation.to(u.pc)
     t["separation_rg"] = result.separation_rg
     t["chirp_mass_ratio"] = result.chirp_mass_ratio
+    from ..analysis.readouts import angular_separation, merger_time
+
+    t["angular_separation"] = angular_separation(result).to(u.uas)
+    t["merger_time"] = merger_time(result).to(u.yr)
     t["constrained"] = np.isfinite(result.max_mass_ratio)
     descriptions = {
         "period": "orbital period, observer frame",
@@ -59,6 +63,8 @@ def exclusion_table(result, meta=None, prob_map=None):
         "separation_rg": "separation in gravitational radii G M / c^2",
         "chirp_mass_ratio": "smallest q whose frequency drifts by > 1/T over the span "
         "(monochromatic model invalid above it; NaN: none)",
+        "angular_separation": "binary separation / angular-diameter distance D_L/(1+z)^2",
+        "merger_time": "rest-frame time to coalescence at max_mass_ratio (Peters 1964)",
         "constrained": "inside the curve's frequency range and below f_ISCO",
     }
     if prob_map is not None:
@@ -82,6 +88,11 @@ def exclusion_table(result, meta=None, prob_map=None):
     from .statements import derived_meta
 
     t.meta.update(derived_meta(result.host))
+    if "inclination" in result.curve.meta:
+        t.meta["inclination"] = (f"{result.curve.meta['inclination']} (polarisation-averaged; "
+                                 "S/N^2 factor "
+                                 f"{float(result.curve.meta['inclination_factor']):.4g} of "
+                                 "the orientation average)")
     if prob_map is not None:
         t.meta.update(prob_map.describe())
     if meta:
