@@ -56,3 +56,23 @@ def test_tables_carry_angular_separation_and_merger_time(tmp_path):
     assert res.exit_code == 0, res.output
     t = QTable.read(tmp_path / "o" / "host_exclusion.ecsv")
     assert str(t["angular_separation"].unit) == "uas" and str(t["merger_time"].unit) == "yr"
+
+
+def test_repeated_curve_records_the_source_of_each_period(tmp_path):
+    import numpy as np
+    from astropy import units as u
+
+    from ptaconstrain.sensitivity.curve import StrainCurve, save_curve
+
+    f = np.geomspace(4e-9, 1e-7, 40)
+    deep = StrainCurve(f * u.Hz, 1e-15 * (f / 1e-8) ** 2, "h0_limit",
+                       {"confidence": 0.95, "span": "12 yr"})  # invented, deep near 10 nHz
+    save_curve(deep, tmp_path / "deep.ecsv")
+    res = _run("exclude", "--mass", "2e10", "--distance", "100", "--curve", LIMIT, "--curve",
+               str(tmp_path / "deep.ecsv"), "--grid", "60", "--format", "none",
+               "--out", str(tmp_path / "o"))
+    assert res.exit_code == 0, res.output
+    t = QTable.read(tmp_path / "o" / "host_exclusion.ecsv")
+    sources = set(t["curve_source"][t["constrained"]])
+    assert sources == {"synthetic_h0_limit.ecsv", "deep.ecsv"}
+    assert "curve_1" in t.meta["files"] and "curve_2" in t.meta["files"]

@@ -167,8 +167,10 @@ class _Outputs:
         from .._files import write_table
         from ..report.figures import save_figure
         from ..report.provenance import provenance
+        from .sources import provenance_files
 
-        meta = provenance(result.host.describe(), files={sens.role: sens.path})
+        meta = provenance(result.host.describe(),
+                          files=provenance_files(sens.option, sens.path))
         table = result.to_table(meta)
         path = self.host_paths(self.stems[i])[0]
         write_table(table, path, self.overwrite)
@@ -192,13 +194,15 @@ class _Outputs:
         from ..report.batch_tables import summary_table
         from ..report.figures import save_figure
         from ..report.provenance import provenance
+        from .sources import provenance_files
 
         kept = {id(m.host) for m in bounds.maps}
         index = [i for i, h in enumerate(table.hosts) if id(h) in kept]
         on_bad = "skip" if self.rejected_path is not None else "error"
         meta = provenance({"on_bad": on_bad, "hosts_rejected": str(table.rejections.total),
                            "hosts_failed": str(len(bounds.failed))},
-                          files={"hosts": hosts_path, sens.role: sens.path})
+                          files={"hosts": hosts_path,
+                                 **provenance_files(sens.option, sens.path)})
         summary = summary_table(bounds, meta, files=[f"{self.stems[i]}_{self.tag}"
                                                      for i in index],
                                 rows=table.rows[index], mass_source=table.mass_source[index])

@@ -75,8 +75,9 @@ def _grid(text):
               help="Random seed (recorded in the table; drawn afresh if omitted).")
 @click.option("--credibility", type=LevelList(), default="0.5,0.9,0.95", show_default=True,
               help="Credibility levels of the probabilistic bounds.")
-@click.option("--curve", "curve_path", type=click.Path(dir_okay=False), default=None,
-              help="Sensitivity curve: ECSV, or two-column text with --kind.")
+@click.option("--curve", "curve_path", type=click.Path(dir_okay=False), multiple=True,
+              help="Sensitivity curve: ECSV, or two-column text with --kind. Repeat for "
+              "several upper limits: the tightest h0 at each frequency is used.")
 @click.option("--array", "array_path", type=click.Path(dir_okay=False), default=None,
               help="Pulsar list (ECSV) instead of --curve: a forecast at the host's position.")
 @click.option("--limit-map", "limit_map_path", type=click.Path(dir_okay=False), default=None,
@@ -139,6 +140,8 @@ def exclude(**opts):
     OUT/<name>_exclusion.* per host, OUT/hosts_summary.ecsv (one row per host)
     and OUT/hosts_overview.png/.pdf.
     """
+    paths = opts["curve_path"]
+    opts["curve_path"] = None if not paths else paths[0] if len(paths) == 1 else tuple(paths)
     if opts["hosts"] is not None:
         from .batch import run_batch
 
@@ -177,7 +180,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from ..report.figures import exclusion_figure, save_figure
     from ..report.provenance import provenance, safe_name
     from ..report.tables import credible_summary_lines, exclusion_table, summary_lines
-    from ..sensitivity.curve import load_curve
+    from .sources import load_curves, provenance_files
 
     nq, n_p = _grid(grid)
     from ..cosmo import cosmology_by_name
@@ -193,12 +196,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         raise click.UsageError("give exactly one of --curve, --array or --limit-map"
                                + (f" (got {', '.join(given)})" if given else ""))
     source_path = sources[given[0]]
-    if not Path(source_path).is_file():
-        raise click.UsageError(f"{given[0]} {source_path}: file not found; check the path")
+    for one in (source_path if isinstance(source_path, tuple) else (source_path,)):
+        if not Path(one).is_file():
+            raise click.UsageError(f"{given[0]} {one}: file not found; check the path")
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")
-    curve = (load_curve(curve_path, kind=kind, confidence=confidence)
+    curve = (load_curves(curve_path, kind=kind, confidence=confidence)
              if curve_path is not None else None)
     # an upper limit gives an exclusion, a noise budget (or a pulsar list) a forecast
     forecast = array_path is not None or (curve is not None and not curve.is_limit)
@@ -253,7 +257,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
                   period_range=f"{period[0]:.4g},{period[-1]:.4g}")
     inputs["sensitivity_sky"] = sky_note
-    meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
+    meta = provenance(inputs, files=provenance_files(given[0], source_path))
     table = exclusion_table(result, meta, prob_map=prob)
     fig = None
     if formats:

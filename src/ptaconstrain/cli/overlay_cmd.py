@@ -40,14 +40,14 @@ def overlay(curves, kind, confidence, snr, span, style, formats, out, overwrite)
     from ..report.figures import save_figure
     from ..report.paper_style import apply_style
     from ..report.provenance import safe_name
-    from ..sensitivity.curve import load_curve
+    from .sources import is_ecsv, load_curves
 
     stem = Path(out)
     if stem.suffix.lower().lstrip(".") in ("png", "pdf", "svg"):
         stem = stem.with_suffix("")
     check_new([stem.with_name(f"{stem.name}.{f}") for f in formats], overwrite)
-    loaded = [load_curve(p, kind=None if _is_ecsv(p) else kind, confidence=confidence)
-              for p in curves]
+    loaded = [load_curves(p, kind=kind, confidence=confidence) if not is_ecsv(p)
+              else load_curves(p, confidence=confidence) for p in curves]
     fig = apply_style(curves_figure(loaded, [Path(p).name for p in curves], snr=snr,
                                     span=span), style)
     with output_set(stem.parent if str(stem.parent) else ".", safe_name(stem.name),
@@ -57,11 +57,3 @@ def overlay(curves, kind, confidence, snr, span, style, formats, out, overwrite)
     click.echo(f"{len(loaded)} curves ({n_lim} upper limits, {len(loaded) - n_lim} noise "
                f"budgets at S/N >= {snr:g}); wrote " + ", ".join(str(p) for p in written))
 
-
-def _is_ecsv(path):
-    """True for an ECSV file (it states its own kind); --kind is for plain text."""
-    try:
-        with open(path, encoding="utf-8", errors="replace") as fh:
-            return fh.readline().startswith("# %ECSV")
-    except OSError:
-        return False  # load_curve reports a missing file in one line

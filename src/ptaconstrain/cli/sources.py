@@ -2,7 +2,55 @@
 
 import click
 
-__all__ = ["Sensitivity", "load_sensitivity"]
+__all__ = ["Sensitivity", "load_sensitivity", "load_curves", "provenance_files",
+           "is_ecsv"]
+
+
+def load_curves(paths, kind=None, confidence=None):
+    """One curve, or the tightest of several upper limits (``--curve`` repeated).
+
+    Parameters
+    ----------
+    paths : str or tuple of str
+    kind, confidence
+        As :func:`ptaconstrain.sensitivity.curve.load_curve` (``kind`` applies to
+        plain-text files only when several are given).
+
+    Returns
+    -------
+    StrainCurve (a CombinedLimit for several)
+    """
+    from pathlib import Path
+
+    from ..sensitivity.curve import load_curve
+
+    if not isinstance(paths, tuple):
+        return load_curve(paths, kind=kind, confidence=confidence)
+    from ..sensitivity.combined import tightest_limit
+
+    curves = [load_curve(p, kind=None if is_ecsv(p) else kind, confidence=confidence)
+              for p in paths]
+    names = [Path(p).name for p in paths]
+    if len(set(names)) < len(names):
+        names = [str(p) for p in paths]
+    return tightest_limit(curves, names)
+
+
+def is_ecsv(path):
+    """True for an ECSV file (it states its own kind); --kind is for plain text."""
+    try:
+        with open(path, encoding="utf-8", errors="replace") as fh:
+            return fh.readline().startswith("# %ECSV")
+    except OSError:
+        return False  # load_curve reports a missing file in one line
+
+
+def provenance_files(option, path):
+    """Provenance role -> path: ``curve`` for one, ``curve_1``, ``curve_2``, ... for several."""
+    role = option.lstrip("-")
+    if isinstance(path, tuple):
+        return {f"{role}_{i}": p for i, p in enumerate(path, 1)}
+    return {role: path}
 
 
 class Sensitivity:
@@ -55,14 +103,13 @@ def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0, conf
                                + (f" (got {', '.join(given)})" if given else ""))
     option = given[0]
     path = sources[option]
-    if not Path(path).is_file():
-        raise click.UsageError(f"{option} {path}: file not found; check the path")
+    for one in (path if isinstance(path, tuple) else (path,)):
+        if not Path(one).is_file():
+            raise click.UsageError(f"{option} {one}: file not found; check the path")
     if kind is not None and option != "--curve":
         raise click.UsageError("--kind applies to --curve only")
     if option == "--curve":
-        from ..sensitivity.curve import load_curve
-
-        source = load_curve(path, kind=kind, confidence=confidence)
+        source = load_curves(path, kind=kind, confidence=confidence)
     elif option == "--array":
         from ..sensitivity.pulsar_list import load_array
 

@@ -131,6 +131,8 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
                         arrowprops={"arrowstyle": "-", "color": "black"})
     if merger_times is not None:
         _merger_lines(ax, result, None if merger_times is True else merger_times)
+    if hasattr(result.curve, "source_at"):
+        _mark_sources(ax, result)
     if result.hardening_period is not None:
         ax.plot(result.hardening_period.to_value(u.yr), q, color="#009E73", ls="--", lw=1.4,
                 label="hardening radius aₕ = Gμ/4σ² (guide)")
@@ -187,6 +189,30 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
         f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}", fontsize=10, y=1.0,
         pad=_TITLE_PAD)
     return fig
+
+
+def _mark_sources(ax, result):
+    """Dotted verticals where the tightest of several limits changes, each span named."""
+    from matplotlib.lines import Line2D
+
+    p = result.period.to_value(u.yr)
+    names = result.curve.source_at(result.frequency)
+    names = np.where(np.isfinite(result.max_mass_ratio), names, "")
+    change = np.flatnonzero(names[1:] != names[:-1]) + 1
+    edges = np.concatenate([[0], change, [p.size]])
+    for i0, i1 in zip(edges[:-1], edges[1:], strict=True):
+        if names[i0]:
+            mid = np.sqrt(p[i0] * p[i1 - 1])
+            ax.text(mid, 0.985, names[i0], transform=ax.get_xaxis_transform(), fontsize=7,
+                    ha="center", va="top", color="0.15", clip_on=True,
+                    bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none",
+                          "alpha": 0.7})
+    for i in change:
+        if names[i] and names[i - 1]:
+            ax.axvline(np.sqrt(p[i - 1] * p[i]), color="0.15", ls=":", lw=1.0)
+    if change.size:
+        ax.add_line(Line2D([], [], color="0.15", ls=":", lw=1.0,
+                           label="the tightest limit changes (named at the top)"))
 
 
 def _merger_lines(ax, result, times):

@@ -52,6 +52,8 @@ def exclusion_table(result, meta=None, prob_map=None):
     t["angular_separation"] = angular_separation(result).to(u.uas)
     t["merger_time"] = merger_time(result).to(u.yr)
     t["constrained"] = np.isfinite(result.max_mass_ratio)
+    if hasattr(result.curve, "source_at"):  # several limits: which one bounds each period
+        t["curve_source"] = result.curve.source_at(result.frequency)
     descriptions = {
         "period": "orbital period, observer frame",
         "f_gw": "GW frequency 2/P, observer frame",
@@ -66,6 +68,7 @@ def exclusion_table(result, meta=None, prob_map=None):
         "angular_separation": "binary separation / angular-diameter distance D_L/(1+z)^2",
         "merger_time": "rest-frame time to coalescence at max_mass_ratio (Peters 1964)",
         "constrained": "inside the curve's frequency range and below f_ISCO",
+        "curve_source": "the limit that is tightest at f_gw (and so sets this bound)",
     }
     if prob_map is not None:
         from .probability_plot import probability_columns, probability_descriptions
@@ -74,7 +77,8 @@ def exclusion_table(result, meta=None, prob_map=None):
             t[name] = col
         descriptions.update(probability_descriptions(prob_map))
     for name, text in descriptions.items():
-        t[name].info.description = text
+        if name in t.colnames:
+            t[name].info.description = text
     t.meta["statement"] = (
         "EXCLUSION from an upper limit" if result.is_limit
         else "FORECAST from a noise budget (detectable, not excluded)"
