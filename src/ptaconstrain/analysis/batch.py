@@ -103,7 +103,7 @@ class HostBounds:
 def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=None, *,
                 samples=100_000, seed=None, credibility=DEFAULT_CREDIBILITY, curve_for=None,
                 on_bad="error", on_result=None, keep_samples=True, orientation=None,
-                progress=None):
+                eccentricity=0.0, progress=None):
     """Bound the companions of every host in ``hosts`` against one sensitivity.
 
     Parameters
@@ -134,6 +134,8 @@ def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=
     orientation : bool, optional
         Passed to :func:`~ptaconstrain.analysis.probability.exclusion_probability`
         (False when the curve is already at a known inclination).
+    eccentricity : float
+        Orbital eccentricity of every companion orbit (as for one host).
     on_bad : {"error", "skip"}
         A host that cannot be bounded (an input error, e.g. no sky-map value
         at its position) stops the run, or is skipped and recorded.
@@ -177,9 +179,11 @@ def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=
                 result = exclusion_probability(host, curve, mass_ratio, period,
                                                samples=samples, seed=host_seed,
                                                credibility=levels, snr=snr, span=span,
-                                               orientation=orientation)
+                                               orientation=orientation,
+                                               eccentricity=eccentricity)
             else:
-                result = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span)
+                result = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span,
+                                       eccentricity=eccentricity)
         except PtaconstrainError as err:
             if on_bad == "error":
                 raise InputError(f"host {host.name!r}: {err}; fix it, or skip such hosts "

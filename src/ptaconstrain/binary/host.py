@@ -281,7 +281,7 @@ def _distance_sigma(distance, distance_err, distance_err_frac):
 
 
 def hosts_from_table(table):
-    """Hosts from a small table with columns as in ``src/ptaconstrain/data/demo_hosts.ecsv``.
+    """Hosts from a small table with columns as in the shipped ``demo_hosts`` table.
 
     Required: ``name``, ``mass`` [solMass], ``distance`` [Mpc] (or
     ``redshift``).  Optional: ``mass_err_dex``, ``distance_err`` [Mpc],
@@ -296,6 +296,14 @@ def hosts_from_table(table):
     Returns
     -------
     list of Host
+
+    Examples
+    --------
+    >>> from astropy.table import QTable
+    >>> from ptaconstrain.data import path
+    >>> hosts = hosts_from_table(QTable.read(path("demo_hosts.ecsv")))   # invented galaxies
+    >>> len(hosts), type(hosts[0]).__name__
+    (5, 'Host')
     """
     cols = set(table.colnames)
     missing = [c for c in ("name", "mass") if c not in cols]

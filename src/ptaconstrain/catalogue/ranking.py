@@ -80,6 +80,20 @@ class Ranking:
     runs : RankedRuns or None
         The whole ranking on disk when streamed (``table`` then holds the top
         rows); call :meth:`close` when done.
+
+    Examples
+    --------
+    >>> from astropy.table import Table
+    >>> from ptaconstrain import load_curve, rank_catalog
+    >>> from ptaconstrain.data import path
+    >>> galaxies = Table({"name": ["Invented A", "Invented B", "Invented C"],
+    ...                   "ra": [10.0, 150.0, 280.0], "dec": [-5.0, 20.0, -35.0],
+    ...                   "distance": [20.0, 40.0, 80.0], "mass": [3e9, 5e9, 2e10]})
+    >>> ranking = rank_catalog(galaxies, load_curve(path("synthetic_h0_limit.ecsv")))
+    >>> ranking.metric, ranking.verb, ranking.n_ranked
+    ('expected_number', 'excluded', 3)
+    >>> ranking.table["rank"].tolist()
+    [1, 2, 3]
     """
 
     table: object

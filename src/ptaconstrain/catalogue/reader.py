@@ -66,6 +66,15 @@ class CatalogReader:
     ------
     CatalogError
         For a missing or unreadable file.
+
+    Examples
+    --------
+    >>> from ptaconstrain.data import path
+    >>> reader = CatalogReader(path("demo_catalogue.ecsv"))   # invented galaxies
+    >>> reader.n_rows, "distance" in reader.colnames
+    (400, True)
+    >>> [first for first, chunk in reader.chunks(chunk_size=150)]
+    [0, 150, 300]
     """
 
     def __init__(self, source, format=None):

@@ -57,6 +57,17 @@ class ThresholdLookup(FromCurve):
     InputError
         For an object that is neither kind of sensitivity, a bad ``sky`` or
         a span given with a positional sensitivity.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")
+    >>> lookup = ThresholdLookup(curve)
+    >>> table, rows = lookup.thresholds(np.array([10.0, 200.0]), np.array([5.0, -40.0]))
+    >>> table, rows                         # one curve for the whole sky
+    (array([[3.e-14, 1.e-14, 4.e-14]]), None)
     """
 
     def __init__(self, sensitivity, snr=5.0, span=None, sky="auto", sky_nside=None):

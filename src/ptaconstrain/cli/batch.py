@@ -13,8 +13,9 @@ __all__ = ["run_batch", "SINGLE_HOST_OPTIONS", "column_map"]
 
 #: options that describe one host; with --hosts the table gives them per row
 SINGLE_HOST_OPTIONS = ("mass", "distance", "redshift", "mass_distance", "ra", "dec",
-                       "velocity_dispersion", "mass_err", "distance_err", "velocity_err")
-_OPTION_NAMES = {"velocity_dispersion": "--sigma"}
+                       "velocity_dispersion", "mass_err", "distance_err", "velocity_err",
+                       "mass_samples_path", "years", "target_q")
+_OPTION_NAMES = {"velocity_dispersion": "--sigma", "mass_samples_path": "--mass-samples"}
 
 
 def column_map(columns_file, column_pairs):
@@ -57,13 +58,22 @@ def run_batch(opts, explicit=frozenset()):
     if given:
         name = _OPTION_NAMES.get(given[0], "--" + given[0].replace("_", "-"))
         raise click.UsageError(f"{name}: with --hosts every host's values come from the "
-                               f"table; drop {name} (or map a column with --column)")
+                               f"table (and --years runs for one host); drop {name}")
+    if opts["rms_factor"] != 1.0:
+        raise click.UsageError("--rms-factor applies to --years (one host) only")
     from ..cosmo import cosmology_by_name
 
     table = read_hosts(opts["hosts"], column_map(opts["columns_file"], opts["column_pairs"]),
                        on_bad=opts["on_bad"], cosmology=cosmology_by_name(opts["cosmology"]))
+    from .._inputs import check_eccentricity
+
+    ecc = check_eccentricity(opts["eccentricity"], "--eccentricity")
+    if opts["background"] is not None and opts["array_path"] is None:
+        raise click.UsageError("--background: the background enters a forecast from a pulsar "
+                               "list; give --array (or drop --background)")
     sens = load_sensitivity(opts["curve_path"], opts["kind"], opts["array_path"],
-                            opts["limit_map_path"], opts["snr"], opts["confidence"])
+                            opts["limit_map_path"], opts["snr"], opts["confidence"],
+                            opts["background"])
     note_ignored_options(explicit, sens.forecast, any(map(has_errors, table.hosts)),
                          sens.option)
     if sens.option == "--curve":
@@ -93,7 +103,7 @@ def run_batch(opts, explicit=frozenset()):
             samples=opts["samples"], seed=opts["seed"], credibility=credible,
             curve_for=_curve_for(sens, opts["inclination"]), on_bad=opts["on_bad"],
             keep_samples=False,
-            orientation=False if opts["inclination"] is not None else None,
+            orientation=False if opts["inclination"] is not None else None, eccentricity=ecc,
             on_result=lambda i, r: outputs.host(i, r, sens), progress=bar.update)
         outputs.summary(bounds, table, sens, opts["hosts"])
     return _lines(bounds, table, outputs)

@@ -3,13 +3,13 @@
 import click
 
 from . import main
-from .params import POSITIVE, TIME, FormatList
+from .params import CURVE_FILE, POSITIVE, TIME, FormatList
 
 __all__ = ["overlay"]
 
 
 @main.command()
-@click.argument("curves", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.argument("curves", nargs=-1, required=True, type=CURVE_FILE)
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What plain-text curves hold (ECSV files say it themselves).")
 @click.option("--confidence", type=click.FloatRange(0, 1, min_open=True, max_open=True),

@@ -6,7 +6,9 @@ astropy is imported only when a value is converted, never at start-up.
 import click
 
 __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
-           "LevelList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
+           "LevelList", "InputFile", "CURVE_FILE", "ARRAY_FILE", "LIMIT_MAP_FILE",
+           "CATALOGUE_FILE", "BackgroundType", "BACKGROUND_HELP", "YearList", "MASS",
+           "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
 
 
 class QuantityType(click.ParamType):
@@ -165,6 +167,80 @@ class LevelList(click.ParamType):
                       param, ctx)
         return tuple(sorted(set(levels)))
 
+
+class InputFile(click.ParamType):
+    """An input file: a path, or the short name of a shipped file of an accepted kind.
+
+    Resolved by :func:`ptaconstrain.data.resolve` (the one rule: an existing path
+    wins, otherwise a shipped name such as ``synthetic_h0_limit``); converts to the
+    file's path as text.  Shell completion offers the shipped names.
+    """
+
+    name = "file|shipped-name"
+
+    def __init__(self, *kinds):
+        self.kinds = kinds
+
+    def convert(self, value, param, ctx):
+        from ..data import resolve
+        from ..errors import InputError
+
+        try:
+            return str(resolve(value, self.kinds))
+        except InputError as err:
+            self.fail(str(err), param, ctx)
+
+    def shell_complete(self, ctx, param, incomplete):
+        from click.shell_completion import CompletionItem
+
+        from ..data import shipped
+
+        items = [CompletionItem(f.name) for f in shipped()
+                 if f.kind in self.kinds and f.name.startswith(incomplete)]
+        return items + [CompletionItem(incomplete, type="file")]
+
+
+CURVE_FILE = InputFile("curve")
+ARRAY_FILE = InputFile("pulsar list")
+LIMIT_MAP_FILE = InputFile("limit map")
+CATALOGUE_FILE = InputFile("catalogue", "hosts")
+
+
+class BackgroundType(click.ParamType):
+    """The background as common red noise: ``A`` or ``A,gamma`` (gamma 13/3 if omitted)."""
+
+    name = "A[,gamma]"
+
+    def convert(self, value, param, ctx):
+        from ..errors import InputError
+        from ..sensitivity.background import Background, parse_background
+
+        if value is None or isinstance(value, Background):
+            return value
+        try:
+            return parse_background(value)
+        except InputError as err:
+            self.fail(str(err), param, ctx)
+
+
+class YearList(click.ParamType):
+    """Comma-separated non-negative years, e.g. ``5,10,20`` (sorted, duplicates dropped)."""
+
+    name = "y1,y2,..."
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, tuple):
+            return value
+        years = tuple(_float(p, self, param, ctx) for p in str(value).split(","))
+        if not years or not all(0 <= y <= 100 for y in years):
+            self.fail(f"{value!r}: give years added to the schedules, each in [0, 100], "
+                      "e.g. 5,10,20", param, ctx)
+        return tuple(sorted(set(years)))
+
+
+#: Help text of every ``--background`` option.
+BACKGROUND_HELP = ("Background as common red noise in every pulsar: A or A,gamma (gamma "
+                   "13/3 by default), e.g. 2.4e-15; per pulsar, without cross-correlations.")
 
 MASS = QuantityType("solMass")
 DISTANCE = QuantityType("Mpc")

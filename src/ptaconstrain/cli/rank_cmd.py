@@ -3,7 +3,18 @@
 import click
 
 from . import main
-from .params import POSITIVE, TIME, FormatList, QuantityType
+from .params import (
+    ARRAY_FILE,
+    BACKGROUND_HELP,
+    CATALOGUE_FILE,
+    CURVE_FILE,
+    LIMIT_MAP_FILE,
+    POSITIVE,
+    TIME,
+    BackgroundType,
+    FormatList,
+    QuantityType,
+)
 
 __all__ = ["rank"]
 
@@ -21,7 +32,7 @@ def _column_options(pairs):
     return out
 
 
-def _sensitivity(curve, kind, array_path, limit_map_path):
+def _sensitivity(curve, kind, array_path, limit_map_path, background=None):
     """Load the one sensitivity given; returns (object, role, path)."""
     given = [p for p in (curve, array_path, limit_map_path) if p is not None]
     if len(given) != 1:
@@ -32,25 +43,29 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
         return load_curve(curve, kind=kind), "curve", curve
     if kind is not None:
         raise click.UsageError("--kind applies to --curve only")
+    if background is not None and array_path is None:
+        raise click.UsageError("--background applies to --array only")
     if array_path is not None:
         from ..sensitivity.pulsar_list import load_array
 
-        return load_array(array_path), "array", array_path
+        return load_array(array_path).with_background(background), "array", array_path
     from ..sensitivity.limit_map import load_limit_map
 
     return load_limit_map(limit_map_path), "limit_map", limit_map_path
 
 
 @main.command()
-@click.argument("catalog", type=click.Path(dir_okay=False))
-@click.option("--curve", type=click.Path(dir_okay=False), default=None,
-              help="Sensitivity curve (ECSV, or text with --kind).")
+@click.argument("catalog", type=CATALOGUE_FILE)
+@click.option("--curve", type=CURVE_FILE, default=None,
+              help="Sensitivity curve (ECSV, text with --kind, or a shipped name).")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What a plain-text --curve holds.")
-@click.option("--array", "array_path", type=click.Path(dir_okay=False), default=None,
-              help="Pulsar list (ECSV): sky-dependent forecast.")
-@click.option("--limit-map", "limit_map_path", type=click.Path(dir_okay=False), default=None,
-              help="HEALPix FITS map of h0 upper limits.")
+@click.option("--array", "array_path", type=ARRAY_FILE, default=None,
+              help="Pulsar list (ECSV, or a shipped name): sky-dependent forecast.")
+@click.option("--background", type=BackgroundType(), default=None,
+              help=BACKGROUND_HELP + " With --array only.")
+@click.option("--limit-map", "limit_map_path", type=LIMIT_MAP_FILE, default=None,
+              help="HEALPix FITS map of h0 upper limits (or a shipped name).")
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory.")
 @click.option("--metric", type=click.Choice(METRIC_CHOICES), default="expected_number",
@@ -91,12 +106,15 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
 def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation, columns_file,
          column_pairs, top, full_ecsv, on_bad, rate, q_min, q_index, snr, span, sky_averaged, nodes,
-         chunk_size, exclusion_figures, formats, overwrite):
+         chunk_size, exclusion_figures, formats, overwrite, background):
     """Rank a galaxy catalogue as continuous-wave targets.  Example:
 
     \b
-      ptaconstrain rank src/ptaconstrain/data/demo_catalogue.ecsv \\
-          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out ranking
+      ptaconstrain rank demo_catalogue --curve synthetic_h0_limit --out ranking
+      ptaconstrain rank demo_catalogue --array demo_array --background 2.4e-15 --out ranking
+
+    CATALOG is a table file or a shipped (invented) catalogue named as
+    'ptaconstrain data' lists them, like --curve, --array and --limit-map.
 
     The catalogue needs name, ra, dec and distance (Mpc) or redshift, plus a
     measured mass (solMass) or a predictor for a scaling relation
@@ -124,7 +142,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     extra = _column_options(column_pairs)
     if extra:
         columns = ColumnMap({**columns.columns, **extra}, columns.units)
-    sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path)
+    sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path, background)
     population = PopulationModel(rate, MassRatioDistribution(q_min, q_index))
     check_new(ranking_output_paths(out, formats, full_ecsv), overwrite)
     reader = CatalogReader(catalog)
@@ -137,7 +155,8 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     files.update({f"relation_{i}": r for i, r in enumerate(relation) if r.endswith(".toml")})
     options = {"metric": metric, "relations": ",".join(relation) or "all shipped",
                "on_bad": on_bad, "rate": str(rate), "q_min": q_min, "q_index": q_index,
-               "snr": snr, "span": str(span), "sky_averaged": sky_averaged, "nodes": nodes}
+               "snr": snr, "span": str(span), "sky_averaged": sky_averaged, "nodes": nodes,
+               "background": "none" if background is None else background.describe()}
     with progress_bar(reader.n_rows, "ranking") as bar:
         ranking, written = rank_to_files(
             reader, sens, out, files=files, options=options, formats=formats, top=top,

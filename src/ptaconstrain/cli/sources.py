@@ -84,7 +84,8 @@ class Sensitivity:
         return self.option.lstrip("-").replace("-", "_")
 
 
-def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0, confidence=None):
+def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0, confidence=None,
+                     background=None):
     """Load the one sensitivity given; an array's timing fits run behind a progress bar.
 
     Raises
@@ -113,7 +114,7 @@ def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0, conf
     elif option == "--array":
         from ..sensitivity.pulsar_list import load_array
 
-        source = load_array(path)
+        source = load_array(path).with_background(background)
         with progress_bar(len(source), "timing-model fits per pulsar") as bar:
             source.weights(source.default_frequencies(), callback=bar.update)  # cached
     else:
