@@ -163,7 +163,7 @@ def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=
     ...                     {"confidence": 0.95, "span": "15 yr"})  # an invented limit
     >>> b = bound_hosts([Host("A", 2e10, 50), Host("B", 5e9, 30)], limit)
     >>> np.round(b.tightest()[1], 4)
-    array([0.0072, 0.0203])
+    array([0.0072, 0.0472])
     """
     if seed is None:
         seed = int(np.random.SeedSequence().entropy % (2**63))

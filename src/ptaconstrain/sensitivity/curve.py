@@ -441,7 +441,7 @@ def load_curve(path, kind=None, confidence=None):
         hint = frequency_unit_hint(curve.frequency)
         if hint:
             warnings.warn(f"{path.name}: {hint}", PtaconstrainWarning, stacklevel=2)
-    _settle_confidence(curve, path.name, confidence)
+    _settle_confidence(curve, path.name, confidence, note=not first.startswith("# %ECSV"))
     return curve
 
 
@@ -481,8 +481,12 @@ def frequency_unit_hint(frequency):
             f"in Hz; multiply it by {factor} (or write the curve as ECSV with unit {unit})")
 
 
-def _settle_confidence(curve, name, confidence):
-    """Set or check a limit's confidence; warn whenever one is assumed or ignored."""
+def _settle_confidence(curve, name, confidence, note=True):
+    """Set or check a limit's confidence; warn whenever one is assumed or ignored.
+
+    An ECSV limit without a ``confidence`` meta takes the documented default 0.95
+    silently (``note=False``); plain text, which cannot state one, gets a note.
+    """
     if not curve.is_limit:
         if confidence is not None:
             warnings.warn(f"confidence: {name} is a noise budget (a forecast), so the "
@@ -491,6 +495,8 @@ def _settle_confidence(curve, name, confidence):
         return
     stated = curve.meta.get("confidence")
     if stated is None and confidence is None:
+        if not note:
+            return
         warnings.warn(f"confidence: {name} states no confidence, so a 95% upper limit is "
                       "assumed; give --confidence (or the curve's 'confidence' meta)",
                       PtaconstrainWarning, stacklevel=3)
