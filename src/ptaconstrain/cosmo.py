@@ -138,7 +138,21 @@ def cosmology_by_name(name):
 
 
 def cosmology_name(cosmology):
-    """A cosmology's name for outputs ('Planck18', 'WMAP9', or its repr if unnamed)."""
+    """A cosmology's name for outputs ('Planck18', 'WMAP9', or its repr if unnamed).
+
+    Parameters
+    ----------
+    cosmology : astropy.cosmology.Cosmology or :data:`PLANCK18`
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> cosmology_name(PLANCK18)
+    'Planck18'
+    """
     name = getattr(cosmology, "name", None)
     return str(name) if name else repr(cosmology)
 
@@ -148,6 +162,15 @@ def hubble_time(cosmology=None):
 
     H0 follows from the distance spline's first node, where Hubble's law
     D_L = c z / H0 holds to the node's z = 1e-8.
+
+    Parameters
+    ----------
+    cosmology : astropy.cosmology.Cosmology, optional
+        Default: astropy's current default (Planck18, from the shipped table).
+
+    Returns
+    -------
+    Quantity [Gyr]
 
     Examples
     --------

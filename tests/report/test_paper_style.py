@@ -67,7 +67,7 @@ def test_hardening_line_off_the_plot_gets_no_legend_entry():
 
 
 def test_latex_summary_is_aastex_with_units_and_escaped_percent(tmp_path):
-    b = bound_hosts([Host("A", 2e10, 50, mass_err_dex=0.2), Host("B", 5e9, 30)],
+    b = bound_hosts([Host("A", 2e10, 50, mass_err_dex=0.2, distance_err=3), Host("B", 5e9, 30)],
                     power_law_limit(), np.logspace(-3, 0, 30),
                     np.geomspace(0.5, 30, 30) * u.yr, samples=500, seed=1)
     t = summary_table(b)

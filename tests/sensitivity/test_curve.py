@@ -75,8 +75,10 @@ def test_plain_text_needs_a_kind(tmp_path):
     path.write_text("# f h0\n1e-9 1e-14\n1e-8 2e-14\n1e-7 5e-14\n")
     with pytest.raises(CurveError, match="--kind"):
         load_curve(path)
-    with pytest.warns(PtaconstrainWarning, match="states no sky"):
+    with pytest.warns(PtaconstrainWarning) as caught:
         c = load_curve(path, kind="h0_limit")
+    text = " ".join(str(w.message) for w in caught)
+    assert "states no sky" in text and "95% upper limit is assumed" in text
     assert c.frequency.size == 3 and c.confidence == 0.95
 
 

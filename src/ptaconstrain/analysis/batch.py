@@ -20,7 +20,22 @@ __all__ = ["HostBounds", "bound_hosts", "has_errors"]
 
 
 def has_errors(host):
-    """True when ``host`` carries a mass, distance or velocity error (it is sampled)."""
+    """True when ``host`` carries a mass, distance or velocity error (it is sampled).
+
+    Parameters
+    ----------
+    host : Host
+
+    Returns
+    -------
+    bool
+
+    Examples
+    --------
+    >>> from ptaconstrain.binary import Host
+    >>> has_errors(Host("A", 2e10, 50)), has_errors(Host("B", 2e10, 50, mass_err_dex=0.2))
+    (False, True)
+    """
     return (host.mass_err_dex is not None or host.distance_err is not None
             or host.velocity_err is not None)
 
@@ -39,6 +54,14 @@ class HostBounds:
         The seed from which each sampled host's own seed was derived.
     failed : tuple of (Host, str)
         Hosts skipped with ``on_bad="skip"`` and why.
+
+    Examples
+    --------
+    Made by :func:`bound_hosts` (see its example); ``len(bounds)`` is the number of
+    hosts bounded, ``bounds.to_table()`` the summary, ``bounds.plot()`` the overview.
+
+    >>> HostBounds((), (0.95,), 1)
+    HostBounds(0 hosts, 0 with a bound; no bound)
     """
 
     results: tuple
@@ -94,6 +117,8 @@ class HostBounds:
         return batch_overview_figure(self)
 
     def __repr__(self):
+        if not self.results:
+            return "HostBounds(0 hosts, 0 with a bound; no bound)"
         _, q = self.tightest()
         bound = np.isfinite(q)
         text = f"median tightest q {np.median(q[bound]):.3g}" if bound.any() else "no bound"

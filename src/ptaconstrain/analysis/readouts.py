@@ -30,6 +30,12 @@ def angular_diameter_distance(luminosity_distance, redshift):
     Returns
     -------
     Quantity [Mpc]
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> angular_diameter_distance(121 * u.Mpc, 0.1)
+    <Quantity 100. Mpc>
     """
     return (luminosity_distance / (1.0 + np.asarray(redshift)) ** 2).to(u.Mpc)
 
@@ -48,6 +54,20 @@ def angular_separation(result):
     Returns
     -------
     Quantity (nP,) [uas]
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from ptaconstrain.binary import Host
+    >>> from ptaconstrain.sensitivity.curve import StrainCurve
+    >>> f = np.geomspace(2e-9, 3e-7, 60) * u.Hz
+    >>> limit = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit",
+    ...                     {"confidence": 0.95, "span": "15 yr"})  # an invented limit
+    >>> from ptaconstrain.analysis import exclusion_map
+    >>> r = exclusion_map(Host("Example", 2e10, 50), limit, period=[1.0, 10.0] * u.yr)
+    >>> np.round(angular_separation(r).to_value(u.uas), 1)
+    array([ 55.1, 255.7])
     """
     host = result.host
     d_a = angular_diameter_distance(host.distance, host.redshift)
@@ -68,6 +88,20 @@ def merger_time(result):
     Returns
     -------
     Quantity (nP,) [yr]
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from ptaconstrain.binary import Host
+    >>> from ptaconstrain.sensitivity.curve import StrainCurve
+    >>> f = np.geomspace(2e-9, 3e-7, 60) * u.Hz
+    >>> limit = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit",
+    ...                     {"confidence": 0.95, "span": "15 yr"})  # an invented limit
+    >>> from ptaconstrain.analysis import exclusion_map
+    >>> r = exclusion_map(Host("Example", 2e10, 50), limit, period=[1.0, 10.0] * u.yr)
+    >>> merger_time(r).unit
+    Unit("yr")
     """
     host = result.host
     q = result.max_mass_ratio
@@ -78,7 +112,22 @@ def merger_time(result):
 
 
 def default_merger_times(cosmology=None):
-    """1 Myr, 100 Myr and the Hubble time 1/H0 of ``cosmology`` (Quantity [yr])."""
+    """1 Myr, 100 Myr and the Hubble time 1/H0 of ``cosmology`` (Quantity [yr]).
+
+    Parameters
+    ----------
+    cosmology : astropy.cosmology.Cosmology, optional
+        Default: astropy's current default (Planck18).
+
+    Returns
+    -------
+    Quantity (3,) [yr]
+
+    Examples
+    --------
+    >>> [f"{t:.3g}" for t in default_merger_times().value]
+    ['1e+06', '1e+08', '1.45e+10']
+    """
     from ..cosmo import hubble_time
 
     return u.Quantity([1e6 * u.yr, 1e8 * u.yr, hubble_time(cosmology)]).to(u.yr)
@@ -101,6 +150,21 @@ def merger_time_lines(result, times=None):
     -------
     (Quantity (n,) [yr], ndarray (n, nP))
         The times and the mass ratio of each line per period.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from ptaconstrain.binary import Host
+    >>> from ptaconstrain.sensitivity.curve import StrainCurve
+    >>> f = np.geomspace(2e-9, 3e-7, 60) * u.Hz
+    >>> limit = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit",
+    ...                     {"confidence": 0.95, "span": "15 yr"})  # an invented limit
+    >>> from ptaconstrain.analysis import exclusion_map
+    >>> r = exclusion_map(Host("Example", 2e10, 50), limit, period=[1.0, 10.0] * u.yr)
+    >>> times, q = merger_time_lines(r)
+    >>> q.shape
+    (3, 2)
     """
     host = result.host
     times = (default_merger_times(host.cosmology) if times is None
@@ -133,6 +197,16 @@ def curve_at_inclination(curve, inclination):
     -------
     StrainCurve
         With meta ``inclination`` (deg) recorded.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> f = np.geomspace(2e-9, 3e-7, 10) * u.Hz
+    >>> psd = StrainCurve(f, np.full(10, 1e-10), "strain_psd", {"span": "10 yr"})
+    >>> face_on = curve_at_inclination(psd, 0)
+    >>> round(float(face_on.h0_threshold(f[:1])[0] / psd.h0_threshold(f[:1])[0]), 4)
+    0.6325
     """
     from .._inputs import quantity
 

@@ -44,6 +44,14 @@ class HostTable:
         Rows that could not be used, each with its reason.
     name : str
         The table's file name (or ``"<table>"``).
+
+    Examples
+    --------
+    Made by :func:`read_hosts`:
+
+    >>> from ptaconstrain.data import path
+    >>> read_hosts(path("example_hosts"))
+    HostTable('example_hosts.ecsv', 12 hosts, 0 rows rejected)
     """
 
     hosts: list

@@ -28,6 +28,23 @@ class CombinedLimit(StrainCurve):
     limits : tuple of StrainCurve
     names : tuple of str
         One name per limit (e.g. its file name), as tables record it.
+
+    Parameters
+    ----------
+    limits : sequence of StrainCurve
+        Upper limits (use :func:`tightest_limit`, which checks them).
+    names : sequence of str
+    meta : dict, optional
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> f = np.geomspace(2e-9, 3e-7, 20) * u.Hz
+    >>> a = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit")  # invented
+    >>> b = StrainCurve(f, 1e-14 * (1e-8 * u.Hz / f).value, "h0_limit")  # invented
+    >>> CombinedLimit([a, b], ["A", "B"]).source_at([3e-9, 3e-8] * u.Hz).tolist()
+    ['A', 'B']
     """
 
     def __init__(self, limits, names, meta=None):
@@ -88,6 +105,17 @@ def tightest_limit(curves, names):
     ------
     CurveError
         For a noise budget among them, or limits of different confidence.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> f = np.geomspace(2e-9, 3e-7, 20) * u.Hz
+    >>> a = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit")  # invented
+    >>> b = StrainCurve(f, 2e-14 * np.ones(20), "h0_limit")  # invented
+    >>> c = tightest_limit([a, b], ["A", "B"])
+    >>> float(c.h0_threshold([1e-7] * u.Hz)[0])
+    2e-14
     """
     curves, names = list(curves), [str(n) for n in names]
     if len(curves) != len(names) or not curves:
