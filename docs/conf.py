@@ -36,7 +36,7 @@ extensions = [
     "sphinx_gallery.gen_gallery",
 ]
 
-exclude_patterns = ["_build", "gallery"]
+exclude_patterns = ["_build", "gallery", "_generated"]
 templates_path = ["_templates"]
 root_doc = "index"
 
@@ -75,3 +75,35 @@ sphinx_gallery_conf = {
     "reset_modules": (),
     "plot_gallery": "True",
 }
+
+
+def write_cli_help(app):
+    """Write every command's ``--help`` into _generated/cli_help.rst (included by cli.rst).
+
+    The text is click's own, so the page cannot drift from the commands.
+    """
+    import click
+
+    from ptaconstrain.cli import main
+
+    out = HERE / "_generated"
+    out.mkdir(exist_ok=True)
+    width = {"terminal_width": 88, "max_content_width": 88}
+    root = click.Context(main, info_name="ptaconstrain", **width, **main.context_settings)
+    parts = ["``ptaconstrain``", "-" * 16, "", ".. code-block:: text", ""]
+    parts += ["   " + line if line else "" for line in main.get_help(root).splitlines()]
+    for name in sorted(main.list_commands(root)):
+        command = main.get_command(root, name)
+        ctx = click.Context(command, info_name=name, parent=root, **width,
+                            **command.context_settings)
+        title = f"``ptaconstrain {name}``"
+        parts += ["", title, "-" * len(title), "", ".. code-block:: text", ""]
+        parts += ["   " + line if line else "" for line in command.get_help(ctx).splitlines()]
+    text = "\n".join(parts) + "\n"
+    target = out / "cli_help.rst"
+    if not target.exists() or target.read_text() != text:
+        target.write_text(text)
+
+
+def setup(app):
+    app.connect("builder-inited", write_cli_help)

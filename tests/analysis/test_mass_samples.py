@@ -102,3 +102,13 @@ def test_file_reading_and_bad_files(tmp_path):
         p.write_text(text)
         with pytest.raises(MassSamplesError, match=words):
             load_mass_samples(p)
+
+
+def test_shipped_invented_posterior_loads():
+    from ptaconstrain.data import path as data_file
+
+    post = load_mass_samples(data_file("demo_mass_samples.ecsv"))
+    assert post.size == 2000 and post.distance is not None and post.weights is not None
+    # weights uniform in [0.5, 1.5]: Kish's effective size is 12/13 of the rows (from
+    # E[w]^2 / E[w^2] = 1 / (1 + 1/12))
+    assert post.effective_size / post.size == pytest.approx(12 / 13, rel=0.02)

@@ -41,6 +41,20 @@ class EpochForecast(FromCurve):
         The period of that bound (NaN when none).
     rms_factor : float
         TOA-rms improvement factor of the extended data (1: unchanged).
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain import PulsarArray
+    >>> array = PulsarArray(["Invented A", "Invented B"],
+    ...                     SkyCoord([10, 200], [20, -40], unit="deg"), [1, 1] * u.us,
+    ...                     [30, 30] * u.d, [55000, 55000], [56826, 56826])
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 20, coord=SkyCoord(100, 0, unit="deg"))
+    >>> result = forecast_over_time(host, array, [0, 5])
+    >>> result.span.round(1)
+    <Quantity [ 5., 10.] yr>
     """
 
     host: object
@@ -117,6 +131,20 @@ def forecast_over_time(host, array, years, rms_factor=1.0, mass_ratio=None, peri
     Returns
     -------
     EpochForecast
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain import PulsarArray
+    >>> array = PulsarArray(["Invented A", "Invented B"],
+    ...                     SkyCoord([10, 200], [20, -40], unit="deg"), [1, 1] * u.us,
+    ...                     [30, 30] * u.d, [55000, 55000], [56826, 56826])
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 20, coord=SkyCoord(100, 0, unit="deg"))
+    >>> result = forecast_over_time(host, array, [0, 5])   # today, and 5 more years
+    >>> result.tightest_mass_ratio.round(3)                 # longer data, smaller companions
+    array([0.04 , 0.021])
     """
     years = np.atleast_1d(quantity(years, u.yr, "years"))
     if years.size == 0 or np.any(years.value < 0):

@@ -372,6 +372,17 @@ def resample_host(host, mass_samples, n=100_000, seed=None, orientation=False):
     Returns
     -------
     HostSamples
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from ptaconstrain import Host
+    >>> from ptaconstrain.binary.mass_samples import MassSamples
+    >>> posterior = MassSamples([1.5e10, 2e10, 2.5e10], weights=[1, 2, 1])   # invented
+    >>> host = Host("Invented galaxy", 2e10, 100, distance_err=5)
+    >>> samples = resample_host(host, posterior, n=4000, seed=1)
+    >>> np.unique(samples.mass.value / 1e10).tolist()    # the posterior values themselves
+    [1.5, 2.0, 2.5]
     """
     n, seed = _check_draws(n, seed)
     rng = np.random.default_rng(seed)

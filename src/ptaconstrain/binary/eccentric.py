@@ -193,6 +193,14 @@ def decay_rates(total_mass, mass_ratio, separation, eccentricity):
     Returns
     -------
     (Quantity [m/s], Quantity [1/s])
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> da0, de0 = decay_rates(1e9 * u.Msun, 1.0, 0.01 * u.pc, 0.0)
+    >>> da5, de5 = decay_rates(1e9 * u.Msun, 1.0, 0.01 * u.pc, 0.5)
+    >>> float(de0.value), round(float(da5 / da0), 4)   # circular stays circular; x F(0.5)
+    (-0.0, 4.8843)
     """
     eta = wf.symmetric_mass_ratio(mass_ratio)
     e = np.asarray(eccentricity, dtype=float)
@@ -220,6 +228,11 @@ def merger_time_factor(eccentricity):
     Returns
     -------
     float, 1 at e0 = 0, decreasing towards (768/425) (1 - e0^2)^(7/2) as e0 -> 1.
+
+    Examples
+    --------
+    >>> merger_time_factor(0.0), round(merger_time_factor(0.5), 4)
+    (1.0, 0.3578)
     """
     from scipy import integrate
 
@@ -257,6 +270,15 @@ def merger_time(total_mass, mass_ratio, period, eccentricity, redshift=0.0):
     Returns
     -------
     Quantity [yr], broadcast over the inputs.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.binary.waveform import coalescence_time, gw_frequency
+    >>> merger_time(1e10 * u.Msun, 1.0, 5 * u.yr, 0.0).to(u.kyr)
+    <Quantity 2.023 kyr>
+    >>> coalescence_time(1e10 * u.Msun, 1.0, gw_frequency(5 * u.yr)).to(u.kyr)   # e = 0
+    <Quantity 2.023 kyr>
     """
     e = check_eccentricity(eccentricity)
     tc = wf.coalescence_time(total_mass, mass_ratio, wf.gw_frequency(period), redshift)
@@ -285,6 +307,14 @@ def pericentre_isco_frequency(total_mass, eccentricity, redshift=0.0):
     Returns
     -------
     Quantity [Hz]
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> pericentre_isco_frequency(1 * u.Msun, 0.0)     # the circular f_ISCO at e = 0
+    <Quantity 4397.2 Hz>
+    >>> pericentre_isco_frequency(1 * u.Msun, 0.5)
+    <Quantity 1554.6 Hz>
     """
     return wf.isco_frequency(total_mass, redshift) * pericentre_isco_factor(eccentricity)
 
@@ -301,5 +331,10 @@ def pericentre_isco_factor(eccentricity):
     Returns
     -------
     float
+
+    Examples
+    --------
+    >>> round(pericentre_isco_factor(0.5), 4)   # 0.5^(3/2)
+    0.3536
     """
     return (1.0 - check_eccentricity(eccentricity)) ** 1.5

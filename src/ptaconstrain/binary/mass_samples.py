@@ -26,7 +26,21 @@ __all__ = ["MassSamples", "MassSamplesError", "load_mass_samples"]
 
 
 class MassSamplesError(InputError):
-    """A posterior-sample table that cannot be used; the message names the fix."""
+    """A posterior-sample table that cannot be used; the message names the fix.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> try:
+    ...     MassSamples([1e9])
+    ... except MassSamplesError as err:
+    ...     print(err)
+    mass samples: need at least two samples in one column
+    """
 
 
 @dataclass(frozen=True, eq=False)
@@ -128,6 +142,17 @@ def load_mass_samples(path):
     ------
     MassSamplesError
         One line naming the file, the column and the fix.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     table = Path(tmp) / "posterior.csv"
+    ...     _ = table.write_text(chr(10).join(["mass", "1.8e10", "2.0e10", "2.3e10"]))
+    ...     samples = load_mass_samples(table)
+    >>> samples.mass
+    <Quantity [1.8e+10, 2.0e+10, 2.3e+10] solMass>
     """
     from pathlib import Path
 

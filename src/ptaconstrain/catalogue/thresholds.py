@@ -11,6 +11,14 @@ centre, within the pixelisation error (pixels of nside 64 are 0.92 deg
 across, ``healpy.nside2resol``).  With ``sky="averaged"`` the positions are
 ignored and ``curve_at(None)`` serves every galaxy.  The band edges are the
 frequencies of ``curve_at(None)``.
+
+A catalogue partitioned on the sky by nested HEALPix pixels (HATS) asks
+:meth:`ThresholdLookup.partition_thresholds` once per partition: when the
+partition's pixel lies inside one pixel of the threshold grid (same frame,
+equal or coarser grid), every galaxy of the partition shares that row, the
+very row the per-galaxy lookup would find (a nested pixel's parent at a
+coarser order is its index shifted right by two bits per order; Gorski et al.
+2005, ApJ 622, 759, sect. 4).
 """
 
 import numpy as np
@@ -138,6 +146,32 @@ class ThresholdLookup(FromCurve):
         pix = hp.ang2pix(table.nside, lon, lat, lonlat=True)
         used, index = np.unique(pix, return_inverse=True)
         return table.values[used], index
+
+    def partition_thresholds(self, order, pixel):
+        """Thresholds shared by every galaxy of one nested HEALPix pixel, or None.
+
+        Parameters
+        ----------
+        order : int
+            HEALPix order of the pixel (nside = 2**order), ICRS, NESTED scheme (HATS).
+        pixel : int
+
+        Returns
+        -------
+        ndarray (1, n_f) or None
+            None when the threshold grid is finer than the pixel or in another
+            frame: then look the galaxies up one by one with :meth:`thresholds`.
+        """
+        if self._table is None:
+            return self._fixed[None, :]
+        table = self._table
+        level = int(table.nside).bit_length() - 1
+        if table.frame != "icrs" or 1 << level != int(table.nside) or level > int(order):
+            return None
+        import healpy as hp
+
+        parent = int(pixel) >> (2 * (int(order) - level))
+        return table.values[[int(hp.nest2ring(int(table.nside), parent))]]
 
     def __repr__(self):
         return f"ThresholdLookup({self.label()}, {self.mode}, {self.frequency.size} frequencies)"

@@ -12,6 +12,7 @@ from .params import (
     DISTANCE,
     LIMIT_MAP_FILE,
     MASS,
+    MASS_SAMPLES_FILE,
     SPEED,
     TIME,
     BackgroundType,
@@ -77,11 +78,11 @@ def _grid(text):
               help="Distance error: Gaussian sigma ('5', Mpc) or '10%'.")
 @click.option("--velocity-err", type=SPEED, default=None,
               help="Peculiar-velocity error of a redshift distance (km/s).")
-@click.option("--mass-samples", "mass_samples_path", type=click.Path(dir_okay=False),
-              default=None,
+@click.option("--mass-samples", "mass_samples_path", type=MASS_SAMPLES_FILE, default=None,
               help="Posterior samples of the mass: a table with a 'mass' column (solMass), "
-              "optionally 'distance' (Mpc) and 'weight'; replaces --mass-err (and "
-              "--distance-err if it has distances). Turns on probability maps.")
+              "optionally 'distance' (Mpc) and 'weight', or a shipped name such as "
+              "demo_mass_samples; replaces --mass-err (and --distance-err if it has "
+              "distances). Turns on probability maps.")
 @click.option("--samples", type=click.IntRange(min=100), default=100_000, show_default=True,
               help="Monte-Carlo samples of the host for probability maps.")
 @click.option("--seed", type=click.IntRange(min=0), default=None,
@@ -164,7 +165,7 @@ def exclude(**opts):
           --curve synthetic_h0_limit --out results
       ptaconstrain exclude --mass 2e10 --distance 100 --eccentricity 0.5 \\
           --curve synthetic_h0_limit --out results
-      ptaconstrain exclude --mass 2e10 --distance 100 --mass-samples posterior.ecsv \\
+      ptaconstrain exclude --mass 2e10 --distance 100 --mass-samples demo_mass_samples \\
           --seed 1 --curve synthetic_h0_limit --out results
       ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
           --array demo_array --background 2.4e-15 --years 0,5,10,20 \\

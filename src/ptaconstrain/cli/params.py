@@ -7,8 +7,8 @@ import click
 
 __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
            "LevelList", "InputFile", "CURVE_FILE", "ARRAY_FILE", "LIMIT_MAP_FILE",
-           "CATALOGUE_FILE", "BackgroundType", "BACKGROUND_HELP", "YearList", "MASS",
-           "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
+           "CATALOGUE_FILE", "MASS_SAMPLES_FILE", "BackgroundType", "BACKGROUND_HELP",
+           "YearList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
 
 
 class QuantityType(click.ParamType):
@@ -178,13 +178,18 @@ class InputFile(click.ParamType):
 
     name = "file|shipped-name"
 
-    def __init__(self, *kinds):
+    def __init__(self, *kinds, directories=False):
         self.kinds = kinds
+        self.directories = directories  # a partitioned catalogue is a directory
 
     def convert(self, value, param, ctx):
+        from pathlib import Path
+
         from ..data import resolve
         from ..errors import InputError
 
+        if self.directories and Path(value).is_dir():
+            return str(value)
         try:
             return str(resolve(value, self.kinds))
         except InputError as err:
@@ -203,7 +208,8 @@ class InputFile(click.ParamType):
 CURVE_FILE = InputFile("curve")
 ARRAY_FILE = InputFile("pulsar list")
 LIMIT_MAP_FILE = InputFile("limit map")
-CATALOGUE_FILE = InputFile("catalogue", "hosts")
+CATALOGUE_FILE = InputFile("catalogue", "hosts", directories=True)
+MASS_SAMPLES_FILE = InputFile("mass samples")
 
 
 class BackgroundType(click.ParamType):

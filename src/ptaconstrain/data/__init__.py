@@ -18,6 +18,7 @@ name                        kind           what it is
 ``demo_hosts``              hosts          invented host galaxies for the demo
 ``example_hosts``           hosts          invented hosts table for ``exclude --hosts``
 ``demo_catalogue``          catalogue      invented catalogue of 400 massive galaxies
+``demo_mass_samples``       mass samples   invented posterior samples of a black-hole mass
 ``relations``               relations      black-hole mass scaling relations (published)
 ``planck18_distance``       cosmology      D_L(z) of Planck18 from astropy (spline
                                            nodes; ``examples/make_cosmology_table.py``)
@@ -37,6 +38,7 @@ KINDS = {
     "limit map": "HEALPix limit map",
     "catalogue": "galaxy catalogue",
     "hosts": "hosts table",
+    "mass samples": "posterior samples of a black-hole mass",
     "relations": "scaling relations",
     "cosmology": "cosmology table",
 }
@@ -94,6 +96,9 @@ _SHIPPED = (
                 "row: errors, redshift only, mass from M-sigma)"),
     ShippedFile("demo_catalogue", "demo_catalogue.ecsv", "catalogue",
                 "INVENTED catalogue of 400 fictional massive galaxies"),
+    ShippedFile("demo_mass_samples", "demo_mass_samples.ecsv", "mass samples",
+                "INVENTED weighted posterior samples of a black-hole mass and distance "
+                "(2e10 solMass at 100 Mpc, skewed)"),
     ShippedFile("relations", "relations.toml", "relations",
                 "published black-hole mass scaling relations, each cited (not invented)"),
     ShippedFile("planck18_distance", "planck18_distance.ecsv", "cosmology",

@@ -26,7 +26,8 @@ def provenance(inputs=None, files=None):
     inputs : dict, optional
         Input values as strings (with units).
     files : dict, optional
-        Role -> path of input files; each is recorded with its SHA-256, and a file
+        Role -> path of input files; each is recorded with its SHA-256 (a directory,
+        such as a partitioned catalogue, with ``"directory"`` instead), and a file
         shipped with the package also with its shipped name (``ptaconstrain data``).
 
     Returns
@@ -50,6 +51,8 @@ def provenance(inputs=None, files=None):
     >>> record["files"]["curve"]["sha256"][:12]
     '8df2a293b39f'
     """
+    from pathlib import Path
+
     from .._files import sha256
     from .._version import __version__
     from ..data import shipped_name
@@ -65,7 +68,8 @@ def provenance(inputs=None, files=None):
     if files:
         out["files"] = {}
         for role, path in files.items():
-            entry = {"path": str(path), "sha256": sha256(path)}
+            entry = {"path": str(path),
+                     "sha256": "directory" if Path(path).is_dir() else sha256(path)}
             name = shipped_name(path)
             if name is not None:
                 entry["shipped"] = name

@@ -203,6 +203,20 @@ def correlated_snr_squared(array, background, h0, frequency, coord, correlated=T
     Returns
     -------
     ndarray (n_f,)
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain import PulsarArray
+    >>> array = PulsarArray(["Invented A", "Invented B"],
+    ...                     SkyCoord([10, 200], [20, -40], unit="deg"), [1, 1] * u.us,
+    ...                     [30, 30] * u.d, [55000, 55000], [56826, 56826])
+    >>> source = SkyCoord(100, 0, unit="deg")
+    >>> alone = correlated_snr_squared(array, None, 1e-14, [10] * u.nHz, source)
+    >>> with_bg = correlated_snr_squared(array, Background(2.4e-15), 1e-14, [10] * u.nHz, source)
+    >>> bool(with_bg[0] < alone[0])     # the background is one more noise
+    True
     """
     from scipy import linalg
 
