@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from .statements import figure_statement
+from .statements import figure_statement, sky_text
 from .style import unicode_log_ticks
 
 __all__ = ["batch_overview_figure", "MAX_NAMED_HOSTS"]
@@ -80,5 +80,11 @@ def batch_overview_figure(bounds, title=None):
     first = bounds.maps[0]
     what = ("Companions above each marker are excluded" if bounds.is_limit else
             "Companions above each marker would be detectable (forecast)")
-    ax.set_title(f"{title or what}\n{figure_statement(first)}", fontsize=9)
+    statement = figure_statement(first)
+    skies = {sky_text(m.curve) for m in bounds.maps}
+    if len(skies) > 1:  # a pulsar array or a limit map: each host at its own position
+        statement = statement.rsplit("; ", 1)[0] + "; at each host's own position"
+    if len(statement) > 60:  # the axes start at 30% of the width: keep the title inside
+        statement = statement.replace("; ", "\n", 1)
+    ax.set_title(f"{title or what}\n{statement}", fontsize=9)
     return fig
