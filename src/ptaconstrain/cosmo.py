@@ -22,7 +22,9 @@ import sys
 import numpy as np
 from astropy import units as u
 
-__all__ = ["get_cosmology", "DistanceRedshift", "redshift_at", "luminosity_distance_at",
+__all__ = ["get_cosmology", "cosmology_by_name", "cosmology_name", "REALIZATIONS",
+           "hubble_time",
+           "DistanceRedshift", "redshift_at", "luminosity_distance_at",
            "spline_nodes", "Z_MAX", "PLANCK18"]
 
 #: Largest redshift the interpolation covers.
@@ -93,6 +95,93 @@ def get_cosmology(cosmology=None):
     if module is None:
         return PLANCK18
     return module.default_cosmology.get()
+
+
+#: astropy's built-in realizations (astropy.cosmology.realizations), newest first
+REALIZATIONS = ("Planck18", "Planck15", "Planck13", "WMAP9", "WMAP7", "WMAP5", "WMAP3",
+                "WMAP1")
+
+
+def cosmology_by_name(name):
+    """One of astropy's built-in realizations by name; Planck18 without the import.
+
+    Parameters
+    ----------
+    name : str
+        One of :data:`REALIZATIONS` (case-insensitive).
+
+    Returns
+    -------
+    astropy.cosmology.Cosmology, or :data:`PLANCK18` for "Planck18"
+
+    Raises
+    ------
+    InputError
+        For an unknown name.
+
+    Examples
+    --------
+    >>> cosmology_by_name("planck18").name
+    'Planck18'
+    """
+    from .errors import InputError
+
+    match = {r.lower(): r for r in REALIZATIONS}.get(str(name).strip().lower())
+    if match is None:
+        raise InputError(f"cosmology: {name!r} is not one of astropy's realizations; use "
+                         f"one of {', '.join(REALIZATIONS)}")
+    if match == "Planck18":
+        return PLANCK18
+    from astropy.cosmology import realizations
+
+    return getattr(realizations, match)
+
+
+def cosmology_name(cosmology):
+    """A cosmology's name for outputs ('Planck18', 'WMAP9', or its repr if unnamed).
+
+    Parameters
+    ----------
+    cosmology : astropy.cosmology.Cosmology or :data:`PLANCK18`
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> cosmology_name(PLANCK18)
+    'Planck18'
+    """
+    name = getattr(cosmology, "name", None)
+    return str(name) if name else repr(cosmology)
+
+
+def hubble_time(cosmology=None):
+    """The Hubble time 1/H0 of ``cosmology`` (Quantity [Gyr]), without astropy.cosmology.
+
+    H0 follows from the distance spline's first node, where Hubble's law
+    D_L = c z / H0 holds to the node's z = 1e-8.
+
+    Parameters
+    ----------
+    cosmology : astropy.cosmology.Cosmology, optional
+        Default: astropy's current default (Planck18, from the shipped table).
+
+    Returns
+    -------
+    Quantity [Gyr]
+
+    Examples
+    --------
+    >>> round(float(hubble_time().value), 3)  # Planck18: H0 = 67.66 km/s/Mpc
+    14.452
+    """
+    from astropy import constants as const
+
+    nodes = DistanceRedshift(cosmology)._nodes
+    z0, d0 = np.exp(nodes[0][0]), np.exp(nodes[1][0]) * u.Mpc
+    return (d0 / (const.c * z0)).to(u.Gyr)
 
 
 def _is_planck18(cosmology):

@@ -75,8 +75,11 @@ def test_plain_text_needs_a_kind(tmp_path):
     path.write_text("# f h0\n1e-9 1e-14\n1e-8 2e-14\n1e-7 5e-14\n")
     with pytest.raises(CurveError, match="--kind"):
         load_curve(path)
-    c = load_curve(path, kind="h0_limit")
-    assert c.frequency.size == 3
+    with pytest.warns(PtaconstrainWarning) as caught:
+        c = load_curve(path, kind="h0_limit")
+    text = " ".join(str(w.message) for w in caught)
+    assert "states no sky" in text and "95% upper limit is assumed" in text
+    assert c.frequency.size == 3 and c.confidence == 0.95
 
 
 def _ecsv(tmp_path, body, header=None):
@@ -155,3 +158,12 @@ def test_guessed_span_of_a_noise_budget_is_announced():
         warnings.simplefilter("error", PtaconstrainWarning)
         psd.h0_threshold(1e-8, span=10 * u.yr)  # given: no warning
         StrainCurve(f, np.full(5, 1e-14), "h0_limit").h0_threshold(1e-8)  # a limit needs none
+
+
+def test_frequency_unit_hint_names_the_likely_unit():
+    from ptaconstrain.sensitivity.curve import frequency_unit_hint
+
+    # a PTA band is ~1 nHz - 1 uHz (common practice): the same band written in nHz or mHz
+    assert "look like nHz" in frequency_unit_hint([2.0, 300.0] * u.Hz)
+    assert "look like mHz" in frequency_unit_hint([2e-6, 3e-4] * u.Hz)
+    assert frequency_unit_hint([2e-9, 3e-7] * u.Hz) == ""

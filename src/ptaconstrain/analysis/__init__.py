@@ -5,6 +5,7 @@ region codes a map's cells hold (regions).
 probability imports exclusion and sampling; neither of those imports probability.
 """
 
+from .batch import HostBounds, bound_hosts, has_errors
 from .epochs import EpochForecast, forecast_over_time
 from .exclusion import (
     ExclusionMap,
@@ -15,6 +16,14 @@ from .exclusion import (
     sensitivity_for,
 )
 from .probability import DEFAULT_CREDIBILITY, ProbabilityMap, exclusion_probability
+from .readouts import (
+    angular_diameter_distance,
+    angular_separation,
+    curve_at_inclination,
+    default_merger_times,
+    merger_time,
+    merger_time_lines,
+)
 from .regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, REGION_NAMES, UNCONSTRAINED
 from .sampling import (
     HostSamples,
@@ -25,6 +34,15 @@ from .sampling import (
 )
 
 __all__ = [
+    "HostBounds",
+    "bound_hosts",
+    "has_errors",
+    "angular_diameter_distance",
+    "angular_separation",
+    "curve_at_inclination",
+    "default_merger_times",
+    "merger_time",
+    "merger_time_lines",
     "ALLOWED",
     "EXCLUDED",
     "UNCONSTRAINED",

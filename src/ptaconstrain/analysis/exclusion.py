@@ -408,7 +408,7 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     """
     e = check_eccentricity(eccentricity)
     curve = sensitivity_for(host, curve, warn=warn)
-    if warn and not curve.is_limit:
+    if warn and not curve.is_limit and "inclination" not in curve.meta:
         warnings.warn("forecasts use the orientation-averaged S/N, "
                       "as the binary's inclination is unknown", PtaconstrainWarning,
                       stacklevel=2)

@@ -9,6 +9,7 @@ ranking (the driver and its result).
 """
 
 from .columns import FIELDS, CatalogError, ColumnMap, load_column_map
+from .hosts import HostTable, read_hosts
 from .metrics import METRICS, galaxy_metrics, most_sensitive_frequency
 from .names import NameSet, duplicate_mask, name_bytes, name_hashes
 from .population import MassRatioDistribution, PopulationModel, expected_number
@@ -26,6 +27,8 @@ from .rows import Rejections, prepare_chunk
 from .thresholds import ThresholdLookup
 
 __all__ = [
+    "HostTable",
+    "read_hosts",
     "FIELDS",
     "CatalogError",
     "ColumnMap",

@@ -28,6 +28,7 @@ FIELDS = {
     "ra": ("deg", "right ascension (ICRS)"),
     "dec": ("deg", "declination (ICRS)"),
     "distance": ("Mpc", "luminosity distance"),
+    "distance_err": ("Mpc", "1 sigma error of the luminosity distance (host tables)"),
     "redshift": (None, "cosmological redshift"),
     "mass": ("solMass", "measured total black-hole mass"),
     "log_mass": (None, "log10 of the measured mass in solMass"),

@@ -133,7 +133,14 @@ def main(debug):
 
 
 def _register():
-    from . import array_cmds, data_cmd, demo, exclude, rank_cmd  # noqa: F401  (commands attach themselves)
+    from . import (  # noqa: F401  (commands attach themselves)
+        array_cmds,
+        data_cmd,
+        demo,
+        exclude,
+        overlay_cmd,
+        rank_cmd,
+    )
 
 
 _register()

@@ -3,9 +3,11 @@
 import click
 
 from . import main
+from .notes import explicit_options, note_assumed_span, note_ignored_options
 from .params import (
     ARRAY_FILE,
     BACKGROUND_HELP,
+    CATALOGUE_FILE,
     CURVE_FILE,
     DISTANCE,
     LIMIT_MAP_FILE,
@@ -18,6 +20,7 @@ from .params import (
     FormatList,
     LevelList,
     MassError,
+    QuantityType,
     RangeType,
     YearList,
 )
@@ -40,12 +43,27 @@ def _grid(text):
 
 
 @main.command()
-@click.option("--mass", type=MASS, required=True,
-              help="Total black-hole mass M = m1 + m2; bare numbers are solMass.")
+@click.option("--mass", type=MASS, default=None,
+              help="Total black-hole mass M = m1 + m2; bare numbers are solMass "
+              "(required unless --hosts).")
+@click.option("--hosts", type=CATALOGUE_FILE, default=None,
+              help="A table of hosts (any table astropy reads, or a shipped name such as "
+              "example_hosts; columns as for 'rank'): "
+              "bound every host, write a summary table and an overview figure.")
+@click.option("--columns", "columns_file", type=click.Path(dir_okay=False), default=None,
+              help="With --hosts: TOML column mapping ([columns] FIELD = \"name\", [units]).")
+@click.option("--column", "column_pairs", multiple=True,
+              help="With --hosts: one mapping FIELD=COLUMN (repeatable).")
+@click.option("--on-bad", type=click.Choice(["error", "skip"]), default="error",
+              show_default=True,
+              help="With --hosts: stop at a bad row or host, or skip and count them.")
 @click.option("--distance", type=DISTANCE, default=None,
               help="Luminosity distance; bare numbers are Mpc.")
 @click.option("--redshift", type=click.FloatRange(min=0), default=None,
-              help="Redshift (instead of, or as well as, --distance; Planck18).")
+              help="Redshift (instead of, or as well as, --distance; see --cosmology).")
+@click.option("--cosmology", default="Planck18", show_default=True,
+              help="Cosmology for redshift <-> distance: one of astropy's realizations "
+              "(Planck18, Planck15, Planck13, WMAP9, WMAP7, WMAP5, WMAP3, WMAP1).")
 @click.option("--mass-distance", type=DISTANCE, default=None,
               help="Distance the mass was measured at; it is rescaled linearly.")
 @click.option("--name", default="host", show_default=True, help="Host name for labels and files.")
@@ -71,9 +89,10 @@ def _grid(text):
               help="Random seed (recorded in the table; drawn afresh if omitted).")
 @click.option("--credibility", type=LevelList(), default="0.5,0.9,0.95", show_default=True,
               help="Credibility levels of the probabilistic bounds.")
-@click.option("--curve", "curve_path", type=CURVE_FILE, default=None,
+@click.option("--curve", "curve_path", type=CURVE_FILE, multiple=True,
               help="Sensitivity curve: ECSV, two-column text with --kind, or a shipped "
-              "name (e.g. synthetic_h0_limit; 'ptaconstrain data' lists them).")
+              "name (e.g. synthetic_h0_limit; 'ptaconstrain data' lists them). Repeat "
+              "for several upper limits: the tightest h0 at each frequency is used.")
 @click.option("--array", "array_path", type=ARRAY_FILE, default=None,
               help="Pulsar list (ECSV, or a shipped name such as demo_array) instead of "
               "--curve: a forecast at the host's position.")
@@ -91,8 +110,16 @@ def _grid(text):
               "synthetic_h0_limit_map) instead of --curve: the limit at the host's pixel.")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What a plain-text curve holds.")
+@click.option("--confidence", type=click.FloatRange(0, 1, min_open=True, max_open=True),
+              default=None, help="Confidence of a --curve upper limit that states none "
+              "(plain text); default 0.95, with a note.")
 @click.option("--snr", type=click.FloatRange(min=0, min_open=True), default=5.0,
               show_default=True, help="S/N threshold for noise-budget curves.")
+@click.option("--inclination", type=QuantityType("deg", allow_zero=True), default=None,
+              help="Known inclination of the binary (deg; 0 face-on) for forecasts: replaces "
+              "the orientation average by that inclination, averaged over polarisation.")
+@click.option("--merger-lines", is_flag=True,
+              help="Draw lines of equal merger time (1 Myr, 100 Myr, Hubble time) on figures.")
 @click.option("--span", type=TIME, default=None,
               help="Observing span (default: the curve's; bare numbers are yr).")
 @click.option("--eccentricity", default="0", show_default=True,
@@ -104,8 +131,14 @@ def _grid(text):
               help="Orbital period range LOW,HIGH (yr); default: the curve's band.")
 @click.option("--grid", default="300", show_default=True,
               help="Grid size N (N x N) or NQxNP.")
-@click.option("--format", "formats", type=FormatList(), default="png,pdf", show_default=True,
-              help="Figure formats, comma-separated.")
+@click.option("--format", "formats", type=FormatList(allow_none=True), default="png,pdf",
+              show_default=True, help="Figure formats, comma-separated; 'none': tables only.")
+@click.option("--style", type=click.Choice(["column", "page", "slide"]), default="page",
+              show_default=True, help="Figure size: a journal column (3.5 in), a page "
+              "(7.1 in) or a slide (10 in), text sized to match.")
+@click.option("--table-format", "table_formats", type=FormatList(("ecsv", "latex")),
+              default="ecsv", show_default=True,
+              help="Summary table formats: ecsv, and latex (AASTeX) for --hosts.")
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (created if needed).")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
@@ -140,8 +173,31 @@ def exclude(**opts):
 
     The shipped (invented) curves, pulsar list and limit map are named as
     'ptaconstrain data' lists them; any other value is a file path.
+      ptaconstrain exclude --hosts example_hosts --curve synthetic_h0_limit \\
+          --out results
+
+    With --hosts TABLE every host of the table is bounded in one run:
+    OUT/<name>_exclusion.* per host, OUT/hosts_summary.ecsv (one row per host)
+    and OUT/hosts_overview.png/.pdf.
     """
-    for line in run_exclusion(**opts):
+    paths = opts["curve_path"]
+    opts["curve_path"] = None if not paths else paths[0] if len(paths) == 1 else tuple(paths)
+    if opts["hosts"] is not None:
+        from .batch import run_batch
+
+        lines = run_batch({**opts, "grid": _grid(opts["grid"])}, explicit_options())
+    else:
+        if opts["mass"] is None:
+            raise click.UsageError("give --mass (one host) or --hosts TABLE (many hosts)")
+        for key, option in (("hosts", "--hosts"), ("columns_file", "--columns"),
+                            ("column_pairs", "--column"), ("on_bad", "--on-bad")):
+            if opts.pop(key) not in (None, (), "error"):
+                raise click.UsageError(f"{option} applies to --hosts only")
+        if "latex" in opts.pop("table_formats"):
+            raise click.UsageError("--table-format latex writes the summary table of "
+                                   "--hosts; a single host's table is ECSV")
+        lines = run_exclusion(**opts, explicit=explicit_options())
+    for line in lines:
         click.echo(line)
 
 
@@ -150,7 +206,9 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
                   period_range, grid, formats, out, overwrite, eccentricity="0",
                   background=None, years=None, rms_factor=1.0, target_q=None,
-                  mass_samples_path=None):
+                  mass_samples_path=None, confidence=None, cosmology="Planck18",
+                  style="page", inclination=None, merger_lines=False,
+                  explicit=frozenset()):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -165,19 +223,23 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from ..report.figures import exclusion_figure, save_figure
     from ..report.provenance import provenance, safe_name
     from ..report.tables import credible_summary_lines, exclusion_table, summary_lines
-    from ..sensitivity.curve import load_curve
+    from .sources import load_curves, provenance_files
 
     nq, n_p = _grid(grid)
+    from ..cosmo import cosmology_by_name
+    from ..report.statements import host_line
+
     ecc = check_eccentricity(eccentricity, "--eccentricity")
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
                 ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
-                velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))
+                velocity_err=velocity_err, cosmology=cosmology_by_name(cosmology),
+                **(mass_err or {}), **(distance_err or {}))
     sources = {"--curve": curve_path, "--array": array_path, "--limit-map": limit_map_path}
     given = [k for k, v in sources.items() if v is not None]
     if len(given) != 1:
         raise click.UsageError("give exactly one of --curve, --array or --limit-map"
                                + (f" (got {', '.join(given)})" if given else ""))
-    source_path = sources[given[0]]  # an existing file (InputFile checked it)
+    source_path = sources[given[0]]  # existing files (InputFile checked them)
     if background is not None and array_path is None:
         raise click.UsageError("--background: the background enters a forecast from a pulsar "
                                "list; give --array (or drop --background)")
@@ -190,9 +252,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")
-    curve = load_curve(curve_path, kind=kind) if curve_path is not None else None
+    curve = (load_curves(curve_path, kind=kind, confidence=confidence)
+             if curve_path is not None else None)
     # an upper limit gives an exclusion, a noise budget (or a pulsar list) a forecast
     forecast = array_path is not None or (curve is not None and not curve.is_limit)
+    sampled = bool(mass_err or distance_err or velocity_err is not None
+                   or mass_samples_path is not None)
+    note_ignored_options(explicit, forecast, sampled, given[0])
     stem = Path(out) / f"{safe_name(name)}_{'forecast' if forecast else 'exclusion'}"
     targets = [Path(f"{stem}.ecsv")] + [Path(f"{stem}.{f}") for f in formats]
     time_stem = Path(out) / f"{safe_name(name)}_over_time"
@@ -210,19 +276,30 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     else:
         lo, hi = (p.to_value(u.yr) for p in period_range)
         period = np.logspace(np.log10(lo), np.log10(hi), n_p) * u.yr
+    note_assumed_span(curve, span)
+    if inclination is not None:
+        from ..analysis.readouts import curve_at_inclination
+
+        curve = curve_at_inclination(curve, inclination)
     prob = None
-    if mass_err or distance_err or velocity_err is not None or posterior is not None:
+    if sampled:
         from ..analysis.probability import exclusion_probability
 
         prob = exclusion_probability(host, curve, q, period, samples=samples, seed=seed,
                                      credibility=credibility, snr=snr, span=span,
-                                     eccentricity=ecc, mass_samples=posterior)
+                                     eccentricity=ecc, mass_samples=posterior,
+                                     orientation=False if inclination is not None else None)
         result = prob.deterministic
     else:
         result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span,
                                eccentricity=ecc)
 
     if not np.isfinite(result.max_mass_ratio).any():
+        from ..sensitivity.curve import frequency_unit_hint
+
+        hint = frequency_unit_hint(curve.frequency)
+        if hint:  # the likelier mistake: a text curve written in nHz or mHz
+            raise click.UsageError(f"no period of the grid is constrained: {hint}")
         band = band_periods(curve).value
         p_isco = orbital_period(result.isco_frequency).value
         raise click.UsageError(
@@ -241,19 +318,26 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         inputs.update(posterior.describe())
     if array_path is not None:
         inputs["background"] = curve.meta["background"]
-    files = {given[0].lstrip("-"): source_path}
+    files = provenance_files(given[0], source_path)
     if posterior is not None:
         files["mass_samples"] = mass_samples_path
     meta = provenance(inputs, files=files)
     table = exclusion_table(result, meta, prob_map=prob)
-    fig = exclusion_figure(result, prob_map=prob)
+    fig = None
+    if formats:
+        from ..report.paper_style import apply_style
+
+        fig = apply_style(exclusion_figure(result, prob_map=prob,
+                                           merger_times=True if merger_lines else None), style)
     # the table and figures are published together or not at all; with --overwrite
     # every file of the host's earlier set goes (e.g. a PDF this run does not make)
     every_format = [f"{stem.name}.{ext}" for ext in ("ecsv", *FormatList().choices)]
     with output_set(out, stem.name, overwrite, earlier=every_format):
         write_table(table, targets[0], overwrite)
-        written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
-    lines = summary_lines(result)
+        written = [targets[0]]
+        if fig is not None:
+            written += save_figure(fig, stem, formats, overwrite)
+    lines = summary_lines(result) + [host_line(host, distance is None)]
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")
     if prob is not None:

@@ -94,16 +94,22 @@ def _fraction(text, ptype, param, ctx):
 
 
 class FormatList(click.ParamType):
-    """Comma-separated figure formats out of ``choices``, e.g. ``png,pdf``."""
+    """Comma-separated figure formats out of ``choices``, e.g. ``png,pdf``.
+
+    With ``allow_none``, ``none`` means no figures (an empty tuple).
+    """
 
     name = "formats"
 
-    def __init__(self, choices=("png", "pdf", "svg")):
+    def __init__(self, choices=("png", "pdf", "svg"), allow_none=False):
         self.choices = choices
+        self.allow_none = allow_none
 
     def convert(self, value, param, ctx):
         if isinstance(value, tuple):
             return value
+        if self.allow_none and str(value).strip().lower() == "none":
+            return ()
         items = tuple(dict.fromkeys(v.strip().lower().lstrip(".") for v in str(value).split(",")))
         bad = [v for v in items if v not in self.choices]
         if bad or not items:

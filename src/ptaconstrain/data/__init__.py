@@ -16,6 +16,7 @@ name                        kind           what it is
 ``synthetic_h0_limit_map``  limit map      invented HEALPix map of h0 upper limits
 ``demo_array``              pulsar list    invented pulsar list (a fictional array)
 ``demo_hosts``              hosts          invented host galaxies for the demo
+``example_hosts``           hosts          invented hosts table for ``exclude --hosts``
 ``demo_catalogue``          catalogue      invented catalogue of 400 massive galaxies
 ``demo_mass_samples``       mass samples   invented posterior samples of a black-hole mass
 ``relations``               relations      black-hole mass scaling relations (published)
@@ -90,6 +91,9 @@ _SHIPPED = (
                 "INVENTED pulsar list of a fictional timing array (fictional pulsars)"),
     ShippedFile("demo_hosts", "demo_hosts.ecsv", "hosts",
                 "INVENTED host galaxies of the demo (fictional names, masses, positions)"),
+    ShippedFile("example_hosts", "example_hosts.ecsv", "hosts",
+                "INVENTED table of 12 fictional hosts for 'exclude --hosts' (every kind of "
+                "row: errors, redshift only, mass from M-sigma)"),
     ShippedFile("demo_catalogue", "demo_catalogue.ecsv", "catalogue",
                 "INVENTED catalogue of 400 fictional massive galaxies"),
     ShippedFile("demo_mass_samples", "demo_mass_samples.ecsv", "mass samples",

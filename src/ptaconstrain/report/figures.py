@@ -9,9 +9,11 @@ import numpy as np
 from astropy import units as u
 
 from ..analysis.regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTRAINED
+from .statements import figure_statement, probability_footer
 from .style import MSUN, minor_ticks_as_markers, sci_text, unicode_log_ticks
 
-__all__ = ["REGION_STYLE", "exclusion_figure", "save_figure"]
+__all__ = ["REGION_STYLE", "exclusion_figure", "save_figure", "unify_symbols", "SYMBOLS",
+           "shows_in"]
 
 # code: (label for limits, label for forecasts, colour, hatch)
 REGION_STYLE = {
@@ -52,7 +54,7 @@ def _m2_to_q(m2, m_tot):
         return m2 / (m_tot - m2)
 
 
-def exclusion_figure(result, ax=None, prob_map=None):
+def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
     """Draw an :class:`~ptaconstrain.analysis.exclusion.ExclusionMap` on log axes.
 
     Parameters
@@ -64,6 +66,9 @@ def exclusion_figure(result, ax=None, prob_map=None):
     prob_map : ProbabilityMap, optional
         From :func:`ptaconstrain.analysis.probability.exclusion_probability`: its
         probability contours are drawn over the deterministic map.
+    merger_times : Quantity [time] or True, optional
+        Draw lines of equal rest-frame merger time (Peters 1964) as guides; True
+        gives 1 Myr, 100 Myr and the Hubble time.
 
     Returns
     -------
@@ -136,6 +141,10 @@ def exclusion_figure(result, ax=None, prob_map=None):
                         ha="right", bbox={"boxstyle": "round", "fc": "white", "ec": "0.6",
                                           "alpha": 0.9},
                         arrowprops={"arrowstyle": "-", "color": "black"})
+    if merger_times is not None:
+        _merger_lines(ax, result, None if merger_times is True else merger_times)
+    if hasattr(result.curve, "source_at"):
+        _mark_sources(ax, result)
     if result.hardening_period is not None:
         ax.plot(result.hardening_period.to_value(u.yr), q, color="#009E73", ls="--", lw=1.4,
                 label="hardening radius aₕ = Gμ/4σ² (guide)")
@@ -175,16 +184,15 @@ def exclusion_figure(result, ax=None, prob_map=None):
                      hatch=REGION_STYLE[c][3], label=REGION_STYLE[c][0 if lim else 1])
                for c in codes if np.any(result.region == c)]
     line_handles, _ = ax.get_legend_handles_labels()
-    entries = handles + line_handles
+    entries = handles + [h for h in line_handles if shows_in(ax, h)]
     ax.legend(handles=entries, loc="upper center", bbox_to_anchor=(0.5, -0.11),
               ncol=2, fontsize=8, frameon=False)
     if own_figure:
         _fit_legend_rows(fig, (len(entries) + 1) // 2)
-    if lim:
-        kind = f"exclusion, {result.label}"
-    else:
-        kind = (f"forecast, not an exclusion: S/N ≥ {result.snr:g} over "
-                f"{result.span.to_value(u.yr):.3g} yr")
+    kind = figure_statement(result)
+    if prob_map is not None:
+        fig.text(0.01, 0.005, probability_footer(prob_map), fontsize=7, color="0.3",
+                 ha="left", va="bottom")
     host = result.host
     # A fixed offset above the top axis (its tick labels and label take ~31 pt): with
     # the automatic title position matplotlib lays the top axis out a second time.
@@ -193,6 +201,63 @@ def exclusion_figure(result, ax=None, prob_map=None):
         f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}; {result.orbit}", fontsize=10, y=1.0,
         pad=_TITLE_PAD)
     return fig
+
+
+def _mark_sources(ax, result):
+    """Dotted verticals where the tightest of several limits changes, each span named."""
+    from matplotlib.lines import Line2D
+
+    p = result.period.to_value(u.yr)
+    names = result.curve.source_at(result.frequency)
+    names = np.where(np.isfinite(result.max_mass_ratio), names, "")
+    change = np.flatnonzero(names[1:] != names[:-1]) + 1
+    edges = np.concatenate([[0], change, [p.size]])
+    for i0, i1 in zip(edges[:-1], edges[1:], strict=True):
+        if names[i0]:
+            mid = np.sqrt(p[i0] * p[i1 - 1])
+            ax.text(mid, 0.985, names[i0], transform=ax.get_xaxis_transform(), fontsize=7,
+                    ha="center", va="top", color="0.15", clip_on=True,
+                    bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none",
+                          "alpha": 0.7})
+    for i in change:
+        if names[i] and names[i - 1]:
+            ax.axvline(np.sqrt(p[i - 1] * p[i]), color="0.15", ls=":", lw=1.0)
+    if change.size:
+        ax.add_line(Line2D([], [], color="0.15", ls=":", lw=1.0,
+                           label="the tightest limit changes (named at the top)"))
+
+
+def _merger_lines(ax, result, times):
+    """Grey guide lines: binaries above each merge within that (rest-frame) time."""
+    from ..analysis.readouts import merger_time_lines
+
+    times, q = merger_time_lines(result, times)
+    p = result.period.to_value(u.yr)
+    styles = ("-", "--", ":", "-.")
+    for i, (t, line) in enumerate(zip(times, q, strict=True)):
+        years = t.to_value(u.yr)
+        text = (f"{years / 1e9:.3g} Gyr" if years >= 1e9 else f"{years / 1e6:.3g} Myr"
+                if years >= 1e6 else f"{years:.3g} yr")
+        if i == len(times) - 1 and len(times) == 3:
+            text += " (Hubble time)"
+        ax.plot(p, line, color="0.25", lw=0.9, ls=styles[i % len(styles)],
+                label=f"merges within {text} above (Peters 1964)")
+
+
+def shows_in(ax, artist):
+    """False for a line with data, none of it inside the axes' limits (no legend entry).
+
+    Artists without data (legend-only entries) and non-lines count as shown.
+    """
+    from matplotlib.lines import Line2D
+
+    if not isinstance(artist, Line2D):
+        return True
+    x, y = (np.asarray(a, dtype=float) for a in artist.get_data())
+    if x.size == 0:
+        return True
+    (x0, x1), (y0, y1) = sorted(ax.get_xlim()), sorted(ax.get_ylim())
+    return bool(np.any((x >= x0) & (x <= x1) & (y >= y0) & (y <= y1)))
 
 
 def _log_uniform(edges):
@@ -272,14 +337,39 @@ def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
     """
     from pathlib import Path
 
+    from matplotlib import rc_context
+
     from .._files import atomic_write
 
+    unify_symbols(fig)
     written = []
     for fmt in formats:
         path = Path(f"{stem}.{fmt}")
         # PNG: zlib level 3 instead of 6 halves the encoding time for ~10% more bytes
         extra = {"pil_kwargs": {"compress_level": 3}} if fmt == "png" else {}
-        with atomic_write(path, overwrite) as tmp:
+        # TrueType (Type 42) fonts in PDF/PS: journals ask for them, and text stays editable
+        with atomic_write(path, overwrite) as tmp, rc_context(
+                {"pdf.fonttype": 42, "ps.fonttype": 42}):
             fig.savefig(tmp, format=fmt, dpi=dpi, **extra)
         written.append(path)
     return written
+
+
+#: ASCII comparison signs and the symbols every figure shows instead
+SYMBOLS = {">=": "≥", "<=": "≤"}
+
+
+def unify_symbols(fig):
+    """Write ≥ and ≤ in every text of ``fig`` (titles, labels, legends, annotations).
+
+    Labels come from several places (curve labels use ASCII ``>=``); a figure
+    shows one form only.  Mathtext (``$...$``) is left alone.
+    """
+    from matplotlib.text import Text
+
+    for text in fig.findobj(Text):
+        s = text.get_text()
+        if s and "$" not in s and any(k in s for k in SYMBOLS):
+            for ascii_sign, symbol in SYMBOLS.items():
+                s = s.replace(ascii_sign, symbol)
+            text.set_text(s)

@@ -3,6 +3,7 @@
 import numpy as np
 from astropy import units as u
 
+from .statements import figure_statement
 from .style import minor_ticks_as_markers, unicode_log_ticks
 
 __all__ = ["OKABE_ITO", "overview_figure"]
@@ -46,7 +47,7 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
 
     fig = Figure(figsize=(7.2, 5.6))
     ax = fig.subplots()
-    fig.subplots_adjust(left=0.11, right=0.97, top=0.9, bottom=0.3)
+    fig.subplots_adjust(left=0.11, right=0.97, top=0.87, bottom=0.3)
     chirped = False
     for i, r in enumerate(limit_maps):
         colour = OKABE_ITO[i % len(OKABE_ITO)]
@@ -71,8 +72,12 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
     ax.set_xlabel("orbital period P [yr] (observer frame); each line starts at its host's ISCO")
     ax.set_ylabel("bound on the mass ratio q = m₂/m₁")
     # y=1.0 fixes the title where matplotlib would put it, without a layout pass
-    ax.set_title(title or "Companions above each line are excluded (solid) or would be "
-                 "detectable (dashed)", fontsize=10, y=1.0)
+    if title is None:
+        title = ("Companions above each line are excluded (solid) or would be detectable "
+                 f"(dashed)\nsolid: {figure_statement(limit_maps[0])}")
+        if forecast_maps:
+            title += f"\ndashed: {figure_statement(forecast_maps[0])}"
+    ax.set_title(title, fontsize=9, y=1.0)
     unicode_log_ticks(ax.xaxis, ax.yaxis)
     minor_ticks_as_markers(ax, ax.xaxis, ax.get_xlim(), "bottom")
     minor_ticks_as_markers(ax, ax.yaxis, ax.get_ylim(), "left")

@@ -78,7 +78,13 @@ def exclusion_table(result, meta=None, prob_map=None):
     t["separation"] = result.separation.to(u.pc)
     t["separation_rg"] = result.separation_rg
     t["chirp_mass_ratio"] = result.chirp_mass_ratio
+    from ..analysis.readouts import angular_separation, merger_time
+
+    t["angular_separation"] = angular_separation(result).to(u.uas)
+    t["merger_time"] = merger_time(result).to(u.yr)
     t["constrained"] = np.isfinite(result.max_mass_ratio)
+    if hasattr(result.curve, "source_at"):  # several limits: which one bounds each period
+        t["curve_source"] = result.curve.source_at(result.frequency)
     descriptions = {
         "period": "orbital period, observer frame",
         "f_gw": "GW frequency 2/P, observer frame",
@@ -90,7 +96,10 @@ def exclusion_table(result, meta=None, prob_map=None):
         "separation_rg": "separation in gravitational radii G M / c^2",
         "chirp_mass_ratio": "smallest q whose frequency drifts by > 1/T over the span "
         "(monochromatic model invalid above it; NaN: none)",
+        "angular_separation": "binary separation / angular-diameter distance D_L/(1+z)^2",
+        "merger_time": "rest-frame time to coalescence at max_mass_ratio (Peters 1964)",
         "constrained": "inside the curve's frequency range and below f_ISCO",
+        "curve_source": "the limit that is tightest at f_gw (and so sets this bound)",
     }
     if prob_map is not None:
         from .probability_plot import probability_columns, probability_descriptions
@@ -99,7 +108,8 @@ def exclusion_table(result, meta=None, prob_map=None):
             t[name] = col
         descriptions.update(probability_descriptions(prob_map))
     for name, text in descriptions.items():
-        t[name].info.description = text
+        if name in t.colnames:
+            t[name].info.description = text
     t.meta["statement"] = (
         "EXCLUSION from an upper limit" if result.is_limit
         else "FORECAST from a noise budget (detectable, not excluded)"
@@ -110,6 +120,14 @@ def exclusion_table(result, meta=None, prob_map=None):
     t.meta["total_mass"] = format_quantity(result.host.mass.to(u.Msun))
     t.meta["luminosity_distance"] = format_quantity(result.host.distance.to(u.Mpc))
     t.meta["f_isco"] = format_quantity(result.isco_frequency.to(u.Hz))
+    from .statements import derived_meta
+
+    t.meta.update(derived_meta(result.host))
+    if "inclination" in result.curve.meta:
+        t.meta["inclination"] = (f"{result.curve.meta['inclination']} (polarisation-averaged; "
+                                 "S/N^2 factor "
+                                 f"{float(result.curve.meta['inclination_factor']):.4g} of "
+                                 "the orientation average)")
     t.meta["eccentricity"] = f"{result.eccentricity:g}"
     if result.harmonics is not None:
         t.meta["harmonics"] = (f"n = 1-{int(result.harmonics.max())} of the orbital frequency "

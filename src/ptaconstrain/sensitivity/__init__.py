@@ -32,6 +32,7 @@ from .background import (
     hellings_downs,
     parse_background,
 )
+from .combined import CombinedLimit, tightest_limit
 from .curve import (
     CurveError,
     StrainCurve,
@@ -62,6 +63,8 @@ __all__ = [
     "parse_background",
     # curves
     "StrainCurve",
+    "CombinedLimit",
+    "tightest_limit",
     "load_curve",
     "save_curve",
     "detection_threshold_h0",

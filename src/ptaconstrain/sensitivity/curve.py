@@ -29,6 +29,7 @@ __all__ = [
     "CurveError",
     "load_curve",
     "save_curve",
+    "frequency_unit_hint",
     "detection_threshold_h0",
     "FromCurve",
     "noise_psd_for_threshold",
@@ -373,7 +374,7 @@ def _span_from_meta(meta):
 
 
 # --------------------------------------------------------------------- I/O
-def load_curve(path, kind=None):
+def load_curve(path, kind=None, confidence=None):
     """Read a sensitivity curve.
 
     ECSV files (first line ``# %ECSV``) carry a ``frequency`` column (Hz) and
@@ -388,10 +389,21 @@ def load_curve(path, kind=None):
     path : str or path-like
     kind : str, optional
         Required for plain text; for ECSV it must match the file if given.
+    confidence : float, optional
+        Confidence of an upper limit, in (0, 1), for a file that states none
+        (plain text always).  A file's own ``confidence`` meta wins; giving a
+        different one, or one for a noise budget, warns that it is ignored.
 
     Returns
     -------
     StrainCurve
+
+    Warns
+    -----
+    PtaconstrainWarning
+        For each assumption: a limit's confidence (95% when none is stated),
+        the sky of a plain-text curve (sky-averaged), and frequencies that look
+        like nHz or mHz rather than Hz.
 
     Raises
     ------
@@ -412,14 +424,90 @@ def load_curve(path, kind=None):
         raise CurveError(f"curve file {path} not found: check the path")
     with open(path, encoding="utf-8", errors="replace") as fh:
         first = fh.readline()
+    if confidence is not None and not 0 < float(confidence) < 1:
+        raise CurveError(f"confidence: {confidence!r} must lie in (0, 1), e.g. 0.95")
     if first.startswith("# %ECSV"):
-        return _load_ecsv(path, kind)
-    if kind is None:
+        curve = _load_ecsv(path, kind)
+    elif kind is None:
         raise CurveError(
             f"{path.name} is plain text: say what its second column holds "
             f"(--kind {'/'.join(KINDS)}), or use an ECSV file"
         )
-    return _load_text(path, kind)
+    else:
+        curve = _load_text(path, kind)
+        warnings.warn(f"sky: {path.name} is plain text and states no sky, so it is taken "
+                      "as sky-averaged; write it as ECSV with meta 'sky' to say otherwise",
+                      PtaconstrainWarning, stacklevel=2)
+        hint = frequency_unit_hint(curve.frequency)
+        if hint:
+            warnings.warn(f"{path.name}: {hint}", PtaconstrainWarning, stacklevel=2)
+    _settle_confidence(curve, path.name, confidence, note=not first.startswith("# %ECSV"))
+    return curve
+
+
+def frequency_unit_hint(frequency):
+    """A hint when frequencies given as Hz look like nHz or mHz; '' when they look right.
+
+    A PTA is sensitive between about 1 nHz and 1 uHz (1/span to the Nyquist
+    frequency of a few-week cadence; common practice).  Numbers of order 1-1000
+    read as Hz are far above that and are most likely nHz; numbers of 1e-6 to
+    1e-2 "Hz" are most likely mHz.
+
+    Parameters
+    ----------
+    frequency : Quantity [frequency]
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> frequency_unit_hint([2.0, 30.0] * u.Hz)[:38]
+    'frequencies 2-30 Hz look like nHz: the'
+    >>> frequency_unit_hint([2e-9, 3e-8] * u.Hz)
+    ''
+    """
+    f = frequency.to_value(u.Hz)
+    lo, hi = float(np.min(f)), float(np.max(f))
+    if lo >= 0.05 and hi <= 1e5:
+        unit, factor = "nHz", "1e-9"
+    elif lo >= 1e-7 and 1e-5 < hi <= 1e-1:
+        unit, factor = "mHz", "1e-3"
+    else:
+        return ""
+    return (f"frequencies {lo:.3g}-{hi:.3g} Hz look like {unit}: the first column must be "
+            f"in Hz; multiply it by {factor} (or write the curve as ECSV with unit {unit})")
+
+
+def _settle_confidence(curve, name, confidence, note=True):
+    """Set or check a limit's confidence; warn whenever one is assumed or ignored.
+
+    An ECSV limit without a ``confidence`` meta takes the documented default 0.95
+    silently (``note=False``); plain text, which cannot state one, gets a note.
+    """
+    if not curve.is_limit:
+        if confidence is not None:
+            warnings.warn(f"confidence: {name} is a noise budget (a forecast), so the "
+                          f"confidence {confidence:g} is ignored", PtaconstrainWarning,
+                          stacklevel=3)
+        return
+    stated = curve.meta.get("confidence")
+    if stated is None and confidence is None:
+        if not note:
+            return
+        warnings.warn(f"confidence: {name} states no confidence, so a 95% upper limit is "
+                      "assumed; give --confidence (or the curve's 'confidence' meta)",
+                      PtaconstrainWarning, stacklevel=3)
+        curve.meta["confidence"] = 0.95
+        curve.meta["confidence_assumed"] = True
+    elif stated is None:
+        curve.meta["confidence"] = float(confidence)
+    elif confidence is not None and abs(float(stated) - float(confidence)) > 1e-12:
+        warnings.warn(f"confidence: {name} states {float(stated):g}, which is used; the "
+                      f"confidence {confidence:g} given is ignored", PtaconstrainWarning,
+                      stacklevel=3)
 
 
 def _load_ecsv(path, kind):
