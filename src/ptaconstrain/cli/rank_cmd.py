@@ -130,6 +130,8 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     \b
       ptaconstrain rank demo_catalogue --curve synthetic_h0_limit --out ranking
       ptaconstrain rank demo_catalogue --array demo_array --background 2.4e-15 --out ranking
+      ptaconstrain rank galaxies_hats/ --engine dask --workers 2 \\
+          --curve synthetic_h0_limit --out ranking  # your own HATS catalogue
 
     CATALOG is a table file or a shipped (invented) catalogue named as
     'ptaconstrain data' lists them, like --curve, --array and --limit-map;
