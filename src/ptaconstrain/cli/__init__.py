@@ -84,18 +84,32 @@ def _first_command(argv):
 
 
 def _show_warnings(caught, ours, notes=True):
-    """``Note:`` lines for our warnings (deduplicated); others shown as Python would."""
+    """``Note:`` lines for our warnings (deduplicated) and library warnings; no tracebacks.
+
+    numpy's RuntimeWarnings (overflow, invalid value) at extreme inputs become
+    one note in all; astropy's warnings one note each (first line).  After a
+    failure nothing is shown: the error's one line stays one line.
+    """
     seen = set()
+    numeric = 0
     for w in caught:
-        if issubclass(w.category, ours):
-            if not notes:
-                continue
-            text = _squeeze(str(w.message))
-            if text not in seen:
-                seen.add(text)
-                click.echo(f"Note: {text}", err=True)
+        if not notes:
+            continue
+        if issubclass(w.category, ours) or w.category.__module__.startswith("astropy"):
+            text = _squeeze(str(w.message).strip().splitlines()[0] if str(w.message).strip()
+                            else w.category.__name__)
+        elif issubclass(w.category, RuntimeWarning):
+            numeric += 1
+            continue
         else:
             warnings.showwarning(w.message, w.category, w.filename, w.lineno, w.file, w.line)
+            continue
+        if text not in seen:
+            seen.add(text)
+            click.echo(f"Note: {text}", err=True)
+    if numeric:
+        click.echo("Note: the computation met numerical overflow or invalid values (at "
+                   "extreme inputs); check the results", err=True)
 
 
 def _squeeze(text):

@@ -6,6 +6,7 @@ from . import main
 from .params import (
     DISTANCE,
     MASS,
+    SNR,
     SPEED,
     TIME,
     DistanceError,
@@ -13,6 +14,7 @@ from .params import (
     LevelList,
     MassError,
     RangeType,
+    max_memory_option,
 )
 
 __all__ = ["exclude", "run_exclusion"]
@@ -68,7 +70,7 @@ def _grid(text):
               "the host's pixel.")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What a plain-text curve holds.")
-@click.option("--snr", type=click.FloatRange(min=0, min_open=True), default=5.0,
+@click.option("--snr", type=SNR, default=5.0,
               show_default=True, help="S/N threshold for noise-budget curves.")
 @click.option("--span", type=TIME, default=None,
               help="Observing span (default: the curve's; bare numbers are yr).")
@@ -83,6 +85,7 @@ def _grid(text):
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (created if needed).")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
+@max_memory_option
 def exclude(**opts):
     """Rule out companions of one host black hole.
 
@@ -118,6 +121,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from astropy import units as u
 
     from .._files import check_new, output_set, write_table
+    from .._inputs import check_field, check_memory, check_name
     from ..analysis.exclusion import band_periods, exclusion_map
     from ..binary.host import Host
     from ..binary.waveform import orbital_period
@@ -127,6 +131,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from ..sensitivity.curve import load_curve
 
     nq, n_p = _grid(grid)
+    name = check_name(name, "--name")  # before any work: it becomes part of file names
+    if period_range is not None:
+        check_field(u.Quantity(period_range), "period", "--period-range")
+    if span is not None:
+        check_field(span, "span", "--span")
+    # the grid's arrays (about 8 float64 per cell) before they are made
+    check_memory(64.0 * nq * n_p, f"the {nq} x {n_p} grid", "lower --grid")
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
                 ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
                 velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))

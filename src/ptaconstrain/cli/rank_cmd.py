@@ -3,7 +3,7 @@
 import click
 
 from . import main
-from .params import POSITIVE, TIME, FormatList, QuantityType
+from .params import SNR, TIME, Checked, FormatList, QuantityType, max_memory_option
 
 __all__ = ["rank"]
 
@@ -72,9 +72,9 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
               help="Binary merger rate per galaxy; bare numbers are per yr.")
 @click.option("--q-min", type=click.FloatRange(0, 1, min_open=True, max_open=True),
               default=0.01, show_default=True, help="Smallest mass ratio of the population.")
-@click.option("--q-index", type=float, default=-1.0, show_default=True,
+@click.option("--q-index", type=Checked("q_index"), default=-1.0, show_default=True,
               help="Power-law index of p(q) (-1: log-uniform).")
-@click.option("--snr", type=POSITIVE, default=5.0, show_default=True,
+@click.option("--snr", type=SNR, default=5.0, show_default=True,
               help="S/N threshold for noise budgets.")
 @click.option("--span", type=TIME, default=None,
               help="Observing span for a noise-budget --curve; bare numbers are yr.")
@@ -89,6 +89,7 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
 @click.option("--format", "formats", type=FormatList(), default="png", show_default=True,
               help="Figure formats, e.g. png,pdf.")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
+@max_memory_option
 def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation, columns_file,
          column_pairs, top, full_ecsv, on_bad, rate, q_min, q_index, snr, span, sky_averaged, nodes,
          chunk_size, exclusion_figures, formats, overwrite):
@@ -109,6 +110,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     <name>_forecast.* (noise budget) for the N best targets.
     """
     from .._files import check_new
+    from .._inputs import check_field
     from ..catalogue import (
         CatalogReader,
         ColumnMap,
@@ -120,6 +122,8 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     from ..report.ranking_files import rank_to_files, ranking_output_paths
     from .progress import progress_bar
 
+    if span is not None:
+        check_field(span, "span", "--span")
     columns = load_column_map(columns_file) if columns_file else ColumnMap()
     extra = _column_options(column_pairs)
     if extra:

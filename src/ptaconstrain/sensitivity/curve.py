@@ -18,7 +18,7 @@ import warnings
 import numpy as np
 from astropy import units as u
 
-from .._inputs import positive, quantity
+from .._inputs import check_field, quantity
 from ..errors import InputError, PtaconstrainWarning
 
 __all__ = [
@@ -159,6 +159,8 @@ class StrainCurve:
         self.frequency = f
         self.value = v
         self.span = _span_from_meta(self.meta)
+        if self.is_limit:
+            _confidence_from_meta(self.meta)  # refused now, not when first printed
 
     # ----------------------------------------------------------------- labels
     @property
@@ -171,7 +173,7 @@ class StrainCurve:
         """Confidence of an upper limit as a fraction (default 0.95), else None."""
         if not self.is_limit:
             return None
-        return float(self.meta.get("confidence", 0.95))
+        return _confidence_from_meta(self.meta)
 
     @property
     def verb(self):
@@ -281,7 +283,7 @@ class StrainCurve:
         Quantity [yr].
         """
         if span is not None:
-            return positive(quantity(span, u.yr, "span"), "span")
+            return check_field(span, "span")
         if self.span is not None:
             return self.span
         guess = (1.0 / self.frequency[0]).to(u.yr)
@@ -323,13 +325,31 @@ def _span_from_meta(meta):
     span = meta.get("span")
     if span is None:
         return None
+    if not isinstance(span, (str, int, float, u.Quantity)) or isinstance(span, bool):
+        raise CurveError(f"curve meta 'span' is a {type(span).__name__}: write one time, "
+                         "e.g. '15 yr'")
     try:
         q = quantity(span, u.yr, "span")
     except InputError as err:
         raise CurveError(f"curve meta 'span' = {span!r} is not a time: write e.g. '15 yr'") from err
-    if q.value <= 0:
-        raise CurveError(f"curve meta 'span' = {span!r} must be a positive time")
-    return q
+    if q.value <= 0 or q.ndim:
+        raise CurveError(f"curve meta 'span' = {span!r} must be one positive time")
+    try:
+        return check_field(q, "span", "curve meta 'span'")
+    except InputError as err:
+        raise CurveError(str(err)) from err
+
+
+def _confidence_from_meta(meta):
+    """The meta 'confidence' of a limit (default 0.95), refused outside (0, 1)."""
+    conf = meta.get("confidence", 0.95)
+    if isinstance(conf, bool) or not isinstance(conf, (int, float, str, np.floating)):
+        raise CurveError(f"curve meta 'confidence' is a {type(conf).__name__}: write one "
+                         "number in (0, 1), e.g. 0.95")
+    try:
+        return check_field(conf, "confidence", "curve meta 'confidence'")
+    except InputError as err:
+        raise CurveError(str(err)) from err
 
 
 # --------------------------------------------------------------------- I/O
