@@ -97,6 +97,7 @@ def _loaded_alone(name):
     return name, None, json.loads(res.stdout.strip().splitlines()[-1])
 
 
+@pytest.mark.slow
 def test_every_module_imports_alone_in_a_fresh_interpreter():
     names = [m for m, _ in MODULES if not m.endswith("__main__")]  # those run the CLI
     with ThreadPoolExecutor(max_workers=4) as pool:

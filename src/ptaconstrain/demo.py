@@ -264,7 +264,7 @@ def _array_exclusions(out, hosts, overwrite, figures):
         stem = out / f"{safe_name(host.name)}_array_forecast"
         meta = provenance(host.describe())
         meta["demo"] = "INVENTED data: fictional host and pulsar array"
-        meta["array"] = "src/ptaconstrain/data/demo_array.ecsv (INVENTED)"
+        meta["array"] = "demo_array (shipped with ptaconstrain, INVENTED)"
         write_table(exclusion_table(here, meta), f"{stem}.ecsv", overwrite)
         if host.coord is not None and not any(h.coord is not None for h in hosts[:len(at_host)]):
             check_new([f"{stem}.png"], overwrite)
@@ -341,7 +341,8 @@ def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
     import numpy as np
 
     from ._files import check_new
-    from .report.provenance import safe_name
+    from .data import path as data_file
+    from .report.provenance import fits_cards, provenance, safe_name
     from .report.skyplot import nhz_text, sky_map_figure, threshold_label
     from .sensitivity.curve import save_curve
     from .sensitivity.limit_map import write_threshold_maps
@@ -365,14 +366,16 @@ def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
 
     arr.weights(freq, callback=step)
     sky = arr.sky_averaged_curve(snr=snr, frequency=freq)
-    sky.meta["demo"] = "INVENTED pulsar array (src/ptaconstrain/data/demo_array.ecsv)"
+    sky.meta["demo"] = "INVENTED pulsar array (shipped demo_array)"
     h_sky = sky.h0_threshold(freq, snr=snr)
     # the frequency where a given binary (h0 ~ f^(2/3)) is easiest to detect
     i = int(np.argmin(h_sky / freq.to_value("Hz") ** (2 / 3)))
     f_best = freq[i : i + 1]
     m = arr.h0_threshold_map(f_best, nside=nside, snr=snr)
+    meta = provenance(files={"array": data_file(ARRAY_FILE)})
     write_threshold_maps(fits_path, m, f_best, snr, arr.span,
-                         "pulsar list demo_array (INVENTED)", overwrite=overwrite)
+                         "pulsar list demo_array (INVENTED)", overwrite=overwrite,
+                         extra=fits_cards(meta))
     job = _figure_job(
         sky_map_figure, png_stem, overwrite, m[0], pulsars=arr.sky_markers(), hosts=hosts,
         title=f"INVENTED demo array: h0 detectable at S/N >= {snr:g} (forecast), "
@@ -382,6 +385,7 @@ def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
         job()
     else:
         figures.append(job)
+    sky.meta["provenance"] = meta
     save_curve(sky, sky_path, overwrite)
 
     lines = [f"pulsar array: {len(arr)} INVENTED pulsars, span {arr.span.value:.3g} yr; sky "
@@ -390,6 +394,8 @@ def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
     for host in hosts:
         c = arr.curve_at(host.coord, snr=snr, frequency=freq)
         c.meta["demo"] = "INVENTED pulsar array and host"
+        c.meta["provenance"] = provenance(host.describe(),
+                                          files={"array": data_file(ARRAY_FILE)})
         save_curve(c, curve_paths[host.name], overwrite)
         h = float(c.h0_threshold(f_best, snr=snr)[0])
         if host.coord is None:

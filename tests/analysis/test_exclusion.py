@@ -14,6 +14,7 @@ from ptaconstrain.analysis.exclusion import (
 )
 from ptaconstrain.binary import waveform as wf
 from ptaconstrain.binary.host import Host
+from ptaconstrain.errors import PtaconstrainWarning
 from ptaconstrain.sensitivity.curve import StrainCurve
 
 Q = np.geomspace(1e-4, 1, 60)
@@ -73,7 +74,8 @@ def test_companion_mass_and_separation_in_gravitational_radii(limit_curve):
 def test_noise_budget_reads_detectable():
     f = np.geomspace(2e-9, 3e-7, 40)
     c = StrainCurve(f * u.Hz, 1e-26 * (f / 1e-8) ** 2, "strain_psd", {"span": "20 yr"})
-    r = exclusion_map(Host("A", 1e10, 50), c, Q, P, snr=5)
+    with pytest.warns(PtaconstrainWarning, match="orientation-averaged S/N"):
+        r = exclusion_map(Host("A", 1e10, 50), c, Q, P, snr=5)
     assert r.verb == "detectable" and not r.is_limit and "S/N >= 5" in r.label
 
 

@@ -217,6 +217,7 @@ def _brute_number(lm, sig, d, z, f, thr, pop):
     return pop.rate.to_value(1 / u.yr) * total
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("index", [-1.0, 0.5])
 def test_expected_number_equals_the_row_by_row_definition(index):
     # brute force: _brute_number above, galaxy by galaxy; the batch skips galaxies whose

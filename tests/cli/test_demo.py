@@ -6,6 +6,7 @@ from click.testing import CliRunner
 from ptaconstrain.cli import main
 
 
+@pytest.mark.slow
 def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     out = tmp_path / "demo"
     r = CliRunner().invoke(main, ["demo", "--out", str(out)])

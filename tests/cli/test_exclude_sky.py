@@ -60,7 +60,7 @@ def test_array_without_position_says_sky_averaged(tmp_path):
 
 
 def test_exactly_one_sensitivity_source(tmp_path):
-    for extra in ([], ["--curve", "a.ecsv", "--array", "b.ecsv"]):
+    for extra in ([], ["--curve", "synthetic_h0_limit", "--array", "demo_array"]):
         r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--out",
                   str(tmp_path / "o")] + extra)
         assert r.exit_code != 0 and "exactly one of --curve, --array or --limit-map" in r.output

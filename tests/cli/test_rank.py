@@ -81,7 +81,7 @@ def test_full_ecsv_on_request_equals_the_fits_table(tmp_path, curve_file):
 def test_help_shows_an_example():
     res = _run("rank", "--help")
     assert res.exit_code == 0
-    assert "ptaconstrain rank src/ptaconstrain/data/demo_catalogue.ecsv" in res.output
+    assert "ptaconstrain rank demo_catalogue --curve synthetic_h0_limit" in res.output
 
 
 def _bad_catalogue(tmp_path, **change):
@@ -126,6 +126,7 @@ def test_skip_counts_and_records_the_bad_rows(tmp_path, curve_file):
     assert list(rej["row"]) == [2] and "duplicate" in rej["reason"][0]
 
 
+@pytest.mark.slow
 def test_refuses_to_overwrite(tmp_path, curve_file):
     out = tmp_path / "out"
     args = ("rank", CATALOGUE, "--curve", curve_file, "--out", str(out))
@@ -136,7 +137,7 @@ def test_refuses_to_overwrite(tmp_path, curve_file):
 
 
 @pytest.mark.parametrize("extra, words", [
-    (("--array", "x.ecsv"), "exactly one of"),
+    (("--array", "demo_array"), "exactly one of"),
     (("--column", "distance"), "FIELD=COLUMN"),
     (("--relation", "no_such"), "unknown"),
     (("--rate", "1 km"), "--rate"),
@@ -148,6 +149,7 @@ def test_usage_errors(tmp_path, curve_file, extra, words):
     assert res.exit_code != 0 and words in res.output and "Traceback" not in res.output
 
 
+@pytest.mark.slow
 def test_array_option_sky_dependent(tmp_path):
     out = tmp_path / "out"
     res = _run("rank", CATALOGUE, "--array", str(data_file("demo_array.ecsv")),
@@ -167,6 +169,7 @@ def test_demo_ranking_part(tmp_path):
         ranking_part(tmp_path, curve)
 
 
+@pytest.mark.slow
 def test_exclusion_figures_of_the_top_targets(tmp_path, curve_file):
     # named per galaxy and kind, exactly as ``exclude`` names its figure
     from ptaconstrain.report.provenance import safe_name

@@ -25,6 +25,7 @@ def result():
                          period=np.geomspace(0.3, 30, 50) * u.yr)
 
 
+@pytest.mark.slow
 def test_a_figure_is_made_and_saved_without_pyplot(tmp_path):
     src = str(Path(ptaconstrain.__file__).resolve().parent.parent)
     tests = str(Path(__file__).resolve().parent.parent)

@@ -33,11 +33,11 @@ def test_blocks_give_the_bytes_astropy_writes(tmp_path, block):
     t.write(ref)
     out = tmp_path / "blocks.fits"
     write_fits_blocks((t[i:i + block] for i in range(0, len(t), block)), out, len(t), meta)
-    a, b = fits.open(ref), fits.open(out)
-    assert [(c.name, c.format, c.unit) for c in a[1].columns] == [
-        (c.name, c.format, c.unit) for c in b[1].columns]
-    assert a[1].header["NAXIS2"] == b[1].header["NAXIS2"] == len(t)
-    assert a[1].data.tobytes() == b[1].data.tobytes()
+    with fits.open(ref) as a, fits.open(out) as b:
+        assert [(c.name, c.format, c.unit) for c in a[1].columns] == [
+            (c.name, c.format, c.unit) for c in b[1].columns]
+        assert a[1].header["NAXIS2"] == b[1].header["NAXIS2"] == len(t)
+        assert a[1].data.tobytes() == b[1].data.tobytes()
     back = QTable.read(out)
     assert back.meta["PRODUCT"] == "test"
     assert np.array_equal(back["flag"], t["flag"])
@@ -52,7 +52,8 @@ def test_masked_and_text_columns_take_astropy_path(tmp_path):
     ref, out = tmp_path / "ref.fits", tmp_path / "out.fits"
     t.write(ref)
     write_fits_blocks([t[:2], t[2:]], out, 3)
-    assert fits.open(ref)[1].data.tobytes() == fits.open(out)[1].data.tobytes()
+    with fits.open(ref) as a, fits.open(out) as b:
+        assert a[1].data.tobytes() == b[1].data.tobytes()
 
 
 def test_wider_text_in_a_later_block_is_refused(tmp_path):

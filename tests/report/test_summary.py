@@ -11,6 +11,7 @@ from curves_for_tests import power_law_limit
 from ptaconstrain.analysis.exclusion import exclusion_map
 from ptaconstrain.binary import waveform as wf
 from ptaconstrain.binary.host import Host
+from ptaconstrain.errors import PtaconstrainWarning
 from ptaconstrain.report.tables import summary_lines
 
 H_REF, F_REF = 6e-14, 1e-8  # the test limit: h0 < H_REF (f / F_REF)
@@ -83,7 +84,8 @@ def test_a_forecast_names_the_detection_threshold():
 
     f = np.geomspace(2e-9, 3e-7, 40)
     psd = StrainCurve(f * u.Hz, 1e-20 * (f / 1e-8) ** 2, "strain_psd", {"span": "20 yr"})
-    result = exclusion_map(Host("Faint", 1e8, 1000), psd)
+    with pytest.warns(PtaconstrainWarning, match="orientation-averaged S/N"):
+        result = exclusion_map(Host("Faint", 1e8, 1000), psd)
     first, second = summary_lines(result)
     assert "would be detectable" in first and "not an exclusion" in first
     assert "the detection threshold" in second

@@ -10,6 +10,7 @@ from astropy.io import fits
 from ptaconstrain._files import OutputExistsError
 from ptaconstrain.analysis.exclusion import exclusion_map
 from ptaconstrain.binary.host import Host
+from ptaconstrain.errors import PtaconstrainWarning
 from ptaconstrain.sensitivity import PositionalSensitivity, limit_map
 
 FREQS = [3e-9, 1e-8, 3e-8]
@@ -80,7 +81,8 @@ def test_limit_map_sky_average_and_exclusion_uses_host_position(tmp_path):
     host = Host("Invented", 2e10, 100.0, ra=201.6, dec=-4.1)
     res = exclusion_map(host, lim)
     assert res.curve.sky.startswith("ra=201.6000deg") and res.is_limit
-    nopos = exclusion_map(Host("Nowhere", 2e10, 100.0), lim)
+    with pytest.warns(PtaconstrainWarning, match="no sky position"):
+        nopos = exclusion_map(Host("Nowhere", 2e10, 100.0), lim)
     assert nopos.curve.sky == "averaged"
 
 

@@ -284,7 +284,7 @@ def _distance_sigma(distance, distance_err, distance_err_frac):
 
 
 def hosts_from_table(table):
-    """Hosts from a small table with columns as in ``src/ptaconstrain/data/demo_hosts.ecsv``.
+    """Hosts from a small table with columns as in the shipped ``demo_hosts`` table.
 
     Required: ``name``, ``mass`` [solMass], ``distance`` [Mpc] (or
     ``redshift``).  Optional: ``mass_err_dex``, ``distance_err`` [Mpc],

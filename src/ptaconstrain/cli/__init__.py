@@ -135,14 +135,18 @@ def main(debug):
     Examples:
       ptaconstrain demo --out demo-output
       ptaconstrain exclude --mass 2e10 --distance 100 \\
-          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+          --curve synthetic_h0_limit --out results
+      ptaconstrain data
+
+    Files named by a shipped name (see 'ptaconstrain data') work from any
+    directory; everything shipped is invented, except the scaling relations.
 
     Bare numbers are read as solMass (masses) and Mpc (distances).
     """
 
 
 def _register():
-    from . import array_cmds, demo, exclude, rank_cmd  # noqa: F401  (commands attach themselves)
+    from . import array_cmds, data_cmd, demo, exclude, rank_cmd  # noqa: F401  (commands attach themselves)
 
 
 _register()

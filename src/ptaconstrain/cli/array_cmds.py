@@ -3,7 +3,7 @@
 import click
 
 from . import main
-from .params import FREQUENCY, SNR, max_memory_option
+from .params import ARRAY_FILE, FREQUENCY, SNR, max_memory_option
 
 __all__ = ["curve", "threshold_map"]
 
@@ -28,8 +28,9 @@ def _progress(length, label):
 
 # options shared by the commands of this module
 _array_option = click.option(
-    "--array", "array_file", type=click.Path(dir_okay=False), required=True,
-    help="Pulsar list (ECSV; columns in the README).")
+    "--array", "array_file", type=ARRAY_FILE, required=True,
+    help="Pulsar list: an ECSV file, or a shipped name such as demo_array "
+    "('ptaconstrain data' lists them).")
 _pulsar_term_option = click.option(
     "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2).")
 
@@ -51,8 +52,7 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
 
     \b
     Example:
-      ptaconstrain curve --array src/ptaconstrain/data/demo_array.ecsv --ra 284.1 --dec -37.2 \\
-          --out curve.ecsv
+      ptaconstrain curve --array demo_array --ra 284.1 --dec -37.2 --out curve.ecsv
     """
     from pathlib import Path
 
@@ -60,7 +60,7 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
 
     from .._files import check_new, output_set
     from .._inputs import coord_from
-    from ..report.provenance import safe_name
+    from ..report.provenance import provenance, safe_name
     from ..report.skyplot import nhz_text
     from ..sensitivity.curve import save_curve
     from ..sensitivity.pulsar_list import load_array
@@ -72,6 +72,9 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
     with _progress(len(arr), "timing-model fits") as bar:
         arr.weights(freq, callback=bar.update)
     result = arr.curve_at(coord, snr=snr, frequency=freq)
+    result.meta["provenance"] = provenance(
+        {"ra": str(ra), "dec": str(dec), "snr": f"{snr:g}", "pulsar_term": str(pulsar_term)},
+        files={"array": array_file})
     out_path = Path(out)
     with output_set(out_path.parent, safe_name(out_path.name), overwrite):
         save_curve(result, out, overwrite=overwrite)
@@ -102,8 +105,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
 
     \b
     Example:
-      ptaconstrain threshold-map --array src/ptaconstrain/data/demo_array.ecsv \\
-          --frequency "8 nHz" \\
+      ptaconstrain threshold-map --array demo_array --frequency "8 nHz" \\
           --frequency "20 nHz" --nside 32 --out maps
     """
     from pathlib import Path
@@ -140,6 +142,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
 
 def _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite):
     from ..report.figures import save_figure
+    from ..report.provenance import fits_cards, provenance
     from ..report.skyplot import nhz_text, sky_map_figure, threshold_label
     from ..sensitivity.limit_map import write_threshold_maps
 
@@ -151,7 +154,8 @@ def _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite):
                 bar.update(pix.stop - pix.start)
 
         write_threshold_maps(fits_path, rows(), freq, snr, arr.span,
-                             f"pulsar list {arr.name}", overwrite=overwrite, nside=nside)
+                             f"pulsar list {arr.name}", overwrite=overwrite, nside=nside,
+                             extra=fits_cards(provenance()))
     lines = [f"wrote {fits_path} (HEALPix nside {nside}, RING, equatorial; "
              f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"]
     with _progress(freq.size, "figures") as bar:

@@ -4,7 +4,10 @@ import click
 
 from . import main
 from .params import (
+    ARRAY_FILE,
+    CURVE_FILE,
     DISTANCE,
+    LIMIT_MAP_FILE,
     MASS,
     SNR,
     SPEED,
@@ -61,13 +64,15 @@ def _grid(text):
               help="Random seed (recorded in the table; drawn afresh if omitted).")
 @click.option("--credibility", type=LevelList(), default="0.5,0.9,0.95", show_default=True,
               help="Credibility levels of the probabilistic bounds.")
-@click.option("--curve", "curve_path", type=click.Path(dir_okay=False), default=None,
-              help="Sensitivity curve: ECSV, or two-column text with --kind.")
-@click.option("--array", "array_path", type=click.Path(dir_okay=False), default=None,
-              help="Pulsar list (ECSV) instead of --curve: a forecast at the host's position.")
-@click.option("--limit-map", "limit_map_path", type=click.Path(dir_okay=False), default=None,
-              help="HEALPix FITS map of h0 upper limits instead of --curve: the limit at "
-              "the host's pixel.")
+@click.option("--curve", "curve_path", type=CURVE_FILE, default=None,
+              help="Sensitivity curve: ECSV, two-column text with --kind, or a shipped "
+              "name (e.g. synthetic_h0_limit; 'ptaconstrain data' lists them).")
+@click.option("--array", "array_path", type=ARRAY_FILE, default=None,
+              help="Pulsar list (ECSV, or a shipped name such as demo_array) instead of "
+              "--curve: a forecast at the host's position.")
+@click.option("--limit-map", "limit_map_path", type=LIMIT_MAP_FILE, default=None,
+              help="HEALPix FITS map of h0 upper limits (or a shipped name such as "
+              "synthetic_h0_limit_map) instead of --curve: the limit at the host's pixel.")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What a plain-text curve holds.")
 @click.option("--snr", type=SNR, default=5.0,
@@ -99,12 +104,15 @@ def exclude(**opts):
     \b
     Example:
       ptaconstrain exclude --mass 2e10 --distance 100 \\
-          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+          --curve synthetic_h0_limit --out results
       ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
-          --array src/ptaconstrain/data/demo_array.ecsv --out results
+          --array demo_array --out results
       ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
           --distance-err 10% --mass-distance 100 --seed 1 \\
-          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out results
+          --curve synthetic_h0_limit --out results
+
+    The shipped (invented) curves, pulsar list and limit map are named as
+    'ptaconstrain data' lists them; any other value is a file path.
     """
     for line in run_exclusion(**opts):
         click.echo(line)
@@ -146,9 +154,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     if len(given) != 1:
         raise click.UsageError("give exactly one of --curve, --array or --limit-map"
                                + (f" (got {', '.join(given)})" if given else ""))
-    source_path = sources[given[0]]
-    if not Path(source_path).is_file():
-        raise click.UsageError(f"{given[0]} {source_path}: file not found; check the path")
+    source_path = sources[given[0]]  # an existing file (InputFile checked it)
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")

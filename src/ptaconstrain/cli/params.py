@@ -6,7 +6,8 @@ astropy is imported only when a value is converted, never at start-up.
 import click
 
 __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
-           "LevelList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE",
+           "LevelList", "InputFile", "CURVE_FILE", "ARRAY_FILE", "LIMIT_MAP_FILE",
+           "CATALOGUE_FILE", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE",
            "SNR", "Checked", "max_memory_option"]
 
 
@@ -161,6 +162,42 @@ class LevelList(click.ParamType):
         return tuple(sorted(set(levels)))
 
 
+class InputFile(click.ParamType):
+    """An input file: a path, or the short name of a shipped file of an accepted kind.
+
+    Resolved by :func:`ptaconstrain.data.resolve` (the one rule: an existing path
+    wins, otherwise a shipped name such as ``synthetic_h0_limit``); converts to the
+    file's path as text.  Shell completion offers the shipped names.
+    """
+
+    name = "file|shipped-name"
+
+    def __init__(self, *kinds):
+        self.kinds = kinds
+
+    def convert(self, value, param, ctx):
+        from ..data import resolve
+        from ..errors import InputError
+
+        try:
+            return str(resolve(value, self.kinds))
+        except InputError as err:
+            self.fail(str(err), param, ctx)
+
+    def shell_complete(self, ctx, param, incomplete):
+        from click.shell_completion import CompletionItem
+
+        from ..data import shipped
+
+        items = [CompletionItem(f.name) for f in shipped()
+                 if f.kind in self.kinds and f.name.startswith(incomplete)]
+        return items + [CompletionItem(incomplete, type="file")]
+
+
+CURVE_FILE = InputFile("curve")
+ARRAY_FILE = InputFile("pulsar list")
+LIMIT_MAP_FILE = InputFile("limit map")
+CATALOGUE_FILE = InputFile("catalogue", "hosts")
 MASS = QuantityType("solMass")
 DISTANCE = QuantityType("Mpc")
 TIME = QuantityType("yr")

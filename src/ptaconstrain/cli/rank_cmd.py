@@ -3,7 +3,18 @@
 import click
 
 from . import main
-from .params import SNR, TIME, Checked, FormatList, QuantityType, max_memory_option
+from .params import (
+    ARRAY_FILE,
+    CATALOGUE_FILE,
+    CURVE_FILE,
+    LIMIT_MAP_FILE,
+    SNR,
+    TIME,
+    Checked,
+    FormatList,
+    QuantityType,
+    max_memory_option,
+)
 
 __all__ = ["rank"]
 
@@ -42,15 +53,15 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
 
 
 @main.command()
-@click.argument("catalog", type=click.Path(dir_okay=False))
-@click.option("--curve", type=click.Path(dir_okay=False), default=None,
-              help="Sensitivity curve (ECSV, or text with --kind).")
+@click.argument("catalog", type=CATALOGUE_FILE)
+@click.option("--curve", type=CURVE_FILE, default=None,
+              help="Sensitivity curve (ECSV, text with --kind, or a shipped name).")
 @click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
               default=None, help="What a plain-text --curve holds.")
-@click.option("--array", "array_path", type=click.Path(dir_okay=False), default=None,
-              help="Pulsar list (ECSV): sky-dependent forecast.")
-@click.option("--limit-map", "limit_map_path", type=click.Path(dir_okay=False), default=None,
-              help="HEALPix FITS map of h0 upper limits.")
+@click.option("--array", "array_path", type=ARRAY_FILE, default=None,
+              help="Pulsar list (ECSV, or a shipped name): sky-dependent forecast.")
+@click.option("--limit-map", "limit_map_path", type=LIMIT_MAP_FILE, default=None,
+              help="HEALPix FITS map of h0 upper limits (or a shipped name).")
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory.")
 @click.option("--metric", type=click.Choice(METRIC_CHOICES), default="expected_number",
@@ -96,8 +107,10 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     """Rank a galaxy catalogue as continuous-wave targets.  Example:
 
     \b
-      ptaconstrain rank src/ptaconstrain/data/demo_catalogue.ecsv \\
-          --curve src/ptaconstrain/data/synthetic_h0_limit.ecsv --out ranking
+      ptaconstrain rank demo_catalogue --curve synthetic_h0_limit --out ranking
+
+    CATALOG is a table file or a shipped (invented) catalogue named as
+    'ptaconstrain data' lists them, like --curve, --array and --limit-map.
 
     The catalogue needs name, ra, dec and distance (Mpc) or redshift, plus a
     measured mass (solMass) or a predictor for a scaling relation
