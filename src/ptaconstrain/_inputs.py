@@ -82,6 +82,7 @@ __all__ = [
     "PERIOD_RANGE",
     "NAME_MAX",
     "check_name",
+    "check_schema",
     "RANGES",
     "check_field",
     "DEFAULT_MAX_MEMORY",
@@ -839,6 +840,100 @@ def check_field(value, field, label=None, rows=None):
     lo, hi, lo_open, hi_open, unit, fix = RANGES[field]
     return in_range(value, label or field, lo, hi, lo_open=lo_open, hi_open=hi_open,
                     unit=unit, fix=fix, rows=rows)
+
+
+# ------------------------------------------------------------------ config schemas
+_TYPE_WORDS = {str: "a string", float: "a number", int: "an integer", bool: "true or false",
+               dict: "a table", list: "a list"}
+
+
+def _type_ok(value, kind):
+    if kind is float:
+        return isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(
+            value, (bool, np.bool_))
+    if kind is int:
+        return isinstance(value, (int, np.integer)) and not isinstance(value, (bool, np.bool_))
+    return isinstance(value, kind)
+
+
+def _expected(kind):
+    if isinstance(kind, tuple):
+        return " or ".join(_expected(k) for k in kind)
+    if isinstance(kind, dict):
+        return "a table"
+    if isinstance(kind, list):
+        return "a list of tables ([[...]])"
+    return _TYPE_WORDS.get(kind, kind.__name__)
+
+
+def _shown(value):
+    text = repr(value)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def check_schema(data, schema, where, path=""):
+    """Refuse a parsed configuration (TOML, file metadata) that does not fit ``schema``.
+
+    The schema is a dict key -> expected type: ``str``, ``float`` (any number
+    but a boolean), ``int``, ``bool``, a tuple of these, a nested dict (a
+    table), or a one-element list holding a dict (a list of tables).  The key
+    ``"*"`` gives the type of every key not named; without it, unknown keys
+    are refused.
+
+    Parameters
+    ----------
+    data : dict
+    schema : dict
+    where : str
+        The file, named first in the message.
+    path : str
+        Key prefix of a nested table (internal).
+
+    Raises
+    ------
+    InputError
+        One line naming the file, the key and the expected type.
+
+    Examples
+    --------
+    >>> check_schema({"columns": {"mass": "M"}}, {"columns": {"*": str}}, "map.toml")
+    >>> check_schema({"columns": "M"}, {"columns": {"*": str}}, "map.toml")
+    Traceback (most recent call last):
+    ...
+    ptaconstrain.errors.InputError: map.toml: key 'columns' must be a table, got 'M' (str)
+    """
+    if not isinstance(data, dict):
+        raise InputError(f"{where}: {('key ' + repr(path)) if path else 'the file'} must be "
+                         f"a table, got {_shown(data)} ({type(data).__name__})")
+    known = [k for k in schema if k != "*"]
+    for key, value in data.items():
+        name = f"{path}.{key}" if path else str(key)
+        if key in schema:
+            kind = schema[key]
+        elif "*" in schema:
+            kind = schema["*"]
+        else:
+            raise InputError(f"{where}: unknown key {name!r}; expected "
+                             f"{', '.join(repr(k) for k in known) or 'none'}")
+        if kind is object:
+            continue
+        if isinstance(kind, dict):
+            if not isinstance(value, dict):
+                raise InputError(f"{where}: key {name!r} must be a table, got "
+                                 f"{_shown(value)} ({type(value).__name__})")
+            check_schema(value, kind, where, name)
+            continue
+        if isinstance(kind, list):
+            if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
+                raise InputError(f"{where}: key {name!r} must be {_expected(kind)}, got "
+                                 f"{_shown(value)} ({type(value).__name__})")
+            for i, item in enumerate(value):
+                check_schema(item, kind[0], where, f"{name}[{i + 1}]")
+            continue
+        kinds = kind if isinstance(kind, tuple) else (kind,)
+        if not any(_type_ok(value, k) for k in kinds):
+            raise InputError(f"{where}: key {name!r} must be {_expected(kind)}, got "
+                             f"{_shown(value)} ({type(value).__name__})")
 
 
 def check_name(name, field="name"):

@@ -18,7 +18,7 @@ import warnings
 import numpy as np
 from astropy import units as u
 
-from .._inputs import check_field, quantity
+from .._inputs import check_field, check_schema, quantity
 from ..errors import InputError, PtaconstrainWarning
 
 __all__ = [
@@ -46,6 +46,10 @@ _VALUE_UNITS = {
 #: Mean over isotropic inclination of [(1 + cos^2 i)^2 + 4 cos^2 i] = 28/15 + 4/3 = 16/5:
 #: the factor K in the orientation-averaged rho^2 = K h0^2 T / S_n.
 ORIENTATION_MEAN = 3.2
+
+#: schema of the meta keys a curve file may carry (others are kept, unchecked)
+CURVE_META_SCHEMA = {"confidence": (float, str), "span": (float, str, u.Quantity),
+                     "sky": str, "*": object}
 
 
 class CurveError(InputError):
@@ -141,6 +145,10 @@ class StrainCurve:
             raise CurveError(f"curve kind {kind!r} is unknown: use one of {', '.join(KINDS)}")
         self.kind = kind
         self.meta = dict(meta or {})
+        try:
+            check_schema(self.meta, CURVE_META_SCHEMA, "curve meta")
+        except InputError as err:
+            raise CurveError(str(err)) from err
         try:
             f = quantity(frequency, u.Hz, "curve frequency", allow_nonfinite=True)
         except InputError as err:
