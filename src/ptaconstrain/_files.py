@@ -448,6 +448,8 @@ def read_toml(path, what, error=None):
         raise error(f"{path.name} is not valid TOML ({first}): fix the {what}") from err
     except (OSError, UnicodeDecodeError) as err:
         raise error(f"{what} {path}: cannot read it ({err}); check the file") from err
+    except RecursionError as err:
+        raise error(f"{path.name} is nested too deeply to be a {what}: check the file") from err
 
 
 #: file suffix -> astropy table format, for every table the package reads or writes

@@ -945,9 +945,13 @@ def check_name(name, field="name"):
     'Fictus A'
     """
     text = str(name).strip()
-    if not text or len(text) > NAME_MAX or "\n" in text or "\x00" in text:
+    if not text or len(text) > NAME_MAX:
         raise InputError(f"{field}: give a name of 1 to {NAME_MAX} characters on one line "
                          f"(got {len(text)} characters); it becomes part of file names")
+    if not text.isprintable():
+        bad = next(c for c in text if not c.isprintable())
+        raise InputError(f"{field}: the name holds the control character {bad!r}; give a "
+                         "name of printable characters")
     return text
 
 

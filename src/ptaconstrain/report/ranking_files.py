@@ -46,6 +46,10 @@ def ranking_output_paths(out_dir, formats=("png",), full_ecsv=False):
 def fits_meta(meta):
     """Table meta a FITS header can hold: nested values (dicts, lists) as JSON text.
 
+    Text is made ASCII (other characters as backslash escapes); under a long
+    (HIERARCH) key, where a value cannot continue onto a second card, text too
+    long for one 80-character card is shortened and ends with "...".
+
     Parameters
     ----------
     meta : dict
@@ -54,8 +58,18 @@ def fits_meta(meta):
     -------
     dict
     """
-    return {k: json.dumps(v, default=str) if isinstance(v, (dict, list, tuple)) else v
-            for k, v in meta.items()}
+    out = {}
+    for k, v in meta.items():
+        if isinstance(v, (dict, list, tuple)):
+            v = json.dumps(v, default=str)
+        if isinstance(v, str):
+            v = v.encode("ascii", "backslashreplace").decode("ascii")
+            # "HIERARCH <key> = '<value>'" on one card; quotes inside are doubled
+            room = 80 - len("HIERARCH  = ''") - len(str(k)) - v.count("'")
+            if len(str(k)) > 8 and len(v) > room:
+                v = v[:max(room - 3, 0)] + "..."
+        out[k] = v
+    return out
 
 
 def _hdu(table):

@@ -30,7 +30,7 @@ a value are NaN or healpy's UNSEEN.
 import numpy as np
 from astropy import units as u
 
-from .._files import check_header
+from .._files import check_header, first_line
 from .._inputs import check_memory, positive, quantity
 from ..errors import InputError
 from .positional import HealpixThresholds, check_nside
@@ -405,7 +405,11 @@ def load_limit_map(path):
     # the maps as read, and healpy's copy of them: two float64 per pixel and column
     check_memory(2 * 8.0 * 12 * nside**2 * ncol, f"{name} ({ncol} map(s) of nside {nside})",
                  "give a map of lower nside")
-    maps = hp.read_map(str(path), field=tuple(range(ncol)), nest=False, dtype=np.float64)
+    try:
+        maps = hp.read_map(str(path), field=tuple(range(ncol)), nest=False, dtype=np.float64)
+    except (ValueError, TypeError, OSError, KeyError, IndexError) as err:
+        raise LimitMapError(f"{name}: the map data cannot be read ({first_line(err)}); the "
+                            "file may be truncated: write it again with healpy.write_map") from err
     maps = np.atleast_2d(maps)
     try:
         span = None if span is None else positive(quantity(span, u.yr, "SPAN"), "SPAN")
