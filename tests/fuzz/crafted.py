@@ -67,9 +67,9 @@ def _ecsv_cell(kind, value):
     lines = _text(kind).splitlines(keepends=True)
     body = [i for i, ln in enumerate(lines) if not ln.startswith("#")]
     row = body[1]
-    parts = lines[row].split(" ")
+    parts = lines[row].rstrip("\n").split(" ")
     parts[1] = value
-    lines[row] = " ".join(parts)
+    lines[row] = " ".join(parts) + "\n"
     return "".join(lines).encode()
 
 
