@@ -280,7 +280,11 @@ def _distance_sigma(distance, distance_err, distance_err_frac):
     if distance_err is None:
         return None
     err = quantity(distance_err, u.Mpc, "distance_err")
-    return _scalar(positive(err, "distance_err", allow_zero=True), "distance_err")
+    err = _scalar(positive(err, "distance_err", allow_zero=True), "distance_err")
+    # at most the distance itself (FRACTION_ERR_MAX), as for a fractional error
+    check_field((err / distance).to_value(u.dimensionless_unscaled), "fraction_err",
+                f"distance_err ({err:.3g}) as a fraction of the distance ({distance:.3g})")
+    return err
 
 
 def hosts_from_table(table):
