@@ -116,6 +116,30 @@ def test_every_module_imports_alone_in_a_fresh_interpreter():
     assert not sibling, sibling
 
 
+#: the optional scale extra (Parquet, HATS, Dask): loaded only by the code paths that use it
+_SCALE = ("lsdb", "hats", "nested_pandas", "dask", "distributed", "pyarrow", "pandas")
+_SCALE_PROBE = f"""
+import json, sys
+from click.testing import CliRunner
+import ptaconstrain
+from ptaconstrain.cli import main
+for args in (["--help"], ["rank", "--help"]):
+    assert CliRunner().invoke(main, args).exit_code == 0
+import ptaconstrain.catalogue, ptaconstrain.report.ranking_files
+import ptaconstrain.catalogue.dask_engine, ptaconstrain.catalogue.cluster
+print(json.dumps(sorted({{m.split(".")[0] for m in sys.modules}} & set({_SCALE!r}))))
+"""
+
+
+def test_base_import_and_help_load_no_scale_library():
+    # pyproject: the 'scale' extra is optional; `ptaconstrain --help`, `rank --help` and
+    # every module of the ranking import without it (DESIGN.md: the scale engine lazily)
+    res = subprocess.run([sys.executable, "-c", _SCALE_PROBE], capture_output=True, text=True,
+                         timeout=300)
+    assert res.returncode == 0, res.stderr
+    assert json.loads(res.stdout.strip().splitlines()[-1]) == []
+
+
 def test_no_private_names_imported_across_modules():
     bad = []
     for module, path in MODULES:

@@ -27,6 +27,8 @@ _WHERE = {
     "load_limit_map": "ptaconstrain.sensitivity.limit_map",
     "exclusion_map": "ptaconstrain.analysis.exclusion",
     "exclusion_probability": "ptaconstrain.analysis.probability",
+    "forecast_over_time": "ptaconstrain.analysis.epochs",
+    "Background": "ptaconstrain.sensitivity.background",
     "rank_catalog": "ptaconstrain.catalogue.ranking",
     "PtaconstrainError": "ptaconstrain.errors",
     "PtaconstrainWarning": "ptaconstrain.errors",

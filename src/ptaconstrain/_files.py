@@ -193,6 +193,24 @@ class OutputSet:
         """Names of the files staged so far (by this process or its forked workers)."""
         return sorted(p.name for p in self._files.iterdir() if not p.name.startswith(".part-"))
 
+    @contextlib.contextmanager
+    def stage_directory(self, path):
+        """Yield a new (not yet existing) path where a directory of outputs is built.
+
+        On success the directory becomes ``path``'s staged copy and is published
+        with the rest of the set (a directory is moved into place, not linked).
+        """
+        path = Path(path)
+        staged = self._files / path.name
+        if os.path.lexists(staged):
+            raise OutputExistsError(f"{path}: written twice by one command (a name collision)")
+        holder = Path(tempfile.mkdtemp(prefix=".part-", dir=self._files))
+        try:
+            yield holder / path.name
+            os.rename(holder / path.name, staged)
+        finally:
+            shutil.rmtree(holder, ignore_errors=True)
+
     def publish(self):
         """Give every staged file its name, all or none (called when the command succeeded)."""
         names = self.staged_names()
@@ -219,7 +237,10 @@ class OutputSet:
                 linked.append(name)
         except OSError as err:
             for name in linked:
-                (self.directory / name).unlink()
+                if (self.directory / name).is_dir() and not (self.directory / name).is_symlink():
+                    os.rename(self.directory / name, self._files / name)  # a staged directory
+                else:
+                    (self.directory / name).unlink()
             for name in moved:
                 with contextlib.suppress(OSError):
                     os.link(old / name, self.directory / name)

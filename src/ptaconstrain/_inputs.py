@@ -92,6 +92,8 @@ __all__ = [
     "memory_limit",
     "set_memory_limit",
     "check_memory",
+    "ECCENTRICITY_MAX",
+    "check_eccentricity",
 ]
 
 #: field kind -> unit a bare number is read in
@@ -688,6 +690,45 @@ def check_redshift(redshift, field="redshift"):
         raise InputError(f"{field}: {bad:g} is outside 0 <= z <= {Z_LIMIT:g}; give the "
                          "cosmological redshift z (not cz in km/s)")
     return float(z) if np.ndim(z) == 0 else z
+
+
+#: largest orbital eccentricity accepted (the harmonic sum needs ~(1 - e^2)^(-3/2) terms)
+ECCENTRICITY_MAX = 0.95
+
+
+def check_eccentricity(eccentricity, field="eccentricity"):
+    """An orbital eccentricity, refused outside 0 <= e <= ``ECCENTRICITY_MAX``.
+
+    Parameters
+    ----------
+    eccentricity : number or str (dimensionless)
+    field : str
+
+    Returns
+    -------
+    float
+
+    Raises
+    ------
+    InputError
+        For a non-number, a value with units, an array or one out of range.
+
+    Examples
+    --------
+    >>> check_eccentricity("0.5")
+    0.5
+    """
+    try:
+        e = quantity(eccentricity, u.dimensionless_unscaled, field).value
+    except InputError as err:
+        raise InputError(f"{field}: cannot read {eccentricity!r} as an eccentricity; give a "
+                         f"plain number in [0, {ECCENTRICITY_MAX:g}]") from err
+    if np.ndim(e) != 0:
+        raise InputError(f"{field}: give one number in [0, {ECCENTRICITY_MAX:g}], not an array")
+    if not 0.0 <= e <= ECCENTRICITY_MAX:
+        raise InputError(f"{field}: {float(e):g} is outside 0 <= e <= {ECCENTRICITY_MAX:g} "
+                         "(0 is a circular orbit; e near 1 needs thousands of harmonics)")
+    return float(e)
 
 
 # ------------------------------------------------------------------ ranges

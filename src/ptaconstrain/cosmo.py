@@ -78,6 +78,14 @@ def get_cosmology(cosmology=None):
     astropy.cosmology.Cosmology or the Planck18 stand-in :data:`PLANCK18`
         :data:`PLANCK18` when ``astropy.cosmology`` has not been imported (its
         default is then Planck18).
+
+    Examples
+    --------
+    >>> from astropy.cosmology import Planck18, WMAP9
+    >>> get_cosmology(WMAP9) is WMAP9
+    True
+    >>> get_cosmology().name   # astropy's default, unless set otherwise
+    'Planck18'
     """
     if cosmology is not None:
         return cosmology
@@ -123,6 +131,14 @@ def spline_nodes(cosmology):
     -------
     ln_z, ln_dl, slope : ndarray (3000,)
         ln z, ln(D_L / Mpc) and d ln D_L / d ln z at the nodes.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy.cosmology import Planck18
+    >>> ln_z, ln_dl, slope = spline_nodes(Planck18)
+    >>> ln_z.size, round(float(slope[0]), 3)    # D_L ~ c z / H0 at small z: slope 1
+    (3000, 1.0)
     """
     from scipy.interpolate import CubicSpline
 
@@ -273,5 +289,13 @@ def luminosity_distance_at(redshift, cosmology=None):
     Returns
     -------
     Quantity [Mpc]
+
+    Examples
+    --------
+    >>> from astropy.cosmology import Planck18
+    >>> luminosity_distance_at(0.1, Planck18)
+    <Quantity 475.8 Mpc>
+    >>> Planck18.luminosity_distance(0.1)        # astropy's integral, for comparison
+    <Quantity 475.8 Mpc>
     """
     return _converter(cosmology).distance(redshift) * u.Mpc

@@ -4,7 +4,8 @@
 five fictional galaxies against a synthetic 95% upper limit (exclusions) and a
 synthetic future noise budget (forecasts), one probability map from a host's
 mass and distance errors, the invented pulsar array at each host's position,
-and the ranking of the fictional catalogue.  It needs no network.
+the ranking of the fictional catalogue, one host with eccentric companions
+beside circular ones, and one array forecast with the background as noise.  It needs no network.
 
 Each part is a function of its own (:func:`array_part`, :func:`ranking_part`), so
 tests and notebooks can run one of them.
@@ -86,12 +87,14 @@ def _demo_outputs(out, overwrite, progress):
                  "_forecast.png); demo_overview.png compares every host, whose tables are all "
                  "written; draw any host with: ptaconstrain exclude --mass "
                  f"{first.mass.to_value('solMass'):.3g} --distance "
-                 f"{first.distance.to_value('Mpc'):.3g} --curve {limit_path} --out DIR")
+                 f"{first.distance.to_value('Mpc'):.3g} --curve {Path(LIMIT_FILE).stem} --out DIR")
     lines += _summary_outputs(results, out, overwrite, figures)
     lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite, figures)
     lines += array_part(out, hosts, overwrite, progress, figures)
     lines += ranking_part(out, limit, overwrite)
     lines += _array_exclusions(out, hosts, overwrite, figures)
+    lines += _eccentric_outputs(hosts[0], limit, limit_path, out, overwrite, figures)
+    lines += _background_outputs(hosts, out, overwrite, figures)
     draw_in_parallel(figures)
     return lines
 
@@ -293,6 +296,65 @@ def _array_exclusions(out, hosts, overwrite, figures):
               "line would be detectable, at the host's position or sky-averaged",
         names=("at the host's position", "sky-averaged")))
     lines.append(f"  figure {out / 'demo_array_overview.png'}")
+    return lines
+
+
+def _eccentric_outputs(host, limit, limit_path, out, overwrite, figures, e=0.5):
+    """One host at eccentricity ``e`` beside the circular orbit, against the limit."""
+    from .analysis.exclusion import exclusion_map
+    from .report.provenance import provenance, safe_name
+
+    circular = exclusion_map(host, limit)
+    eccentric = exclusion_map(host, limit, eccentricity=e)
+    stem = out / f"{safe_name(host.name)}_eccentric"
+    meta = provenance({**host.describe(), "eccentricity": f"{e:g}"}, files={"curve": limit_path})
+    meta["demo"] = "INVENTED data: fictional host, synthetic curve"
+    title = (f"{host.name} (INVENTED): circular orbits (left) and e = {e:g} (right), "
+             "same 95% upper limit")
+    head = (f"eccentric companions of {host.name} (e = {e:g}, {len(eccentric.harmonics)} "
+            f"harmonics; {stem.name}.png beside e = 0):")
+    return _side_by_side(stem, meta, (circular, eccentric), ("e = 0", f"e = {e:g}"), title,
+                         head, overwrite, figures)
+
+
+def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15):
+    """The demo array's forecast for one host, on a quiet sky and with the background."""
+    from .analysis.exclusion import exclusion_map
+    from .report.provenance import provenance, safe_name
+    from .sensitivity.background import Background
+
+    host = next((h for h in hosts if h.coord is not None), hosts[0])
+    arr = demo_array()
+    background = Background(amplitude)
+    maps = (exclusion_map(host, arr, warn=False),
+            exclusion_map(host, arr.with_background(background), warn=False))
+    stem = out / f"{safe_name(host.name)}_array_forecast_background"
+    meta = provenance({**host.describe(), "background": background.describe()})
+    meta["demo"] = "INVENTED data: fictional host and pulsar array"
+    title = (f"{host.name} (INVENTED) with the INVENTED demo array: quiet sky (left) and a "
+             f"background A = {amplitude:.2g}, gamma = 13/3 as common noise (right)")
+    head = (f"background as noise ({background.describe()}), demo array at {host.name} "
+            f"({stem.name}.png):")
+    return _side_by_side(stem, meta, maps, ("quiet sky", "with background"), title, head,
+                         overwrite, figures)
+
+
+def _side_by_side(stem, meta, maps, tags, title, head, overwrite, figures):
+    """Write the second map's table, queue the two-panel figure, return the bound lines."""
+    from ._files import check_new, write_table
+    from .report.comparison import comparison_figure
+    from .report.tables import exclusion_table
+
+    write_table(exclusion_table(maps[1], meta), f"{stem}.ecsv", overwrite)
+    check_new([f"{stem}.png"], overwrite)
+    figures.append(_figure_job(comparison_figure, stem, overwrite, *maps, title))
+    lines = [head]
+    for tag, r in zip(tags, maps, strict=True):
+        best = r.tightest()
+        lines.append(f"  {tag}: " + (f"nothing {r.verb}" if best is None else
+                                     f"q > {best[1]:.3g} {r.verb} at P = "
+                                     f"{best[0].to_value('yr'):.3g} yr"
+                                     + ("" if r.is_limit else " (forecast)")))
     return lines
 
 

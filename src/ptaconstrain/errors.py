@@ -15,15 +15,57 @@ __all__ = ["PtaconstrainError", "InputError", "PtaconstrainWarning"]
 
 
 class PtaconstrainError(ValueError):
-    """Base of every error caused by an input the user can correct."""
+    """Base of every error caused by an input the user can correct.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the field, the value and the fix.
+
+    Examples
+    --------
+    >>> from ptaconstrain import Host, PtaconstrainError
+    >>> try:
+    ...     Host("Invented galaxy", "2e10 km", "100 Mpc")
+    ... except PtaconstrainError as err:
+    ...     print(err)
+    mass: ...
+    """
 
 
 class InputError(PtaconstrainError):
     """A value (option, argument, file entry) cannot be used as given.
 
     The message names the field, the value and the fix, on one line.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the field, the value and the fix.
+
+    Examples
+    --------
+    >>> from ptaconstrain.errors import InputError, PtaconstrainError
+    >>> issubclass(InputError, PtaconstrainError) and issubclass(InputError, ValueError)
+    True
     """
 
 
 class PtaconstrainWarning(UserWarning):
-    """A soft assumption was made on the user's behalf; the message says which."""
+    """A soft assumption was made on the user's behalf; the message says which.
+
+    Parameters
+    ----------
+    message : str
+        One line saying which assumption was made.
+
+    Examples
+    --------
+    >>> import warnings
+    >>> from ptaconstrain import PtaconstrainWarning
+    >>> with warnings.catch_warnings(record=True) as caught:
+    ...     warnings.simplefilter("always")
+    ...     warnings.warn("span: assumed 1/f_min = 15 yr", PtaconstrainWarning)
+    >>> caught[0].category.__name__
+    'PtaconstrainWarning'
+    """

@@ -1,8 +1,8 @@
-"""Exclusion and sampling never import probability (no cycle); the docstring examples
-run.  Importing every module alone is checked in tests/test_layout.py."""
+"""Exclusion and sampling never import probability (no cycle).  Importing every module
+alone is checked in tests/test_layout.py; the docstring examples run as doctests
+(--doctest-modules, pyproject.toml)."""
 
 import ast
-import doctest
 import importlib
 import importlib.util
 
@@ -33,10 +33,3 @@ def test_the_import_scanner_sees_probability_imports():
 def test_exclusion_and_sampling_never_import_probability(module):
     assert not any(name.endswith("probability") for name in _imported_modules(module))
 
-
-def test_exclusion_docstring_example_runs():
-    from astropy.cosmology import Planck18, default_cosmology
-
-    with default_cosmology.set(Planck18):
-        result = doctest.testmod(importlib.import_module("ptaconstrain.analysis.exclusion"))
-    assert result.attempted > 0 and result.failed == 0

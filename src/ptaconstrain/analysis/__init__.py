@@ -5,6 +5,7 @@ region codes a map's cells hold (regions).
 probability imports exclusion and sampling; neither of those imports probability.
 """
 
+from .epochs import EpochForecast, forecast_over_time
 from .exclusion import (
     ExclusionMap,
     band_periods,
@@ -15,7 +16,13 @@ from .exclusion import (
 )
 from .probability import DEFAULT_CREDIBILITY, ProbabilityMap, exclusion_probability
 from .regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, REGION_NAMES, UNCONSTRAINED
-from .sampling import HostSamples, distance_sigma, orientation_factor, sample_host
+from .sampling import (
+    HostSamples,
+    distance_sigma,
+    orientation_factor,
+    resample_host,
+    sample_host,
+)
 
 __all__ = [
     "ALLOWED",
@@ -32,9 +39,12 @@ __all__ = [
     "sensitivity_for",
     "HostSamples",
     "sample_host",
+    "resample_host",
     "orientation_factor",
     "distance_sigma",
     "ProbabilityMap",
     "exclusion_probability",
     "DEFAULT_CREDIBILITY",
+    "EpochForecast",
+    "forecast_over_time",
 ]

@@ -7,6 +7,28 @@ h_thr(f) a cell is excluded (or detectable) when eta(q) > eta_min(f) =
 h_thr(f) / (S f^(2/3)), so the whole map follows from one comparison of a
 q-vector against a P-vector, and the largest allowed mass ratio per period
 is the closed-form inverse of eta at eta_min.
+
+Eccentric orbits (``eccentricity`` > 0) keep this shape.  The harmonic n of
+the orbital frequency, at GW frequency (n/2) f, has amplitude
+h_n = (2/n) sqrt(g(n, e)) h0 (:mod:`ptaconstrain.binary.eccentric`), still
+linear in eta, so each harmonic gives its own eta_n(P) = h_thr((n/2) f) /
+((2/n) sqrt(g) S f^(2/3)) and the map needs only eta_min(P) per period:
+
+* upper limit: excluded when *any* harmonic exceeds the limit at its own
+  frequency, eta_min = min_n eta_n.  A CW limit is derived for a circular
+  (monochromatic, quadrupole) signal; applying it harmonic by harmonic treats
+  each as an independent monochromatic signal with the orientation-averaged
+  amplitude h_n.  It ignores the power of the other harmonics (conservative)
+  and the different angular pattern of each harmonic (exact only on average
+  over orientations).
+* noise budget: S/N^2 summed over the harmonics, rho^2 / rho_thr^2 =
+  sum_n (eta / eta_n)^2, so eta_min = (sum_n eta_n^-2)^(-1/2).
+
+The chirp test uses the fastest-drifting harmonic kept (the highest n holding
+99.9 % of the power), which drifts by (n/2) F(e) times the circular df/dt;
+no binary exists where the pericentre lies inside the ISCO
+(:func:`~ptaconstrain.binary.eccentric.pericentre_isco_frequency`).  At e = 0
+only n = 2 is kept and every number equals the circular one bit for bit.
 """
 
 import warnings
@@ -15,7 +37,8 @@ from dataclasses import dataclass
 import numpy as np
 from astropy import units as u
 
-from .._inputs import positive, quantity
+from .._inputs import check_eccentricity, positive, quantity
+from ..binary import eccentric as ecc
 from ..binary import waveform as wf
 from ..binary.host import Host
 from ..errors import PtaconstrainWarning
@@ -33,7 +56,25 @@ __all__ = [
 ]
 
 def default_mass_ratios(n=300, q_min=1e-4):
-    """Log-spaced mass ratios from ``q_min`` to 1."""
+    """Log-spaced mass ratios from ``q_min`` to 1.
+
+    Parameters
+    ----------
+    n : int
+        Number of mass ratios.
+    q_min : float
+        Smallest mass ratio, in (0, 1).
+
+    Returns
+    -------
+    ndarray (n,)
+        Dimensionless, increasing.
+
+    Examples
+    --------
+    >>> default_mass_ratios(5)
+    array([1.e-04, 1.e-03, 1.e-02, 1.e-01, 1.e+00])
+    """
     return np.logspace(np.log10(q_min), 0.0, n)
 
 
@@ -43,6 +84,18 @@ def band_periods(curve):
     Returns
     -------
     Quantity (2,) [yr].
+
+    Parameters
+    ----------
+    curve : StrainCurve
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> band_periods(curve)   # 2 / (50 nHz) and 2 / (2 nHz)
+    <Quantity [ 1.26752351, 31.68808781] yr>
     """
     return wf.orbital_period(curve.frequency[[-1, 0]]).to(u.yr)
 
@@ -56,6 +109,22 @@ def default_periods(curve, n=300, pad=1.5):
     Returns
     -------
     Quantity [yr].
+
+    Parameters
+    ----------
+    curve : StrainCurve
+    n : int
+        Number of periods.
+    pad : float
+        Factor by which the band's period range is widened on each side.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> default_periods(curve, n=3)
+    <Quantity [ 0.845,  6.338, 47.532] yr>
     """
     p = band_periods(curve).value
     return np.logspace(np.log10(p[0] / pad), np.log10(p[1] * pad), n) * u.yr
@@ -86,6 +155,9 @@ class ExclusionMap(FromCurve):
         breaks down, whatever the strain comparison says.
     h0_threshold : ndarray (nP,)
         The curve's h0 at each period (dimensionless; NaN outside its band).
+        For an eccentric orbit: the h0 of the circular binary of the same
+        period (:func:`~ptaconstrain.binary.waveform.strain_amplitude`) at
+        which the eccentric binary becomes excluded (detectable).
     eta_min : ndarray (nP,)
         Smallest symmetric mass ratio eta = q/(1+q)^2 excluded at each period
         (h0 = eta x the strain of an eta = 1 binary); NaN outside the band.
@@ -101,7 +173,8 @@ class ExclusionMap(FromCurve):
     separation_rg : ndarray (nP,)
         Separation in gravitational radii G M / c^2.
     isco_frequency : Quantity [Hz]
-        GW frequency at the innermost stable circular orbit of mass M.
+        GW frequency 2/P at the innermost stable circular orbit of mass M;
+        for an eccentric orbit, where the pericentre reaches it.
     hardening_period : Quantity (nq,) [yr] or None
         Period at the hardening radius for each q when the host has a
         velocity dispersion.
@@ -109,6 +182,23 @@ class ExclusionMap(FromCurve):
         Observing span used for the chirp test (and noise budgets).
     snr : float
         S/N threshold (noise budgets).
+    eccentricity : float
+        Orbital eccentricity e of every binary of the map (0: circular).
+    harmonics : ndarray of int
+        Harmonics n of the orbital frequency used (those holding 99.9 % of
+        the power; [2] for a circular orbit).
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> from ptaconstrain import Host, exclusion_map
+    >>> result = exclusion_map(Host("Invented galaxy", 2e10, 100), curve)
+    >>> result.region.shape, result.max_mass_ratio.shape      # [q, P] and [P]
+    ((300, 300), (300,))
+    >>> result.to_table().colnames[:4]
+    ['period', 'f_gw', 'h0_threshold', 'max_mass_ratio']
     """
 
     host: Host
@@ -129,6 +219,8 @@ class ExclusionMap(FromCurve):
     hardening_period: u.Quantity | None
     span: u.Quantity
     snr: float
+    eccentricity: float = 0.0
+    harmonics: np.ndarray = None
 
     def __repr__(self):
         best = self.tightest()
@@ -178,6 +270,14 @@ class ExclusionMap(FromCurve):
     def label(self):
         """e.g. '95% upper limit' or 'forecast, S/N >= 5'."""
         return self.curve.label(self.snr)
+
+    @property
+    def orbit(self):
+        """'circular orbit' or e.g. 'eccentricity e = 0.5 (15 harmonics)'."""
+        if self.eccentricity == 0.0:
+            return "circular orbit"
+        n = 0 if self.harmonics is None else len(self.harmonics)
+        return f"eccentricity e = {self.eccentricity:g} ({n} harmonics)"
 
     @property
     def bound_is_monochromatic(self):
@@ -236,6 +336,16 @@ def sensitivity_for(host, curve, warn=True):
     Returns
     -------
     StrainCurve
+
+    Examples
+    --------
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain import Host, load_array
+    >>> from ptaconstrain.data import path
+    >>> array = load_array(path("demo_array.ecsv"))          # invented pulsar array
+    >>> host = Host("Invented galaxy", 2e10, 100, coord=SkyCoord(280, -35, unit="deg"))
+    >>> sensitivity_for(host, array).kind                    # the array's curve at the host
+    'strain_psd'
     """
     if not isinstance(curve, PositionalSensitivity):
         return curve
@@ -246,8 +356,13 @@ def sensitivity_for(host, curve, warn=True):
 
 
 def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None, *,
-                  warn=True):
-    """Which circular companions of ``host`` the sensitivity ``curve`` rules out.
+                  eccentricity=0.0, warn=True):
+    """Which companions of ``host`` the sensitivity ``curve`` rules out.
+
+    Circular orbits by default; with ``eccentricity`` every binary of the map
+    has that eccentricity and radiates at the harmonics of its orbital
+    frequency (see the module notes for the rule used with limits and with
+    noise budgets).
 
     Parameters
     ----------
@@ -265,6 +380,8 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
         S/N threshold, used only for noise budgets.
     span : Quantity [time], optional
         Observing span; default the curve's ``span`` meta (else 1/f_min).
+    eccentricity : float in [0, 0.95]
+        Orbital eccentricity (Peters & Mathews 1963 harmonics); 0 is circular.
     warn : bool
         Emit a :class:`~ptaconstrain.errors.PtaconstrainWarning` for each soft
         assumption: the sky average used for a host without a position, the
@@ -289,6 +406,7 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     ExclusionMap('Example', 95% upper limit, grid 300 q x 300 P;
       tightest: q > 0.00717 excluded at P = 31.6 yr)
     """
+    e = check_eccentricity(eccentricity)
     curve = sensitivity_for(host, curve, warn=warn)
     if warn and not curve.is_limit:
         warnings.warn("forecasts use the orientation-averaged S/N, "
@@ -304,16 +422,18 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     f = wf.gw_frequency(period)
     m, d, z = host.mass, host.distance, host.redshift
 
-    h_thr = curve.h0_threshold(f, snr=snr, span=span)
     # h0 = eta * (strain of an eta = 1 binary): the q = 1 strain divided by 1/4.
     h_unit = wf.strain_amplitude(m, 1.0, f, d, z).value / 0.25
-    eta_min = h_thr / h_unit
-    # f-dot is also linear in eta: chirping above eta_chirp = 1 / (fdot_unit T^2).
+    harmonics = ecc.harmonic_numbers(e)
+    h_thr, eta_min = _harmonic_eta_min(curve, f, h_unit, harmonics, e, snr, span)
+    # f-dot is also linear in eta: chirping above eta_chirp = 1 / (fdot_unit T^2); the
+    # highest harmonic kept drifts (n/2) F(e) times as fast as the circular f = 2/P
     fdot_unit = wf.frequency_derivative(m, 1.0, f, z) / 0.25
+    fdot_unit = fdot_unit * (harmonics.max() / 2.0 * float(ecc.enhancement_factor(e)))
     eta_chirp = 1.0 / (fdot_unit * span**2).to_value(u.dimensionless_unscaled)
-    f_isco = wf.isco_frequency(m, z)
+    f_isco = ecc.pericentre_isco_frequency(m, e, z)
     above_isco = f > f_isco
-    unconstrained = np.isnan(h_thr)
+    unconstrained = np.isnan(eta_min)
 
     # every per-cell array is 1 byte (bool or int8) and built in place: an 8-byte
     # temporary per cell left the cache on large grids (time grew as size^1.5)
@@ -357,5 +477,32 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
         hardening_period=hard,
         span=span,
         snr=float(snr),
+        eccentricity=e,
+        harmonics=harmonics,
     )
+
+
+def _harmonic_eta_min(curve, f, h_unit, harmonics, e, snr, span):
+    """The h0 threshold and eta_min per period, from every harmonic kept.
+
+    Returns the curve's h0 at f (circular) or the circular-equivalent threshold
+    eta_min x h_unit (eccentric), and eta_min (NaN where no harmonic is in band).
+    """
+    if e == 0.0:  # harmonics == [2]: the circular comparison, kept bit for bit
+        h_thr = curve.h0_threshold(f, snr=snr, span=span)
+        return h_thr, h_thr / h_unit
+    ratio = ecc.harmonic_amplitude_ratio(harmonics, e)
+    f_n = (harmonics[:, None] / 2.0) * f[None, :]
+    h_n = curve.h0_threshold(f_n, snr=snr, span=span)
+    eta_n = h_n / (ratio[:, None] * h_unit[None, :])  # (n_harmonics, nP); NaN off band
+    in_band = ~np.isnan(eta_n)
+    any_band = in_band.any(axis=0)
+    eta_best = np.min(np.where(in_band, eta_n, np.inf), axis=0)
+    if curve.is_limit:
+        eta_min = eta_best
+    else:  # S/N^2 adds over harmonics; scaled by the best one to keep the sum in range
+        rel = np.where(in_band, eta_best[None, :] / np.where(in_band, eta_n, 1.0), 0.0)
+        eta_min = eta_best / np.sqrt(np.sum(rel**2, axis=0))
+    eta_min = np.where(any_band, eta_min, np.nan)
+    return eta_min * h_unit, eta_min
 

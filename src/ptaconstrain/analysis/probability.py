@@ -40,12 +40,13 @@ import numpy as np
 from astropy import units as u
 
 from .._inputs import check_memory
+from ..binary import eccentric as ecc
 from ..binary import waveform as wf
 from ..errors import InputError, PtaconstrainWarning
 from ..sensitivity.curve import FromCurve
 from .exclusion import ExclusionMap, exclusion_map, sensitivity_for
 from .isco_counts import IscoCounts
-from .sampling import HostSamples, sample_host
+from .sampling import HostSamples, resample_host, sample_host
 
 __all__ = [
     "ProbabilityMap",
@@ -90,6 +91,17 @@ class ProbabilityMap(FromCurve):
         Number of samples.
     orientation : bool
         Whether inclination was sampled (noise budgets).
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> from ptaconstrain import Host, exclusion_probability
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=10)
+    >>> prob = exclusion_probability(host, curve, samples=2000, seed=1)
+    >>> prob.probability.shape, prob.credibility
+    ((300, 300), (0.5, 0.9, 0.95))
     """
 
     mass_ratio: np.ndarray
@@ -302,6 +314,8 @@ def exclusion_probability(
     span=None,
     *,
     orientation=None,
+    eccentricity=0.0,
+    mass_samples=None,
 ):
     """Probability that each companion (q, P) of ``host`` is excluded (or detectable).
 
@@ -333,14 +347,37 @@ def exclusion_probability(
     orientation : bool, optional
         Sample the inclination; default True for noise budgets and False for
         upper limits (an h0 limit already bounds h0 itself).
+    mass_samples : MassSamples, optional
+        Posterior samples of the mass (and distance)
+        (:class:`ptaconstrain.binary.mass_samples.MassSamples`): the host samples are
+        drawn from them (:func:`ptaconstrain.analysis.sampling.resample_host`)
+        instead of the host's parametric errors.
+    eccentricity : float in [0, 0.95]
+        Orbital eccentricity, as in :func:`~ptaconstrain.analysis.exclusion.exclusion_map`;
+        each sample's ISCO test uses its pericentre (f_ISCO (1 - e)^(3/2)), and the
+        orientation factor of the circular quadrupole stands in for every harmonic.
 
     Returns
     -------
     ProbabilityMap
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")  # invented
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=10)
+    >>> prob = exclusion_probability(host, curve, samples=2000, seed=1)
+    >>> period, q95 = prob.tightest(0.95)     # q above q95 excluded with probability >= 0.95
+    >>> period_best, q_best = prob.deterministic.tightest()
+    >>> bool(q95 > q_best)                     # the errors loosen the bound
+    True
     """
     levels = _check_credibility(credibility)
     curve = sensitivity_for(host, curve)
-    det = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span, warn=False)
+    det = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span,
+                        eccentricity=eccentricity, warn=False)
     if orientation is None:
         orientation = not det.is_limit
     elif not orientation and not det.is_limit:
@@ -353,6 +390,9 @@ def exclusion_probability(
         draws = samples
         if orientation and draws.orientation_factor is None:
             raise InputError("samples: these were drawn without orientation; redraw with it")
+    elif mass_samples is not None:
+        draws = resample_host(host, mass_samples, samples, seed=seed,
+                              orientation=bool(orientation))
     else:
         draws = sample_host(host, samples, seed=seed, orientation=bool(orientation))
     if not orientation:
@@ -364,7 +404,9 @@ def exclusion_probability(
     n = draws.n
 
     f = det.frequency.to_value(u.Hz)
-    isco = IscoCounts(f, draws.isco_frequency.to_value(u.Hz), order)
+    # no binary whose pericentre lies inside the ISCO; a factor 1 at e = 0
+    f_isco = draws.isco_frequency.to_value(u.Hz) * ecc.pericentre_isco_factor(det.eccentricity)
+    isco = IscoCounts(f, f_isco, order)
     log_eta = np.log(wf.symmetric_mass_ratio(det.mass_ratio))
     with np.errstate(invalid="ignore"):
         log_eta_min = np.log(det.eta_min)

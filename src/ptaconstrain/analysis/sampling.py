@@ -20,7 +20,8 @@ from ..binary import waveform as wf
 from ..errors import InputError, PtaconstrainWarning
 from ..sensitivity.curve import ORIENTATION_MEAN
 
-__all__ = ["HostSamples", "sample_host", "orientation_factor", "distance_sigma"]
+__all__ = ["HostSamples", "sample_host", "resample_host", "orientation_factor",
+           "distance_sigma"]
 
 _PERCENTILES = (16.0, 50.0, 84.0)
 
@@ -47,6 +48,11 @@ def orientation_factor(cos_inclination):
     Returns
     -------
     ndarray, dimensionless.
+
+    Examples
+    --------
+    >>> orientation_factor([0.0, 1.0])   # edge-on, face-on
+    array([0.3125, 2.5   ])
     """
     c2 = np.asarray(cos_inclination, dtype=float) ** 2
     return ((1.0 + c2) ** 2 + 4.0 * c2) / ORIENTATION_MEAN
@@ -73,6 +79,12 @@ def distance_sigma(host):
     Returns
     -------
     Quantity [Mpc] (zero when the host has no distance error).
+
+    Examples
+    --------
+    >>> from ptaconstrain import Host
+    >>> distance_sigma(Host("Invented galaxy", 2e10, 100, distance_err_frac=0.1))
+    <Quantity 10. Mpc>
     """
     var = 0.0 * u.Mpc**2
     if host.distance_err is not None:
@@ -158,6 +170,14 @@ class HostSamples:
     orientation_factor : ndarray (n,) or None
         g of :func:`orientation_factor` per sample.
     isco_frequency : Quantity (n,) [Hz]
+
+    Examples
+    --------
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=5)
+    >>> samples = sample_host(host, n=1000, seed=1)
+    >>> samples.n, samples.mass.unit, samples.cos_inclination is None
+    (1000, Unit("solMass"), True)
     """
 
     n: int
@@ -276,7 +296,27 @@ def sample_host(host, n=100_000, seed=None, orientation=False):
     Returns
     -------
     HostSamples
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=5)
+    >>> samples = sample_host(host, n=20_000, seed=1)
+    >>> print(f"{np.std(np.log10(samples.mass.value)):.2f} dex")   # the 0.2 dex put in
+    0.20 dex
     """
+    n, seed = _check_draws(n, seed)
+    _warn_exact(host)
+    rng = np.random.default_rng(seed)
+    z_mass = rng.standard_normal(n)
+    d = _host_distances(host, rng, n)
+    eps = _split_normal_dex(z_mass, host.mass_err_dex)
+    m = host.mass_at(d).to(u.Msun) * 10.0**eps
+    return _samples(host, n, seed, m, d, rng, orientation)
+
+
+def _check_draws(n, seed):
     n = int(n)
     if n < 1:
         raise InputError(f"samples: need at least 1 sample, got {n}")
@@ -288,18 +328,81 @@ def sample_host(host, n=100_000, seed=None, orientation=False):
         raise InputError(f"seed: must be an integer, got {seed!r}") from err
     if seed < 0:
         raise InputError(f"seed: must be >= 0, got {seed}")
-    _warn_exact(host)
-    rng = np.random.default_rng(seed)
-    z_mass = rng.standard_normal(n)
+    return n, seed
+
+
+def _host_distances(host, rng, n):
+    """The host's distances: Gaussian (distance_sigma), truncated to D > 0, or exact."""
     x_dist = rng.random(n) + 2.0**-54  # in (0, 1): never exactly 0 (D = 0) or 1
     d0 = host.distance.to(u.Mpc)
     sig = distance_sigma(host)
     if sig.value > 0:
-        d = _truncated_normal(x_dist, d0.value, sig.to_value(u.Mpc)) * u.Mpc
+        return _truncated_normal(x_dist, d0.value, sig.to_value(u.Mpc)) * u.Mpc
+    return np.full(n, d0.value) * u.Mpc
+
+
+def resample_host(host, mass_samples, n=100_000, seed=None, orientation=False):
+    """Draw host samples from measured posterior samples of the mass (and distance).
+
+    ``n`` rows of ``mass_samples`` are drawn with replacement, with probability
+    proportional to their weights (``numpy.random.Generator.choice``), so the
+    draws follow the posterior whatever its shape.  They replace the
+    parametric errors of :func:`sample_host`:
+
+    * with a ``distance`` per sample, each draw keeps its (mass, distance)
+      pair: the posterior's own correlation is used, and the host's distance
+      error is ignored;
+    * without, distances are drawn from the host's distance error as in
+      :func:`sample_host`, and each mass, read as quoted at the host's
+      ``mass_distance`` (if set), is rescaled linearly to its draw's distance.
+
+    The host's ``mass_err_dex`` is not used.  Draws are made in a fixed order
+    (rows, distances, orientation) from ``numpy.random.default_rng(seed)``.
+
+    Parameters
+    ----------
+    host : Host
+        Supplies the redshift, the distance (and its error) when the samples
+        carry none, and ``mass_distance``.
+    mass_samples : MassSamples
+    n : int
+    seed : int, optional
+    orientation : bool
+
+    Returns
+    -------
+    HostSamples
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from ptaconstrain import Host
+    >>> from ptaconstrain.binary.mass_samples import MassSamples
+    >>> posterior = MassSamples([1.5e10, 2e10, 2.5e10], weights=[1, 2, 1])   # invented
+    >>> host = Host("Invented galaxy", 2e10, 100, distance_err=5)
+    >>> samples = resample_host(host, posterior, n=4000, seed=1)
+    >>> np.unique(samples.mass.value / 1e10).tolist()    # the posterior values themselves
+    [1.5, 2.0, 2.5]
+    """
+    n, seed = _check_draws(n, seed)
+    rng = np.random.default_rng(seed)
+    rows = rng.choice(mass_samples.size, size=n, replace=True,
+                      p=mass_samples.probabilities)
+    m = mass_samples.mass[rows].to(u.Msun)
+    if mass_samples.distance is not None:
+        d = mass_samples.distance[rows].to(u.Mpc)
     else:
-        d = np.full(n, d0.value) * u.Mpc
-    eps = _split_normal_dex(z_mass, host.mass_err_dex)
-    m = host.mass_at(d).to(u.Msun) * 10.0**eps
+        if host.distance_err is None and host.velocity_err is None:
+            warnings.warn(f"host {host.name!r} has no distance error and the mass samples no "
+                          "distances, so the exact distance is assumed", PtaconstrainWarning,
+                          stacklevel=3)
+        d = _host_distances(host, rng, n)
+        if host.mass_distance is not None:
+            m = (m * (d / host.mass_distance)).to(u.Msun)
+    return _samples(host, n, seed, m, d, rng, orientation)
+
+
+def _samples(host, n, seed, m, d, rng, orientation):
     cos_i = psi = g = None
     if orientation:
         cos_i = rng.uniform(-1.0, 1.0, n)

@@ -4,7 +4,19 @@ Imports nothing from :mod:`ptaconstrain.sensitivity`; :mod:`ptaconstrain.analysi
 combines the two.
 """
 
+from .eccentric import (
+    decay_rates,
+    enhancement_factor,
+    harmonic_amplitude_ratio,
+    harmonic_numbers,
+    harmonic_power,
+    merger_time,
+    merger_time_factor,
+    pericentre_isco_factor,
+    pericentre_isco_frequency,
+)
 from .host import Host, hosts_from_table
+from .mass_samples import MassSamples, MassSamplesError, load_mass_samples
 from .waveform import (
     chirp_mass,
     coalescence_time,
@@ -26,6 +38,9 @@ from .waveform import (
 __all__ = [
     "Host",
     "hosts_from_table",
+    "MassSamples",
+    "MassSamplesError",
+    "load_mass_samples",
     "symmetric_mass_ratio",
     "mass_ratio_from_eta",
     "chirp_mass",
@@ -41,4 +56,13 @@ __all__ = [
     "hardening_radius",
     "period_at_separation",
     "gravitational_radius",
+    "harmonic_power",
+    "enhancement_factor",
+    "harmonic_amplitude_ratio",
+    "harmonic_numbers",
+    "decay_rates",
+    "merger_time",
+    "merger_time_factor",
+    "pericentre_isco_frequency",
+    "pericentre_isco_factor",
 ]

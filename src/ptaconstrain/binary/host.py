@@ -303,6 +303,14 @@ def hosts_from_table(table):
     Returns
     -------
     list of Host
+
+    Examples
+    --------
+    >>> from astropy.table import QTable
+    >>> from ptaconstrain.data import path
+    >>> hosts = hosts_from_table(QTable.read(path("demo_hosts.ecsv")))   # invented galaxies
+    >>> len(hosts), type(hosts[0]).__name__
+    (5, 'Host')
     """
     cols = set(table.colnames)
     missing = [c for c in ("name", "mass") if c not in cols]

@@ -5,7 +5,7 @@ citation; everything else calls these functions.  All functions broadcast
 over their inputs (``mass_ratio[:, None]`` against ``frequency[None, :]``
 gives a grid with no loop) and take and return astropy Quantities.
 
-Conventions (see the README, "Physics conventions"):
+Conventions (the documentation's physics page, docs/physics.rst):
 
 * ``total_mass`` is M = m1 + m2 in the source rest frame; ``mass_ratio`` is
   q = m2/m1 in (0, 1]; eta = q / (1 + q)^2; chirp mass Mc = M eta^(3/5).
@@ -61,6 +61,11 @@ def symmetric_mass_ratio(mass_ratio):
     Returns
     -------
     ndarray, dimensionless.
+
+    Examples
+    --------
+    >>> symmetric_mass_ratio([1.0, 0.5, 0.1])
+    array([0.25      , 0.22222222, 0.08264463])
     """
     q = _check_mass_ratio(mass_ratio)
     return q / (1.0 + q) ** 2
@@ -81,6 +86,11 @@ def mass_ratio_from_eta(eta):
     Returns
     -------
     ndarray, dimensionless, in [0, 1].
+
+    Examples
+    --------
+    >>> mass_ratio_from_eta([0.25, 2 / 9, 0.0])
+    array([1. , 0.5, 0. ])
     """
     eta = np.clip(np.asarray(eta, dtype=float), 0.0, 0.25)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -100,6 +110,12 @@ def chirp_mass(total_mass, mass_ratio):
     Returns
     -------
     Quantity [mass], broadcast over the inputs.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> chirp_mass(2e10 * u.Msun, 1.0)  # M (1/4)^(3/5)
+    <Quantity 8.70550563e+09 solMass>
     """
     return total_mass * symmetric_mass_ratio(mass_ratio) ** 0.6
 
@@ -124,6 +140,16 @@ def strain_prefactor(total_mass, distance, redshift=0.0):
     Returns
     -------
     Quantity [Hz^(-2/3)].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> s = strain_prefactor(2e10 * u.Msun, 100 * u.Mpc)
+    >>> s.unit
+    Unit("1 / Hz(2/3)")
+    >>> h0 = 0.25 * s * (10 * u.nHz) ** (2 / 3)  # eta(q = 1) S f^(2/3)
+    >>> print(f"{h0.to_value(''):.4g}")
+    1.016e-13
     """
     mz = (1.0 + np.asarray(redshift)) * total_mass
     s = 2.0 * (_G * mz) ** (5.0 / 3.0) * np.pi ** (2.0 / 3.0) / (_C**4 * distance)
@@ -153,6 +179,13 @@ def strain_amplitude(total_mass, mass_ratio, frequency, distance, redshift=0.0):
     Returns
     -------
     Quantity [dimensionless], broadcast over the inputs.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> h0 = strain_amplitude(2e10 * u.Msun, [1.0, 0.1], 10 * u.nHz, 100 * u.Mpc)
+    >>> h0
+    <Quantity [1.016e-13, 3.360e-14]>
     """
     eta = symmetric_mass_ratio(mass_ratio)
     f = frequency.to(u.Hz)
@@ -172,6 +205,12 @@ def gw_frequency(period):
     Returns
     -------
     Quantity [Hz].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> gw_frequency(1 * u.yr)
+    <Quantity 6.33761756e-08 Hz>
     """
     return (2.0 / period).to(u.Hz)
 
@@ -186,6 +225,12 @@ def orbital_period(frequency):
     Returns
     -------
     Quantity [yr].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> orbital_period(10 * u.nHz)
+    <Quantity 6.33761756 yr>
     """
     return (2.0 / frequency).to(u.yr)
 
@@ -203,6 +248,12 @@ def separation(total_mass, period, redshift=0.0):
     Returns
     -------
     Quantity [pc].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> separation(1 * u.Msun, 1 * u.yr).to(u.au)  # the Earth's orbit
+    <Quantity 1.0000 AU>
     """
     p_rest = period / (1.0 + np.asarray(redshift))
     return np.cbrt(_G * total_mass * p_rest**2 / (4.0 * np.pi**2)).to(u.pc)
@@ -240,6 +291,12 @@ def period_at_separation(total_mass, sep, redshift=0.0):
     Returns
     -------
     Quantity [yr].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> period_at_separation(1 * u.Msun, 1 * u.au)
+    <Quantity 1.0000 yr>
     """
     p_rest = 2.0 * np.pi * np.sqrt(sep**3 / (_G * total_mass))
     return (p_rest * (1.0 + np.asarray(redshift))).to(u.yr)
@@ -260,6 +317,14 @@ def isco_frequency(total_mass, redshift=0.0):
     Returns
     -------
     Quantity [Hz].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> isco_frequency(1 * u.Msun)  # about 4.4 kHz / (M / solMass)
+    <Quantity 4397.2 Hz>
+    >>> isco_frequency(1e9 * u.Msun, redshift=0.1).to(u.uHz)
+    <Quantity 3.997 uHz>
     """
     mz = (1.0 + np.asarray(redshift)) * total_mass
     return (_C**3 / (6.0**1.5 * np.pi * _G * mz)).to(u.Hz)
@@ -281,6 +346,13 @@ def frequency_derivative(total_mass, mass_ratio, frequency, redshift=0.0):
     Returns
     -------
     Quantity [Hz / s].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> fdot = frequency_derivative(1e10 * u.Msun, 1.0, 10 * u.nHz)
+    >>> fdot.to(u.nHz / u.yr)
+    <Quantity 0.000985 nHz / yr>
     """
     mz = (1.0 + np.asarray(redshift)) * chirp_mass(total_mass, mass_ratio)
     tm = (_G * mz / _C**3).to(u.s)
@@ -307,6 +379,16 @@ def coalescence_time(total_mass, mass_ratio, frequency, redshift=0.0):
     Returns
     -------
     Quantity [yr], broadcast over the inputs.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> tau = coalescence_time(1e10 * u.Msun, 1.0, 10 * u.nHz)
+    >>> tau.to(u.kyr)
+    <Quantity 3.807 kyr>
+    >>> fdot = frequency_derivative(1e10 * u.Msun, 1.0, 10 * u.nHz)
+    >>> (3 / 8 * 10 * u.nHz / fdot).to(u.kyr)  # tau = (3/8) f / (df/dt)
+    <Quantity 3.807 kyr>
     """
     mz = (1.0 + np.asarray(redshift)) * chirp_mass(total_mass, mass_ratio)
     tm = (_G * mz / _C**3).to(u.s)
@@ -332,6 +414,12 @@ def is_chirping(total_mass, mass_ratio, frequency, span, redshift=0.0):
     Returns
     -------
     ndarray of bool, broadcast over the inputs.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> is_chirping(1e10 * u.Msun, 1.0, [10, 100] * u.nHz, 15 * u.yr)
+    array([False,  True])
     """
     fdot = frequency_derivative(total_mass, mass_ratio, frequency, redshift)
     return np.asarray((fdot * span**2).to_value(u.dimensionless_unscaled) > 1.0)
@@ -352,6 +440,12 @@ def hardening_radius(total_mass, mass_ratio, velocity_dispersion):
     Returns
     -------
     Quantity [pc].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> hardening_radius(1e9 * u.Msun, 1.0, 200 * u.km / u.s)
+    <Quantity 6.72 pc>
     """
     mu = total_mass * symmetric_mass_ratio(mass_ratio)
     return (_G * mu / (4.0 * velocity_dispersion**2)).to(u.pc)

@@ -55,7 +55,21 @@ REQUIRED = ("name", "ra", "dec")
 
 
 class CatalogError(InputError):
-    """A catalogue (or column mapping) that cannot be used; the message names the fix."""
+    """A catalogue (or column mapping) that cannot be used; the message names the fix.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> try:
+    ...     ColumnMap({"colour": "g_r"})
+    ... except CatalogError as err:
+    ...     print(err)
+    column mapping: unknown field 'colour'...
+    """
 
 
 class ColumnMap:
@@ -192,6 +206,18 @@ def load_column_map(path):
     ------
     CatalogError
         For a missing or malformed file, unknown tables, fields or units.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     toml = Path(tmp) / "columns.toml"
+    ...     text = ['[columns]', 'distance = "D_Mpc"', '[units]', 'distance = "Mpc"']
+    ...     _ = toml.write_text(chr(10).join(text))
+    ...     colmap = load_column_map(toml)
+    >>> colmap.resolve(["name", "ra", "dec", "D_Mpc"])["distance"]
+    'D_Mpc'
     """
     from pathlib import Path
 

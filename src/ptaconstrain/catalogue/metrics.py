@@ -53,6 +53,13 @@ def most_sensitive_frequency(frequency, h0_threshold):
     Returns
     -------
     ndarray of int, shape () or (n,); -1 where every entry is NaN.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> f = [2, 10, 50] * u.nHz
+    >>> most_sensitive_frequency(f, [3e-14, 1e-14, 4e-14])   # min of h0 / f^(2/3)
+    array(1)
     """
     g = np.asarray(h0_threshold, dtype=float) / frequency.to_value(u.Hz) ** (2.0 / 3.0)
     empty = np.all(np.isnan(g), axis=-1)
@@ -91,6 +98,17 @@ def galaxy_metrics(log_mass, log_mass_sigma, distance, redshift, frequency, h0_t
         ``h0_ratio``, ``min_mass_ratio``, ``prob_equal_mass``,
         ``expected_number`` (ndarrays), ``isco_frequency`` (Quantity Hz),
         ``f_best_above_isco`` (bool).
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> f = [2, 10, 50] * u.nHz
+    >>> m = galaxy_metrics([10.3, 9.0], [0.3, 0.3], [100, 100] * u.Mpc, [0.022, 0.022], f,
+    ...                    [3e-14, 1e-14, 4e-14])
+    >>> m["f_best"]
+    <Quantity [1.e-08, 1.e-08] Hz>
+    >>> bool(m["h0_ratio"][0] > m["h0_ratio"][1])   # the heavier black hole is louder
+    True
     """
     from scipy.special import ndtr
 

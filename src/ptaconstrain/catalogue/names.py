@@ -28,12 +28,12 @@ def name_bytes(names):
 
     Returns
     -------
-    ndarray of bytes_
+    ndarray of ``numpy.bytes_``
 
     Examples
     --------
-    >>> name_bytes(["NGC 4486", "Œ"]).tolist()
-    [b'NGC 4486', b'\\xc5\\x92']
+    >>> name_bytes(["Invented 1", "Œ"]).tolist()
+    [b'Invented 1', b'\\xc5\\x92']
     """
     names = np.asarray(names)
     if names.dtype.kind == "S":
@@ -61,6 +61,12 @@ def name_hashes(names):
     Returns
     -------
     ndarray of uint64
+
+    Examples
+    --------
+    >>> h = name_hashes(["Invented 1", "Invented 2", "Invented 1"])
+    >>> h.dtype, bool(h[0] == h[2]), bool(h[0] != h[1])
+    (dtype('uint64'), True, True)
     """
     names = np.asarray(names)
     if names.dtype.kind == "S":

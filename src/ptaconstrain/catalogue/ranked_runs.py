@@ -58,6 +58,12 @@ def sort_keys(metric, values, h0_ratio):
     Returns
     -------
     (ndarray, ndarray) of float64
+
+    Examples
+    --------
+    >>> key, tie = sort_keys("expected_number", [1e-5, 3e-5, float("nan")], [2.0, 1.0, 0.5])
+    >>> key                 # larger is better: negated; NaN last
+    array([-1.e-05, -3.e-05,     inf])
     """
     descending = METRICS[metric][0]
     values = np.asarray(values, dtype=float)
@@ -99,6 +105,19 @@ class RankedRuns:
     ----------
     n_rows : int
         Rows added so far.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> import numpy as np
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     runs = RankedRuns("h0_ratio", tmp)
+    ...     runs.add({"name": np.array(["A", "B"]), "h0_ratio": np.array([0.5, 2.0])})
+    ...     runs.add({"name": np.array(["C"]), "h0_ratio": np.array([1.0])})
+    ...     runs.finish()
+    ...     print([b"".join(block["name"]).decode() for block in runs.blocks()])
+    ...     runs.close()
+    ['BCA']
     """
 
     def __init__(self, metric, directory):

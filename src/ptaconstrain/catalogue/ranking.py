@@ -31,7 +31,8 @@ from astropy import units as u
 from ..cosmo import DistanceRedshift
 from ..errors import InputError
 from .columns import FIELDS, CatalogError, ColumnMap, load_column_map
-from .metrics import METRICS, galaxy_metrics
+from .kernel import chunk_metrics
+from .metrics import METRICS
 from .names import NameSet
 from .population import PopulationModel
 from .ranked_runs import RankedRuns, ranking_order
@@ -40,7 +41,8 @@ from .relations import select_relations
 from .rows import Rejections, prepare_chunk
 from .thresholds import ThresholdLookup
 
-__all__ = ["Ranking", "rank_catalog"]
+__all__ = ["Ranking", "rank_catalog", "ranking_table", "ranking_meta", "ranking_provenance",
+           "check_options", "resolve_columns", "no_rows_error", "column_map"]
 
 
 @dataclass(frozen=True)
@@ -80,6 +82,20 @@ class Ranking:
     runs : RankedRuns or None
         The whole ranking on disk when streamed (``table`` then holds the top
         rows); call :meth:`close` when done.
+
+    Examples
+    --------
+    >>> from astropy.table import Table
+    >>> from ptaconstrain import load_curve, rank_catalog
+    >>> from ptaconstrain.data import path
+    >>> galaxies = Table({"name": ["Invented A", "Invented B", "Invented C"],
+    ...                   "ra": [10.0, 150.0, 280.0], "dec": [-5.0, 20.0, -35.0],
+    ...                   "distance": [20.0, 40.0, 80.0], "mass": [3e9, 5e9, 2e10]})
+    >>> ranking = rank_catalog(galaxies, load_curve(path("synthetic_h0_limit.ecsv")))
+    >>> ranking.metric, ranking.verb, ranking.n_ranked
+    ('expected_number', 'excluded', 3)
+    >>> ranking.table["rank"].tolist()
+    [1, 2, 3]
     """
 
     table: object
@@ -131,7 +147,7 @@ class Ranking:
             return
         rank, cum = 1, 0.0
         for d in self.runs.blocks(size):
-            t = _build_table(d, self.metric, self.verb, first_rank=rank, cum_start=cum)
+            t = ranking_table(d, self.metric, self.verb, first_rank=rank, cum_start=cum)
             rank += len(t)
             cum = float(t["cumulative_expected_number"][-1])
             yield t
@@ -201,7 +217,45 @@ class Ranking:
         return lines
 
 
-def _column_map(columns):
+def check_options(metric, on_bad):
+    """Refuse an unknown ranking metric or bad-row policy (one line, InputError)."""
+    if metric not in METRICS:
+        raise InputError(f"metric: {metric!r} is unknown; use one of {', '.join(METRICS)}")
+    if on_bad not in ("error", "skip"):
+        raise InputError(f"on_bad: must be 'error' or 'skip', got {on_bad!r}")
+
+
+def resolve_columns(colmap, colnames, rels, name):
+    """field -> column of a catalogue, refusing one without any way to a mass.
+
+    Raises
+    ------
+    CatalogError
+        A mapped column is missing, a required field is absent, or there is
+        neither a mass column nor a predictor of the chosen relations.
+    """
+    resolved = colmap.resolve(colnames)
+    mass_fields = {"mass", "log_mass"} | {r.predictor for r in rels}
+    if not mass_fields & set(resolved):
+        raise CatalogError(
+            f"{name} has no mass column and no predictor for the chosen relations: "
+            f"add one of {', '.join(sorted(mass_fields))} (or map it with --columns)"
+        )
+    return resolved
+
+
+def no_rows_error(name, rejections):
+    """The CatalogError for a catalogue none of whose rows could be ranked."""
+    counts = rejections.counts
+    top = max(counts, key=counts.get) if counts else "no rows"
+    more = f" and {len(counts) - 1} other reason(s)" if len(counts) > 1 else ""
+    return CatalogError(f"{name}: no usable rows ({rejections.total} rejected; "
+                        f"{counts.get(top, 0)} for: {top}{more}): fix the catalogue "
+                        "or its column mapping")
+
+
+def column_map(columns):
+    """A ColumnMap from a ColumnMap, a dict (field -> column), a TOML path or None."""
     if isinstance(columns, ColumnMap):
         return columns
     if isinstance(columns, dict):
@@ -279,21 +333,12 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
     >>> sorted(round(float(x), 9) for x in r.table["ra"].value)
     [10.0, 187.5]
     """
-    if metric not in METRICS:
-        raise InputError(f"metric: {metric!r} is unknown; use one of {', '.join(METRICS)}")
-    if on_bad not in ("error", "skip"):
-        raise InputError(f"on_bad: must be 'error' or 'skip', got {on_bad!r}")
+    check_options(metric, on_bad)
     population = population or PopulationModel()
-    colmap = _column_map(columns)
+    colmap = column_map(columns)
     rels = select_relations(relations)
     reader = catalog if isinstance(catalog, CatalogReader) else CatalogReader(catalog, format)
-    resolved = colmap.resolve(reader.colnames)
-    mass_fields = {"mass", "log_mass"} | {r.predictor for r in rels}
-    if not mass_fields & set(resolved):
-        raise CatalogError(
-            f"{reader.name} has no mass column and no predictor for the chosen relations: "
-            f"add one of {', '.join(sorted(mass_fields))} (or map it with --columns)"
-        )
+    resolved = resolve_columns(colmap, reader.colnames, rels, reader.name)
     sens = ThresholdLookup(sensitivity, snr=snr, span=span, sky=sky, sky_nside=sky_nside)
     dz = DistanceRedshift(cosmology)
     rejections = Rejections()
@@ -306,7 +351,7 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
             gal = prepare_chunk(piece, colmap, resolved, rels, start, dz, rejections)
             rejections.check(on_bad)
             if gal["row"].size:
-                data = _with_metrics(gal, sens, population, n_nodes, rejections)
+                data = chunk_metrics(gal, sens, population, n_nodes, rejections)
                 dup = seen.add(data["name"])
                 if dup.any():
                     rejections.add(data["row"][dup], data["name"][dup],
@@ -327,45 +372,29 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
                 progress(len(piece))
         if not n_ranked:
             rejections.check(on_bad)
-            counts = rejections.counts
-            top = max(counts, key=counts.get) if counts else "no rows"
-            more = f" and {len(counts) - 1} other reason(s)" if len(counts) > 1 else ""
-            raise CatalogError(f"{reader.name}: no usable rows ({rejections.total} rejected; "
-                               f"{counts.get(top, 0)} for: {top}{more}): fix the catalogue "
-                               "or its column mapping")
+            raise no_rows_error(reader.name, rejections)
         if runs is None:
             data = {k: _concat([p[k] for p in parts]) for k in parts[0]}
             del parts
             order = ranking_order(metric, data[metric], data["h0_ratio"], data["name"])
-            table = _build_table({k: v[order] for k, v in data.items()}, metric, sens.verb)
+            table = ranking_table({k: v[order] for k, v in data.items()}, metric, sens.verb)
         else:
             runs.finish()
-            table = _build_table(next(runs.blocks(max(int(top_rows), 1))), metric, sens.verb)
+            table = ranking_table(next(runs.blocks(max(int(top_rows), 1))), metric, sens.verb)
             table["name"] = np.char.decode(np.asarray(table["name"]), "utf-8")
             table["mass_source"] = np.char.decode(np.asarray(table["mass_source"]), "utf-8")
     except BaseException:
         if runs is not None:
             runs.close()
         raise
-    meta = _ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes,
-                         dz.cosmology, rejections, n_ranked, sources, n_read)
+    meta = ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes,
+                        dz.cosmology, rejections, n_ranked, sources, n_read)
     table.meta.update(meta)
-    table.meta["provenance"] = _provenance(reader, files, inputs)
+    table.meta["provenance"] = ranking_provenance(reader, files, inputs)
     return Ranking(table=table, rejections=rejections, metric=metric, verb=sens.verb,
                    label=sens.label(), meta=meta, n_read=n_read,
                    sky_markers=sens.sky_markers(), sensitivity=sens, n_ranked=n_ranked,
                    expected_total=total, runs=runs)
-
-
-def _with_metrics(gal, sens, population, n_nodes, rejections):
-    thr, sky_index = sens.thresholds(gal["ra"], gal["dec"])
-    met = galaxy_metrics(gal["log_mass"], gal["log_mass_sigma"], gal["distance"] * u.Mpc,
-                         gal["redshift"], sens.frequency, thr, population, n_nodes=n_nodes,
-                         sky_index=sky_index)
-    rejections.note("no sensitivity at the galaxy's position (e.g. a blank map pixel): "
-                    "metrics NaN, expected number 0",
-                    np.count_nonzero(np.isnan(met["f_best"].value)))
-    return {**gal, **met}
 
 
 def _concat(arrays):
@@ -374,8 +403,24 @@ def _concat(arrays):
     return np.concatenate(arrays)
 
 
-def _build_table(d, metric, verb, first_rank=1, cum_start=0.0):
-    """The ranking table of rows already in rank order (ranks from ``first_rank``)."""
+def ranking_table(d, metric, verb, first_rank=1, cum_start=0.0):
+    """The ranking table of rows already in rank order (ranks from ``first_rank``).
+
+    Parameters
+    ----------
+    d : dict of ndarray / Quantity
+        Kernel rows (:func:`~ptaconstrain.catalogue.kernel.rank_piece`), in rank order.
+    metric, verb : str
+    first_rank : int
+        Rank of the first row.
+    cum_start : float
+        Cumulative expected number before the first row.
+
+    Returns
+    -------
+    astropy.table.QTable
+        With units and column descriptions.
+    """
     from astropy.table import QTable
 
     t = QTable()
@@ -448,7 +493,7 @@ def _relations_used(rels, used):
     return out
 
 
-def _provenance(reader, files, inputs):
+def ranking_provenance(reader, files, inputs):
     """The package's one provenance record, with the catalogue among the files."""
     from ..report.provenance import provenance
 
@@ -457,8 +502,9 @@ def _provenance(reader, files, inputs):
     return provenance(inputs, files=all_files)
 
 
-def _ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes, cosmology,
-                  rejections, n_ranked, sources, n_read):
+def ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes, cosmology,
+                 rejections, n_ranked, sources, n_read):
+    """How a ranking was made, for the table meta (``reader`` needs only ``.name``)."""
     meta = {
         "product": "continuous-wave target ranking",
         "sensitivity": sens.label(),

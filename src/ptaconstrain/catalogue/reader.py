@@ -1,16 +1,20 @@
-"""Reading a galaxy catalogue: whole files, streamed CSV, in-memory tables.
+"""Reading a galaxy catalogue: whole files, streamed CSV and Parquet, HATS, in-memory tables.
 
-A catalogue is anything astropy.table reads (ECSV, CSV, FITS, VOTable) or an
-in-memory Table.  CSV (and ``.txt``) files are streamed in chunks with
-astropy's fast reader, so a catalogue larger than memory can be ranked; ECSV
-and VOTable are read whole and FITS memory-mapped, then handed out chunk by
-chunk.  What the columns mean is :mod:`ptaconstrain.catalogue.columns`; what
-makes a row usable is :mod:`ptaconstrain.catalogue.rows`.
+A catalogue is anything astropy.table reads (ECSV, CSV, FITS, VOTable), a
+Parquet file or directory of Parquet files, a HATS catalogue
+(:mod:`~ptaconstrain.catalogue.columnar`, with the ``scale`` extra) or an
+in-memory Table.  Parquet is streamed by row group and HATS by partition.
+CSV (and ``.txt``) files are streamed in chunks with astropy's fast reader, so
+a catalogue larger than memory can be ranked; ECSV and VOTable are read whole
+and FITS memory-mapped, then handed out chunk by chunk.  What the columns mean
+is :mod:`ptaconstrain.catalogue.columns`; what makes a row usable is
+:mod:`ptaconstrain.catalogue.rows`.
 """
 
 from pathlib import Path
 
 from .._files import first_line, table_format
+from .columnar import columnar_kind, open_columnar
 from .columns import CatalogError
 
 __all__ = ["CatalogReader", "count_data_rows"]
@@ -61,21 +65,42 @@ class CatalogReader:
     name : str
         File name, or "<table>".
     path : pathlib.Path or None
+    kind : str
+        "table", "csv", "parquet" or "hats".
 
     Raises
     ------
     CatalogError
         For a missing or unreadable file.
+
+    Examples
+    --------
+    >>> from ptaconstrain.data import path
+    >>> reader = CatalogReader(path("demo_catalogue.ecsv"))   # invented galaxies
+    >>> reader.n_rows, "distance" in reader.colnames
+    (400, True)
+    >>> [first for first, chunk in reader.chunks(chunk_size=150)]
+    [0, 150, 300]
     """
 
     def __init__(self, source, format=None):
         from astropy.table import Table
 
         self.path = None
-        self._table = None
+        self._table = self._columnar = None
+        self.kind = "table"
         if isinstance(source, Table):
             self._table = source
             self.name = "<table>"
+        elif format in (None, "parquet", "hats") and (
+                format or columnar_kind(source)) in ("parquet", "hats"):
+            path = Path(source)
+            if not path.exists():
+                raise CatalogError(f"catalogue {path} not found: check the path")
+            self.path, self.name = path, path.name
+            self.kind = format or columnar_kind(path)
+            self._columnar = open_columnar(path, self.kind)
+            self.colnames, self.n_rows = self._columnar.colnames, self._columnar.n_rows
         else:
             path = Path(source)
             if not path.is_file():
@@ -83,6 +108,7 @@ class CatalogReader:
             self.path, self.name = path, path.name
             fmt = format or table_format(path)
             if fmt == "ascii.csv":
+                self.kind = "csv"
                 self._open_csv(path)
             else:
                 self._table = _read_whole(path, fmt)
@@ -92,7 +118,7 @@ class CatalogReader:
 
     @property
     def streamed(self):
-        """True when the rows are read from a CSV file chunk by chunk."""
+        """True when the rows are read from a file chunk by chunk (CSV, Parquet, HATS)."""
         return self._table is None
 
     def _open_csv(self, path):
@@ -125,6 +151,9 @@ class CatalogReader:
             The 0-based index of the piece's first row, and the piece.
         """
         chunk_size = max(int(chunk_size), 1)
+        if self._columnar is not None:
+            yield from self._columnar.chunks(chunk_size)
+            return
         if not self.streamed:
             for start in range(0, self.n_rows, chunk_size):
                 yield start, self._table[start:start + chunk_size]
@@ -146,7 +175,7 @@ class CatalogReader:
                 f"{self.name}: cannot read rows ({first_line(err)}): fix the file") from err
 
     def __repr__(self):
-        how = "streamed CSV" if self.streamed else "in memory"
+        how = f"streamed {self.kind}" if self.streamed else "in memory"
         return f"CatalogReader({self.name!r}, {self.n_rows} rows, {how})"
 
 

@@ -54,7 +54,21 @@ RELATIONS_SCHEMA = {"relation": [{
 
 
 class RelationError(InputError):
-    """A relation (or relations file) that cannot be used; the message names the fix."""
+    """A relation (or relations file) that cannot be used; the message names the fix.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> try:
+    ...     select_relations(["no_such_relation"])
+    ... except RelationError as err:
+    ...     print(err)
+    relation 'no_such_relation' is unknown: use one of kh13_sigma, ...
+    """
 
 
 @dataclass(frozen=True)
@@ -79,6 +93,14 @@ class Relation:
     from_memory : bool
         True when the coefficients were recalled, not re-read from the paper.
     note : str
+
+    Examples
+    --------
+    >>> rel = Relation(name="invented", predictor="velocity_dispersion", alpha=8.5,
+    ...                beta=4.4, pivot=200.0, unit="km/s", scatter_dex=0.3,
+    ...                citation="an invented example")
+    >>> rel.log_mass(200.0)        # alpha at the pivot
+    array(8.5)
     """
 
     name: str
@@ -204,6 +226,13 @@ def load_relations(path):
     ------
     RelationError
         Naming the file, the entry and the problem.
+
+    Examples
+    --------
+    >>> from ptaconstrain.data import path
+    >>> relations = load_relations(path("relations.toml"))
+    >>> next(iter(relations))
+    'kh13_sigma'
     """
     path = Path(path)
     data = read_toml(path, "relations file", RelationError)
@@ -239,7 +268,19 @@ def load_relations(path):
 
 
 def shipped_relations():
-    """The relations shipped in ``ptaconstrain/data/relations.toml`` (name -> Relation)."""
+    """The relations shipped in ``ptaconstrain/data/relations.toml`` (name -> Relation).
+
+    Returns
+    -------
+    dict
+        name -> :class:`Relation`, in the file's order (the default order of preference).
+
+    Examples
+    --------
+    >>> rel = shipped_relations()["kh13_sigma"]
+    >>> rel.predictor, rel.unit
+    ('velocity_dispersion', 'km/s')
+    """
     from ..data import path
 
     return load_relations(path("relations.toml"))
@@ -265,6 +306,11 @@ def select_relations(choices=None):
     ------
     RelationError
         For an unknown name or a bad file.
+
+    Examples
+    --------
+    >>> [r.name for r in select_relations(["mm13_sigma", "kh13_bulge"])]
+    ['mm13_sigma', 'kh13_bulge']
     """
     shipped = shipped_relations()
     if not choices:

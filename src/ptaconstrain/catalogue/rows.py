@@ -50,6 +50,16 @@ class Rejections:
     notes : dict
         reason -> count, for rows kept with an assumption (e.g. a measured
         mass without an error).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> rejected = Rejections()
+    >>> rejected.add(np.array([3, 7]), np.array(["Invented 4", "Invented 8"]), "mass is NaN")
+    >>> rejected.total, rejected.counts
+    (2, {'mass is NaN': 2})
+    >>> rejected.table()["row"].tolist()      # 1-based data rows
+    [4, 8]
     """
 
     def __init__(self):
@@ -371,6 +381,19 @@ def prepare_chunk(table, colmap, resolved, relations, start_row, dz, rejections)
         ``row`` (0-based), ``name``, ``ra``, ``dec`` (deg), ``distance`` (Mpc),
         ``redshift``, ``log_mass``, ``log_mass_sigma`` (dex), ``mass_source``,
         and every numeric input field present (in its default unit).
+
+    Examples
+    --------
+    >>> from astropy.table import Table
+    >>> from ptaconstrain.catalogue import ColumnMap, select_relations
+    >>> from ptaconstrain.cosmo import DistanceRedshift
+    >>> table = Table({"name": ["Invented 1", "Invented 2"], "ra": [10.0, 20.0],
+    ...                "dec": [5.0, -5.0], "distance": [100.0, -3.0], "mass": [2e10, 1e10]})
+    >>> colmap, rejected = ColumnMap(), Rejections()
+    >>> rows = prepare_chunk(table, colmap, colmap.resolve(table.colnames),
+    ...                      select_relations(), 0, DistanceRedshift(), rejected)
+    >>> rows["name"].tolist(), rejected.total     # the negative distance is rejected
+    (['Invented 1'], 1)
     """
     n = len(table)
     names = _names(table, resolved)

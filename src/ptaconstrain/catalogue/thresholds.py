@@ -11,6 +11,14 @@ centre, within the pixelisation error (pixels of nside 64 are 0.92 deg
 across, ``healpy.nside2resol``).  With ``sky="averaged"`` the positions are
 ignored and ``curve_at(None)`` serves every galaxy.  The band edges are the
 frequencies of ``curve_at(None)``.
+
+A catalogue partitioned on the sky by nested HEALPix pixels (HATS) asks
+:meth:`ThresholdLookup.partition_thresholds` once per partition: when the
+partition's pixel lies inside one pixel of the threshold grid (same frame,
+equal or coarser grid), every galaxy of the partition shares that row, the
+very row the per-galaxy lookup would find (a nested pixel's parent at a
+coarser order is its index shifted right by two bits per order; Gorski et al.
+2005, ApJ 622, 759, sect. 4).
 """
 
 import numpy as np
@@ -57,6 +65,17 @@ class ThresholdLookup(FromCurve):
     InputError
         For an object that is neither kind of sensitivity, a bad ``sky`` or
         a span given with a positional sensitivity.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")
+    >>> lookup = ThresholdLookup(curve)
+    >>> table, rows = lookup.thresholds(np.array([10.0, 200.0]), np.array([5.0, -40.0]))
+    >>> table, rows                         # one curve for the whole sky
+    (array([[3.e-14, 1.e-14, 4.e-14]]), None)
     """
 
     def __init__(self, sensitivity, snr=5.0, span=None, sky="auto", sky_nside=None):
@@ -127,6 +146,32 @@ class ThresholdLookup(FromCurve):
         pix = hp.ang2pix(table.nside, lon, lat, lonlat=True)
         used, index = np.unique(pix, return_inverse=True)
         return table.values[used], index
+
+    def partition_thresholds(self, order, pixel):
+        """Thresholds shared by every galaxy of one nested HEALPix pixel, or None.
+
+        Parameters
+        ----------
+        order : int
+            HEALPix order of the pixel (nside = 2**order), ICRS, NESTED scheme (HATS).
+        pixel : int
+
+        Returns
+        -------
+        ndarray (1, n_f) or None
+            None when the threshold grid is finer than the pixel or in another
+            frame: then look the galaxies up one by one with :meth:`thresholds`.
+        """
+        if self._table is None:
+            return self._fixed[None, :]
+        table = self._table
+        level = int(table.nside).bit_length() - 1
+        if table.frame != "icrs" or 1 << level != int(table.nside) or level > int(order):
+            return None
+        import healpy as hp
+
+        parent = int(pixel) >> (2 * (int(order) - level))
+        return table.values[[int(hp.nest2ring(int(table.nside), parent))]]
 
     def __repr__(self):
         return f"ThresholdLookup({self.label()}, {self.mode}, {self.frequency.size} frequencies)"

@@ -145,7 +145,8 @@ def main(debug):
       ptaconstrain data
 
     Files named by a shipped name (see 'ptaconstrain data') work from any
-    directory; everything shipped is invented, except the scaling relations.
+    directory; everything shipped is invented except the scaling relations
+    and the cosmology table.
 
     Bare numbers are read as solMass (masses) and Mpc (distances).
     """

@@ -3,7 +3,15 @@
 import click
 
 from . import main
-from .params import ARRAY_FILE, FREQUENCY, SNR, max_memory_option
+from .params import (
+    ARRAY_FILE,
+    BACKGROUND_HELP,
+    FREQUENCY,
+    SNR,
+    BackgroundType,
+    YearList,
+    max_memory_option,
+)
 
 __all__ = ["curve", "threshold_map"]
 
@@ -33,6 +41,8 @@ _array_option = click.option(
     "('ptaconstrain data' lists them).")
 _pulsar_term_option = click.option(
     "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2).")
+_background_option = click.option(
+    "--background", type=BackgroundType(), default=None, help=BACKGROUND_HELP)
 
 
 @main.command()
@@ -45,14 +55,23 @@ _pulsar_term_option = click.option(
 @click.option("--snr", type=SNR, default=5.0, show_default=True,
               help="S/N threshold quoted in the summary (stored in the curve's meta).")
 @_pulsar_term_option
+@_background_option
+@click.option("--years", type=YearList(), default=None,
+              help="Forecast over time: extend every pulsar's schedule by these years at its "
+              "own cadence, one curve per epoch (OUT_plus<Y>yr.ecsv), e.g. 5,10,20.")
+@click.option("--rms-factor", type=click.FloatRange(min=1), default=1.0, show_default=True,
+              help="With --years: divide every TOA rms by this (a better backend).")
 @click.option("--overwrite", is_flag=True, help="Replace an existing --out file.")
 @max_memory_option
-def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
+def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_factor,
+          overwrite):
     """Noise-budget curve (strain PSD) of a pulsar array, at a position or sky-averaged.
 
     \b
     Example:
       ptaconstrain curve --array demo_array --ra 284.1 --dec -37.2 --out curve.ecsv
+      ptaconstrain curve --array demo_array --background 2.4e-15 --out curve_background.ecsv
+      ptaconstrain curve --array demo_array --years 5,10,20 --out curve.ecsv
     """
     from pathlib import Path
 
@@ -65,26 +84,40 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
     from ..sensitivity.curve import save_curve
     from ..sensitivity.pulsar_list import load_array
 
-    check_new([out], overwrite)
-    coord = coord_from(ra=ra, dec=dec)
-    arr = load_array(array_file, pulsar_term=pulsar_term)
-    freq = arr.default_frequencies()
-    with _progress(len(arr), "timing-model fits") as bar:
-        arr.weights(freq, callback=bar.update)
-    result = arr.curve_at(coord, snr=snr, frequency=freq)
-    result.meta["provenance"] = provenance(
-        {"ra": str(ra), "dec": str(dec), "snr": f"{snr:g}", "pulsar_term": str(pulsar_term)},
-        files={"array": array_file})
+    if years is None and rms_factor != 1.0:
+        raise click.UsageError("--rms-factor applies to --years only")
     out_path = Path(out)
+    outs = [out_path] if years is None else [
+        out_path.with_name(f"{out_path.stem}_plus{y:g}yr{out_path.suffix or '.ecsv'}")
+        for y in years]
+    check_new(outs, overwrite)
+    coord = coord_from(ra=ra, dec=dec)
+    base = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
+    arrays = [base] if years is None else [base.extended(y, rms_factor) for y in years]
+    results = []
+    for arr in arrays:
+        freq = arr.default_frequencies()
+        with _progress(len(arr), f"timing-model fits ({arr.name})") as bar:
+            arr.weights(freq, callback=bar.update)
+        result = arr.curve_at(coord, snr=snr, frequency=freq)
+        result.meta["provenance"] = provenance(
+            {"ra": str(ra), "dec": str(dec), "snr": f"{snr:g}", "pulsar_term": str(pulsar_term),
+             "background": result.meta["background"], "array_epoch": arr.name},
+            files={"array": array_file})
+        results.append(result)
     with output_set(out_path.parent, safe_name(out_path.name), overwrite):
-        save_curve(result, out, overwrite=overwrite)
-    h0 = result.h0_threshold(result.frequency, snr=snr)
-    i = int(np.argmin(h0))
-    click.echo(
-        f"wrote {out}: strain-noise PSD [1/Hz] of {len(arr)} pulsars ({arr.name}), sky "
-        f"{result.sky}, {nhz_text(result.frequency[0])} - {nhz_text(result.frequency[-1])}; "
-        f"most sensitive at {nhz_text(result.frequency[i])}: detectable (forecast) for h0 >= "
-        f"{h0[i]:.3g} (dimensionless strain) at S/N >= {snr:g}, orientation-averaged")
+        for result, path in zip(results, outs, strict=True):
+            save_curve(result, path, overwrite=overwrite)
+    for arr, result, path in zip(arrays, results, outs, strict=True):
+        h0 = result.h0_threshold(result.frequency, snr=snr)
+        i = int(np.argmin(h0))
+        click.echo(
+            f"wrote {path}: strain-noise PSD [1/Hz] of {len(arr)} pulsars ({arr.name}, span "
+            f"{arr.span.to_value('yr'):.3g} yr), sky {result.sky}, "
+            f"{nhz_text(result.frequency[0])} - {nhz_text(result.frequency[-1])}; most "
+            f"sensitive at {nhz_text(result.frequency[i])}: detectable (forecast) for h0 >= "
+            f"{h0[i]:.3g} (dimensionless strain) at S/N >= {snr:g}, orientation-averaged; "
+            f"background: {result.meta['background']}")
 
 
 @main.command()
@@ -98,9 +131,10 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, overwrite):
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (FITS map + PNG figure per frequency).")
 @_pulsar_term_option
+@_background_option
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
 @max_memory_option
-def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwrite):
+def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, background, overwrite):
     """HEALPix map of the h0 a binary needs for S/N >= --snr (a forecast).
 
     \b
@@ -125,7 +159,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, overwri
     # a whole-sky map per figure, its temporaries and the figure's raster: ~4 float64 a pixel
     check_memory(4 * 8.0 * 12 * nside**2, f"a sky map of nside {nside} "
                  f"({12 * nside**2:,} pixels)", "lower --nside")
-    arr = load_array(array_file, pulsar_term=pulsar_term)
+    arr = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
     arr.check_band(freq)  # before the progress bar starts
     with _progress(len(arr), "timing-model fits") as bar:
         arr.weights(freq, callback=bar.update)
@@ -155,7 +189,7 @@ def _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite):
 
         write_threshold_maps(fits_path, rows(), freq, snr, arr.span,
                              f"pulsar list {arr.name}", overwrite=overwrite, nside=nside,
-                             extra=fits_cards(provenance()))
+                             extra={**fits_cards(provenance()), **_background_cards(arr)})
     lines = [f"wrote {fits_path} (HEALPix nside {nside}, RING, equatorial; "
              f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"]
     with _progress(freq.size, "figures") as bar:
@@ -164,12 +198,22 @@ def _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite):
                 fig = sky_map_figure(
                     m, pulsars=arr.sky_markers(),
                     title=f"{arr.name}: h0 detectable at S/N >= {snr:g} (forecast), "
-                          f"f = {nhz_text(f)}",
+                          f"f = {nhz_text(f)}" + _background_title(arr),
                     label=threshold_label(snr))
                 save_figure(fig, stem, ("png",), overwrite)
                 lines.append(_map_summary(f, m, snr, nside) + f"; figure {stem}.png")
                 bar.update(1)
     return lines
+
+
+def _background_cards(arr):
+    bg = arr.background
+    return {} if bg is None else {"BGAMP": bg.amplitude, "BGGAMMA": bg.gamma}
+
+
+def _background_title(arr):
+    bg = arr.background
+    return "" if bg is None else f", background A = {bg.amplitude:.3g}"
 
 
 def _map_summary(f, m, snr, nside):

@@ -5,18 +5,22 @@ import click
 from . import main
 from .params import (
     ARRAY_FILE,
+    BACKGROUND_HELP,
     CURVE_FILE,
     DISTANCE,
     LIMIT_MAP_FILE,
     MASS,
+    MASS_SAMPLES_FILE,
     SNR,
     SPEED,
     TIME,
+    BackgroundType,
     DistanceError,
     FormatList,
     LevelList,
     MassError,
     RangeType,
+    YearList,
     max_memory_option,
 )
 
@@ -58,6 +62,11 @@ def _grid(text):
               help="Distance error: Gaussian sigma ('5', Mpc) or '10%'.")
 @click.option("--velocity-err", type=SPEED, default=None,
               help="Peculiar-velocity error of a redshift distance (km/s).")
+@click.option("--mass-samples", "mass_samples_path", type=MASS_SAMPLES_FILE, default=None,
+              help="Posterior samples of the mass: a table with a 'mass' column (solMass), "
+              "optionally 'distance' (Mpc) and 'weight', or a shipped name such as "
+              "demo_mass_samples; replaces --mass-err (and --distance-err if it has "
+              "distances). Turns on probability maps.")
 @click.option("--samples", type=click.IntRange(min=100), default=100_000, show_default=True,
               help="Monte-Carlo samples of the host for probability maps.")
 @click.option("--seed", type=click.IntRange(min=0), default=None,
@@ -70,6 +79,15 @@ def _grid(text):
 @click.option("--array", "array_path", type=ARRAY_FILE, default=None,
               help="Pulsar list (ECSV, or a shipped name such as demo_array) instead of "
               "--curve: a forecast at the host's position.")
+@click.option("--background", type=BackgroundType(), default=None,
+              help=BACKGROUND_HELP + " With --array only.")
+@click.option("--years", type=YearList(), default=None,
+              help="With --array: also the forecast over time, each pulsar's schedule "
+              "extended by these years (e.g. 0,5,10,20): OUT/<name>_over_time.ecsv/.png.")
+@click.option("--rms-factor", type=click.FloatRange(min=1), default=1.0, show_default=True,
+              help="With --years: divide every TOA rms by this (a better backend).")
+@click.option("--target-q", type=click.FloatRange(0, 1, min_open=True), default=None,
+              help="With --years: report the first epoch at which this q becomes detectable.")
 @click.option("--limit-map", "limit_map_path", type=LIMIT_MAP_FILE, default=None,
               help="HEALPix FITS map of h0 upper limits (or a shipped name such as "
               "synthetic_h0_limit_map) instead of --curve: the limit at the host's pixel.")
@@ -79,6 +97,9 @@ def _grid(text):
               show_default=True, help="S/N threshold for noise-budget curves.")
 @click.option("--span", type=TIME, default=None,
               help="Observing span (default: the curve's; bare numbers are yr).")
+@click.option("--eccentricity", default="0", show_default=True,
+              help="Orbital eccentricity e in [0, 0.95] of every companion orbit; e > 0 "
+              "sums the Peters & Mathews harmonics.")
 @click.option("--mass-ratio-range", type=RangeType(upper=1.0), default="1e-4,1",
               show_default=True, help="Mass-ratio range LOW,HIGH within (0, 1].")
 @click.option("--period-range", type=RangeType("yr"), default=None,
@@ -97,9 +118,11 @@ def exclude(**opts):
     Writes OUT/<name>_exclusion.ecsv (one row per period) and the figure
     OUT/<name>_exclusion.png/.pdf, and prints a two-line summary; a noise
     budget or a pulsar list gives a forecast, written as OUT/<name>_forecast.*.  With
-    --mass-err, --distance-err or --velocity-err the host's uncertainties
-    are sampled: the figure gains probability contours, the table one
-    max_mass_ratio_<credibility> column per level.
+    --mass-err, --distance-err, --velocity-err or --mass-samples the host's
+    uncertainties are sampled: the figure gains probability contours, the
+    table one max_mass_ratio_<credibility> column per level.  --eccentricity
+    gives every companion orbit that eccentricity; --years (with --array) adds
+    OUT/<name>_over_time.* (the bound against the observing epoch).
 
     \b
     Example:
@@ -110,6 +133,13 @@ def exclude(**opts):
       ptaconstrain exclude --mass 2e10 --mass-err 0.2 --distance 100 \\
           --distance-err 10% --mass-distance 100 --seed 1 \\
           --curve synthetic_h0_limit --out results
+      ptaconstrain exclude --mass 2e10 --distance 100 --eccentricity 0.5 \\
+          --curve synthetic_h0_limit --out results
+      ptaconstrain exclude --mass 2e10 --distance 100 --mass-samples demo_mass_samples \\
+          --seed 1 --curve synthetic_h0_limit --out results
+      ptaconstrain exclude --mass 2e10 --distance 100 --ra 284.1 --dec -37.2 \\
+          --array demo_array --background 2.4e-15 --years 0,5,10,20 \\
+          --target-q 0.01 --out results
 
     The shipped (invented) curves, pulsar list and limit map are named as
     'ptaconstrain data' lists them; any other value is a file path.
@@ -121,7 +151,9 @@ def exclude(**opts):
 def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, velocity_dispersion,
                   mass_err, distance_err, velocity_err, samples, seed, credibility,
                   curve_path, array_path, limit_map_path, kind, snr, span, mass_ratio_range,
-                  period_range, grid, formats, out, overwrite):
+                  period_range, grid, formats, out, overwrite, eccentricity="0",
+                  background=None, years=None, rms_factor=1.0, target_q=None,
+                  mass_samples_path=None):
     """Library calls behind ``exclude``; returns the summary lines."""
     from pathlib import Path
 
@@ -129,7 +161,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from astropy import units as u
 
     from .._files import check_new, output_set, write_table
-    from .._inputs import check_field, check_memory, check_name
+    from .._inputs import check_eccentricity, check_field, check_memory, check_name
     from ..analysis.exclusion import band_periods, exclusion_map
     from ..binary.host import Host
     from ..binary.waveform import orbital_period
@@ -146,6 +178,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         check_field(span, "span", "--span")
     # the grid's arrays (about 8 float64 per cell) before they are made
     check_memory(64.0 * nq * n_p, f"the {nq} x {n_p} grid", "lower --grid")
+    ecc = check_eccentricity(eccentricity, "--eccentricity")
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
                 ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
                 velocity_err=velocity_err, **(mass_err or {}), **(distance_err or {}))
@@ -155,6 +188,15 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         raise click.UsageError("give exactly one of --curve, --array or --limit-map"
                                + (f" (got {', '.join(given)})" if given else ""))
     source_path = sources[given[0]]  # an existing file (InputFile checked it)
+    if background is not None and array_path is None:
+        raise click.UsageError("--background: the background enters a forecast from a pulsar "
+                               "list; give --array (or drop --background)")
+    posterior = _mass_samples(mass_samples_path, mass_err, distance_err, velocity_err)
+    if years is None and (rms_factor != 1.0 or target_q is not None):
+        raise click.UsageError("--rms-factor and --target-q apply to --years only")
+    if years is not None and array_path is None:
+        raise click.UsageError("--years: a forecast over time extends a pulsar list's "
+                               "schedules; give --array")
     if array_path is not None and span is not None:
         raise click.UsageError("--span: an --array forecast uses the pulsars' own spans; "
                                "drop --span")
@@ -163,10 +205,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     forecast = array_path is not None or (curve is not None and not curve.is_limit)
     stem = Path(out) / f"{safe_name(name)}_{'forecast' if forecast else 'exclusion'}"
     targets = [Path(f"{stem}.ecsv")] + [Path(f"{stem}.{f}") for f in formats]
+    time_stem = Path(out) / f"{safe_name(name)}_over_time"
+    if years is not None:
+        targets += [Path(f"{time_stem}.ecsv"), Path(f"{time_stem}.png")]
     check_new(targets, overwrite)  # before the slow part, so a refusal costs nothing
     sky_note = ""
     if curve is None:
-        curve, sky_note = _sensitivity_at(host, array_path, limit_map_path, snr)
+        curve, sky_note = _sensitivity_at(host, array_path, limit_map_path, snr, background)
     q = np.logspace(np.log10(mass_ratio_range[0]), np.log10(mass_ratio_range[1]), nq)
     if period_range is None:
         from ..analysis.exclusion import default_periods
@@ -176,14 +221,16 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
         lo, hi = (p.to_value(u.yr) for p in period_range)
         period = np.logspace(np.log10(lo), np.log10(hi), n_p) * u.yr
     prob = None
-    if mass_err or distance_err or velocity_err is not None:
+    if mass_err or distance_err or velocity_err is not None or posterior is not None:
         from ..analysis.probability import exclusion_probability
 
         prob = exclusion_probability(host, curve, q, period, samples=samples, seed=seed,
-                                     credibility=credibility, snr=snr, span=span)
+                                     credibility=credibility, snr=snr, span=span,
+                                     eccentricity=ecc, mass_samples=posterior)
         result = prob.deterministic
     else:
-        result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span)
+        result = exclusion_map(host, curve, mass_ratio=q, period=period, snr=snr, span=span,
+                               eccentricity=ecc)
 
     if not np.isfinite(result.max_mass_ratio).any():
         band = band_periods(curve).value
@@ -196,34 +243,96 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
             "change --period-range")
     inputs = host.describe()
     inputs.update(snr=f"{snr:g}", span=str(result.span), grid=f"{nq}x{n_p}",
+                  eccentricity=f"{ecc:g}",
                   mass_ratio_range="{:g},{:g}".format(*mass_ratio_range),
                   period_range=f"{period[0]:.4g},{period[-1]:.4g}")
     inputs["sensitivity_sky"] = sky_note
-    meta = provenance(inputs, files={given[0].lstrip("-"): source_path})
+    if posterior is not None:
+        inputs.update(posterior.describe())
+    if array_path is not None:
+        inputs["background"] = curve.meta["background"]
+    files = {given[0].lstrip("-"): source_path}
+    if posterior is not None:
+        files["mass_samples"] = mass_samples_path
+    meta = provenance(inputs, files=files)
     table = exclusion_table(result, meta, prob_map=prob)
     fig = exclusion_figure(result, prob_map=prob)
     # the table and figures are published together or not at all; with --overwrite
     # every file of the host's earlier set goes (e.g. a PDF this run does not make)
+    # (the forecast over time of --years belongs to the same set)
     every_format = [f"{stem.name}.{ext}" for ext in ("ecsv", *FormatList().choices)]
+    time_lines = []
     with output_set(out, stem.name, overwrite, earlier=every_format):
         write_table(table, targets[0], overwrite)
         written = [targets[0]] + save_figure(fig, stem, formats, overwrite)
+        if years is not None:
+            time_lines = _over_time(host, array_path, background, years, rms_factor, target_q,
+                                    q, period, snr, ecc, time_stem, meta, overwrite, written)
     lines = summary_lines(result)
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")
     if prob is not None:
         lines += credible_summary_lines(prob)
+    lines += time_lines
     lines.append("wrote " + ", ".join(str(p) for p in written))
     return lines
 
 
-def _sensitivity_at(host, array_path, limit_map_path, snr):
+def _mass_samples(path, mass_err, distance_err, velocity_err):
+    """The posterior-sample table of ``--mass-samples`` (or None), with its conflicts refused."""
+    if path is None:
+        return None
+    from ..binary.mass_samples import load_mass_samples
+
+    if mass_err:
+        raise click.UsageError("--mass-samples replaces --mass-err: give one of them")
+    posterior = load_mass_samples(path)
+    if posterior.distance is not None and (distance_err or velocity_err is not None):
+        raise click.UsageError(f"--mass-samples: {path} has a distance per sample, which "
+                               "replaces --distance-err/--velocity-err: drop those")
+    return posterior
+
+
+def _over_time(host, array_path, background, years, rms_factor, target_q, q, period, snr,
+               ecc, stem, meta, overwrite, written):
+    """The forecast over time for ``exclude --years``: writes table and figure, returns lines."""
+    from astropy import units as u
+
+    from .._files import write_table
+    from ..analysis.epochs import forecast_over_time
+    from ..report.figures import save_figure
+    from ..sensitivity.pulsar_list import load_array
+    from .progress import progress_bar
+
+    arr = load_array(array_path).with_background(background)
+    with progress_bar(len(arr) * len(years), "timing-model fits over the epochs") as bar:
+        result = forecast_over_time(host, arr, list(years) * u.yr, rms_factor, mass_ratio=q,
+                                    period=period, snr=snr, eccentricity=ecc,
+                                    callback=bar.update)
+    table = result.to_table(meta=meta, target_q=target_q)
+    write_table(table, stem.with_suffix(".ecsv"), overwrite)
+    written += [stem.with_suffix(".ecsv")]
+    written += save_figure(result.plot(target_q=target_q), stem, ("png",), overwrite)
+    lines = []
+    for y, s, qq in zip(result.years.to_value(u.yr), result.span.to_value(u.yr),
+                        result.tightest_mass_ratio, strict=True):
+        bound = "nothing detectable" if not qq == qq else f"q > {qq:.3g} would be detectable"
+        lines.append(f"{host.name}: +{y:g} yr (span {s:.3g} yr): {bound} (forecast)")
+    if target_q is not None:
+        first = result.first_epoch(target_q)
+        lines.append(f"{host.name}: q = {target_q:g} " + (
+            "is not reached within these epochs" if first is None else
+            f"becomes detectable after +{first.to_value(u.yr):g} yr"))
+    return lines
+
+
+def _sensitivity_at(host, array_path, limit_map_path, snr, background=None):
     """The curve at ``host`` from a pulsar list or a limit map, and a note on its sky."""
     if array_path is not None:
         from ..sensitivity.pulsar_list import load_array
         from .progress import progress_bar
 
-        sens = load_array(array_path)
+        sens = load_array(array_path).with_background(background)
         with progress_bar(len(sens), "timing-model fits per pulsar") as bar:
             sens.weights(sens.default_frequencies(), callback=bar.update)  # cached
     else:

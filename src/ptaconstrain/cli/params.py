@@ -7,7 +7,8 @@ import click
 
 __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
            "LevelList", "InputFile", "CURVE_FILE", "ARRAY_FILE", "LIMIT_MAP_FILE",
-           "CATALOGUE_FILE", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE",
+           "CATALOGUE_FILE", "MASS_SAMPLES_FILE", "BackgroundType", "BACKGROUND_HELP",
+           "YearList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE",
            "SNR", "Checked", "max_memory_option"]
 
 
@@ -172,13 +173,18 @@ class InputFile(click.ParamType):
 
     name = "file|shipped-name"
 
-    def __init__(self, *kinds):
+    def __init__(self, *kinds, directories=False):
         self.kinds = kinds
+        self.directories = directories  # a partitioned catalogue is a directory
 
     def convert(self, value, param, ctx):
+        from pathlib import Path
+
         from ..data import resolve
         from ..errors import InputError
 
+        if self.directories and Path(value).is_dir():
+            return str(value)
         try:
             return str(resolve(value, self.kinds))
         except InputError as err:
@@ -197,7 +203,46 @@ class InputFile(click.ParamType):
 CURVE_FILE = InputFile("curve")
 ARRAY_FILE = InputFile("pulsar list")
 LIMIT_MAP_FILE = InputFile("limit map")
-CATALOGUE_FILE = InputFile("catalogue", "hosts")
+CATALOGUE_FILE = InputFile("catalogue", "hosts", directories=True)
+MASS_SAMPLES_FILE = InputFile("mass samples")
+
+
+class BackgroundType(click.ParamType):
+    """The background as common red noise: ``A`` or ``A,gamma`` (gamma 13/3 if omitted)."""
+
+    name = "A[,gamma]"
+
+    def convert(self, value, param, ctx):
+        from ..errors import InputError
+        from ..sensitivity.background import Background, parse_background
+
+        if value is None or isinstance(value, Background):
+            return value
+        try:
+            return parse_background(value)
+        except InputError as err:
+            self.fail(str(err), param, ctx)
+
+
+class YearList(click.ParamType):
+    """Comma-separated non-negative years, e.g. ``5,10,20`` (sorted, duplicates dropped)."""
+
+    name = "y1,y2,..."
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, tuple):
+            return value
+        years = tuple(_float(p, self, param, ctx) for p in str(value).split(","))
+        if not years or not all(0 <= y <= 100 for y in years):
+            self.fail(f"{value!r}: give years added to the schedules, each in [0, 100], "
+                      "e.g. 5,10,20", param, ctx)
+        return tuple(sorted(set(years)))
+
+
+#: Help text of every ``--background`` option.
+BACKGROUND_HELP = ("Background as common red noise in every pulsar: A or A,gamma (gamma "
+                   "13/3 by default), e.g. 2.4e-15; per pulsar, without cross-correlations.")
+
 MASS = QuantityType("solMass")
 DISTANCE = QuantityType("Mpc")
 TIME = QuantityType("yr")

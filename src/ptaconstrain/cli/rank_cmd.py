@@ -5,11 +5,13 @@ import click
 from . import main
 from .params import (
     ARRAY_FILE,
+    BACKGROUND_HELP,
     CATALOGUE_FILE,
     CURVE_FILE,
     LIMIT_MAP_FILE,
     SNR,
     TIME,
+    BackgroundType,
     Checked,
     FormatList,
     QuantityType,
@@ -32,7 +34,7 @@ def _column_options(pairs):
     return out
 
 
-def _sensitivity(curve, kind, array_path, limit_map_path):
+def _sensitivity(curve, kind, array_path, limit_map_path, background=None):
     """Load the one sensitivity given; returns (object, role, path)."""
     given = [p for p in (curve, array_path, limit_map_path) if p is not None]
     if len(given) != 1:
@@ -43,13 +45,23 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
         return load_curve(curve, kind=kind), "curve", curve
     if kind is not None:
         raise click.UsageError("--kind applies to --curve only")
+    if background is not None and array_path is None:
+        raise click.UsageError("--background applies to --array only")
     if array_path is not None:
         from ..sensitivity.pulsar_list import load_array
 
-        return load_array(array_path), "array", array_path
+        return load_array(array_path).with_background(background), "array", array_path
     from ..sensitivity.limit_map import load_limit_map
 
     return load_limit_map(limit_map_path), "limit_map", limit_map_path
+
+
+def _stage_line(text):
+    """One stderr line per stage of the Dask engine (on a terminal only, like the bar)."""
+    import sys
+
+    if sys.stderr.isatty():
+        click.echo(f"dask: {text}", err=True)
 
 
 @main.command()
@@ -60,6 +72,8 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
               default=None, help="What a plain-text --curve holds.")
 @click.option("--array", "array_path", type=ARRAY_FILE, default=None,
               help="Pulsar list (ECSV, or a shipped name): sky-dependent forecast.")
+@click.option("--background", type=BackgroundType(), default=None,
+              help=BACKGROUND_HELP + " With --array only.")
 @click.option("--limit-map", "limit_map_path", type=LIMIT_MAP_FILE, default=None,
               help="HEALPix FITS map of h0 upper limits (or a shipped name).")
 @click.option("--out", type=click.Path(file_okay=False), required=True,
@@ -99,24 +113,40 @@ def _sensitivity(curve, kind, array_path, limit_map_path):
               show_default=True, help="Also draw the exclusion figure of this many top targets.")
 @click.option("--format", "formats", type=FormatList(), default="png", show_default=True,
               help="Figure formats, e.g. png,pdf.")
+@click.option("--engine", type=click.Choice(["memory", "dask"]), default="memory",
+              show_default=True,
+              help="dask: rank a Parquet or HATS catalogue on a Dask cluster (needs the "
+                   "'scale' extra); writes ranking.parquet/ instead of ranking.fits.")
+@click.option("--workers", type=click.IntRange(1), default=2, show_default=True,
+              help="Local Dask cluster size (one process and thread each, 2 GB limit).")
+@click.option("--scheduler", default=None,
+              help="Address of an existing Dask scheduler, e.g. tcp://10.0.0.5:8786 "
+                   "(instead of a local cluster).")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
 @max_memory_option
 def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation, columns_file,
          column_pairs, top, full_ecsv, on_bad, rate, q_min, q_index, snr, span, sky_averaged, nodes,
-         chunk_size, exclusion_figures, formats, overwrite):
+         chunk_size, exclusion_figures, formats, engine, workers, scheduler, overwrite,
+         background):
     """Rank a galaxy catalogue as continuous-wave targets.  Example:
 
     \b
       ptaconstrain rank demo_catalogue --curve synthetic_h0_limit --out ranking
+      ptaconstrain rank demo_catalogue --array demo_array --background 2.4e-15 --out ranking
+      ptaconstrain rank galaxies_hats/ --engine dask --workers 2 \\
+          --curve synthetic_h0_limit --out ranking
 
     CATALOG is a table file or a shipped (invented) catalogue named as
-    'ptaconstrain data' lists them, like --curve, --array and --limit-map.
+    'ptaconstrain data' lists them, like --curve, --array and --limit-map;
+    with the 'scale' extra also a Parquet file, a directory of Parquet files
+    or a HATS catalogue.
 
     The catalogue needs name, ra, dec and distance (Mpc) or redshift, plus a
     measured mass (solMass) or a predictor for a scaling relation
     (velocity_dispersion, bulge_mass, k_abs_mag, core_radius, stellar_mass).
     Writes ranking.fits (every ranked galaxy: every metric, the inputs used,
-    provenance), ranking_top.ecsv (the --top best), ranking_rejected.ecsv,
+    provenance; with --engine dask ranking.parquet/, in rank order),
+    ranking_top.ecsv (the --top best), ranking_rejected.ecsv,
     with --full-ecsv also ranking.ecsv (the whole table as text), and the
     figures ranking_sky / ranking_cumulative;
     with --exclusion-figures N also <name>_exclusion.* (upper limit) or
@@ -141,25 +171,38 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     extra = _column_options(column_pairs)
     if extra:
         columns = ColumnMap({**columns.columns, **extra}, columns.units)
-    sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path)
+    sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path, background)
     population = PopulationModel(rate, MassRatioDistribution(q_min, q_index))
-    check_new(ranking_output_paths(out, formats, full_ecsv), overwrite)
-    reader = CatalogReader(catalog)
-    # fail on a missing column or relation before the progress bar starts (one-line error)
-    columns.resolve(reader.colnames)
+    if engine == "dask" and full_ecsv:
+        raise click.UsageError("--full-ecsv is for --engine memory; the Dask engine writes "
+                               "the whole ranking as ranking.parquet/")
+    if scheduler and engine != "dask":
+        raise click.UsageError("--scheduler applies to --engine dask only")
+    check_new(ranking_output_paths(out, formats, full_ecsv, engine), overwrite)
     select_relations(list(relation) or None)
+    if engine == "dask":
+        reader, n_rows = catalog, 0  # the engine checks the columns before any cluster starts
+    else:
+        reader = CatalogReader(catalog)
+        # fail on a missing column or relation before the progress bar starts (one line)
+        columns.resolve(reader.colnames)
+        n_rows = reader.n_rows
     files = {"catalogue": catalog, role: sens_path}
     if columns_file:
         files["columns"] = columns_file
     files.update({f"relation_{i}": r for i, r in enumerate(relation) if r.endswith(".toml")})
     options = {"metric": metric, "relations": ",".join(relation) or "all shipped",
                "on_bad": on_bad, "rate": str(rate), "q_min": q_min, "q_index": q_index,
-               "snr": snr, "span": str(span), "sky_averaged": sky_averaged, "nodes": nodes}
-    with progress_bar(reader.n_rows, "ranking") as bar:
+               "snr": snr, "span": str(span), "sky_averaged": sky_averaged, "nodes": nodes,
+               "background": "none" if background is None else background.describe()}
+    if engine == "dask":
+        options.update(engine="dask", workers=workers, scheduler=scheduler)
+    with progress_bar(n_rows, "ranking") as bar:
         ranking, written = rank_to_files(
             reader, sens, out, files=files, options=options, formats=formats, top=top,
             exclusion_figures=exclusion_figures, overwrite=overwrite, progress=bar.update,
-            full_ecsv=full_ecsv,
+            full_ecsv=full_ecsv, engine=engine, workers=workers, scheduler=scheduler,
+            stage=_stage_line,
             columns=columns,
             relations=list(relation) or None, population=population, metric=metric,
             snr=snr, span=span, on_bad=on_bad, chunk_size=chunk_size, n_nodes=nodes,

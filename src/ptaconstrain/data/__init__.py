@@ -17,6 +17,7 @@ name                        kind           what it is
 ``demo_array``              pulsar list    invented pulsar list (a fictional array)
 ``demo_hosts``              hosts          invented host galaxies for the demo
 ``demo_catalogue``          catalogue      invented catalogue of 400 massive galaxies
+``demo_mass_samples``       mass samples   invented posterior samples of a black-hole mass
 ``relations``               relations      black-hole mass scaling relations (published)
 ``planck18_distance``       cosmology      D_L(z) of Planck18 from astropy (spline
                                            nodes; ``examples/make_cosmology_table.py``)
@@ -36,6 +37,7 @@ KINDS = {
     "limit map": "HEALPix limit map",
     "catalogue": "galaxy catalogue",
     "hosts": "hosts table",
+    "mass samples": "posterior samples of a black-hole mass",
     "relations": "scaling relations",
     "cosmology": "cosmology table",
 }
@@ -55,6 +57,13 @@ class ShippedFile:
         A key of :data:`KINDS`.
     description : str
         One line: what the file holds, and whether it is invented.
+
+    Examples
+    --------
+    >>> from ptaconstrain import data
+    >>> entry = data.shipped()[0]
+    >>> entry.name, entry.kind, entry.path.name
+    ('synthetic_h0_limit', 'curve', 'synthetic_h0_limit.ecsv')
     """
 
     name: str
@@ -83,6 +92,9 @@ _SHIPPED = (
                 "INVENTED host galaxies of the demo (fictional names, masses, positions)"),
     ShippedFile("demo_catalogue", "demo_catalogue.ecsv", "catalogue",
                 "INVENTED catalogue of 400 fictional massive galaxies"),
+    ShippedFile("demo_mass_samples", "demo_mass_samples.ecsv", "mass samples",
+                "INVENTED weighted posterior samples of a black-hole mass and distance "
+                "(2e10 solMass at 100 Mpc, skewed)"),
     ShippedFile("relations", "relations.toml", "relations",
                 "published black-hole mass scaling relations, each cited (not invented)"),
     ShippedFile("planck18_distance", "planck18_distance.ecsv", "cosmology",
@@ -113,6 +125,12 @@ def names():
     Returns
     -------
     list of str
+
+    Examples
+    --------
+    >>> from ptaconstrain import data
+    >>> "synthetic_h0_limit.ecsv" in data.names()
+    True
     """
     root = resources.files(__name__)
     return sorted(p.name for p in root.iterdir()
@@ -212,6 +230,12 @@ def shipped_name(file):
     Returns
     -------
     str or None
+
+    Examples
+    --------
+    >>> from ptaconstrain import data
+    >>> data.shipped_name(data.path("demo_array")), data.shipped_name("my_array.ecsv")
+    ('demo_array', None)
     """
     try:
         target = Path(file).resolve()

@@ -69,6 +69,18 @@ def exclusion_figure(result, ax=None, prob_map=None):
     -------
     matplotlib.figure.Figure
         The new figure, or the figure that holds ``ax``.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, exclusion_map
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})     # invented
+    >>> result = exclusion_map(Host("Invented galaxy", 2e10, 100), curve)
+    >>> fig = exclusion_figure(result)
+    >>> type(fig).__name__, fig.axes[0].get_xscale()
+    ('Figure', 'log')
     """
     from matplotlib.colors import BoundaryNorm, ListedColormap
     from matplotlib.figure import Figure
@@ -178,7 +190,7 @@ def exclusion_figure(result, ax=None, prob_map=None):
     # the automatic title position matplotlib lays the top axis out a second time.
     ax.set_title(
         f"{host.name}: M = {sci_text(m_tot)} {MSUN}, luminosity distance "
-        f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}", fontsize=10, y=1.0,
+        f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}; {result.orbit}", fontsize=10, y=1.0,
         pad=_TITLE_PAD)
     return fig
 
@@ -241,6 +253,22 @@ def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
     Returns
     -------
     list of pathlib.Path written.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, exclusion_map
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})     # invented
+    >>> result = exclusion_map(Host("Invented galaxy", 2e10, 100), curve)
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> fig = result.plot()
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     written = save_figure(fig, Path(tmp) / "invented", formats=("png", "pdf"))
+    ...     print([Path(p).name for p in written])
+    ['invented.png', 'invented.pdf']
     """
     from pathlib import Path
 

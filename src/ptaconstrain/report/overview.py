@@ -28,6 +28,18 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
     Returns
     -------
     matplotlib Figure
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, exclusion_map
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})     # invented
+    >>> result = exclusion_map(Host("Invented galaxy", 2e10, 100), curve)
+    >>> fig = overview_figure([result], title="Invented host")
+    >>> type(fig).__name__
+    'Figure'
     """
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D

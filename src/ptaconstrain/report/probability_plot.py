@@ -55,6 +55,20 @@ def add_probability_contours(ax, prob_map, levels=(0.5, 0.9, 0.95), best_fit=Fal
     Returns
     -------
     matplotlib ContourSet, or None when no level is crossed.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, exclusion_probability
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})     # invented
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=10)
+    >>> prob = exclusion_probability(host, curve, samples=2000, seed=1)
+    >>> fig = prob.deterministic.plot()
+    >>> contours = add_probability_contours(fig.axes[0], prob, levels=(0.9,))
+    >>> contours.levels
+    array([0.9])
     """
     from matplotlib.lines import Line2D
 
@@ -123,6 +137,18 @@ def probability_columns(prob_map):
         ``max_mass_ratio_<credibility>`` (e.g. ``max_mass_ratio_0.95``),
         dimensionless, in the order of ``prob_map.credibility``; NaN where
         the curve says nothing or no binary exists.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, exclusion_probability
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})     # invented
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=10)
+    >>> prob = exclusion_probability(host, curve, samples=2000, seed=1)
+    >>> list(probability_columns(prob))
+    ['max_mass_ratio_0.5', 'max_mass_ratio_0.9', 'max_mass_ratio_0.95']
     """
     return {column_name(c): np.asarray(prob_map.max_mass_ratio[c], dtype=float)
             for c in prob_map.credibility}

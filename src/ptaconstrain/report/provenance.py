@@ -26,7 +26,8 @@ def provenance(inputs=None, files=None):
     inputs : dict, optional
         Input values as strings (with units).
     files : dict, optional
-        Role -> path of input files; each is recorded with its SHA-256, and a file
+        Role -> path of input files; each is recorded with its SHA-256 (a directory,
+        such as a partitioned catalogue, with ``"directory"`` instead), and a file
         shipped with the package also with its shipped name (``ptaconstrain data``).
 
     Returns
@@ -36,7 +37,22 @@ def provenance(inputs=None, files=None):
         version), ``source_revision`` (the git revision, only when running from a
         checkout),
         ``created`` (UTC), ``python``, and ``inputs`` and ``files`` when given.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     curve_file = Path(tmp) / "limit.ecsv"
+    ...     _ = curve_file.write_text("an invented curve")
+    ...     record = provenance({"mass": "2e10 solMass"}, {"curve": curve_file})
+    >>> {"software", "created", "python", "inputs", "files"} <= set(record)
+    True
+    >>> record["files"]["curve"]["sha256"][:12]
+    '8df2a293b39f'
     """
+    from pathlib import Path
+
     from .._files import sha256
     from .._version import __version__
     from ..data import shipped_name
@@ -52,7 +68,8 @@ def provenance(inputs=None, files=None):
     if files:
         out["files"] = {}
         for role, path in files.items():
-            entry = {"path": str(path), "sha256": sha256(path)}
+            entry = {"path": str(path),
+                     "sha256": "directory" if Path(path).is_dir() else sha256(path)}
             name = shipped_name(path)
             if name is not None:
                 entry["shipped"] = name
@@ -137,10 +154,19 @@ def safe_name(name):
     so that names differing only in such characters keep distinct files.  Dots
     are kept: the whole name survives.
 
+    Parameters
+    ----------
+    name : str
+
+    Returns
+    -------
+    str
+        "host" for an empty name.
+
     Examples
     --------
-    >>> safe_name("NGC 1"), safe_name("Fictus J1234.5+6789")
-    ('NGC_1', 'Fictus_J1234.5_6789_04703a')
+    >>> safe_name("Host A 1"), safe_name("Fictus J1234.5+6789")
+    ('Host_A_1', 'Fictus_J1234.5_6789_04703a')
     """
     import hashlib
 

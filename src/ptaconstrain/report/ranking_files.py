@@ -11,6 +11,12 @@ written unless ``overwrite``:
 * ``ranking.ecsv``: the whole table as ECSV, only on request (``full_ecsv``;
   held in memory while written);
 * ``ranking_rejected.ecsv`` and the figures.
+
+With ``engine="dask"`` (a Parquet or HATS catalogue ranked on a Dask cluster,
+:func:`ptaconstrain.catalogue.dask_engine.rank_catalog_dask`) the whole table is
+``ranking.parquet/``, a directory of Parquet files in rank order, instead of
+``ranking.fits``; the figures of a ranking of more than 200,000 rows are drawn
+from a bounded sample of it.
 """
 
 import json
@@ -18,9 +24,11 @@ import warnings
 
 import numpy as np
 
+from ..catalogue.dask_engine import PARQUET_DIR
+
 __all__ = ["rank_to_files", "ranking_output_paths", "top_figure_stems", "top_figures",
            "write_fits_blocks", "fits_meta", "TABLE_FILE", "TOP_FILE", "FULL_ECSV_FILE",
-           "REJECTED_FILE"]
+           "REJECTED_FILE", "PARQUET_DIR"]
 
 TABLE_FILE = "ranking.fits"
 TOP_FILE = "ranking_top.ecsv"
@@ -29,14 +37,15 @@ REJECTED_FILE = "ranking_rejected.ecsv"
 _FITS_BLOCK = 2880
 
 
-def ranking_output_paths(out_dir, formats=("png",), full_ecsv=False):
+def ranking_output_paths(out_dir, formats=("png",), full_ecsv=False, engine="memory"):
     """The files ``rank`` always writes into ``out_dir`` (tables, rejected rows, figures)."""
     from pathlib import Path
 
     from .rankplots import FIGURE_STEMS
 
     out_dir = Path(out_dir)
-    paths = [out_dir / TABLE_FILE, out_dir / TOP_FILE, out_dir / REJECTED_FILE]
+    whole = PARQUET_DIR if engine == "dask" else TABLE_FILE
+    paths = [out_dir / whole, out_dir / TOP_FILE, out_dir / REJECTED_FILE]
     if full_ecsv:
         paths.append(out_dir / FULL_ECSV_FILE)
     paths += [out_dir / f"{stem}.{fmt}" for stem in FIGURE_STEMS for fmt in formats]
@@ -46,9 +55,8 @@ def ranking_output_paths(out_dir, formats=("png",), full_ecsv=False):
 def fits_meta(meta):
     """Table meta a FITS header can hold: nested values (dicts, lists) as JSON text.
 
-    Text is made ASCII (other characters as backslash escapes); under a long
-    (HIERARCH) key, where a value cannot continue onto a second card, text too
-    long for one 80-character card is shortened and ends with "...".
+    Text is made ASCII (other characters as backslash escapes), as FITS
+    headers hold ASCII only.
 
     Parameters
     ----------
@@ -62,12 +70,8 @@ def fits_meta(meta):
     for k, v in meta.items():
         if isinstance(v, (dict, list, tuple)):
             v = json.dumps(v, default=str)
-        if isinstance(v, str):
+        if isinstance(v, str):  # FITS headers hold ASCII only
             v = v.encode("ascii", "backslashreplace").decode("ascii")
-            # "HIERARCH <key> = '<value>'" on one card; quotes inside are doubled
-            room = 80 - len("HIERARCH  = ''") - len(str(k)) - v.count("'")
-            if len(str(k)) > 8 and len(v) > room:
-                v = v[:max(room - 3, 0)] + "..."
         out[k] = v
     return out
 
@@ -259,7 +263,8 @@ def top_figures(ranking, sensitivity, stems, formats=("png",), overwrite=False, 
 
 def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, formats=("png",),
                   top=20, exclusion_figures=0, overwrite=False, progress=None,
-                  full_ecsv=False, **kwargs):
+                  full_ecsv=False, engine="memory", workers=2, scheduler=None, stage=None,
+                  **kwargs):
     """Rank a catalogue, then write the tables, the rejected rows and the figures.
 
     Nothing is written unless every output can be (existing files are refused
@@ -284,7 +289,15 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
         Also draw the exclusion (forecast) figure of this many best targets.
     overwrite : bool
     progress : callable, optional
-        See :func:`ptaconstrain.catalogue.rank_catalog`.
+        See :func:`ptaconstrain.catalogue.rank_catalog` (memory engine).
+    engine : {"memory", "dask"}
+        "dask" ranks a Parquet or HATS catalogue on a Dask cluster and writes
+        ``ranking.parquet/`` instead of ``ranking.fits``.
+    workers, scheduler : int, str
+        The Dask cluster: a local one of ``workers`` processes, or the one at
+        ``scheduler`` (see :func:`ptaconstrain.catalogue.dask_engine.rank_catalog_dask`).
+    stage : callable, optional
+        Called with a short text as each stage of the Dask engine starts.
     **kwargs
         Passed to :func:`ptaconstrain.catalogue.rank_catalog`.
 
@@ -294,18 +307,28 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
     """
     from .._files import check_new, output_set
 
-    paths = ranking_output_paths(out_dir, formats, full_ecsv)
+    if engine not in ("memory", "dask"):
+        raise ValueError(f"rank_to_files: engine must be 'memory' or 'dask', not {engine!r}")
+    if engine == "dask" and full_ecsv:
+        from ..errors import InputError
+
+        raise InputError("full_ecsv: the Dask engine writes the whole ranking as "
+                         f"{PARQUET_DIR}; drop --full-ecsv")
+    paths = ranking_output_paths(out_dir, formats, full_ecsv, engine)
     check_new(paths, overwrite)
+    how = {"engine": engine, "workers": workers, "scheduler": scheduler, "stage": stage}
     # every file is staged and published with the rest, or none is (see output_set)
     # (a record lists them when the per-galaxy figures make the names vary)
     with output_set(out_dir, "ranking", overwrite, record=exclusion_figures > 0) as oset:
-        return _rank_and_write(catalog, sensitivity, out_dir, paths, oset.scratch, files,
+        return _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files,
                                options, formats, top, exclusion_figures, overwrite, progress,
-                               full_ecsv, kwargs)
+                               full_ecsv, how, kwargs)
 
 
-def _rank_and_write(catalog, sensitivity, out_dir, paths, scratch, files, options, formats,
-                    top, exclusion_figures, overwrite, progress, full_ecsv, kwargs):
+def _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files, options, formats,
+                    top, exclusion_figures, overwrite, progress, full_ecsv, engine, kwargs):
+    import contextlib
+
     import numpy as np
     from astropy.table import vstack
 
@@ -313,31 +336,44 @@ def _rank_and_write(catalog, sensitivity, out_dir, paths, scratch, files, option
     from ..catalogue import rank_catalog
     from .rankplots import ranking_figures
 
-    ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
-                           inputs=options, stream_dir=scratch,
-                           top_rows=max(int(top), int(exclusion_figures), 1), **kwargs)
-    try:
-        stems = top_figure_stems(ranking, out_dir, exclusion_figures)
-        check_new([f"{stem}.{fmt}" for _, stem in stems for fmt in formats], overwrite)
-        meta = ranking.table.meta
-        write_fits_blocks(ranking.blocks(), paths[0], ranking.n_ranked, meta, overwrite)
-        write_table(ranking.table[: int(top)], paths[1], overwrite)
-        rejected = ranking.rejections.table()
-        rejected.meta.update({"catalogue": ranking.meta["catalogue"], "on_bad":
-                              ranking.meta["on_bad"], "provenance": meta["provenance"]})
-        write_table(rejected, paths[2], overwrite)
-        written = paths[:3]
-        if full_ecsv:
-            full = vstack(list(ranking.blocks()), metadata_conflicts="silent")
-            for key in ("name", "mass_source"):
-                full[key] = np.char.decode(np.asarray(full[key]), "utf-8")
-            full.meta.clear()
-            full.meta.update(meta)
-            write_table(full, paths[3], overwrite)
-            written.append(paths[3])
-        written += ranking_figures(ranking, out_dir, formats, top, overwrite)
-        written += top_figures(ranking, sensitivity, stems, formats, overwrite,
-                               snr=kwargs.get("snr", 5.0), span=kwargs.get("span"))
-    finally:
-        ranking.close()
+    top_rows = max(int(top), int(exclusion_figures), 1)
+    with contextlib.ExitStack() as stack:
+        if engine["engine"] == "dask":  # the Parquet directory is staged with the set
+            from ..catalogue.dask_engine import rank_catalog_dask
+
+            staged = stack.enter_context(oset.stage_directory(paths[0]))
+            ranking = rank_catalog_dask(
+                getattr(catalog, "path", catalog), sensitivity, out_dir, files=files,
+                inputs=options, top_rows=top_rows, workers=engine["workers"],
+                scheduler=engine["scheduler"], progress=engine["stage"], parquet_path=staged,
+                work_dir=oset.scratch, **kwargs)
+        else:
+            ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
+                                   inputs=options, stream_dir=oset.scratch, top_rows=top_rows,
+                                   **kwargs)
+        try:
+            stems = top_figure_stems(ranking, out_dir, exclusion_figures)
+            check_new([f"{stem}.{fmt}" for _, stem in stems for fmt in formats], overwrite)
+            meta = ranking.table.meta
+            if engine["engine"] == "memory":
+                write_fits_blocks(ranking.blocks(), paths[0], ranking.n_ranked, meta, overwrite)
+            write_table(ranking.table[: int(top)], paths[1], overwrite)
+            rejected = ranking.rejections.table()
+            rejected.meta.update({"catalogue": ranking.meta["catalogue"], "on_bad":
+                                  ranking.meta["on_bad"], "provenance": meta["provenance"]})
+            write_table(rejected, paths[2], overwrite)
+            written = paths[:3]
+            if full_ecsv:
+                full = vstack(list(ranking.blocks()), metadata_conflicts="silent")
+                for key in ("name", "mass_source"):
+                    full[key] = np.char.decode(np.asarray(full[key]), "utf-8")
+                full.meta.clear()
+                full.meta.update(meta)
+                write_table(full, paths[3], overwrite)
+                written.append(paths[3])
+            written += ranking_figures(ranking, out_dir, formats, top, overwrite)
+            written += top_figures(ranking, sensitivity, stems, formats, overwrite,
+                                   snr=kwargs.get("snr", 5.0), span=kwargs.get("span"))
+        finally:
+            ranking.close()
     return ranking, written

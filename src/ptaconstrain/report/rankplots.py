@@ -57,7 +57,8 @@ def _x(ra_deg):
     return np.radians(180.0 - np.mod(np.asarray(ra_deg, float), 360.0))
 
 
-def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, ax=None):
+def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, ax=None,
+               n_total=None):
     """Mollweide map of the ranked galaxies coloured by ``metric``.
 
     Parameters
@@ -77,6 +78,9 @@ def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, a
         Merger rate, shown with the expected number.
     ax : matplotlib Axes with projection "mollweide", optional
         Drawn into; a new Figure otherwise.
+    n_total : int, optional
+        ``table`` is already a rank-ordered sample (best rows first) of a ranking
+        of this many rows: drawn whole, and the title says so.
 
     Returns
     -------
@@ -86,6 +90,9 @@ def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, a
 
     n_all = len(table)
     rows, shown = _sky_rows(n_all)
+    if n_total is not None and n_total > n_all:
+        shown = f"\nshown: a sample of {n_all:,} of {n_total:,}, the best first"
+        n_all = n_total
     ra = u.Quantity(table["ra"], u.deg).value[rows]
     dec = u.Quantity(table["dec"], u.deg).value[rows]
     val = np.asarray(table[metric], dtype=float)[rows]
@@ -147,7 +154,7 @@ def _sky_rows(n):
                   f"({rows.size:,} of {n:,})")
 
 
-def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None):
+def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None, n_total=None):
     """Cumulative expected number of excluded (detectable) binaries against rank.
 
     Parameters
@@ -160,6 +167,10 @@ def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None):
     rate : str, optional
     ax : matplotlib Axes, optional
         Drawn into; a new Figure otherwise.
+    n_total : int, optional
+        Rows of the whole ranking when ``table`` holds a rank-ordered sample
+        whose ``expected_number`` are the increments of the cumulative sum
+        between the sampled ranks (the first ``top`` ranks all present).
 
     Returns
     -------
@@ -174,7 +185,7 @@ def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None):
     ax.set_xscale("log")
     unicode_log_ticks(ax.xaxis)
     ax.set_ylim(bottom=0.0)  # from zero, so the share of the first targets reads right
-    ax.set_xlabel(f"rank in the table (as sorted; {len(table)} galaxies)")
+    ax.set_xlabel(f"rank in the table (as sorted; {n_total or len(table)} galaxies)")
     ax.set_ylabel(f"cumulative expected number\nof {verb} binaries [dimensionless]")
     if 0 < top < len(table):
         ax.axvline(top, color="#E69F00", ls="--", lw=1)
@@ -211,6 +222,8 @@ def ranking_figures(ranking, out_dir, formats=("png",), top=20, overwrite=False)
 
     out_dir = Path(out_dir)
     rate = ranking.meta.get("merger_rate_per_galaxy")
+    if hasattr(ranking.runs, "take") and ranking.n_ranked > MAX_SKY_POINTS:
+        return _sampled_figures(ranking, out_dir, formats, top, overwrite, rate)
     written = []
     fig = ranking.plot(top=top)
     written += save_figure(fig, out_dir / FIGURE_STEMS[0], formats, overwrite)
@@ -223,3 +236,27 @@ def ranking_figures(ranking, out_dir, formats=("png",), top=20, overwrite=False)
     fig = cumulative_figure(table, ranking.verb, ranking.label, top=top, rate=rate)
     written += save_figure(fig, out_dir / FIGURE_STEMS[1], formats, overwrite)
     return written
+
+
+def _sampled_figures(ranking, out_dir, formats, top, overwrite, rate):
+    """The two figures of a very large ranking on disk, from a bounded sample of its rows.
+
+    The sample is the rows :func:`_sky_rows` would draw (the best tenth of the
+    budget, then an even thinning), read by position; the cumulative curve is
+    exact at every sampled rank (its stored running sum).
+    """
+    from .figures import save_figure
+
+    rows, _ = _sky_rows(ranking.n_ranked)
+    keys = list(dict.fromkeys(["rank", "ra", "dec", ranking.metric,
+                               "cumulative_expected_number"]))
+    sample = ranking.runs.take(rows, keys)
+    fig = sky_figure(sample, ranking.metric, ranking.verb, ranking.label,
+                     markers=ranking.sky_markers, top=top, rate=rate,
+                     n_total=ranking.n_ranked)
+    written = save_figure(fig, out_dir / FIGURE_STEMS[0], formats, overwrite)
+    cum = np.asarray(sample["cumulative_expected_number"], dtype=float)
+    sample["expected_number"] = np.diff(np.r_[0.0, cum])
+    fig = cumulative_figure(sample, ranking.verb, ranking.label, top=top, rate=rate,
+                            n_total=ranking.n_ranked)
+    return written + save_figure(fig, out_dir / FIGURE_STEMS[1], formats, overwrite)

@@ -33,6 +33,13 @@ def sci_text(x, digits=2):
     Returns
     -------
     str
+
+    Examples
+    --------
+    >>> sci_text(2.2e10)
+    '2.2×10¹⁰'
+    >>> sci_text(1.234e-15, digits=1)
+    '1.2×10⁻¹⁵'
     """
     mant, exp = f"{x:.{digits}e}".split("e")
     mant = mant.rstrip("0").rstrip(".")
@@ -59,6 +66,21 @@ def unicode_log_ticks(*axes):
     Parameters
     ----------
     *axes : matplotlib.axis.Axis
+
+    Returns
+    -------
+    None
+        The axes' formatters are replaced in place.
+
+    Examples
+    --------
+    >>> from matplotlib.figure import Figure
+    >>> ax = Figure().add_subplot()
+    >>> ax.set_xscale("log")
+    >>> limits = ax.set_xlim(1, 1e3)
+    >>> unicode_log_ticks(ax.xaxis)
+    >>> ax.xaxis.get_major_formatter()(100.0)
+    '10²'
     """
     from matplotlib.ticker import LogFormatterSciNotation
 
@@ -97,6 +119,23 @@ def minor_ticks_as_markers(ax, axis, limits, side, to_parent=None):
     side : {"bottom", "top", "left", "right"}
     to_parent : callable, optional
         Maps ``axis`` values to ``ax`` data values (for a secondary axis).
+
+    Returns
+    -------
+    None
+        ``ax`` gains one marker line and ``axis`` loses its minor locator (when the
+        axis spans more than a decade).
+
+    Examples
+    --------
+    >>> from matplotlib.figure import Figure
+    >>> ax = Figure().add_subplot()
+    >>> ax.set_xscale("log")
+    >>> limits = ax.set_xlim(1, 1e3)
+    >>> n_lines = len(ax.lines)
+    >>> minor_ticks_as_markers(ax, ax.xaxis, limits, "bottom")
+    >>> len(ax.lines) - n_lines     # one marker line instead of 16 minor Tick objects
+    1
     """
     import matplotlib as mpl
     from matplotlib.lines import Line2D

@@ -7,7 +7,24 @@ __all__ = ["exclusion_table", "summary_lines", "credible_summary_lines", "format
 
 
 def format_quantity(q, digits=3):
-    """'7.94 yr'-style text with ``digits`` significant figures."""
+    """'7.94 yr'-style text with ``digits`` significant figures.
+
+    Parameters
+    ----------
+    q : Quantity
+    digits : int
+        Significant figures.
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> format_quantity(7.9372 * u.yr)
+    '7.94 yr'
+    """
     unit = q.unit.to_string()
     return f"{q.value:.{digits}g} {unit}".strip()
 
@@ -35,6 +52,20 @@ def exclusion_table(result, meta=None, prob_map=None):
     Returns
     -------
     astropy.table.QTable
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, exclusion_map
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})     # invented
+    >>> result = exclusion_map(Host("Invented galaxy", 2e10, 100), curve)
+    >>> table = exclusion_table(result)
+    >>> table["period"].unit, table["companion_mass"].unit
+    (Unit("yr"), Unit("solMass"))
+    >>> len(table) == result.period.size
+    True
     """
     from astropy.table import QTable
 
@@ -79,6 +110,11 @@ def exclusion_table(result, meta=None, prob_map=None):
     t.meta["total_mass"] = format_quantity(result.host.mass.to(u.Msun))
     t.meta["luminosity_distance"] = format_quantity(result.host.distance.to(u.Mpc))
     t.meta["f_isco"] = format_quantity(result.isco_frequency.to(u.Hz))
+    t.meta["eccentricity"] = f"{result.eccentricity:g}"
+    if result.harmonics is not None:
+        t.meta["harmonics"] = (f"n = 1-{int(result.harmonics.max())} of the orbital frequency "
+                               "(99.9% of the power; Peters & Mathews 1963)"
+                               if result.eccentricity > 0 else "n = 2 (circular quadrupole)")
     if prob_map is not None:
         t.meta.update(prob_map.describe())
     if meta:
@@ -99,6 +135,23 @@ def summary_lines(result):
     -------
     list of str, e.g.
     ``["Host A: q > 0.021 ruled out at P = 7.9 yr (95% upper limit)", ...]``
+
+    Parameters
+    ----------
+    result : ExclusionMap
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, exclusion_map
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})     # invented
+    >>> result = exclusion_map(Host("Invented galaxy", 2e10, 100), curve)
+    >>> for line in summary_lines(result):
+    ...     print(line)
+    Invented galaxy: q > ... ruled out at P = ... yr (95% upper limit)
+    Invented galaxy: companions above ... solMass ruled out for some period; ...
     """
     host = result.host.name
     best = result.tightest()
@@ -106,6 +159,8 @@ def summary_lines(result):
         phrase, tag = "ruled out", result.label
     else:
         phrase, tag = "would be detectable", f"{result.label}, not an exclusion"
+    if result.eccentricity > 0:
+        tag += f"; {result.orbit}"
     if best is None:
         return [f"{host}: no companion {phrase} at any period on the grid ({tag})",
                 _why_no_bound(result)]
@@ -161,10 +216,27 @@ def _why_no_bound(result):
 def credible_summary_lines(prob_map):
     """One line per credibility: the tightest credible bound with the host's errors.
 
+    Parameters
+    ----------
+    prob_map : ProbabilityMap
+
     Returns
     -------
-    list of str, e.g. ``["Host A: q > 0.046 ruled out at P = 4.8 yr with
-    probability >= 0.95 (mass, distance errors; 100000 samples, seed 1)"]``
+    list of str
+        e.g. "Host A: q > 0.046 ruled out at P = 4.8 yr with probability >= 0.95
+        (mass, distance errors; 100000 samples, seed 1)".
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain import Host, exclusion_probability
+    >>> from ptaconstrain.sensitivity import StrainCurve
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})     # invented
+    >>> host = Host("Invented galaxy", 2e10, 100, mass_err_dex=0.2, distance_err=10)
+    >>> prob = exclusion_probability(host, curve, samples=2000, seed=1)
+    >>> print(credible_summary_lines(prob)[-1])
+    Invented galaxy: q > ... ruled out at P = ... yr with probability >= 0.95 (...)
     """
     phrase = "ruled out" if prob_map.is_limit else "detectable"
     name = prob_map.host.name

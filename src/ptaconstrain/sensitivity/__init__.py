@@ -25,6 +25,13 @@ from .antenna import (
     pattern_power,
     snr_squared,
 )
+from .background import (
+    GAMMA_BINARIES,
+    Background,
+    correlated_snr_squared,
+    hellings_downs,
+    parse_background,
+)
 from .curve import (
     CurveError,
     StrainCurve,
@@ -48,6 +55,11 @@ from .timing import (
 )
 
 __all__ = [
+    "GAMMA_BINARIES",
+    "Background",
+    "correlated_snr_squared",
+    "hellings_downs",
+    "parse_background",
     # curves
     "StrainCurve",
     "load_curve",

@@ -148,6 +148,15 @@ def antenna_pattern(pulsar, source, psi=0.0):
     (F+, Fx) : two ndarrays, broadcast shape without the last axis.
         Zero where the source and the pulsar coincide (the earth-term
         limit there depends on the approach direction).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> pulsar = np.array([1.0, 0.0, 0.0])   # 90 deg from the source
+    >>> source = np.array([0.0, 0.0, 1.0])
+    >>> fplus, fcross = antenna_pattern(pulsar, source)
+    >>> print(f"{fplus**2 + fcross**2:.4f}")  # = (1 + cos 90 deg)^2 / 4
+    0.2500
     """
     pulsar = np.asarray(pulsar, float)
     m, ell = polarisation_basis(source)
@@ -169,7 +178,7 @@ def pattern_power(pulsar, source):
 
     Polarisation-independent closed form of the sum of squares of
     :func:`antenna_pattern` (e+ and ex project p p onto the plane transverse
-    to the wave, |.|^2 = (1 - (Omega.p)^2)^2).
+    to the wave, ``|.|^2 = (1 - (Omega.p)^2)^2``).
 
     Parameters
     ----------
@@ -178,6 +187,14 @@ def pattern_power(pulsar, source):
     Returns
     -------
     ndarray, broadcast shape without the last axis.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> source = np.array([0.0, 0.0, 1.0])
+    >>> pulsars = np.array([[0.0, 0.0, 1.0], [1.0, 0.0, 0.0], [0.0, 0.0, -1.0]])
+    >>> pattern_power(pulsars, source)   # theta = 0, 90, 180 deg
+    array([1.  , 0.25, 0.  ])
     """
     mu = np.sum(np.asarray(pulsar, float) * np.asarray(source, float), axis=-1)
     return 0.25 * (1.0 + mu) ** 2
@@ -260,6 +277,19 @@ def snr_squared(h0, frequency, weight, fplus, fcross, inclination, psi=0.0, puls
     Returns
     -------
     ndarray (..., n_f)
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> f = [10.0] * u.nHz
+    >>> weight = np.full((1, 1), 1e13) / u.s**2      # w_p(f): one pulsar, one frequency
+    >>> fplus, fcross = antenna_pattern(np.array([[1.0, 0.0, 0.0]]), np.array([0.0, 0.0, 1.0]))
+    >>> rho2 = snr_squared(1e-14, f, weight, fplus, fcross, inclination=0.0)
+    >>> rho2.shape
+    (1,)
+    >>> bool(snr_squared(2e-14, f, weight, fplus, fcross, 0.0)[0] / rho2[0] == 4.0)  # ~ h0^2
+    True
     """
     from astropy import units as u
 
@@ -288,6 +318,17 @@ def orientation_averaged_snr_squared(h0, frequency, weight, power, pulsar_term=F
     Returns
     -------
     ndarray (..., n_f)
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> f = [10.0] * u.nHz
+    >>> weight = np.full((3, 1), 1e13) / u.s**2      # three equal pulsars, one frequency
+    >>> rho2 = orientation_averaged_snr_squared(1e-14, f, weight, np.full(3, SKY_MEAN_PATTERN))
+    >>> one = orientation_averaged_snr_squared(1e-14, f, weight[:1], np.full(1, SKY_MEAN_PATTERN))
+    >>> print(f"{rho2[0] / one[0]:.3f}")   # S/N^2 adds over pulsars
+    3.000
     """
     from astropy import units as u
 

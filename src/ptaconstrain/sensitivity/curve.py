@@ -53,7 +53,24 @@ CURVE_META_SCHEMA = {"confidence": (float, str), "span": (float, str, u.Quantity
 
 
 class CurveError(InputError):
-    """A sensitivity curve that cannot be used; the message names the fix."""
+    """A sensitivity curve that cannot be used; the message names the fix.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from ptaconstrain.sensitivity import CurveError, StrainCurve
+    >>> try:
+    ...     StrainCurve([2, 1] * u.nHz, [1e-14, 1e-14], "h0_limit")
+    ... except CurveError as err:
+    ...     print(err)
+    curve frequency must be strictly increasing (row 2 is not): sort the file by
+    frequency and drop duplicates
+    """
 
 
 def detection_threshold_h0(strain_psd, span, snr):
@@ -85,6 +102,13 @@ def detection_threshold_h0(strain_psd, span, snr):
     Returns
     -------
     Quantity [dimensionless].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> h0 = detection_threshold_h0(1e-18 / u.Hz, 10 * u.yr, snr=5.0)
+    >>> print(f"{h0.to_value(''):.4g}")   # 5 sqrt(5 S_n / (16 T))
+    1.574e-13
     """
     return (snr * np.sqrt(strain_psd / (ORIENTATION_MEAN * span))).to(u.dimensionless_unscaled)
 
@@ -101,6 +125,12 @@ def noise_psd_for_threshold(h0, span, snr):
     Returns
     -------
     Quantity [1/Hz].
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> noise_psd_for_threshold(1.574e-13, 10 * u.yr, snr=5.0)   # inverse of detection_threshold_h0
+    <Quantity 1.0e-18 1 / Hz>
     """
     return (ORIENTATION_MEAN * span * (np.asarray(h0) / snr) ** 2).to(u.Hz**-1)
 
@@ -138,6 +168,16 @@ class StrainCurve:
     ------
     CurveError
         Naming the problem and the fix.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95, "span": "15 yr"})
+    >>> curve.label()
+    '95% upper limit'
+    >>> curve.h0_threshold([10, 100] * u.nHz)   # outside the band: NaN, never extrapolated
+    array([1.e-14,    nan])
     """
 
     def __init__(self, frequency, value, kind, meta=None):
@@ -385,6 +425,13 @@ def load_curve(path, kind=None):
     ------
     CurveError
         One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> from ptaconstrain.data import path
+    >>> curve = load_curve(path("synthetic_h0_limit.ecsv"))
+    >>> curve.kind, curve.label()
+    ('h0_limit', '95% upper limit')
     """
     from pathlib import Path
 
@@ -469,6 +516,22 @@ def save_curve(curve, path, overwrite=False):
     curve : StrainCurve
     path : str or path-like
     overwrite : bool
+
+    Returns
+    -------
+    None
+        The file is written atomically; an existing file is refused unless ``overwrite``.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> from astropy import units as u
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     save_curve(curve, Path(tmp) / "limit.ecsv")
+    ...     print(load_curve(Path(tmp) / "limit.ecsv").kind)
+    h0_limit
     """
     from astropy.table import QTable
 

@@ -47,7 +47,22 @@ _UNSEEN = -1.6375e30  # healpy.UNSEEN
 
 
 class LimitMapError(InputError):
-    """A sky map that cannot be used; the message names the fix."""
+    """A sky map that cannot be used; the message names the fix.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> from ptaconstrain.sensitivity import LimitMap, LimitMapError
+    >>> try:
+    ...     LimitMap([1.0, 2.0], [[1.0, 2.0, 3.0]] * 2)   # 3 pixels is no HEALPix map
+    ... except LimitMapError as err:
+    ...     print(err)
+    sky map: 3 pixels is not a full HEALPix map
+    """
 
 
 def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=False,
@@ -76,6 +91,25 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
         More header keywords (short names, string or number values).
     nside : int, optional
         Needed when ``maps`` is an iterable of blocks.
+
+    Returns
+    -------
+    None
+        The file is written atomically; an existing file is refused unless ``overwrite``.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> maps = np.full((2, 12 * 4**2), 1e-14)          # two frequencies, nside 4
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     out = Path(tmp) / "thresholds.fits"
+    ...     write_threshold_maps(out, maps, [5, 20] * u.nHz, snr=5, span=15 * u.yr,
+    ...                          source="invented example")
+    ...     print(out.stat().st_size % 2880)        # whole FITS blocks
+    0
     """
     from .._files import atomic_write
     from .positional import check_nside
@@ -182,6 +216,19 @@ class LimitMap:
     confidence : float
     span : Quantity [yr] or None
     name : str
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> maps = np.vstack([np.full(12 * 4**2, 2e-14), np.full(12 * 4**2, 1e-14)])  # nside 4
+    >>> limits = LimitMap([5, 20] * u.nHz, maps, confidence=0.95, span=15)
+    >>> limits.nside
+    4
+    >>> curve = limits.curve_at(SkyCoord(150, 20, unit="deg"))
+    >>> curve.kind, curve.label()
+    ('h0_limit', '95% upper limit')
     """
 
     def __init__(self, frequency, maps, frame="C", confidence=0.95, span=None, name="sky map"):
@@ -336,6 +383,13 @@ def load_limit_map(path):
     ------
     LimitMapError
         One line naming the missing or wrong keyword and the fix.
+
+    Examples
+    --------
+    >>> from ptaconstrain.data import path
+    >>> limits = load_limit_map(path("synthetic_h0_limit_map.fits"))
+    >>> limits.frame, limits.confidence
+    ('C', 0.95)
     """
     from pathlib import Path
 

@@ -33,6 +33,12 @@ class HealpixThresholds:
     values : ndarray (12 nside^2, n_f)
         Dimensionless h0 threshold per pixel and frequency; NaN where the
         sensitivity says nothing (an unobserved pixel of a limit map).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> HealpixThresholds(4, "icrs", np.full((12 * 4**2, 3), 1e-14))
+    HealpixThresholds(nside=4, frame='icrs', values: 192 pixels x 3 frequencies)
     """
 
     nside: int
@@ -50,6 +56,13 @@ class PositionalSensitivity(Protocol):
 
     Implemented by :class:`~ptaconstrain.sensitivity.PulsarArray` and
     :class:`~ptaconstrain.sensitivity.LimitMap`.
+
+    Examples
+    --------
+    >>> from ptaconstrain import load_array
+    >>> from ptaconstrain.data import path
+    >>> isinstance(load_array(path("demo_array.ecsv")), PositionalSensitivity)
+    True
     """
 
     def curve_at(self, coord):

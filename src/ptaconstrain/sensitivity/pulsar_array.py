@@ -53,7 +53,25 @@ _METHODS = ("exact", "analytic")
 
 
 class ArrayError(InputError):
-    """A pulsar list or array that cannot be used; the message names the fix."""
+    """A pulsar list or array that cannot be used; the message names the fix.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the problem and the fix.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> from ptaconstrain.sensitivity import ArrayError, PulsarArray
+    >>> try:
+    ...     PulsarArray(["P1"], SkyCoord([10], [20], unit="deg"), [-1] * u.us, [14] * u.d,
+    ...                 [55000], [58000])
+    ... except ArrayError as err:
+    ...     print(err)
+    row 1 (P1): toa_rms = -1 is not positive and finite: give a positive TOA rms in us
+    """
 
 
 class PulsarArray:
@@ -74,15 +92,33 @@ class PulsarArray:
         Name of the array (used in curve metadata).
     pulsar_term : bool
         Add the pulsar term incoherently (x 2 on rho^2, see :mod:`.antenna`).
+    background : Background, optional
+        The nanohertz background as a common red noise, added to every
+        pulsar's noise (per pulsar, without cross-correlations; see
+        :mod:`.background`).
 
     Raises
     ------
     ArrayError
         Naming the row, the column and the fix.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> from astropy.coordinates import SkyCoord
+    >>> array = PulsarArray(["Invented A", "Invented B"],
+    ...                     SkyCoord([10, 200], [20, -40], unit="deg"),
+    ...                     [0.5, 1.0] * u.us, [14, 14] * u.d, [53000, 53000], [58479, 58479])
+    >>> array.span.round(1)
+    <Quantity 15. yr>
+    >>> curve = array.curve_at(SkyCoord(100, 0, unit="deg"), snr=5.0)   # a forecast
+    >>> curve.kind
+    'strain_psd'
     """
 
     def __init__(self, names, coord, toa_rms, cadence, start_mjd, end_mjd, red_amp=None,
-                 red_gamma=None, distance=None, name="pulsar array", pulsar_term=False):
+                 red_gamma=None, distance=None, name="pulsar array", pulsar_term=False,
+                 background=None):
         self.names = [str(n) for n in names]
         n = len(self.names)
         self.name = str(name)
@@ -99,9 +135,59 @@ class PulsarArray:
         self.red_gamma = gam.reshape(-1)
         self.distance = None if distance is None else u.Quantity(distance, u.kpc)
         self.pulsar_term = bool(pulsar_term)
+        self.background = background
         _validate_array(self)
         self.vectors = antenna.coord_to_vectors(self.coord)
         self._cache = {}
+
+    def with_background(self, background):
+        """The same array with ``background`` (a :class:`~.background.Background` or None).
+
+        Returns
+        -------
+        PulsarArray
+            A new array (its own weight cache); this one is unchanged.
+        """
+        import copy
+
+        new = copy.copy(self)
+        new.background = background
+        new._cache = {}
+        return new
+
+    def extended(self, years, rms_factor=1.0):
+        """The array observed ``years`` longer, each pulsar at its own cadence.
+
+        Every pulsar's last epoch moves ``years`` later (its TOAs continue at its
+        cadence); with ``rms_factor`` f > 1 every TOA rms becomes toa_rms / f.
+        The model has one white-noise rms per pulsar, so the improvement is
+        applied to the whole data set, old TOAs included: an optimistic reading
+        of a better future backend (exact when the new data dominate).
+
+        Parameters
+        ----------
+        years : Quantity [time] or number (yr), >= 0
+        rms_factor : float >= 1
+
+        Returns
+        -------
+        PulsarArray
+            A new array (with this one's background and pulsar-term setting).
+        """
+        extra = quantity(years, u.yr, "years")
+        if extra.size != 1 or extra.value < 0:
+            raise InputError(f"years: give one non-negative time, got {years!r}")
+        rms_factor = float(rms_factor)
+        if not (np.isfinite(rms_factor) and rms_factor >= 1.0):
+            raise InputError(f"rms_factor: {rms_factor:g} must be >= 1 (toa_rms is divided "
+                             "by it)")
+        label = f"{self.name} +{extra.to_value(u.yr):g} yr"
+        if rms_factor != 1.0:
+            label += f", rms / {rms_factor:g}"
+        return PulsarArray(self.names, self.coord, self.toa_rms / rms_factor, self.cadence,
+                           self.start_mjd, self.end_mjd + extra.to_value(u.d),
+                           self.red_amp, self.red_gamma, self.distance, name=label,
+                           pulsar_term=self.pulsar_term, background=self.background)
 
     # ------------------------------------------------------------ schedule
     def __len__(self):
@@ -133,7 +219,7 @@ class PulsarArray:
 
     # --------------------------------------------------------------- noise
     def noise_psd(self, frequency):
-        """Residual-noise PSD of every pulsar, P_w + P_r (one-sided).
+        """Residual-noise PSD of every pulsar, P_w + P_r (+ P_b, the background; one-sided).
 
         Parameters
         ----------
@@ -146,6 +232,8 @@ class PulsarArray:
         f = _check_frequency(frequency)
         pw = white_noise_psd(self.toa_rms, self.cadence)[:, None]
         pr = red_noise_psd(f[None, :], self.red_amp[:, None], self.red_gamma[:, None])
+        if self.background is not None:
+            pr = pr + self.background.psd(f)[None, :]
         return pw + pr
 
     def weights(self, frequency, method="exact", callback=None, *, workers=None,
@@ -188,7 +276,7 @@ class PulsarArray:
         else:
             self.check_memory(f.size, workers)
             jobs = [(self.epochs(i), self.toa_rms[i], f, self.red_amp[i], self.red_gamma[i],
-                     blas_threads) for i in range(len(self))]
+                     blas_threads, self.background) for i in range(len(self))]
             rows = []
             for row in _map_jobs(jobs, self._workers(workers)):
                 rows.append(row)
@@ -354,6 +442,8 @@ class PulsarArray:
             "orientation": "mean rho^2 over inclination and polarisation"
             + (" and sky" if coord is None else ""),
             "method": method,
+            "background": ("none" if self.background is None
+                           else self.background.describe()),
         }
         return StrainCurve(f, psd, "strain_psd", meta=meta)
 
@@ -493,6 +583,7 @@ class PulsarArray:
             "span": f"{self.span.to_value(u.yr):.4g} yr",
             "toa_rms": f"{self.toa_rms.min().value:.3g}-{self.toa_rms.max().value:.3g} us",
             "red_noise": f"{int(np.sum(self.red_amp > 0))} pulsars",
+            "background": "none" if self.background is None else self.background.describe(),
         }
 
 
@@ -546,7 +637,7 @@ def _frequency_blocks(scale_t, vectors, nside, snr, per, pixels):
 
 
 def _post_fit_row(job):
-    return post_fit_weights(*job[:5], blas_threads=job[5]).value
+    return post_fit_weights(*job[:5], blas_threads=job[5], background=job[6]).value
 
 
 def _map_jobs(jobs, workers):
@@ -613,7 +704,7 @@ def _validate_array(arr):
     for values, col, fix in checks:
         bad = np.flatnonzero(~(np.isfinite(values) & (values > 0)))
         if bad.size:
-            fail(bad[0], f"{col} = {values[bad[0]]!r} is not positive and finite: {fix}")
+            fail(bad[0], f"{col} = {values[bad[0]]:g} is not positive and finite: {fix}")
     for col in ("start_mjd", "end_mjd"):
         bad = np.flatnonzero(~np.isfinite(getattr(arr, col)))
         if bad.size:

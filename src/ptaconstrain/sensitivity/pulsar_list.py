@@ -77,6 +77,13 @@ def load_array(path, pulsar_term=False):
     ------
     ArrayError
         One line naming the file, row, column and fix.
+
+    Examples
+    --------
+    >>> from ptaconstrain.data import path
+    >>> array = load_array(path("demo_array.ecsv"))   # the invented demo array
+    >>> len(array.names)
+    40
     """
     from pathlib import Path
 
@@ -111,6 +118,16 @@ def array_from_table(table, name="pulsar array", pulsar_term=False):
     ------
     ArrayError
         One line naming the row, column and fix.
+
+    Examples
+    --------
+    >>> from astropy.table import QTable
+    >>> table = QTable({"name": ["Invented A", "Invented B"], "ra": [10.0, 200.0],
+    ...                 "dec": [20.0, -40.0], "toa_rms": [0.5, 1.0], "cadence": [14.0, 14.0],
+    ...                 "span": [15.0, 12.0]})   # units: deg, us, d, yr
+    >>> array = array_from_table(table, name="invented array")
+    >>> array.toa_rms
+    <Quantity [0.5, 1. ] us>
     """
     cols = set(table.colnames)
     missing = [c for c in _REQUIRED if c not in cols]

@@ -91,6 +91,14 @@ def single_blas_thread(threads=1):
     Returns
     -------
     context manager
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> with single_blas_thread():
+    ...     x = np.linalg.solve(np.eye(3), np.ones(3))
+    >>> x
+    array([1., 1., 1.])
     """
     import contextlib
 
@@ -142,6 +150,13 @@ def red_noise_psd(frequency, amplitude, gamma):
     Returns
     -------
     Quantity [s^2 / Hz], broadcast over the inputs.
+
+    Examples
+    --------
+    >>> from astropy import units as u
+    >>> f_yr = 1 / u.yr
+    >>> red_noise_psd(f_yr, 1e-14, 13 / 3).to(u.s**2 / u.Hz)   # A^2 / (12 pi^2) f_yr^-3
+    <Quantity 2.654e-08 s2 / Hz>
     """
     x = (frequency / F_YR).to_value(u.dimensionless_unscaled)
     amp = np.asarray(amplitude, float)
@@ -166,6 +181,12 @@ def timing_design_matrix(mjd):
     Returns
     -------
     ndarray (N, 9)
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> timing_design_matrix(np.linspace(55000.0, 58650.0, 100)).shape
+    (100, 9)
     """
     mjd = np.asarray(mjd, float)
     span = max(mjd[-1] - mjd[0], 1.0)
@@ -177,8 +198,12 @@ def timing_design_matrix(mjd):
     return m / np.sqrt(np.mean(m**2, axis=0))
 
 
-def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
+def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma, background=None):
     """Fourier basis F and prior variances Phi of a pulsar's red noise.
+
+    With ``background`` (an object with ``amplitude`` and ``gamma``, e.g.
+    :class:`~.background.Background`) its power law is added to the pulsar's
+    own on the same modes: P = P_r + P_b.
 
     Modes f_k = k / T_p, k = 1..K, sine and cosine, each of variance
     P_r(f_k) / T_p, with K the last mode where P_r >= 1e-4 P_w (at most
@@ -194,13 +219,26 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
         White noise, for the cut at 1e-4 P_w.
     red_amp, red_gamma : float
         Power law (A, gamma); A = 0 for none.
+    background : Background, optional
+        A common red process, treated as this pulsar's own (no correlations).
 
     Returns
     -------
     (ndarray (N, 2K), Quantity (2K,) [s^2]) or None
         None when the red noise is negligible at every mode.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> t = np.arange(0.0, 3652.5, 14.0) * u.d
+    >>> red_noise_basis(t, 10 * u.yr, 1 * u.us, 14 * u.d, 0.0, 0.0) is None   # no red noise
+    True
+    >>> basis, power = red_noise_basis(t, 10 * u.yr, 1 * u.us, 14 * u.d, 1e-14, 13 / 3)
+    >>> basis.shape[0] == t.size and basis.shape[1] == power.size
+    True
     """
-    if not red_amp > 0:
+    if not (red_amp > 0 or background is not None):
         return None
     t = u.Quantity(t, u.s).value
     span = u.Quantity(span, u.s).value
@@ -208,6 +246,8 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
     kmax = int(min(100, t.size // 4))
     fk = np.arange(1, kmax + 1) / span
     pr = red_noise_psd(fk * u.Hz, red_amp, red_gamma).value
+    if background is not None:
+        pr = pr + red_noise_psd(fk * u.Hz, background.amplitude, background.gamma).value
     keep = np.flatnonzero(pr >= 1e-4 * pw)
     if keep.size == 0:
         return None
@@ -217,7 +257,8 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma):
     return basis, np.tile(pr / span, 2) * u.s**2
 
 
-def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_threads=1):
+def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_threads=1,
+                     background=None):
     """Exact phase-averaged post-fit S/N^2 of a unit-amplitude sinusoid, per frequency.
 
     w(f) = (c^T G c + s^T G s) / 2 with G the inverse noise covariance
@@ -234,16 +275,32 @@ def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_t
     blas_threads : int or None
         BLAS threads for this pulsar's matrix algebra (module docstring);
         None leaves the library's setting.
+    background : Background, optional
+        A common red process (:mod:`.background`) added to this pulsar's noise
+        covariance, exactly, on its red-noise basis; cross-pulsar correlations
+        are not part of a single pulsar's weight.
 
     Returns
     -------
     Quantity (n_f,) [1 / s^2]
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from astropy import units as u
+    >>> mjd = np.arange(53000.0, 53000.0 + 3652.5, 14.0)          # 10 yr, every 14 d
+    >>> w = post_fit_weights(mjd, 1 * u.us, [0.5, 10.0] * u.nHz)
+    >>> w.unit
+    Unit("1 / s2")
+    >>> flat = approximate_weights(mjd.size, 14 * u.d, white_noise_psd(1 * u.us, 14 * u.d))
+    >>> (w / flat).to_value("").round(2)   # the timing fit absorbs slow signals
+    array([0.  , 0.95])
     """
     with single_blas_thread(blas_threads):
-        return _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma)
+        return _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background)
 
 
-def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma):
+def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background=None):
     from scipy import linalg
 
     mjd = np.asarray(mjd, float)
@@ -264,7 +321,7 @@ def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma):
 
     a_mb = m.T @ b  # sig^2 M^T C^-1 B, white part
     d_bb = np.einsum("ij,ij->j", b[:, nm:], b[:, nm:])  # diagonal of sig^2 Q^T C^-1 Q
-    red = red_noise_basis(t, span, sig, cadence, red_amp, red_gamma)
+    red = red_noise_basis(t, span, sig, cadence, red_amp, red_gamma, background)
     if red is not None:
         basis, phi = red[0], red[1].to_value(u.s**2)
         # Woodbury: C = sig^2 (I + F D F^T), C^-1 = sig^-2 (I - F K^-1 F^T), K = D^-1 + F^T F

@@ -1,0 +1,226 @@
+"""Columnar catalogues: Parquet files, directories of Parquet, HATS catalogues.
+
+Needs the optional extra ``ptaconstrain[scale]`` (pyarrow; lsdb for HATS),
+imported inside the functions here so that the base install never loads them.
+
+* A Parquet file, or a directory of Parquet files (read as one dataset by
+  ``pyarrow.dataset``), is streamed in record batches of about ``chunk_size``
+  rows: row group by row group, never whole.
+* A HATS catalogue (a directory with ``hats.properties`` or ``properties`` and
+  a ``dataset/`` of HEALPix-partitioned Parquet, or a collection with
+  ``collection.properties``) is opened with :func:`lsdb.open_catalog`; its
+  partitions are read one at a time, in the catalogue's pixel order.
+
+Every piece becomes an :class:`astropy.table.Table` (:func:`arrow_to_table`):
+numbers stay numbers, text stays text, nulls become masked entries, so the
+same column mapping and row policy (:mod:`~ptaconstrain.catalogue.rows`) apply
+unchanged.  Parquet columns carry no units; declare them in the column mapping
+(``[units]``) when they are not the fields' defaults.
+"""
+
+from pathlib import Path
+
+import numpy as np
+
+from .._files import first_line
+from .columns import CatalogError
+
+__all__ = ["columnar_kind", "require_scale", "arrow_to_table", "frame_to_table",
+           "ParquetSource", "HatsSource", "open_columnar"]
+
+_PARQUET_SUFFIXES = (".parquet", ".parq", ".pq")
+_HATS_MARKERS = ("hats.properties", "properties", "collection.properties")
+
+
+def require_scale(what, modules=("pyarrow",)):
+    """Import the scale extra's ``modules``, or raise one line saying how to install it.
+
+    Parameters
+    ----------
+    what : str
+        What needs them (named in the message), e.g. "reading Parquet".
+    modules : sequence of str
+
+    Raises
+    ------
+    CatalogError
+        When one of them is not installed.
+    """
+    import importlib
+
+    for name in modules:
+        try:
+            importlib.import_module(name)
+        except ImportError as err:
+            raise CatalogError(
+                f"{what} needs the optional package {name}: install the scale extra, "
+                "pip install 'ptaconstrain[scale]'") from err
+
+
+def columnar_kind(path):
+    """'hats', 'parquet' or None: how a path is read (no file is opened).
+
+    Parameters
+    ----------
+    path : path-like
+
+    Returns
+    -------
+    str or None
+    """
+    path = Path(path)
+    if path.is_dir():
+        if any((path / m).is_file() for m in _HATS_MARKERS) and (
+                (path / "dataset").is_dir() or (path / "collection.properties").is_file()):
+            return "hats"
+        if any(p.suffix.lower() in _PARQUET_SUFFIXES for p in path.rglob("*")):
+            return "parquet"
+        return None
+    if path.suffix.lower() in _PARQUET_SUFFIXES:
+        return "parquet"
+    return None
+
+
+def arrow_to_table(data):
+    """A pyarrow Table or RecordBatch as an astropy Table (nulls masked).
+
+    Numeric and boolean columns become float/int/bool arrays (an integer column
+    with nulls becomes float with masked entries), text becomes str; any other
+    type (lists, structs, dates) is kept as objects, which the row policy refuses
+    as not numeric where a number is needed.
+
+    Parameters
+    ----------
+    data : pyarrow.Table or pyarrow.RecordBatch
+
+    Returns
+    -------
+    astropy.table.Table
+    """
+    import pyarrow as pa
+    from astropy.table import MaskedColumn, Table
+
+    out = Table()
+    for name, col in zip(data.schema.names, data.columns, strict=True):
+        if isinstance(col, pa.ChunkedArray):
+            col = col.combine_chunks()
+        mask = np.asarray(col.is_null(), dtype=bool)
+        kind = col.type
+        if pa.types.is_dictionary(kind):
+            col, kind = col.dictionary_decode(), kind.value_type
+        if pa.types.is_floating(kind) or pa.types.is_integer(kind) or pa.types.is_boolean(kind):
+            values = col.to_numpy(zero_copy_only=False)
+            if mask.any() and values.dtype.kind in "iub":
+                values = col.cast(pa.float64()).to_numpy(zero_copy_only=False)
+        elif pa.types.is_string(kind) or pa.types.is_large_string(kind):
+            values = np.asarray(col.fill_null("").to_numpy(zero_copy_only=False), dtype=str)
+        else:
+            values = col.to_numpy(zero_copy_only=False)
+        out[name] = MaskedColumn(values, mask=mask) if mask.any() else values
+    return out
+
+
+def frame_to_table(frame):
+    """A pandas DataFrame (e.g. a Dask or LSDB partition) as an astropy Table.
+
+    The index is dropped; columns go through :func:`arrow_to_table`, so a partition
+    is read exactly as the same rows in a Parquet file would be.
+    """
+    import pyarrow as pa
+
+    frame = frame.reset_index(drop=True)
+    return arrow_to_table(pa.Table.from_pandas(frame, preserve_index=False))
+
+
+class ParquetSource:
+    """A Parquet file or directory of Parquet files, streamed in record batches.
+
+    Parameters
+    ----------
+    path : path-like
+
+    Attributes
+    ----------
+    colnames : list of str
+    n_rows : int
+        From the files' metadata.
+    """
+
+    def __init__(self, path):
+        require_scale("reading Parquet")
+        import pyarrow.dataset as ds
+
+        self.path = Path(path)
+        try:
+            self._dataset = ds.dataset(str(self.path), format="parquet")
+            self.colnames = list(self._dataset.schema.names)
+            self.n_rows = int(self._dataset.count_rows())
+        except (OSError, ValueError) as err:  # pyarrow's ArrowInvalid is a ValueError
+            raise CatalogError(f"{self.path.name} is not a readable Parquet dataset "
+                               f"({first_line(err)}): fix or rewrite the file") from err
+
+    def chunks(self, chunk_size=100_000, columns=None):
+        """Yield (first_row, Table) pieces of at most ``chunk_size`` rows."""
+        start = 0
+        try:
+            for batch in self._dataset.to_batches(columns=columns, batch_size=int(chunk_size)):
+                if batch.num_rows:
+                    yield start, arrow_to_table(batch)
+                    start += batch.num_rows
+        except (OSError, ValueError) as err:
+            raise CatalogError(f"{self.path.name}: cannot read rows ({first_line(err)}): "
+                               "fix or rewrite the file") from err
+
+
+class HatsSource:
+    """A HATS catalogue opened with lsdb, read one HEALPix partition at a time.
+
+    Parameters
+    ----------
+    path : path-like
+
+    Attributes
+    ----------
+    colnames : list of str
+    n_rows : int
+        From the catalogue's properties.
+    catalog : lsdb.Catalog
+    """
+
+    def __init__(self, path):
+        require_scale("reading a HATS catalogue", ("pyarrow", "lsdb"))
+        import lsdb
+
+        self.path = Path(path)
+        try:
+            self.catalog = lsdb.open_catalog(self.path)
+        except Exception as err:  # lsdb/hats raise many types for a damaged catalogue
+            raise CatalogError(f"{self.path.name} is not a readable HATS catalogue "
+                               f"({first_line(err)}): check the directory") from err
+        self.colnames = [str(c) for c in self.catalog.columns]
+        total = self.catalog.hc_structure.catalog_info.total_rows
+        self.n_rows = int(total) if total is not None else 0
+
+    def chunks(self, chunk_size=100_000, columns=None):
+        """Yield (first_row, Table) pieces: each partition in pixel order, in slices."""
+        chunk_size = max(int(chunk_size), 1)
+        start = 0
+        for part in self.catalog.to_delayed():
+            frame = part.compute(scheduler="synchronous")
+            if columns is not None:
+                frame = frame[list(columns)]
+            for a in range(0, len(frame), chunk_size):
+                piece = frame_to_table(frame.iloc[a:a + chunk_size])
+                yield start, piece
+                start += len(piece)
+
+
+def open_columnar(path, kind=None):
+    """A :class:`ParquetSource` or :class:`HatsSource` for ``path`` (kind by default from it)."""
+    kind = kind or columnar_kind(path)
+    if kind == "hats":
+        return HatsSource(path)
+    if kind == "parquet":
+        return ParquetSource(path)
+    raise CatalogError(f"{Path(path).name} is neither Parquet nor a HATS catalogue: give a "
+                       ".parquet file, a directory of them, or a HATS catalogue directory")
