@@ -25,6 +25,13 @@ project = "ptaconstrain"
 author = "the ptaconstrain maintainers"
 copyright = "2026, the ptaconstrain maintainers"
 release = ptaconstrain.__version__
+if release == "0+unknown":  # a source tree never built: ask git through setuptools_scm
+    try:
+        from setuptools_scm import get_version
+
+        release = get_version(root=str(HERE.parent))
+    except Exception:  # no setuptools_scm, or not a git checkout: keep "0+unknown"
+        pass
 version = ".".join(release.split(".")[:2])
 
 extensions = [
