@@ -20,7 +20,17 @@ from pathlib import Path
 
 __all__ = ["OutputExistsError", "OutputBusyError", "check_new", "atomic_write",
            "output_set", "OutputSet", "write_table", "sha256", "read_toml", "TABLE_FORMATS",
-           "table_format", "read_table", "first_line"]
+           "table_format", "read_table", "first_line", "check_header", "MAX_YAML_HEADER_BYTES",
+           "MAX_YAML_NODES", "MAX_FITS_HEADER_CARDS", "MAX_CONFIG_BYTES"]
+
+#: largest YAML header of an ECSV file read (bytes); astropy writes a few kB
+MAX_YAML_HEADER_BYTES = 1_000_000
+#: largest number of YAML nodes a header may expand to (aliases counted as copies)
+MAX_YAML_NODES = 100_000
+#: most cards in one FITS header (999 columns of 8 keywords each fit)
+MAX_FITS_HEADER_CARDS = 20_000
+#: largest TOML configuration file read (bytes)
+MAX_CONFIG_BYTES = 1_000_000
 
 
 class OutputExistsError(FileExistsError):
@@ -448,6 +458,9 @@ def read_toml(path, what, error=None):
     path = Path(path)
     if not path.is_file():
         raise error(f"{what} {path} not found: check the path")
+    if path.stat().st_size > MAX_CONFIG_BYTES:
+        raise error(f"{path.name} is larger than {MAX_CONFIG_BYTES // 1000} kB, too large for "
+                    f"a {what}: check that it is the right file")
     try:
         with open(path, "rb") as fh:
             return tomllib.load(fh)
@@ -456,6 +469,8 @@ def read_toml(path, what, error=None):
         raise error(f"{path.name} is not valid TOML ({first}): fix the {what}") from err
     except (OSError, UnicodeDecodeError) as err:
         raise error(f"{what} {path}: cannot read it ({err}); check the file") from err
+    except RecursionError as err:
+        raise error(f"{path.name} is nested too deeply to be a {what}: check the file") from err
 
 
 #: file suffix -> astropy table format, for every table the package reads or writes
@@ -545,6 +560,7 @@ def read_table(path, what, error=None, format=None, hint="", **kwargs):
     if not path.is_file():
         raise error(f"{what} {path} not found: check the path")
     fmt = format or table_format(path)
+    check_header(path, what, error, fmt)
     try:
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always", AstropyWarning)
@@ -559,3 +575,133 @@ def read_table(path, what, error=None, format=None, hint="", **kwargs):
         else:
             warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     return table
+
+
+# ------------------------------------------------------------------ header limits
+def check_header(path, what, error=None, format=None):
+    """Refuse a table file whose header is too large (or a YAML bomb) before parsing it.
+
+    ECSV: the YAML header may hold at most :data:`MAX_YAML_HEADER_BYTES` and
+    expand to at most :data:`MAX_YAML_NODES` nodes, aliases counted as the
+    copies they stand for (a few kB of nested aliases can stand for 10^9
+    nodes).  FITS: each of the first HDUs' headers may hold at most
+    :data:`MAX_FITS_HEADER_CARDS` cards.  Other formats are left to their readers.
+
+    Parameters
+    ----------
+    path : path-like
+    what : str
+        What the file is, for the message.
+    error : type, optional
+        The InputError subclass to raise.
+    format : str, optional
+        astropy format name; default from the suffix, and ECSV is also
+        recognised by its first line.
+
+    Raises
+    ------
+    InputError (or ``error``)
+    """
+    from .errors import InputError
+
+    error = error or InputError
+    path = Path(path)
+    fmt = format or table_format(path)
+    with open(path, "rb") as fh:
+        start = fh.read(80)
+    if fmt == "ascii.ecsv" or start.startswith(b"# %ECSV"):
+        problem = _yaml_header_problem(path)
+    elif fmt == "fits" or start.startswith(b"SIMPLE  ="):
+        problem = _fits_header_problem(path)
+    else:
+        problem = None
+    if problem:
+        raise error(f"{path.name}: {problem}, so the {what} is not read")
+
+
+def _yaml_header_problem(path):
+    lines, size = [], 0
+    with open(path, "rb") as fh:
+        while True:
+            line = fh.readline(MAX_YAML_HEADER_BYTES + 1)
+            if not line.startswith(b"#"):
+                break
+            size += len(line)
+            if size > MAX_YAML_HEADER_BYTES:
+                return (f"its ECSV header is larger than {MAX_YAML_HEADER_BYTES // 1000} kB "
+                        "(the limit)")
+            lines.append(line)
+    text = b"".join(lines).decode("utf-8", errors="replace")
+    body = [ln[2:] if ln.startswith("# ") else ln[1:] for ln in text.splitlines()]
+    body = [ln for ln in body if not ln.startswith("%ECSV")]
+    import yaml
+
+    try:
+        root = yaml.compose("\n".join(body), Loader=yaml.SafeLoader)
+    except yaml.YAMLError:
+        return None  # malformed: astropy's reader names the problem
+    if root is not None and _yaml_nodes(root, {}) > MAX_YAML_NODES:
+        return (f"its ECSV header expands to more than {MAX_YAML_NODES:,} YAML nodes "
+                "(nested aliases)")
+    return None
+
+
+def _yaml_nodes(node, memo):
+    """Nodes of a composed YAML graph with every alias expanded (memoised by node)."""
+    import yaml
+
+    key = id(node)
+    if key in memo:
+        return memo[key]
+    memo[key] = MAX_YAML_NODES + 1  # a cycle counts as too many
+    if isinstance(node, yaml.MappingNode):
+        n = 1 + sum(_yaml_nodes(k, memo) + _yaml_nodes(v, memo) for k, v in node.value)
+    elif isinstance(node, yaml.SequenceNode):
+        n = 1 + sum(_yaml_nodes(v, memo) for v in node.value)
+    else:
+        n = 1
+    memo[key] = n = min(n, MAX_YAML_NODES + 1)
+    return n
+
+
+def _fits_header_problem(path, max_hdus=4):
+    """Cards of the first HDUs' headers beyond the limit, or a header without END."""
+    import gzip
+
+    opener = gzip.open if str(path).lower().endswith(".gz") else open
+    card = 80
+    with opener(path, "rb") as fh:
+        for _ in range(max_hdus):
+            cards, values = 0, {}
+            while True:
+                block = fh.read(2880)
+                if not block:
+                    return None  # truncated: astropy says so
+                for i in range(0, len(block), card):
+                    word = block[i:i + 8].decode("ascii", "replace").strip()
+                    cards += 1
+                    if word in ("BITPIX", "NAXIS", "PCOUNT", "GCOUNT") or (
+                            word.startswith("NAXIS") and word[5:].isdigit()):
+                        try:
+                            values[word] = int(block[i + 10:i + 80].split(b"/")[0].strip())
+                        except ValueError:
+                            return None  # astropy names the bad card
+                    if word == "END":
+                        break
+                else:
+                    if cards > MAX_FITS_HEADER_CARDS:
+                        return (f"a FITS header holds more than {MAX_FITS_HEADER_CARDS:,} "
+                                "cards (the limit)")
+                    continue
+                break
+            naxis = values.get("NAXIS", 0)
+            size = 0
+            if naxis:
+                size = abs(values.get("BITPIX", 8)) // 8 * values.get("GCOUNT", 1)
+                n = 1
+                for k in range(1, naxis + 1):
+                    n *= values.get(f"NAXIS{k}", 0)
+                size *= n + values.get("PCOUNT", 0)
+            if size:
+                fh.seek(size + (-size % 2880), 1)
+    return None

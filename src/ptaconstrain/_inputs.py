@@ -23,6 +23,22 @@ Plausibility
     same message wherever they come from; a catalogue column whose values look
     like log10 masses or like kpc gets a hint (:func:`mass_column_hint`,
     :func:`distance_column_hint`).
+
+Documented ranges (:func:`in_range`, the one range check)
+    confidence of a limit in (0, 1); S/N threshold in (0, ``SNR_MAX``];
+    mass-ratio index within ``Q_INDEX_RANGE``; a mass error up to
+    ``MASS_ERR_DEX_MAX`` dex, a fractional (per-cent) error up to
+    ``FRACTION_ERR_MAX``; observing spans up to ``SPAN_MAX``; TOA cadences of
+    at least ``CADENCE_MIN``; red-noise amplitude up to ``RED_AMP_MAX`` and
+    index within ``RED_GAMMA_RANGE``; orbital periods within ``PERIOD_RANGE``.
+    The same limits hold on the command line, in file metadata and in table
+    cells.
+
+Resources (:func:`check_memory`)
+    Before a large allocation the estimate is compared with the memory limit
+    (``DEFAULT_MAX_MEMORY``, 4 GB, raised with ``--max-memory 16GB`` or the
+    environment variable ``PTACONSTRAIN_MAX_MEMORY``); above it the work is
+    refused with the estimate and the option that reduces it.
 """
 
 import numpy as np
@@ -52,6 +68,30 @@ __all__ = [
     "SKY_RANGE_TEXT",
     "lonlat_deg",
     "check_redshift",
+    "in_range",
+    "out_of_range",
+    "range_text",
+    "SNR_MAX",
+    "Q_INDEX_RANGE",
+    "MASS_ERR_DEX_MAX",
+    "FRACTION_ERR_MAX",
+    "SPAN_MAX",
+    "CADENCE_MIN",
+    "RED_AMP_MAX",
+    "RED_GAMMA_RANGE",
+    "PERIOD_RANGE",
+    "NAME_MAX",
+    "check_name",
+    "check_schema",
+    "RANGES",
+    "check_field",
+    "DEFAULT_MAX_MEMORY",
+    "ResourceError",
+    "parse_bytes",
+    "bytes_text",
+    "memory_limit",
+    "set_memory_limit",
+    "check_memory",
     "ECCENTRICITY_MAX",
     "check_eccentricity",
 ]
@@ -72,6 +112,28 @@ DISTANCE_MIN = 0.1
 #: farthest plausible host redshift
 Z_LIMIT = 10.0
 SKY_RANGE_TEXT = "need 0 <= RA < 360 deg and -90 <= Dec <= 90 deg"
+#: largest S/N threshold accepted (detection thresholds are ~3-10; common practice)
+SNR_MAX = 1e3
+#: accepted power-law index of the mass-ratio distribution p(q) ~ q^index
+Q_INDEX_RANGE = (-5.0, 5.0)
+#: largest mass error accepted [dex]
+MASS_ERR_DEX_MAX = 2.0
+#: largest fractional error accepted (1 = 100 per cent)
+FRACTION_ERR_MAX = 1.0
+#: longest observing span accepted (pulsar timing began in 1967)
+SPAN_MAX = 100 * u.yr
+#: shortest interval between TOAs accepted
+CADENCE_MIN = 1 * u.hour
+#: largest red-noise amplitude A accepted (measured PTA pulsars: ~1e-15-1e-12)
+RED_AMP_MAX = 1e-9
+#: accepted red-noise spectral index gamma (P ~ f^-gamma)
+RED_GAMMA_RANGE = (0.0, 10.0)
+#: accepted orbital periods (1 hour to 1000 yr)
+PERIOD_RANGE = (1 * u.hour, 1000 * u.yr)
+#: longest host name accepted (it becomes part of file names)
+NAME_MAX = 120
+#: default memory limit [bytes]
+DEFAULT_MAX_MEMORY = 4_000_000_000
 _MINUS = "\u2212"
 
 
@@ -667,3 +729,346 @@ def check_eccentricity(eccentricity, field="eccentricity"):
         raise InputError(f"{field}: {float(e):g} is outside 0 <= e <= {ECCENTRICITY_MAX:g} "
                          "(0 is a circular orbit; e near 1 needs thousands of harmonics)")
     return float(e)
+
+
+# ------------------------------------------------------------------ ranges
+def range_text(lo, hi, lo_open=False, hi_open=False, unit=""):
+    """'0 < x < 1' style text of a range (for messages).
+
+    Examples
+    --------
+    >>> range_text(0, 1, True, True)
+    '0 < x < 1'
+    """
+    unit = f" {unit}" if unit else ""
+    return (f"{lo:g}{unit} {'<' if lo_open else '<='} x {'<' if hi_open else '<='} "
+            f"{hi:g}{unit}")
+
+
+def out_of_range(values, lo, hi, lo_open=False, hi_open=False):
+    """Mask of values that are not finite or lie outside [lo, hi] (or the open bounds).
+
+    Parameters
+    ----------
+    values : array_like of float
+    lo, hi : float
+    lo_open, hi_open : bool
+
+    Returns
+    -------
+    ndarray of bool
+    """
+    v = np.asarray(values, dtype=float)
+    with np.errstate(invalid="ignore"):
+        low = (v <= lo) if lo_open else (v < lo)
+        high = (v >= hi) if hi_open else (v > hi)
+    return ~np.isfinite(v) | low | high
+
+
+def in_range(value, field, lo, hi, *, lo_open=False, hi_open=False, unit=None, fix="",
+             rows=None):
+    """A number (or array) refused unless finite and within its documented range.
+
+    The one range check: command-line options, file metadata and table cells
+    all pass through it, so the same value gets the same answer everywhere.
+
+    Parameters
+    ----------
+    value : number, str, array or Quantity
+        A Quantity (or text with units) is converted to ``unit`` first.
+    field : str
+        Named in the message.
+    lo, hi : float or Quantity
+        The bounds (in ``unit`` if given).
+    lo_open, hi_open : bool
+        Exclude the bound itself.
+    unit : str or astropy unit, optional
+        The field's unit; bare numbers are read in it.
+    fix : str
+        What to do, appended to the message.
+    rows : sequence of str, optional
+        Labels of the elements (e.g. table rows), named for the first bad one.
+
+    Returns
+    -------
+    float, ndarray or Quantity (as given, converted to ``unit``)
+
+    Raises
+    ------
+    InputError
+        One line naming the field, the value and the range.
+
+    Examples
+    --------
+    >>> in_range(0.95, "confidence", 0, 1, lo_open=True, hi_open=True)
+    0.95
+    >>> in_range("2 d", "cadence", 1, 1e5, unit="hour")
+    <Quantity 48. h>
+    """
+    if unit is not None:
+        q = quantity(value, unit, field, allow_nonfinite=True)
+        lo = u.Quantity(lo, unit).value
+        hi = u.Quantity(hi, unit).value
+        values, result, unit_text = q.value, q, str(u.Unit(unit))
+    else:
+        try:
+            values = np.asarray(value, dtype=float)
+        except (TypeError, ValueError):
+            raise InputError(f"{field}: {value!r} is not a number; give a number in "
+                             f"{range_text(lo, hi, lo_open, hi_open)}"
+                             f"{'; ' + fix if fix else ''}") from None
+        result = float(values) if values.ndim == 0 else values
+        unit_text = ""
+    bad = np.flatnonzero(np.atleast_1d(out_of_range(values, lo, hi, lo_open, hi_open)))
+    if bad.size:
+        v = float(np.atleast_1d(values)[bad[0]])
+        where = f" (row {rows[bad[0]]})" if rows is not None else ""
+        shown = f"{v:g}{' ' + unit_text if unit_text else ''}"
+        raise InputError(f"{field}{where}: {shown} is outside "
+                         f"{range_text(lo, hi, lo_open, hi_open, unit_text)}"
+                         f"{'; ' + fix if fix else ''}")
+    return result
+
+
+#: field -> (low, high, low open, high open, unit or None, fix): the documented ranges
+RANGES = {
+    "snr": (0.0, SNR_MAX, True, False, None, "a detection threshold is typically 3-10"),
+    "confidence": (0.0, 1.0, True, True, None, "give the limit's confidence level, e.g. 0.95"),
+    "q_index": (*Q_INDEX_RANGE, False, False, None,
+                "p(q) ~ q^index; -1 is log-uniform, 0 uniform"),
+    "mass_err_dex": (0.0, MASS_ERR_DEX_MAX, False, False, None,
+                     "give the mass error in dex, e.g. 0.3"),
+    "fraction_err": (0.0, FRACTION_ERR_MAX, False, False, None,
+                     "give the error as a fraction (per cent / 100), e.g. 0.1"),
+    "span": (0.0, SPAN_MAX.value, True, False, "yr", "give the observing span, e.g. 15 yr"),
+    "cadence": (CADENCE_MIN.to_value(u.d), 1e5, False, False, "d",
+                "give the interval between TOAs, e.g. 14 d"),
+    "red_amp": (0.0, RED_AMP_MAX, False, False, None,
+                "give the amplitude A (not log10 A), 0 for none"),
+    "red_gamma": (*RED_GAMMA_RANGE, False, False, None,
+                  "give the spectral index gamma, e.g. 13/3 = 4.33"),
+    "period": (PERIOD_RANGE[0].to_value(u.yr), PERIOD_RANGE[1].to_value(u.yr), False, False,
+               "yr", "give orbital periods between 1 hour and 1000 yr"),
+}
+
+
+def check_field(value, field, label=None, rows=None):
+    """``value`` checked against the documented range of ``field`` (a key of ``RANGES``).
+
+    Parameters
+    ----------
+    value : number, str, array or Quantity
+    field : str
+        Key of :data:`RANGES`.
+    label : str, optional
+        Named in the message (default ``field``), e.g. a column or option name.
+    rows : sequence of str, optional
+        Labels of the elements, for a table column.
+
+    Returns
+    -------
+    float, ndarray or Quantity
+
+    Raises
+    ------
+    InputError
+
+    Examples
+    --------
+    >>> check_field("5", "snr")
+    5.0
+    """
+    lo, hi, lo_open, hi_open, unit, fix = RANGES[field]
+    return in_range(value, label or field, lo, hi, lo_open=lo_open, hi_open=hi_open,
+                    unit=unit, fix=fix, rows=rows)
+
+
+# ------------------------------------------------------------------ config schemas
+_TYPE_WORDS = {str: "a string", float: "a number", int: "an integer", bool: "true or false",
+               dict: "a table", list: "a list"}
+
+
+def _type_ok(value, kind):
+    if kind is float:
+        return isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(
+            value, (bool, np.bool_))
+    if kind is int:
+        return isinstance(value, (int, np.integer)) and not isinstance(value, (bool, np.bool_))
+    return isinstance(value, kind)
+
+
+def _expected(kind):
+    if isinstance(kind, tuple):
+        return " or ".join(_expected(k) for k in kind)
+    if isinstance(kind, dict):
+        return "a table"
+    if isinstance(kind, list):
+        return "a list of tables ([[...]])"
+    return _TYPE_WORDS.get(kind, kind.__name__)
+
+
+def _shown(value):
+    text = repr(value)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def check_schema(data, schema, where, path=""):
+    """Refuse a parsed configuration (TOML, file metadata) that does not fit ``schema``.
+
+    The schema is a dict key -> expected type: ``str``, ``float`` (any number
+    but a boolean), ``int``, ``bool``, a tuple of these, a nested dict (a
+    table), or a one-element list holding a dict (a list of tables).  The key
+    ``"*"`` gives the type of every key not named; without it, unknown keys
+    are refused.
+
+    Parameters
+    ----------
+    data : dict
+    schema : dict
+    where : str
+        The file, named first in the message.
+    path : str
+        Key prefix of a nested table (internal).
+
+    Raises
+    ------
+    InputError
+        One line naming the file, the key and the expected type.
+
+    Examples
+    --------
+    >>> check_schema({"columns": {"mass": "M"}}, {"columns": {"*": str}}, "map.toml")
+    >>> check_schema({"columns": "M"}, {"columns": {"*": str}}, "map.toml")
+    Traceback (most recent call last):
+    ...
+    ptaconstrain.errors.InputError: map.toml: key 'columns' must be a table, got 'M' (str)
+    """
+    if not isinstance(data, dict):
+        raise InputError(f"{where}: {('key ' + repr(path)) if path else 'the file'} must be "
+                         f"a table, got {_shown(data)} ({type(data).__name__})")
+    known = [k for k in schema if k != "*"]
+    for key, value in data.items():
+        name = f"{path}.{key}" if path else str(key)
+        if key in schema:
+            kind = schema[key]
+        elif "*" in schema:
+            kind = schema["*"]
+        else:
+            raise InputError(f"{where}: unknown key {name!r}; expected "
+                             f"{', '.join(repr(k) for k in known) or 'none'}")
+        if kind is object:
+            continue
+        if isinstance(kind, dict):
+            if not isinstance(value, dict):
+                raise InputError(f"{where}: key {name!r} must be a table, got "
+                                 f"{_shown(value)} ({type(value).__name__})")
+            check_schema(value, kind, where, name)
+            continue
+        if isinstance(kind, list):
+            if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
+                raise InputError(f"{where}: key {name!r} must be {_expected(kind)}, got "
+                                 f"{_shown(value)} ({type(value).__name__})")
+            for i, item in enumerate(value):
+                check_schema(item, kind[0], where, f"{name}[{i + 1}]")
+            continue
+        kinds = kind if isinstance(kind, tuple) else (kind,)
+        if not any(_type_ok(value, k) for k in kinds):
+            raise InputError(f"{where}: key {name!r} must be {_expected(kind)}, got "
+                             f"{_shown(value)} ({type(value).__name__})")
+
+
+def check_name(name, field="name"):
+    """A host name refused when empty or longer than ``NAME_MAX`` characters.
+
+    Examples
+    --------
+    >>> check_name(" Fictus A ")
+    'Fictus A'
+    """
+    text = str(name).strip()
+    if not text or len(text) > NAME_MAX:
+        raise InputError(f"{field}: give a name of 1 to {NAME_MAX} characters on one line "
+                         f"(got {len(text)} characters); it becomes part of file names")
+    if not text.isprintable():
+        bad = next(c for c in text if not c.isprintable())
+        raise InputError(f"{field}: the name holds the control character {bad!r}; give a "
+                         "name of printable characters")
+    return text
+
+
+# ------------------------------------------------------------------ resources
+class ResourceError(InputError):
+    """A computation would need more memory than the limit allows."""
+
+
+_MEMORY_LIMIT = [None]
+_BYTE_UNITS = {"": 1, "b": 1, "k": 1e3, "kb": 1e3, "m": 1e6, "mb": 1e6, "g": 1e9, "gb": 1e9,
+               "t": 1e12, "tb": 1e12, "kib": 1024, "mib": 1024**2, "gib": 1024**3,
+               "tib": 1024**4}
+
+
+def parse_bytes(text, field="max-memory"):
+    """A memory size such as ``"16GB"``, ``"500 MB"`` or ``"2GiB"`` in bytes.
+
+    Examples
+    --------
+    >>> parse_bytes("16GB"), parse_bytes("2 GiB")
+    (16000000000, 2147483648)
+    """
+    import re
+
+    m = re.fullmatch(r"\s*([0-9.]+(?:e[+-]?\d+)?)\s*([a-z]*)\s*", str(text).lower())
+    if m is None or m.group(2) not in _BYTE_UNITS:
+        raise InputError(f"{field}: cannot read {text!r} as a memory size; write e.g. 16GB "
+                         "or 500MB")
+    value = float(m.group(1)) * _BYTE_UNITS[m.group(2)]
+    if not np.isfinite(value) or value < 1e6:
+        raise InputError(f"{field}: {text!r} is below 1 MB; write e.g. 16GB")
+    return int(value)
+
+
+def bytes_text(n):
+    """'12.3 GB' (decimal units) for a byte count."""
+    for unit, size in (("TB", 1e12), ("GB", 1e9), ("MB", 1e6)):
+        if n >= size:
+            return f"{n / size:.3g} {unit}"
+    return f"{n / 1e3:.3g} kB"
+
+
+def set_memory_limit(limit):
+    """Set the memory limit (bytes, or text such as ``"16GB"``; None: the default)."""
+    _MEMORY_LIMIT[0] = None if limit is None else (
+        parse_bytes(limit) if isinstance(limit, str) else int(limit))
+
+
+def memory_limit():
+    """The memory limit in bytes: set, else ``PTACONSTRAIN_MAX_MEMORY``, else the default."""
+    import os
+
+    if _MEMORY_LIMIT[0] is not None:
+        return _MEMORY_LIMIT[0]
+    env = os.environ.get("PTACONSTRAIN_MAX_MEMORY")
+    return parse_bytes(env, "PTACONSTRAIN_MAX_MEMORY") if env else DEFAULT_MAX_MEMORY
+
+
+def check_memory(n_bytes, what, reduce):
+    """Refuse a computation whose memory estimate exceeds :func:`memory_limit`.
+
+    Parameters
+    ----------
+    n_bytes : float
+        The estimate.
+    what : str
+        What needs it (e.g. "the probability map (1e+10 samples x 300 periods)").
+    reduce : str
+        The option that reduces it (e.g. "lower --samples").
+
+    Raises
+    ------
+    ResourceError
+    """
+    limit = memory_limit()
+    if not n_bytes <= limit:
+        raise ResourceError(f"{what} needs about {bytes_text(n_bytes)} of memory, above the "
+                            f"limit of {bytes_text(limit)}: {reduce}, or raise the limit "
+                            "with --max-memory (e.g. --max-memory 16GB)")

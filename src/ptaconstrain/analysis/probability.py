@@ -39,6 +39,7 @@ from functools import cached_property
 import numpy as np
 from astropy import units as u
 
+from .._inputs import check_memory
 from ..binary import eccentric as ecc
 from ..binary import waveform as wf
 from ..errors import InputError, PtaconstrainWarning
@@ -236,6 +237,22 @@ def _credibility_key(mapping, credibility):
     )
 
 
+def _check_size(samples, det):
+    """Refuse a map whose samples and grid would exceed the memory limit.
+
+    The samples hold about 24 float64 values each (mass, distance, scales, sort
+    order, ISCO tables); the (q, P) grid about 8 arrays of float64.
+    """
+    try:
+        n = int(samples)
+    except (TypeError, ValueError):
+        return  # sample_host names the problem
+    cells = det.mass_ratio.size * det.frequency.size
+    check_memory(24 * 8.0 * n + 8 * 8.0 * cells,
+                 f"the probability map ({n:,} samples, {det.mass_ratio.size} x "
+                 f"{det.frequency.size} grid)", "lower --samples (or --grid)")
+
+
 def _check_credibility(credibility):
     levels = tuple(float(c) for c in np.atleast_1d(credibility))
     if not levels or not all(np.isfinite(c) and 0.0 < c <= 1.0 for c in levels):
@@ -367,6 +384,8 @@ def exclusion_probability(
         warnings.warn("forecasts use the orientation-averaged S/N, "
                       "as orientation sampling was turned off", PtaconstrainWarning,
                       stacklevel=2)
+    if not isinstance(samples, HostSamples):
+        _check_size(samples, det)
     if isinstance(samples, HostSamples):
         draws = samples
         if orientation and draws.orientation_factor is None:

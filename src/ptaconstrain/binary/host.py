@@ -12,6 +12,7 @@ from astropy import units as u
 
 from .._inputs import (
     check_distance,
+    check_field,
     check_mass,
     check_redshift,
     coord_from,
@@ -249,6 +250,7 @@ def _dex_pair(mass_err_dex, mass_err_frac):
         if frac.size != 1 or frac[0] < 0:
             raise InputError(f"mass_err_frac: must be one value >= 0 (e.g. 0.2 for 20%), "
                              f"got {mass_err_frac!r}")
+        check_field(frac[0], "fraction_err", "mass_err_frac")
         sig = float(frac[0]) / np.log(10.0)
         return (sig, sig)
     if mass_err_dex is None:
@@ -260,6 +262,7 @@ def _dex_pair(mass_err_dex, mass_err_frac):
         raise InputError(
             f"mass_err_dex: must be one or two finite values >= 0 (dex), got {mass_err_dex!r}"
         )
+    check_field(pair, "mass_err_dex")
     return (float(pair[0]), float(pair[1]))
 
 
@@ -277,7 +280,11 @@ def _distance_sigma(distance, distance_err, distance_err_frac):
     if distance_err is None:
         return None
     err = quantity(distance_err, u.Mpc, "distance_err")
-    return _scalar(positive(err, "distance_err", allow_zero=True), "distance_err")
+    err = _scalar(positive(err, "distance_err", allow_zero=True), "distance_err")
+    # at most the distance itself (FRACTION_ERR_MAX), as for a fractional error
+    check_field((err / distance).to_value(u.dimensionless_unscaled), "fraction_err",
+                f"distance_err ({err:.3g}) as a fraction of the distance ({distance:.3g})")
+    return err
 
 
 def hosts_from_table(table):

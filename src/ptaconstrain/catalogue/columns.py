@@ -18,9 +18,14 @@ Required: ``name``, ``ra`` and ``dec``, and ``distance`` (luminosity) or
 from astropy import units as u
 
 from .._files import read_toml
+from .._inputs import check_schema
 from ..errors import InputError
 
-__all__ = ["FIELDS", "REQUIRED", "CatalogError", "ColumnMap", "load_column_map"]
+__all__ = ["FIELDS", "REQUIRED", "CatalogError", "ColumnMap", "load_column_map",
+           "COLUMN_MAP_SCHEMA"]
+
+#: schema of a column-mapping TOML file (see :func:`ptaconstrain._inputs.check_schema`)
+COLUMN_MAP_SCHEMA = {"columns": {"*": str}, "units": {"*": str}}
 
 #: field -> (default unit or None, description)
 FIELDS = {
@@ -224,9 +229,10 @@ def load_column_map(path):
         raise CatalogError(
             f"{path.name}: unknown tables {', '.join(sorted(extra))}; use [columns] and [units]"
         )
-    for key in ("columns", "units"):
-        if not all(isinstance(v, str) for v in data.get(key, {}).values()):
-            raise CatalogError(f"{path.name}: every value in [{key}] must be a string")
+    try:
+        check_schema(data, COLUMN_MAP_SCHEMA, path.name)
+    except InputError as err:
+        raise CatalogError(str(err)) from err
     try:
         return ColumnMap(data.get("columns"), data.get("units"))
     except CatalogError as err:

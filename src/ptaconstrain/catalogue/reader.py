@@ -122,10 +122,14 @@ class CatalogReader:
         return self._table is None
 
     def _open_csv(self, path):
-        from astropy.io import ascii
-
         try:
-            head = ascii.read(path, format="csv", guess=False, data_end=2)
+            with _open_text(path) as fh:
+                head = _parse_csv(fh.readline() + fh.readline())
+        except CatalogError:
+            raise
+        except UnicodeDecodeError as err:
+            raise CatalogError(f"{path.name} is not UTF-8 text ({first_line(err)}): save it "
+                               "as UTF-8 CSV") from err
         except Exception as err:  # astropy raises many types for a malformed file
             raise CatalogError(
                 f"{path.name} is not a readable CSV table ({first_line(err)}): fix the "
@@ -154,19 +158,18 @@ class CatalogReader:
             for start in range(0, self.n_rows, chunk_size):
                 yield start, self._table[start:start + chunk_size]
             return
-        from astropy.io import ascii
-
         per_row = self._bytes / max(self.n_rows, 1)
-        nbytes = int(max(per_row * chunk_size, 1 << 16))
+        nchars = int(max(per_row * chunk_size, 1 << 16))
         try:
-            gen = ascii.read(self.path, format="csv", guess=False,
-                             fast_reader={"chunk_size": nbytes, "chunk_generator": True})
             start = 0
-            for piece in gen:
+            for piece in _csv_pieces(self.path, nchars):
                 yield start, piece
                 start += len(piece)
         except (CatalogError, GeneratorExit):
             raise
+        except UnicodeDecodeError as err:
+            raise CatalogError(f"{self.name} is not UTF-8 text ({first_line(err)}): save it "
+                               "as UTF-8 CSV") from err
         except Exception as err:  # astropy raises many types for a malformed row
             raise CatalogError(
                 f"{self.name}: cannot read rows ({first_line(err)}): fix the file") from err
@@ -182,3 +185,54 @@ def _read_whole(path, format):
     kw = {"memmap": True} if format == "fits" and not path.name.lower().endswith(".gz") else {}
     return read_table(path, "table", CatalogError, format=format,
                       hint="use ECSV, CSV, FITS or VOTable", **kw)
+
+
+def _open_text(path):
+    """A CSV file as UTF-8 text (a byte-order mark is dropped); other encodings refused.
+
+    UTF-16 (Excel's "Unicode text") is recognised by its byte-order mark and
+    refused with the fix; bytes that are not UTF-8 fail when read
+    (:class:`UnicodeDecodeError`, turned into one line by the callers).
+    """
+    path = Path(path)
+    with open(path, "rb") as fh:
+        start = fh.read(4)
+    if start[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise CatalogError(f"{path.name} is UTF-16 text: save it as UTF-8 CSV (with or "
+                           "without a byte-order mark)")
+    return open(path, encoding="utf-8-sig", newline="")
+
+
+def _parse_csv(text):
+    """One CSV text (header line + rows) as a Table: astropy's fast reader for ASCII,
+    its Python reader where the text holds other characters (accents, non-ASCII names)."""
+    from astropy.io import ascii
+
+    if text.isascii():
+        return ascii.read(text, format="csv", guess=False)
+    return ascii.read(text, format="csv", guess=False, fast_reader=False)
+
+
+def _csv_pieces(path, nchars):
+    """Tables of consecutive rows of a UTF-8 CSV file, about ``nchars`` characters each.
+
+    Like astropy's chunk generator (each piece is the header line plus whole
+    rows, parsed on its own), but the file is read as UTF-8 text.
+    """
+    with _open_text(path) as fh:
+        header = fh.readline()
+        rest = ""
+        while True:
+            chunk = fh.read(nchars)
+            last = chunk.rfind("\n")
+            if chunk and last < 0:  # no line end in this chunk: read on
+                rest += chunk
+                continue
+            if not chunk:
+                body, rest = rest, ""
+            else:
+                body, rest = rest + chunk[: last + 1], chunk[last + 1:]
+            if body.strip():
+                yield _parse_csv(header + body)
+            if not chunk:
+                return

@@ -23,6 +23,7 @@ import numpy as np
 from astropy import units as u
 
 from .._files import read_toml
+from .._inputs import check_schema
 from ..errors import InputError
 
 __all__ = [
@@ -44,6 +45,12 @@ PREDICTORS = {
 }
 _FORMS = ("power_law", "linear")
 _REQUIRED = ("name", "predictor", "alpha", "beta", "pivot", "unit", "scatter_dex", "citation")
+#: schema of a relations TOML file (see :func:`ptaconstrain._inputs.check_schema`);
+#: unknown keys of an entry are named by :func:`load_relations` itself
+RELATIONS_SCHEMA = {"relation": [{
+    "name": str, "predictor": str, "alpha": float, "beta": float, "pivot": float,
+    "unit": str, "scatter_dex": float, "citation": str, "form": str, "from_memory": bool,
+    "note": str, "*": object}], "*": object}
 
 
 class RelationError(InputError):
@@ -229,6 +236,10 @@ def load_relations(path):
     """
     path = Path(path)
     data = read_toml(path, "relations file", RelationError)
+    try:
+        check_schema(data, RELATIONS_SCHEMA, path.name)
+    except InputError as err:
+        raise RelationError(str(err)) from err
     entries = data.get("relation")
     if not isinstance(entries, list) or not entries:
         raise RelationError(f"{path.name}: no [[relation]] tables found (see the schema)")

@@ -39,7 +39,9 @@ class OneLineErrors(click.Group):
         debug = "--debug" in argv[:_first_command(argv)]
         line, status = None, 0
         with warnings.catch_warnings(record=True) as caught:
-            warnings.simplefilter("always", PtaconstrainWarning)
+            # every warning is collected (none may end a command): ours and astropy's
+            # become notes, numpy's RuntimeWarnings one note in all (_show_warnings)
+            warnings.simplefilter("always")
             try:
                 rv = super().main(args=args, prog_name=prog_name, complete_var=complete_var,
                                   standalone_mode=False, **extra)
@@ -84,18 +86,36 @@ def _first_command(argv):
 
 
 def _show_warnings(caught, ours, notes=True):
-    """``Note:`` lines for our warnings (deduplicated); others shown as Python would."""
+    """``Note:`` lines for our warnings (deduplicated) and library warnings; no tracebacks.
+
+    numpy's RuntimeWarnings (overflow, invalid value) at extreme inputs become
+    one note in all; astropy's warnings one note each (first line); any other
+    library's warnings one note per category, at most three.  After a failure
+    nothing is shown: the error's one line stays one line.
+    """
     seen = set()
+    numeric = 0
     for w in caught:
-        if issubclass(w.category, ours):
-            if not notes:
+        if not notes:
+            continue
+        if issubclass(w.category, ours) or w.category.__module__.startswith("astropy"):
+            text = _squeeze(str(w.message).strip().splitlines()[0] if str(w.message).strip()
+                            else w.category.__name__)
+        elif issubclass(w.category, RuntimeWarning):
+            numeric += 1
+            continue
+        else:  # another library's warning: one note per kind, at most three in all
+            kind = (w.category.__module__.split(".")[0], w.category.__name__)
+            if kind in seen or len([k for k in seen if isinstance(k, tuple)]) >= 3:
                 continue
-            text = _squeeze(str(w.message))
-            if text not in seen:
-                seen.add(text)
-                click.echo(f"Note: {text}", err=True)
-        else:
-            warnings.showwarning(w.message, w.category, w.filename, w.lineno, w.file, w.line)
+            seen.add(kind)
+            text = _squeeze((str(w.message).strip().splitlines() or [kind[1]])[0])
+        if text not in seen:
+            seen.add(text)
+            click.echo(f"Note: {text}", err=True)
+    if numeric:
+        click.echo("Note: the computation met numerical overflow or invalid values (at "
+                   "extreme inputs); check the results", err=True)
 
 
 def _squeeze(text):

@@ -3,7 +3,15 @@
 import click
 
 from . import main
-from .params import ARRAY_FILE, BACKGROUND_HELP, FREQUENCY, POSITIVE, BackgroundType, YearList
+from .params import (
+    ARRAY_FILE,
+    BACKGROUND_HELP,
+    FREQUENCY,
+    SNR,
+    BackgroundType,
+    YearList,
+    max_memory_option,
+)
 
 __all__ = ["curve", "threshold_map"]
 
@@ -44,7 +52,7 @@ _background_option = click.option(
 @click.option("--ra", default=None, help="Source RA (deg or e.g. '12h30m49s'); omit for "
               "the sky average.")
 @click.option("--dec", default=None, help="Source Dec (deg or e.g. '+12d23m28s').")
-@click.option("--snr", type=POSITIVE, default=5.0, show_default=True,
+@click.option("--snr", type=SNR, default=5.0, show_default=True,
               help="S/N threshold quoted in the summary (stored in the curve's meta).")
 @_pulsar_term_option
 @_background_option
@@ -54,6 +62,7 @@ _background_option = click.option(
 @click.option("--rms-factor", type=click.FloatRange(min=1), default=1.0, show_default=True,
               help="With --years: divide every TOA rms by this (a better backend).")
 @click.option("--overwrite", is_flag=True, help="Replace an existing --out file.")
+@max_memory_option
 def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_factor,
           overwrite):
     """Noise-budget curve (strain PSD) of a pulsar array, at a position or sky-averaged.
@@ -117,13 +126,14 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_fac
               help="GW frequency of a map, e.g. '8 nHz' (bare numbers are Hz); repeatable.")
 @click.option("--nside", type=int, default=32, show_default=True, callback=_nside,
               help="HEALPix resolution (a power of 2).")
-@click.option("--snr", type=POSITIVE, default=5.0, show_default=True,
+@click.option("--snr", type=SNR, default=5.0, show_default=True,
               help="S/N threshold of the mapped h0.")
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (FITS map + PNG figure per frequency).")
 @_pulsar_term_option
 @_background_option
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
+@max_memory_option
 def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, background, overwrite):
     """HEALPix map of the h0 a binary needs for S/N >= --snr (a forecast).
 
@@ -138,6 +148,7 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, backgro
     from astropy import units as u
 
     from .._files import check_new, output_set
+    from .._inputs import check_memory
     from ..sensitivity.pulsar_list import load_array
 
     freq = np.unique(u.Quantity(list(frequencies)).to_value(u.Hz)) * u.Hz
@@ -145,6 +156,9 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, backgro
     fits_path = out / f"{MAP_STEM}.fits"
     stems = [out / f"{MAP_STEM}_{f.to_value(u.nHz):.4g}nHz" for f in freq]
     check_new([fits_path] + [f"{s}.png" for s in stems], overwrite)
+    # a whole-sky map per figure, its temporaries and the figure's raster: ~4 float64 a pixel
+    check_memory(4 * 8.0 * 12 * nside**2, f"a sky map of nside {nside} "
+                 f"({12 * nside**2:,} pixels)", "lower --nside")
     arr = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
     arr.check_band(freq)  # before the progress bar starts
     with _progress(len(arr), "timing-model fits") as bar:

@@ -3,6 +3,7 @@
 import click
 
 from . import main
+from .params import max_memory_option
 
 __all__ = ["demo"]
 
@@ -11,6 +12,7 @@ __all__ = ["demo"]
 @click.option("--out", type=click.Path(file_okay=False), default="ptaconstrain-demo",
               show_default=True, help="Output directory; must be empty or new.")
 @click.option("--overwrite", is_flag=True, help="Write into a non-empty --out, replacing files.")
+@max_memory_option
 def demo(out, overwrite):
     """Run the tool on the shipped example data (all of it invented).
 

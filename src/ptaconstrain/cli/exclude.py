@@ -13,6 +13,7 @@ from .params import (
     LIMIT_MAP_FILE,
     MASS,
     MASS_SAMPLES_FILE,
+    SNR,
     SPEED,
     TIME,
     BackgroundType,
@@ -23,6 +24,7 @@ from .params import (
     QuantityType,
     RangeType,
     YearList,
+    max_memory_option,
 )
 
 __all__ = ["exclude", "run_exclusion"]
@@ -113,7 +115,7 @@ def _grid(text):
 @click.option("--confidence", type=click.FloatRange(0, 1, min_open=True, max_open=True),
               default=None, help="Confidence of a --curve upper limit that states none "
               "(plain text); default 0.95, with a note.")
-@click.option("--snr", type=click.FloatRange(min=0, min_open=True), default=5.0,
+@click.option("--snr", type=SNR, default=5.0,
               show_default=True, help="S/N threshold for noise-budget curves.")
 @click.option("--inclination", type=QuantityType("deg", allow_zero=True), default=None,
               help="Known inclination of the binary (deg; 0 face-on) for forecasts: replaces "
@@ -142,6 +144,7 @@ def _grid(text):
 @click.option("--out", type=click.Path(file_okay=False), required=True,
               help="Output directory (created if needed).")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
+@max_memory_option
 def exclude(**opts):
     """Rule out companions of one host black hole.
 
@@ -216,7 +219,7 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from astropy import units as u
 
     from .._files import check_new, output_set, write_table
-    from .._inputs import check_eccentricity
+    from .._inputs import check_eccentricity, check_field, check_memory, check_name
     from ..analysis.exclusion import band_periods, exclusion_map
     from ..binary.host import Host
     from ..binary.waveform import orbital_period
@@ -229,6 +232,13 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
     from ..cosmo import cosmology_by_name
     from ..report.statements import host_line
 
+    name = check_name(name, "--name")  # before any work: it becomes part of file names
+    if period_range is not None:
+        check_field(u.Quantity(period_range), "period", "--period-range")
+    if span is not None:
+        check_field(span, "span", "--span")
+    # the grid's arrays (about 8 float64 per cell) before they are made
+    check_memory(64.0 * nq * n_p, f"the {nq} x {n_p} grid", "lower --grid")
     ecc = check_eccentricity(eccentricity, "--eccentricity")
     host = Host(name, mass, distance, redshift=redshift, mass_distance=mass_distance,
                 ra=ra, dec=dec, velocity_dispersion=velocity_dispersion,
@@ -331,21 +341,23 @@ def run_exclusion(mass, distance, redshift, mass_distance, name, ra, dec, veloci
                                            merger_times=True if merger_lines else None), style)
     # the table and figures are published together or not at all; with --overwrite
     # every file of the host's earlier set goes (e.g. a PDF this run does not make)
+    # (the forecast over time of --years belongs to the same set)
     every_format = [f"{stem.name}.{ext}" for ext in ("ecsv", *FormatList().choices)]
+    time_lines = []
     with output_set(out, stem.name, overwrite, earlier=every_format):
         write_table(table, targets[0], overwrite)
         written = [targets[0]]
         if fig is not None:
             written += save_figure(fig, stem, formats, overwrite)
+        if years is not None:
+            time_lines = _over_time(host, array_path, background, years, rms_factor, target_q,
+                                    q, period, snr, ecc, time_stem, meta, overwrite, written)
     lines = summary_lines(result) + [host_line(host, distance is None)]
     if sky_note:
         lines.append(f"{host.name}: sensitivity {sky_note}")
     if prob is not None:
         lines += credible_summary_lines(prob)
-    if years is not None:
-        with output_set(out, time_stem.name, overwrite):
-            lines += _over_time(host, array_path, background, years, rms_factor, target_q, q,
-                                period, snr, ecc, time_stem, meta, overwrite, written)
+    lines += time_lines
     lines.append("wrote " + ", ".join(str(p) for p in written))
     return lines
 

@@ -8,7 +8,8 @@ import click
 __all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
            "LevelList", "InputFile", "CURVE_FILE", "ARRAY_FILE", "LIMIT_MAP_FILE",
            "CATALOGUE_FILE", "MASS_SAMPLES_FILE", "BackgroundType", "BACKGROUND_HELP",
-           "YearList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE"]
+           "YearList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE",
+           "SNR", "Checked", "max_memory_option"]
 
 
 class QuantityType(click.ParamType):
@@ -254,3 +255,50 @@ TIME = QuantityType("yr")
 FREQUENCY = QuantityType("Hz")
 SPEED = QuantityType("km/s")
 POSITIVE = click.FloatRange(min=0, min_open=True)
+
+
+class Checked(click.ParamType):
+    """A plain number checked against a documented range of the input policy.
+
+    ``field`` is a key of :data:`ptaconstrain._inputs.RANGES` (e.g. ``"snr"``);
+    the check is :func:`ptaconstrain._inputs.check_field`, the same one files
+    and tables pass through.
+    """
+
+    name = "float"
+
+    def __init__(self, field):
+        self.field = field
+
+    def convert(self, value, param, ctx):
+        from .._inputs import check_field
+        from ..errors import InputError
+
+        try:
+            return check_field(value, self.field, label="value")
+        except InputError as err:
+            self.fail(str(err).removeprefix("value: "), param, ctx)
+
+
+SNR = Checked("snr")
+
+
+def _set_max_memory(ctx, param, value):
+    if value is None:
+        return None
+    from .._inputs import parse_bytes, set_memory_limit
+    from ..errors import InputError
+
+    try:
+        set_memory_limit(parse_bytes(value))
+    except InputError as err:
+        raise click.BadParameter(str(err).removeprefix("max-memory: "), ctx=ctx,
+                                 param=param) from err
+    return value
+
+
+#: ``--max-memory``: raise (or lower) the memory limit of one command (default 4 GB)
+max_memory_option = click.option(
+    "--max-memory", default=None, expose_value=False, is_eager=True, callback=_set_max_memory,
+    help="Memory limit of the computation, e.g. 16GB (default 4 GB, or the environment "
+         "variable PTACONSTRAIN_MAX_MEMORY); larger estimates are refused before starting.")

@@ -9,11 +9,13 @@ from .params import (
     CATALOGUE_FILE,
     CURVE_FILE,
     LIMIT_MAP_FILE,
-    POSITIVE,
+    SNR,
     TIME,
     BackgroundType,
+    Checked,
     FormatList,
     QuantityType,
+    max_memory_option,
 )
 
 __all__ = ["rank"]
@@ -95,9 +97,9 @@ def _stage_line(text):
               help="Binary merger rate per galaxy; bare numbers are per yr.")
 @click.option("--q-min", type=click.FloatRange(0, 1, min_open=True, max_open=True),
               default=0.01, show_default=True, help="Smallest mass ratio of the population.")
-@click.option("--q-index", type=float, default=-1.0, show_default=True,
+@click.option("--q-index", type=Checked("q_index"), default=-1.0, show_default=True,
               help="Power-law index of p(q) (-1: log-uniform).")
-@click.option("--snr", type=POSITIVE, default=5.0, show_default=True,
+@click.option("--snr", type=SNR, default=5.0, show_default=True,
               help="S/N threshold for noise budgets.")
 @click.option("--span", type=TIME, default=None,
               help="Observing span for a noise-budget --curve; bare numbers are yr.")
@@ -121,6 +123,7 @@ def _stage_line(text):
               help="Address of an existing Dask scheduler, e.g. tcp://10.0.0.5:8786 "
                    "(instead of a local cluster).")
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
+@max_memory_option
 def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation, columns_file,
          column_pairs, top, full_ecsv, on_bad, rate, q_min, q_index, snr, span, sky_averaged, nodes,
          chunk_size, exclusion_figures, formats, engine, workers, scheduler, overwrite,
@@ -151,6 +154,7 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     <name>_forecast.* (noise budget) for the N best targets.
     """
     from .._files import check_new
+    from .._inputs import check_field
     from ..catalogue import (
         CatalogReader,
         ColumnMap,
@@ -162,6 +166,8 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     from ..report.ranking_files import rank_to_files, ranking_output_paths
     from .progress import progress_bar
 
+    if span is not None:
+        check_field(span, "span", "--span")
     columns = load_column_map(columns_file) if columns_file else ColumnMap()
     extra = _column_options(column_pairs)
     if extra:

@@ -55,6 +55,9 @@ def ranking_output_paths(out_dir, formats=("png",), full_ecsv=False, engine="mem
 def fits_meta(meta):
     """Table meta a FITS header can hold: nested values (dicts, lists) as JSON text.
 
+    Text is made ASCII (other characters as backslash escapes), as FITS
+    headers hold ASCII only.
+
     Parameters
     ----------
     meta : dict
@@ -63,8 +66,14 @@ def fits_meta(meta):
     -------
     dict
     """
-    return {k: json.dumps(v, default=str) if isinstance(v, (dict, list, tuple)) else v
-            for k, v in meta.items()}
+    out = {}
+    for k, v in meta.items():
+        if isinstance(v, (dict, list, tuple)):
+            v = json.dumps(v, default=str)
+        if isinstance(v, str):  # FITS headers hold ASCII only
+            v = v.encode("ascii", "backslashreplace").decode("ascii")
+        out[k] = v
+    return out
 
 
 def _hdu(table):

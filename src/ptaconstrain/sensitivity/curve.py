@@ -18,7 +18,7 @@ import warnings
 import numpy as np
 from astropy import units as u
 
-from .._inputs import positive, quantity
+from .._inputs import check_field, check_schema, quantity
 from ..errors import InputError, PtaconstrainWarning
 
 __all__ = [
@@ -47,6 +47,10 @@ _VALUE_UNITS = {
 #: Mean over isotropic inclination of [(1 + cos^2 i)^2 + 4 cos^2 i] = 28/15 + 4/3 = 16/5:
 #: the factor K in the orientation-averaged rho^2 = K h0^2 T / S_n.
 ORIENTATION_MEAN = 3.2
+
+#: schema of the meta keys a curve file may carry (others are kept, unchecked)
+CURVE_META_SCHEMA = {"confidence": (float, str), "span": (float, str, u.Quantity),
+                     "sky": str, "*": object}
 
 
 class CurveError(InputError):
@@ -183,6 +187,10 @@ class StrainCurve:
         self.kind = kind
         self.meta = dict(meta or {})
         try:
+            check_schema(self.meta, CURVE_META_SCHEMA, "curve meta")
+        except InputError as err:
+            raise CurveError(str(err)) from err
+        try:
             f = quantity(frequency, u.Hz, "curve frequency", allow_nonfinite=True)
         except InputError as err:
             unit = getattr(frequency, "unit", "none")
@@ -200,6 +208,8 @@ class StrainCurve:
         self.frequency = f
         self.value = v
         self.span = _span_from_meta(self.meta)
+        if self.is_limit:
+            _confidence_from_meta(self.meta)  # refused now, not when first printed
 
     # ----------------------------------------------------------------- labels
     @property
@@ -212,7 +222,7 @@ class StrainCurve:
         """Confidence of an upper limit as a fraction (default 0.95), else None."""
         if not self.is_limit:
             return None
-        return float(self.meta.get("confidence", 0.95))
+        return _confidence_from_meta(self.meta)
 
     @property
     def verb(self):
@@ -322,7 +332,7 @@ class StrainCurve:
         Quantity [yr].
         """
         if span is not None:
-            return positive(quantity(span, u.yr, "span"), "span")
+            return check_field(span, "span")
         if self.span is not None:
             return self.span
         guess = (1.0 / self.frequency[0]).to(u.yr)
@@ -364,13 +374,31 @@ def _span_from_meta(meta):
     span = meta.get("span")
     if span is None:
         return None
+    if not isinstance(span, (str, int, float, u.Quantity)) or isinstance(span, bool):
+        raise CurveError(f"curve meta 'span' is a {type(span).__name__}: write one time, "
+                         "e.g. '15 yr'")
     try:
         q = quantity(span, u.yr, "span")
     except InputError as err:
         raise CurveError(f"curve meta 'span' = {span!r} is not a time: write e.g. '15 yr'") from err
-    if q.value <= 0:
-        raise CurveError(f"curve meta 'span' = {span!r} must be a positive time")
-    return q
+    if q.value <= 0 or q.ndim:
+        raise CurveError(f"curve meta 'span' = {span!r} must be one positive time")
+    try:
+        return check_field(q, "span", "curve meta 'span'")
+    except InputError as err:
+        raise CurveError(str(err)) from err
+
+
+def _confidence_from_meta(meta):
+    """The meta 'confidence' of a limit (default 0.95), refused outside (0, 1)."""
+    conf = meta.get("confidence", 0.95)
+    if isinstance(conf, bool) or not isinstance(conf, (int, float, str, np.floating)):
+        raise CurveError(f"curve meta 'confidence' is a {type(conf).__name__}: write one "
+                         "number in (0, 1), e.g. 0.95")
+    try:
+        return check_field(conf, "confidence", "curve meta 'confidence'")
+    except InputError as err:
+        raise CurveError(str(err)) from err
 
 
 # --------------------------------------------------------------------- I/O

@@ -30,9 +30,10 @@ a value are NaN or healpy's UNSEEN.
 import numpy as np
 from astropy import units as u
 
-from .._inputs import positive, quantity
+from .._files import check_header, first_line
+from .._inputs import check_memory, positive, quantity
 from ..errors import InputError
-from .positional import HealpixThresholds
+from .positional import HealpixThresholds, check_nside
 
 __all__ = ["LimitMapError", "LimitMap", "load_limit_map", "write_threshold_maps",
            "FRAMES"]
@@ -399,6 +400,7 @@ def load_limit_map(path):
     if not path.is_file():
         raise LimitMapError(f"sky map {path} not found: check the path")
     name = path.name
+    check_header(path, "HEALPix map", LimitMapError, "fits")
     try:
         with fits.open(path) as hdul:
             if len(hdul) < 2 or not isinstance(hdul[1], fits.BinTableHDU):
@@ -449,7 +451,19 @@ def load_limit_map(path):
     if not 0 < conf < 1:
         raise LimitMapError(f"{name}: CONFLEV = {conf} must be a fraction in (0, 1), e.g. 0.95")
     span = hdr.get("SPAN")
-    maps = hp.read_map(str(path), field=tuple(range(ncol)), nest=False, dtype=np.float64)
+    try:  # before healpy reads (or prints) anything
+        nside = check_nside(hdr.get("NSIDE"))
+    except InputError as err:
+        raise LimitMapError(f"{name}: header keyword NSIDE = {hdr.get('NSIDE')!r} is not a "
+                            "HEALPix resolution (a power of 2 up to 8192)") from err
+    # the maps as read, and healpy's copy of them: two float64 per pixel and column
+    check_memory(2 * 8.0 * 12 * nside**2 * ncol, f"{name} ({ncol} map(s) of nside {nside})",
+                 "give a map of lower nside")
+    try:
+        maps = hp.read_map(str(path), field=tuple(range(ncol)), nest=False, dtype=np.float64)
+    except (ValueError, TypeError, OSError, KeyError, IndexError) as err:
+        raise LimitMapError(f"{name}: the map data cannot be read ({first_line(err)}); the "
+                            "file may be truncated: write it again with healpy.write_map") from err
     maps = np.atleast_2d(maps)
     try:
         span = None if span is None else positive(quantity(span, u.yr, "SPAN"), "SPAN")

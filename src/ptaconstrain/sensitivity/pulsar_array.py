@@ -24,7 +24,7 @@ does to them; only an S/N at a fixed, known phase would need them.
 import numpy as np
 from astropy import units as u
 
-from .._inputs import quantity
+from .._inputs import check_field, check_memory, quantity
 from ..errors import InputError
 from . import antenna
 from .curve import StrainCurve, noise_psd_for_threshold
@@ -274,6 +274,7 @@ class PulsarArray:
             w = approximate_weights(self.n_toas[:, None], self.cadence[:, None],
                                     self.noise_psd(f))
         else:
+            self.check_memory(f.size, workers)
             jobs = [(self.epochs(i), self.toa_rms[i], f, self.red_amp[i], self.red_gamma[i],
                      blas_threads, self.background) for i in range(len(self))]
             rows = []
@@ -284,6 +285,23 @@ class PulsarArray:
             w = np.array(rows) * u.s**-2
         self._cache[key] = w
         return w
+
+    def check_memory(self, n_frequencies, workers=None):
+        """Refuse exact weights whose matrices would exceed the memory limit.
+
+        Each pulsar's fit holds its TOAs x (timing model + 2 x frequencies)
+        matrix, its phase arguments and the red-noise product (about four such
+        matrices of float64), in up to ``workers`` processes at once.
+
+        Raises
+        ------
+        ptaconstrain._inputs.ResourceError
+        """
+        n = int(self.n_toas.max())
+        per_pulsar = 4 * 8.0 * n * (12 + 2 * int(n_frequencies))
+        check_memory(per_pulsar * self._workers(workers) + 8.0 * self.n_toas.sum(),
+                     f"the timing fits ({n:,} TOAs x {int(n_frequencies)} frequencies in the "
+                     "largest pulsar)", "lengthen the pulsars' cadence or shorten their span")
 
     def _workers(self, workers):
         if workers is None:
@@ -708,6 +726,17 @@ def _validate_array(arr):
     bad = np.flatnonzero((arr.red_amp > 0) & ~np.isfinite(arr.red_gamma))
     if bad.size:
         fail(bad[0], "red_amp is set but red_gamma is missing: give the spectral index gamma")
+    # the documented ranges of the input policy, for every row (the same as anywhere else)
+    rows = [f"{i + 1}, {x}" for i, x in enumerate(arr.names)]
+    red = arr.red_amp > 0
+    try:
+        check_field(arr.cadence, "cadence", rows=rows)
+        check_field(span * u.d, "span", "span (end_mjd - start_mjd)", rows=rows)
+        check_field(arr.red_amp, "red_amp", rows=rows)
+        check_field(arr.red_gamma[red], "red_gamma",
+                    rows=[r for r, keep in zip(rows, red, strict=True) if keep])
+    except InputError as err:
+        raise ArrayError(str(err)) from err
     if arr.distance is not None:
         d = arr.distance.value
         bad = np.flatnonzero(~np.isnan(d) & ~(d > 0))

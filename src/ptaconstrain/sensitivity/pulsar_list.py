@@ -41,7 +41,14 @@ TOAs are taken on the regular grid start, start + dt, ... up to the end.
 import numpy as np
 from astropy import units as u
 
-from .._inputs import SKY_RANGE_TEXT, angles_deg, lonlat_deg, quantity, sky_out_of_range
+from .._inputs import (
+    SKY_RANGE_TEXT,
+    angles_deg,
+    check_schema,
+    lonlat_deg,
+    quantity,
+    sky_out_of_range,
+)
 from ..errors import InputError
 from .pulsar_array import ArrayError, PulsarArray
 
@@ -49,6 +56,8 @@ __all__ = ["load_array", "array_from_table"]
 
 #: File suffix -> astropy table format of a pulsar list.
 _REQUIRED = ("name", "toa_rms", "cadence")
+#: schema of the meta keys a pulsar list may carry (others are kept, unchecked)
+PULSAR_LIST_META_SCHEMA = {"name": str, "end_mjd": float, "*": object}
 
 
 def load_array(path, pulsar_term=False):
@@ -82,6 +91,10 @@ def load_array(path, pulsar_term=False):
 
     path = Path(path)
     t = read_table(path, "pulsar list", ArrayError, hint="write it as ECSV")
+    try:
+        check_schema(dict(t.meta), PULSAR_LIST_META_SCHEMA, f"pulsar list {path.name} meta")
+    except InputError as err:
+        raise ArrayError(str(err)) from err
     try:
         return array_from_table(t, name=t.meta.get("name", path.stem), pulsar_term=pulsar_term)
     except ArrayError as err:
