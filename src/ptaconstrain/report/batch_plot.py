@@ -45,7 +45,7 @@ def batch_overview_figure(bounds, title=None):
     qs = q[order]
     ok = np.isfinite(qs)
     ax.plot(qs[ok], y[ok], ls="none", marker="v", color="#D55E00", ms=6 if named else 3,
-            label=f"best-fit host: q above the marker {verb}")
+            label=f"best-fit host: q larger than the marker (to its right) {verb}")
     top = max(bounds.credibility) if bounds.credibility else None
     if top is not None:
         _, cq = bounds.credible(top)
@@ -78,8 +78,8 @@ def batch_overview_figure(bounds, title=None):
     fig.legend(loc="lower center", bbox_to_anchor=(0.5, 0.02 / height), fontsize=8,
                frameon=False, ncol=1)
     first = bounds.maps[0]
-    what = ("Companions above each marker are excluded" if bounds.is_limit else
-            "Companions above each marker would be detectable (forecast)")
+    what = ("Companions with q right of each marker are excluded" if bounds.is_limit else
+            "Companions with q right of each marker would be detectable (forecast)")
     statement = figure_statement(first)
     skies = {sky_text(m.curve) for m in bounds.maps}
     if len(skies) > 1:  # a pulsar array or a limit map: each host at its own position
