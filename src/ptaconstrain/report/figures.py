@@ -198,9 +198,20 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
     # the automatic title position matplotlib lays the top axis out a second time.
     ax.set_title(
         f"{host.name}: M = {sci_text(m_tot)} {MSUN}, luminosity distance "
-        f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{kind}; {result.orbit}", fontsize=10, y=1.0,
-        pad=_TITLE_PAD)
+        f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{_clauses(f'{kind}; {result.orbit}')}",
+        fontsize=10, y=1.0, pad=_TITLE_PAD)
     return fig
+
+
+def _clauses(text, width=72):
+    """``text`` broken into lines at its '; ' clauses, each line at most ``width`` long."""
+    lines = []
+    for clause in text.split("; "):
+        if lines and len(lines[-1]) + 2 + len(clause) <= width:
+            lines[-1] += "; " + clause
+        else:
+            lines.append(clause)
+    return "\n".join(lines)
 
 
 def _mark_sources(ax, result):
