@@ -51,11 +51,16 @@ def make_array(seed=1, n_psr=N_PSR):
     span = rng.uniform(5, 20, n_psr) * 365.25
     red = rng.uniform(size=n_psr) < 0.3
     return PulsarArray(
-        [f"B{i:03d}" for i in range(n_psr)], SkyCoord(ra * u.deg, dec * u.deg),
+        [f"B{i:03d}" for i in range(n_psr)],
+        SkyCoord(ra * u.deg, dec * u.deg),
         10 ** rng.uniform(-1, np.log10(2), n_psr) * u.us,
-        rng.choice([14.0, 21.0, 28.0], n_psr) * u.d, end - span, end,
+        rng.choice([14.0, 21.0, 28.0], n_psr) * u.d,
+        end - span,
+        end,
         red_amp=np.where(red, 10 ** rng.uniform(-14.5, -13.5, n_psr), 0.0),
-        red_gamma=np.where(red, rng.uniform(2, 5, n_psr), np.nan), name="bench")
+        red_gamma=np.where(red, rng.uniform(2, 5, n_psr), np.nan),
+        name="bench",
+    )
 
 
 def brute_force_pixel(arr, f, pix):
@@ -69,8 +74,14 @@ def brute_force_pixel(arr, f, pix):
         t = (mjd - mjd.mean()) * 86400.0
         sig = arr.toa_rms[k].to_value(u.s)
         cov = sig**2 * np.eye(mjd.size)
-        red = red_noise_basis(t * u.s, (mjd[-1] - mjd[0]) * u.d, arr.toa_rms[k],
-                              arr.cadence[k], arr.red_amp[k], arr.red_gamma[k])
+        red = red_noise_basis(
+            t * u.s,
+            (mjd[-1] - mjd[0]) * u.d,
+            arr.toa_rms[k],
+            arr.cadence[k],
+            arr.red_amp[k],
+            arr.red_gamma[k],
+        )
         if red is not None:
             cov += red[0] @ np.diag(red[1].to_value(u.s**2)) @ red[0].T
         cinv = np.linalg.inv(cov)
@@ -122,58 +133,82 @@ print(base, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
 def blocked_memory(nside, n_f):
     """Peak RSS (MiB) of the blocked pipeline in a child process, and its baseline."""
     with tempfile.TemporaryDirectory() as tmp:
-        code = MEMORY_CHILD.format(bench=os.path.dirname(os.path.abspath(__file__)),
-                                   nside=nside, n_f=n_f, out=os.path.join(tmp, "m.fits"))
-        (base, peak), wall, _ = timed(lambda: subprocess.run(
-            [sys.executable, "-c", code], check=True, capture_output=True,
-            text=True).stdout.split())
+        code = MEMORY_CHILD.format(
+            bench=os.path.dirname(os.path.abspath(__file__)),
+            nside=nside,
+            n_f=n_f,
+            out=os.path.join(tmp, "m.fits"),
+        )
+        (base, peak), wall, _ = timed(
+            lambda: subprocess.run(
+                [sys.executable, "-c", code], check=True, capture_output=True, text=True
+            ).stdout.split()
+        )
     return int(base) / 1024, int(peak) / 1024, wall
 
 
 def main():
-    print(f"benchmark: pulsar-array sky maps; {machine_line()}; "
-          f"OPENBLAS_NUM_THREADS={os.environ.get('OPENBLAS_NUM_THREADS', 'unset')}")
+    print(
+        f"benchmark: pulsar-array sky maps; {machine_line()}; "
+        f"OPENBLAS_NUM_THREADS={os.environ.get('OPENBLAS_NUM_THREADS', 'unset')}"
+    )
     arr = make_array()
     f = np.logspace(np.log10(1.6e-9), np.log10(2.5e-7), N_F) * u.Hz
-    print(f"  {N_PSR} pulsars, {N_F} frequencies, nside {NSIDE} ({hp.nside2npix(NSIDE)} "
-          f"pixels); TOAs {arr.n_toas.sum()} in total, {arr.n_toas.min()}-"
-          f"{arr.n_toas.max()} per pulsar; {int(np.sum(arr.red_amp > 0))} with red noise")
+    print(
+        f"  {N_PSR} pulsars, {N_F} frequencies, nside {NSIDE} ({hp.nside2npix(NSIDE)} "
+        f"pixels); TOAs {arr.n_toas.sum()} in total, {arr.n_toas.min()}-"
+        f"{arr.n_toas.max()} per pulsar; {int(np.sum(arr.red_amp > 0))} with red noise"
+    )
 
     # item 1: one BLAS thread against today's path, interleaved, best of 3 each
     (w_old, m_old), w_t, c_t = best_of(3, projection_and_map, N_PSR, None)
     (w_new, m), w_n, c_n = best_of(3, projection_and_map, N_PSR, 1)
-    print(f"  projection + map, today's path (library BLAS threads): {w_t:7.3f} s wall "
-          f"{c_t:7.3f} s CPU")
-    print(f"  projection + map, one BLAS thread per pulsar:          {w_n:7.3f} s wall "
-          f"{c_n:7.3f} s CPU")
-    print(f"  -> {w_t / w_n:.1f} x faster in wall time, {c_t / c_n:.1f} x in CPU (target >= 8 x);"
-          f" max |w_today / w - 1| = {np.max(np.abs(w_old / w_new - 1)):.1e}, maps "
-          f"{np.max(np.abs(m_old / m - 1)):.1e}")
+    print(
+        f"  projection + map, today's path (library BLAS threads): {w_t:7.3f} s wall "
+        f"{c_t:7.3f} s CPU"
+    )
+    print(
+        f"  projection + map, one BLAS thread per pulsar:          {w_n:7.3f} s wall "
+        f"{c_n:7.3f} s CPU"
+    )
+    print(
+        f"  -> {w_t / w_n:.1f} x faster in wall time, {c_t / c_n:.1f} x in CPU (target >= 8 x);"
+        f" max |w_today / w - 1| = {np.max(np.abs(w_old / w_new - 1)):.1e}, maps "
+        f"{np.max(np.abs(m_old / m - 1)):.1e}"
+    )
     _, w_map, c_map = best_of(5, arr.threshold_table, f, nside=NSIDE)
     rng = np.random.default_rng(0)
     a = rng.random((hp.nside2npix(NSIDE), N_PSR))
     b = rng.random((N_PSR, N_F))
     _, w_floor, c_floor = best_of(5, lambda: a @ b)
-    print(f"  map alone (weights cached), best of 5: {w_map:.3f} s wall {c_map:.3f} s CPU; "
-          f"floor one ({a.shape[0]} x {N_PSR}) @ ({N_PSR} x {N_F}) product {w_floor:.4f} s "
-          f"wall {c_floor:.4f} s CPU; map / floor = {w_map / w_floor:.1f}")
+    print(
+        f"  map alone (weights cached), best of 5: {w_map:.3f} s wall {c_map:.3f} s CPU; "
+        f"floor one ({a.shape[0]} x {N_PSR}) @ ({N_PSR} x {N_F}) product {w_floor:.4f} s "
+        f"wall {c_floor:.4f} s CPU; map / floor = {w_map / w_floor:.1f}"
+    )
 
     # 1000 pulsars: serial and two processes
     (w1k, m1k), w_1k, c_1k = timed(projection_and_map, 10 * N_PSR, 1, 1)
     (w1k2, m1k2), w_1k2, c_1k2 = timed(projection_and_map, 10 * N_PSR, 1, 2)
     same = np.array_equal(w1k, w1k2) and np.array_equal(m1k, m1k2)
-    print(f"  1000 pulsars, projection + map: serial {w_1k:.2f} s wall {c_1k:.2f} s CPU; "
-          f"2 processes {w_1k2:.2f} s wall {c_1k2:.2f} s CPU (parent only); identical: {same}")
+    print(
+        f"  1000 pulsars, projection + map: serial {w_1k:.2f} s wall {c_1k:.2f} s CPU; "
+        f"2 processes {w_1k2:.2f} s wall {c_1k2:.2f} s CPU (parent only); identical: {same}"
+    )
     best = min(w_1k, w_1k2)
-    print(f"  -> 1000 / 100 pulsars = {best / w_n:.1f} x (target < 10 x); two processes "
-          f"pay {w_1k / w_1k2:.2f} x in wall time")
+    print(
+        f"  -> 1000 / 100 pulsars = {best / w_n:.1f} x (target < 10 x); two processes "
+        f"pay {w_1k / w_1k2:.2f} x in wall time"
+    )
 
     pix = 12345
     rho2, t_brute, c_brute = timed(brute_force_pixel, arr, f, pix)
     h_brute = 5.0 / np.sqrt(rho2)
     dev = np.max(np.abs(h_brute / m[:, pix] - 1))
-    print(f"  brute force, one pixel: {t_brute:.2f} s wall {c_brute:.2f} s CPU -> whole map ~ "
-          f"{t_brute * m.shape[1] / 3600:.0f} h; max |h0 brute / h0 map - 1| = {dev:.1e}")
+    print(
+        f"  brute force, one pixel: {t_brute:.2f} s wall {c_brute:.2f} s CPU -> whole map ~ "
+        f"{t_brute * m.shape[1] / 3600:.0f} h; max |h0 brute / h0 map - 1| = {dev:.1e}"
+    )
 
     # item 5: blocks
     whole = arr.h0_threshold_map(f[:7], nside=16)
@@ -184,19 +219,25 @@ def main():
     arr.threshold_table(f, nside=NSIDE)
     peak = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
-    print(f"  blocked == whole map (nside 16, 7 frequencies, one per block): "
-          f"{np.array_equal(got, whole)}; whole-map step at nside {NSIDE} x {N_F} peaks at "
-          f"{peak / 2**20:.0f} MiB (tracemalloc)")
+    print(
+        f"  blocked == whole map (nside 16, 7 frequencies, one per block): "
+        f"{np.array_equal(got, whole)}; whole-map step at nside {NSIDE} x {N_F} peaks at "
+        f"{peak / 2**20:.0f} MiB (tracemalloc)"
+    )
     nside, n_f = 256, 200
     base, rss, wall = blocked_memory(nside, n_f)
     whole_gib = 12 * nside**2 * n_f * 8 / 2**30
     big_gib = 12 * 512**2 * 1000 * 8 / 2**30
-    print(f"  blocked threshold-map pipeline, nside {nside} x {n_f} frequencies (FITS "
-          f"{whole_gib:.2f} GiB written): peak RSS {rss:.0f} MiB (after imports and weights "
-          f"{base:.0f} MiB), {wall:.0f} s wall; the maps whole would be {whole_gib:.2f} GiB")
-    print(f"  nside 512 x 1000 frequencies: whole {big_gib:.0f} GiB; in blocks the memory "
-          f"is set by the block size ({MAP_MIB} MiB per block, independent of nside and "
-          f"frequencies) -> about {rss:.0f} MiB, within 4 GB")
+    print(
+        f"  blocked threshold-map pipeline, nside {nside} x {n_f} frequencies (FITS "
+        f"{whole_gib:.2f} GiB written): peak RSS {rss:.0f} MiB (after imports and weights "
+        f"{base:.0f} MiB), {wall:.0f} s wall; the maps whole would be {whole_gib:.2f} GiB"
+    )
+    print(
+        f"  nside 512 x 1000 frequencies: whole {big_gib:.0f} GiB; in blocks the memory "
+        f"is set by the block size ({MAP_MIB} MiB per block, independent of nside and "
+        f"frequencies) -> about {rss:.0f} MiB, within 4 GB"
+    )
     print(f"  process max RSS {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024:.0f} MiB")
 
 

@@ -32,9 +32,13 @@ ROOT = Path(__file__).resolve().parents[1]
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=3, help="runs per command (best kept)")
-    parser.add_argument("--compare", metavar="SRC", default=None,
-                        help="also time the commands of another source tree (e.g. an older "
-                        "checkout's src/), in the same interleaved rounds")
+    parser.add_argument(
+        "--compare",
+        metavar="SRC",
+        default=None,
+        help="also time the commands of another source tree (e.g. an older "
+        "checkout's src/), in the same interleaved rounds",
+    )
     args = parser.parse_args()
     py = sys.executable
     cli = [py, "-m", "ptaconstrain.cli"]
@@ -44,23 +48,47 @@ def main():
     if args.compare:
         trees[" (compared)"] = Path(args.compare).resolve()
     with tempfile.TemporaryDirectory() as tmp:
-        commands = {"import floor": ([py, "-c", "import numpy, astropy.table, matplotlib.figure"],
-                                     None, trees[""])}
+        commands = {
+            "import floor": (
+                [py, "-c", "import numpy, astropy.table, matplotlib.figure"],
+                None,
+                trees[""],
+            )
+        }
         for tag, src in trees.items():
             out = Path(tmp) / f"out{len(commands)}"
             commands[f"exclude, one PNG{tag}"] = (
-                cli + ["exclude", "--mass", "2e10", "--distance", "100", "--curve", curve,
-                       "--format", "png", "--out", str(out / "exclude"), "--overwrite"],
-                1.3, src)
+                cli
+                + [
+                    "exclude",
+                    "--mass",
+                    "2e10",
+                    "--distance",
+                    "100",
+                    "--curve",
+                    curve,
+                    "--format",
+                    "png",
+                    "--out",
+                    str(out / "exclude"),
+                    "--overwrite",
+                ],
+                1.3,
+                src,
+            )
             commands[f"demo{tag}"] = (
-                cli + ["demo", "--out", str(out / "demo"), "--overwrite"], 4.0, src)
+                cli + ["demo", "--out", str(out / "demo"), "--overwrite"],
+                4.0,
+                src,
+            )
         # interleaved rounds, so that every command sees the same spread of machine load
         best = {k: (float("inf"), float("inf")) for k in commands}
         for _ in range(args.repeat):
             for key, (cmd, _target, src) in commands.items():
                 env = dict(os.environ)
                 env["PYTHONPATH"] = os.pathsep.join(
-                    [str(src)] + [p for p in env.get("PYTHONPATH", "").split(os.pathsep) if p])
+                    [str(src)] + [p for p in env.get("PYTHONPATH", "").split(os.pathsep) if p]
+                )
                 wall, cpu = process_times(cmd, 1, env)
                 best[key] = (min(best[key][0], wall), min(best[key][1], cpu))
     floor = best["import floor"]
@@ -68,8 +96,9 @@ def main():
     print(f"{'process':<29} {'wall s':>8} {'CPU s':>8} {'CPU / floor':>12}  target")
     for name, (wall, cpu), target in rows:
         ratio = cpu / floor[1]
-        verdict = "" if target is None else (
-            f"<= {target:g}: {'met' if ratio <= target else 'NOT met'}")
+        verdict = (
+            "" if target is None else (f"<= {target:g}: {'met' if ratio <= target else 'NOT met'}")
+        )
         print(f"{name:<29} {wall:8.2f} {cpu:8.2f} {ratio:12.2f}  {verdict}")
 
 

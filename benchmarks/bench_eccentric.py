@@ -46,12 +46,19 @@ def cell_reference(host, curve, q, period, e):
 def invented_array(n=100, seed=1):
     """n invented pulsars: random sky, 0.1-1 us, 7-28 d cadence, 8-18 yr."""
     rng = np.random.default_rng(seed)
-    coord = SkyCoord(rng.uniform(0, 360, n) * u.deg,
-                     np.degrees(np.arcsin(rng.uniform(-1, 1, n))) * u.deg)
+    coord = SkyCoord(
+        rng.uniform(0, 360, n) * u.deg, np.degrees(np.arcsin(rng.uniform(-1, 1, n))) * u.deg
+    )
     span = rng.uniform(8, 18, n) * 365.25
-    return PulsarArray([f"B{i:03d}" for i in range(n)], coord,
-                       rng.uniform(0.1, 1.0, n) * u.us, rng.choice([7.0, 14.0, 28.0], n) * u.d,
-                       60000 - span, np.full(n, 60000.0), name="bench (invented)")
+    return PulsarArray(
+        [f"B{i:03d}" for i in range(n)],
+        coord,
+        rng.uniform(0.1, 1.0, n) * u.us,
+        rng.choice([7.0, 14.0, 28.0], n) * u.d,
+        60000 - span,
+        np.full(n, 60000.0),
+        name="bench (invented)",
+    )
 
 
 def main():
@@ -65,15 +72,18 @@ def main():
         circ, wc, cc = best_of(5, exclusion_map, host, curve, q, period)
         em, we, ce = best_of(5, exclusion_map, host, curve, q, period, eccentricity=0.7)
     ref, wl, cl = timed(cell_reference, host, curve, q[::10], period[::10], 0.7)
-    near = np.isclose(wf.symmetric_mass_ratio(q[::10])[:, None], em.eta_min[None, ::10],
-                      rtol=1e-9)
+    near = np.isclose(wf.symmetric_mass_ratio(q[::10])[:, None], em.eta_min[None, ::10], rtol=1e-9)
     agree = np.array_equal(em.excluded[::10, ::10][~near], ref[~near])
     print(f"circular map 300 x 300     : wall {wc * 1e3:7.2f} ms  CPU {cc * 1e3:7.2f} ms")
-    print(f"e = 0.7 map 300 x 300      : wall {we * 1e3:7.2f} ms  CPU {ce * 1e3:7.2f} ms  "
-          f"({em.harmonics.size} harmonics)")
+    print(
+        f"e = 0.7 map 300 x 300      : wall {we * 1e3:7.2f} ms  CPU {ce * 1e3:7.2f} ms  "
+        f"({em.harmonics.size} harmonics)"
+    )
     print(f"ratio eccentric / circular : wall {we / wc:.2f} x  CPU {ce / cc:.2f} x")
-    print(f"cell-by-cell 30 x 30 (loop): wall {wl * 1e3:7.1f} ms; per cell "
-          f"{wl / ref.size / (we / em.excluded.size):,.0f} x the map's; agree: {agree}")
+    print(
+        f"cell-by-cell 30 x 30 (loop): wall {wl * 1e3:7.1f} ms; per cell "
+        f"{wl / ref.size / (we / em.excluded.size):,.0f} x the map's; agree: {agree}"
+    )
 
     arr = invented_array()
     bg = Background(2.4e-15)
@@ -90,20 +100,25 @@ def main():
     modes = []
     for i in range(len(arr)):
         t = (arr.epochs(i) - arr.epochs(i).mean()) * 86400 * u.s
-        basis = red_noise_basis(t, arr.pulsar_spans[i], arr.toa_rms[i], arr.cadence[i], 0.0,
-                                np.nan, bg)
+        basis = red_noise_basis(
+            t, arr.pulsar_spans[i], arr.toa_rms[i], arr.cadence[i], 0.0, np.nan, bg
+        )
         modes.append(0 if basis is None else basis[0].shape[1] // 2)
     w0v, w1v = w0.value, w1.value
     ok = w0v > 0  # above a pulsar's own Nyquist frequency its weight is 0
     loss = np.nanmedian(np.where(ok, w1v / np.where(ok, w0v, 1.0), np.nan), axis=0)
     print(f"weights, 100 pulsars x 100 f, no background  : wall {wq:6.2f} s  CPU {cq:6.2f} s")
-    print(f"weights, 100 pulsars x 100 f, background A = 2.4e-15: wall {wb:6.2f} s  "
-          f"CPU {cb:6.2f} s  (Fourier modes per pulsar {min(modes)}-{max(modes)}, "
-          f"median {int(np.median(modes))})")
+    print(
+        f"weights, 100 pulsars x 100 f, background A = 2.4e-15: wall {wb:6.2f} s  "
+        f"CPU {cb:6.2f} s  (Fourier modes per pulsar {min(modes)}-{max(modes)}, "
+        f"median {int(np.median(modes))})"
+    )
     print(f"ratio background / none    : wall {wb / wq:.2f} x  CPU {cb / cq:.2f} x")
-    print(f"median weight ratio (with / without) at {freq[0].to_value(u.nHz):.3g}, "
-          f"{freq[25].to_value(u.nHz):.3g}, {freq[-1].to_value(u.nHz):.3g} nHz: "
-          f"{loss[0]:.3g}, {loss[25]:.3g}, {loss[-1]:.3g}")
+    print(
+        f"median weight ratio (with / without) at {freq[0].to_value(u.nHz):.3g}, "
+        f"{freq[25].to_value(u.nHz):.3g}, {freq[-1].to_value(u.nHz):.3g} nHz: "
+        f"{loss[0]:.3g}, {loss[25]:.3g}, {loss[-1]:.3g}"
+    )
 
 
 if __name__ == "__main__":

@@ -59,18 +59,26 @@ def main():
     cell1, cell3 = w1 / 1e6, w3 / 9e6
     w_help, c_help = process_times([sys.executable, "-m", "ptaconstrain.cli", "--help"])
 
-    print(f"exclusion_map 1000 x 1000 : wall {w1 * 1e3:8.1f} ms  CPU {c1 * 1e3:8.1f} ms"
-          "   (target < 300 ms)")
+    print(
+        f"exclusion_map 1000 x 1000 : wall {w1 * 1e3:8.1f} ms  CPU {c1 * 1e3:8.1f} ms"
+        "   (target < 300 ms)"
+    )
     print(f"exclusion_map 3000 x 3000 : wall {w3 * 1e3:8.1f} ms  CPU {c3 * 1e3:8.1f} ms")
-    print(f"per cell 1000^2 / 3000^2  : wall {cell1 * 1e9:.1f} / {cell3 * 1e9:.1f} ns "
-          f"(ratio {cell3 / cell1:.2f}), CPU {c1 / 1e6 * 1e9:.1f} / {c3 / 9e6 * 1e9:.1f} ns "
-          f"(ratio {(c3 / 9e6) / (c1 / 1e6):.2f})   (target: ratio near 1)")
+    print(
+        f"per cell 1000^2 / 3000^2  : wall {cell1 * 1e9:.1f} / {cell3 * 1e9:.1f} ns "
+        f"(ratio {cell3 / cell1:.2f}), CPU {c1 / 1e6 * 1e9:.1f} / {c3 / 9e6 * 1e9:.1f} ns "
+        f"(ratio {(c3 / 9e6) / (c1 / 1e6):.2f})   (target: ratio near 1)"
+    )
     print(f"python double loop 100x100: wall {w_loop * 1e3:8.1f} ms  CPU {c_loop * 1e3:8.1f} ms")
-    print(f"per cell: fast {cell1 * 1e9:.1f} ns, loop {w_loop / ref.size * 1e6:.1f} us, "
-          f"ratio {w_loop / ref.size / cell1:,.0f} x (wall)")
+    print(
+        f"per cell: fast {cell1 * 1e9:.1f} ns, loop {w_loop / ref.size * 1e6:.1f} us, "
+        f"ratio {w_loop / ref.size / cell1:,.0f} x (wall)"
+    )
     print(f"subgrid results identical : {agree}")
-    print(f"ptaconstrain --help       : wall {w_help * 1e3:8.1f} ms  CPU {c_help * 1e3:8.1f} ms"
-          "   (target < 500 ms)")
+    print(
+        f"ptaconstrain --help       : wall {w_help * 1e3:8.1f} ms  CPU {c_help * 1e3:8.1f} ms"
+        "   (target < 500 ms)"
+    )
 
 
 if __name__ == "__main__":

@@ -38,11 +38,13 @@ from ptaconstrain.sensitivity.curve import load_curve
 
 HOSTS = {
     # invented demo galaxy (examples/demo_hosts.ecsv): ISCO matters only in the far tail
-    "Velmora Central": dict(mass=2.1e10, distance=105, mass_err_dex=0.12, distance_err=7,
-                            mass_distance=100),
+    "Velmora Central": dict(
+        mass=2.1e10, distance=105, mass_err_dex=0.12, distance_err=7, mass_distance=100
+    ),
     # invented, deliberately extreme: most periods above the ISCO for part of the samples
-    "Tamsel BCG (wide error)": dict(mass=4e10, distance=210, mass_err_dex=(0.25, 0.4),
-                                    distance_err=15, mass_distance=200),
+    "Tamsel BCG (wide error)": dict(
+        mass=4e10, distance=210, mass_err_dex=(0.25, 0.4), distance_err=15, mass_distance=200
+    ),
 }
 
 
@@ -59,8 +61,8 @@ def brute_force(prob_map, chunk=128):
     count = np.zeros(thr.shape, dtype=np.int64)
     exists_any = np.zeros(f.size, dtype=bool)
     for start in range(0, log_u.size, chunk):
-        lu = log_u[start:start + chunk]
-        exists = f[None, :] <= f_isco[start:start + chunk, None]
+        lu = log_u[start : start + chunk]
+        exists = f[None, :] <= f_isco[start : start + chunk, None]
         exists_any |= exists.any(axis=0)
         count += ((lu[:, None, None] > thr[None]) & exists[:, None, :]).sum(axis=0)
     p = count / log_u.size
@@ -80,8 +82,9 @@ def peak_mb(fn):
 def thresholds(prob_map):
     det = prob_map.deterministic
     with np.errstate(invalid="ignore"):
-        return (np.log(det.eta_min)[None, :]
-                - np.log(wf.symmetric_mass_ratio(det.mass_ratio))[:, None])
+        return (
+            np.log(det.eta_min)[None, :] - np.log(wf.symmetric_mass_ratio(det.mass_ratio))[:, None]
+        )
 
 
 def floor(log_u, thr):
@@ -110,8 +113,9 @@ def run(name, params, curve, n, n_brute, grid):
         _, w_fast, c_fast = best_of(3, fast)
         _, w_floor, c_floor = best_of(3, floor, log_u, thr)
     _, w_tenth, c_tenth = best_of(3, fast, tenth)
-    _, w_sampling, c_sampling = timed(exclusion_probability, host, curve, q, period,
-                                      samples=n, seed=2024)
+    _, w_sampling, c_sampling = timed(
+        exclusion_probability, host, curve, q, period, samples=n, seed=2024
+    )
 
     small = sample_host(host, n_brute, seed=2024)
     fast_small, w_fs, c_fs = best_of(3, fast, small)
@@ -121,27 +125,42 @@ def run(name, params, curve, n, n_brute, grid):
     mem_fast = peak_mb(fast)
     partial = int(np.sum((res.above_isco_fraction > 0) & (res.above_isco_fraction < 1)))
 
-    print(f"\n{name}: {n} samples, {q.size} x {period.size} grid, "
-          f"{partial} periods partly above the ISCO")
+    print(
+        f"\n{name}: {n} samples, {q.size} x {period.size} grid, "
+        f"{partial} periods partly above the ISCO"
+    )
     line("fast path (samples given)", w_fast, c_fast)
     line("floor: sort N + search cells", w_floor, c_floor)
-    print(f"  {'ratio fast / floor':<34s}: wall {w_fast / w_floor:6.2f} x   "
-          f"CPU {c_fast / c_floor:6.2f} x   (target <= 2 x)")
+    print(
+        f"  {'ratio fast / floor':<34s}: wall {w_fast / w_floor:6.2f} x   "
+        f"CPU {c_fast / c_floor:6.2f} x   (target <= 2 x)"
+    )
     line("fast path incl. sampling", w_sampling, c_sampling)
-    line(f"fast path at {tenth.n} samples", w_tenth, c_tenth,
-         f"growth N^{math.log(w_fast / w_tenth) / math.log(n / tenth.n):.2f} (wall), "
-         f"N^{math.log(c_fast / c_tenth) / math.log(n / tenth.n):.2f} (CPU)")
+    line(
+        f"fast path at {tenth.n} samples",
+        w_tenth,
+        c_tenth,
+        f"growth N^{math.log(w_fast / w_tenth) / math.log(n / tenth.n):.2f} (wall), "
+        f"N^{math.log(c_fast / c_tenth) / math.log(n / tenth.n):.2f} (CPU)",
+    )
     line(f"fast path at {n_brute} (paired run)", w_fs, c_fs)
-    line(f"brute force at {n_brute} samples", w_brute, c_brute,
-         f"ratio {w_brute / w_fs:.0f} x (wall), {c_brute / c_fs:.0f} x (CPU)")
-    print(f"  probabilities equal brute force bit for bit: {identical} "
-          f"(max |difference| {diff:.3g})")
+    line(
+        f"brute force at {n_brute} samples",
+        w_brute,
+        c_brute,
+        f"ratio {w_brute / w_fs:.0f} x (wall), {c_brute / c_fs:.0f} x (CPU)",
+    )
+    print(
+        f"  probabilities equal brute force bit for bit: {identical} (max |difference| {diff:.3g})"
+    )
     print(f"  peak traced memory, fast path   : {mem_fast:7.1f} MB")
     c95 = res.tightest(0.95)
     best = res.deterministic.tightest()
     if best and c95:
-        print(f"  tightest bound: best-fit q > {best[1]:.3g} {res.verb} at P = {best[0]:.3g}; "
-              f"95% credible q > {c95[1]:.3g} at P = {c95[0]:.3g}")
+        print(
+            f"  tightest bound: best-fit q > {best[1]:.3g} {res.verb} at P = {best[0]:.3g}; "
+            f"95% credible q > {c95[1]:.3g} at P = {c95[0]:.3g}"
+        )
 
 
 def main():

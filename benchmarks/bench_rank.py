@@ -47,15 +47,17 @@ def synthetic_catalogue(n, seed=7):
     sigma = 200.0 * 10 ** ((log_m - 8.49) / 4.38 + rng.normal(0, 0.29 / 4.38, n))
     measured = rng.random(n) < 0.1
     mass = np.where(measured, 10 ** (log_m + rng.normal(0, 0.1, n)), np.nan)
-    return Table({
-        "name": np.char.add("Synth-", np.arange(n).astype(str)),
-        "ra": rng.uniform(0, 360, n),
-        "dec": np.degrees(np.arcsin(rng.uniform(-1, 1, n))),
-        "distance": np.cbrt(rng.uniform(10.0**3, 500.0**3, n)),
-        "mass": mass,
-        "mass_err_dex": np.where(measured, rng.uniform(0.05, 0.2, n), np.nan),
-        "velocity_dispersion": np.where(measured, np.nan, sigma),
-    })
+    return Table(
+        {
+            "name": np.char.add("Synth-", np.arange(n).astype(str)),
+            "ra": rng.uniform(0, 360, n),
+            "dec": np.degrees(np.arcsin(rng.uniform(-1, 1, n))),
+            "distance": np.cbrt(rng.uniform(10.0**3, 500.0**3, n)),
+            "mass": mass,
+            "mass_err_dex": np.where(measured, rng.uniform(0.05, 0.2, n), np.nan),
+            "velocity_dispersion": np.where(measured, np.nan, sigma),
+        }
+    )
 
 
 def reference_expected_number(lm, sig, d_mpc, z, curve, population, n_nodes):
@@ -74,8 +76,9 @@ def reference_expected_number(lm, sig, d_mpc, z, curve, population, n_nodes):
     lo_f = np.minimum(f[:-1][None, :], f_isco)
     hi_f = np.minimum(f[1:][None, :], f_isco)
     # residence time of an eta = 1/4 binary; the 1/eta of other q sits inside W
-    dt = 0.25 * (wf.coalescence_time(m, 1.0, lo_f, z)
-                 - wf.coalescence_time(m, 1.0, hi_f, z)).to_value(u.yr)
+    dt = 0.25 * (
+        wf.coalescence_time(m, 1.0, lo_f, z) - wf.coalescence_time(m, 1.0, hi_f, z)
+    ).to_value(u.yr)
     wq = population.mass_ratio.tail_from_eta(g[None, :] / s)
     per_node = np.nansum(dt * wq, axis=1)
     return population.rate.to_value(1 / u.yr) * float(np.sum(weights[0][use] * per_node))
@@ -105,8 +108,17 @@ def _run_child(catalogue, out, src=None, chunk_size=100_000):
     import subprocess
     import sys
 
-    cmd = [sys.executable, __file__, "--child", "--catalogue", str(catalogue), "--out",
-           str(out), "--chunk-size", str(chunk_size)] + (["--src", src] if src else [])
+    cmd = [
+        sys.executable,
+        __file__,
+        "--child",
+        "--catalogue",
+        str(catalogue),
+        "--out",
+        str(out),
+        "--chunk-size",
+        str(chunk_size),
+    ] + (["--src", src] if src else [])
     env = {**__import__("os").environ, "PYTHONPATH": src or "src"}
     res = subprocess.run(cmd, check=True, capture_output=True, text=True, env=env)
     return json.loads(res.stdout.strip().splitlines()[-1])
@@ -122,6 +134,7 @@ def _write_catalogue(n, path, block=1_000_000):
             t["name"] = np.char.add("Synth-", np.arange(b0, b0 + len(t)).astype(str))
             t["name"] = t["name"].astype(f"S{len(str(n)) + 6}")
             yield t
+
     write_fits_blocks(blocks(), path, n)
 
 
@@ -160,8 +173,9 @@ def _same_values(other, table, tolerance):
         both = np.isfinite(a) & (a != 0)
         assert np.array_equal(np.isfinite(a), np.isfinite(b))
         worst = max(worst, float(np.max(np.abs(a[both] - b[both]) / np.abs(a[both]))))
-    print(f"  same galaxies in the same order: {same_order}; max rel diff of the values "
-          f"{worst:.1e}")
+    print(
+        f"  same galaxies in the same order: {same_order}; max rel diff of the values {worst:.1e}"
+    )
     assert same_order and worst <= tolerance
 
 
@@ -171,12 +185,18 @@ def main():
     ap.add_argument("--subset", type=int, default=10_000)
     ap.add_argument("--nodes", type=int, default=16)
     ap.add_argument("--chunk-size", type=int, default=100_000)
-    ap.add_argument("--no-reference", action="store_true",
-                    help="skip today's path (e.g. at 10^7 rows, where it needs ~40 GB)")
+    ap.add_argument(
+        "--no-reference",
+        action="store_true",
+        help="skip today's path (e.g. at 10^7 rows, where it needs ~40 GB)",
+    )
     ap.add_argument("--reference-rev", default="c4fea20")
-    ap.add_argument("--before", metavar="REV",
-                    help="also run this revision's code (e.g. before a change) in the same run; "
-                         "its table must equal this code's exactly")
+    ap.add_argument(
+        "--before",
+        metavar="REV",
+        help="also run this revision's code (e.g. before a change) in the same run; "
+        "its table must equal this code's exactly",
+    )
     ap.add_argument("--child", action="store_true", help=argparse.SUPPRESS)
     ap.add_argument("--catalogue", help=argparse.SUPPRESS)
     ap.add_argument("--out", help=argparse.SUPPRESS)
@@ -192,68 +212,92 @@ def main():
     work = Path(tmp.name)
     cat_path = work / "synthetic.fits"
     _, w, _ = timed(_write_catalogue, args.rows, cat_path)
-    print(f"catalogue: {args.rows} invented rows (FITS, {cat_path.stat().st_size / 1e6:.0f} MB, "
-          f"written in {w:.1f} s); end to end = rank_to_files, outputs included")
+    print(
+        f"catalogue: {args.rows} invented rows (FITS, {cat_path.stat().st_size / 1e6:.0f} MB, "
+        f"written in {w:.1f} s); end to end = rank_to_files, outputs included"
+    )
 
     fast = _run_child(cat_path, work / "fast", chunk_size=args.chunk_size)
     rate = args.rows / fast["wall"]
-    print(f"streamed (this code): wall {fast['wall']:.1f} s, CPU {fast['cpu']:.1f} s, "
-          f"peak RSS {fast['peak_mb']:,.0f} MB, {rate:,.0f} rows/s "
-          f"({1e3 * fast['peak_mb'] / args.rows:.2f} kB/row)")
+    print(
+        f"streamed (this code): wall {fast['wall']:.1f} s, CPU {fast['cpu']:.1f} s, "
+        f"peak RSS {fast['peak_mb']:,.0f} MB, {rate:,.0f} rows/s "
+        f"({1e3 * fast['peak_mb'] / args.rows:.2f} kB/row)"
+    )
     table = QTable.read(work / "fast" / "ranking.fits", memmap=True)
-    assert len(table) == args.rows and np.all(np.asarray(table["rank"]) ==
-                                              np.arange(1, args.rows + 1))
+    assert len(table) == args.rows and np.all(
+        np.asarray(table["rank"]) == np.arange(1, args.rows + 1)
+    )
     if args.before:
         before_src = _reference_source(args.before, work / "before_src")
         before = _run_child(cat_path, work / "before", src=before_src)
-        print(f"before ({args.before}, streamed): wall {before['wall']:.1f} s, CPU "
-              f"{before['cpu']:.1f} s, peak RSS {before['peak_mb']:,.0f} MB, "
-              f"{args.rows / before['wall']:,.0f} rows/s")
-        print(f"ratio before/this code: wall {before['wall'] / fast['wall']:.2f}x, "
-              f"CPU {before['cpu'] / fast['cpu']:.2f}x, peak RSS "
-              f"{before['peak_mb'] / fast['peak_mb']:.2f}x")
+        print(
+            f"before ({args.before}, streamed): wall {before['wall']:.1f} s, CPU "
+            f"{before['cpu']:.1f} s, peak RSS {before['peak_mb']:,.0f} MB, "
+            f"{args.rows / before['wall']:,.0f} rows/s"
+        )
+        print(
+            f"ratio before/this code: wall {before['wall'] / fast['wall']:.2f}x, "
+            f"CPU {before['cpu'] / fast['cpu']:.2f}x, peak RSS "
+            f"{before['peak_mb'] / fast['peak_mb']:.2f}x"
+        )
         _same_values(_read_ranking(work / "before"), table, 0.0)
     if not args.no_reference:
         ref_src = _reference_source(args.reference_rev, work)
         ref = _run_child(cat_path, work / "ref", src=ref_src)
-        print(f"today's path ({args.reference_rev}, in memory + one ECSV): wall "
-              f"{ref['wall']:.1f} s, CPU {ref['cpu']:.1f} s, peak RSS {ref['peak_mb']:,.0f} MB, "
-              f"{args.rows / ref['wall']:,.0f} rows/s")
-        print(f"ratio today/streamed: wall {ref['wall'] / fast['wall']:.2f}x, "
-              f"CPU {ref['cpu'] / fast['cpu']:.2f}x, peak RSS "
-              f"{ref['peak_mb'] / fast['peak_mb']:.2f}x")
+        print(
+            f"today's path ({args.reference_rev}, in memory + one ECSV): wall "
+            f"{ref['wall']:.1f} s, CPU {ref['cpu']:.1f} s, peak RSS {ref['peak_mb']:,.0f} MB, "
+            f"{args.rows / ref['wall']:,.0f} rows/s"
+        )
+        print(
+            f"ratio today/streamed: wall {ref['wall'] / fast['wall']:.2f}x, "
+            f"CPU {ref['cpu'] / fast['cpu']:.2f}x, peak RSS "
+            f"{ref['peak_mb'] / fast['peak_mb']:.2f}x"
+        )
         # the default cosmology now comes from a shipped Planck18 table that agrees with
         # astropy's spline to ~1e-12 (tests/test_cosmo.py); that is the size of the change
         _same_values(_read_ranking(work / "ref"), table, 1e-9)
         ok = ref["wall"] / fast["wall"] >= 3 and fast["peak_mb"] < 1536
-        print(f"target >= 3x faster than today (wall) and < 1.5 GB peak: "
-              f"{'met' if ok else 'MISSED'} (at {args.rows} rows)")
+        print(
+            f"target >= 3x faster than today (wall) and < 1.5 GB peak: "
+            f"{'met' if ok else 'MISSED'} (at {args.rows} rows)"
+        )
     else:
-        print(f"target < 3 GB peak: {'met' if fast['peak_mb'] < 3072 else 'MISSED'} "
-              f"(at {args.rows} rows)")
+        print(
+            f"target < 3 GB peak: {'met' if fast['peak_mb'] < 3072 else 'MISSED'} "
+            f"(at {args.rows} rows)"
+        )
 
     curve = load_curve(data_file("synthetic_h0_limit.ecsv"))
     pop = PopulationModel()
-    sub = table[np.sort(np.random.default_rng(1).permutation(len(table))[:args.subset])]
+    sub = table[np.sort(np.random.default_rng(1).permutation(len(table))[: args.subset])]
     lm = np.asarray(sub["log_mass"])
     sig = np.asarray(sub["log_mass_sigma"])
     d = sub["distance"].to_value(u.Mpc)
     z = np.asarray(sub["redshift"])
     f, thr = curve.frequency, curve.h0_threshold(curve.frequency)
-    fast_m, t_fast, c_fast = timed(galaxy_metrics, lm, sig, d * u.Mpc, z, f, thr, pop,
-                                   n_nodes=args.nodes)
-    ref_n, t_ref, c_ref = timed(lambda: np.array([
-        reference_expected_number(lm[i], sig[i], d[i], z[i], curve, pop, args.nodes)
-        for i in range(lm.size)]))
+    fast_m, t_fast, c_fast = timed(
+        galaxy_metrics, lm, sig, d * u.Mpc, z, f, thr, pop, n_nodes=args.nodes
+    )
+    ref_n, t_ref, c_ref = timed(
+        lambda: np.array(
+            [
+                reference_expected_number(lm[i], sig[i], d[i], z[i], curve, pop, args.nodes)
+                for i in range(lm.size)
+            ]
+        )
+    )
     a, b = fast_m["expected_number"], ref_n
     assert np.array_equal(a == 0, b == 0), "zero pattern differs"
     nz = b > 0
     rel = float(np.max(np.abs(a[nz] - b[nz]) / b[nz])) if nz.any() else 0.0
-    same_table = np.max(np.abs(a - np.asarray(sub["expected_number"])) /
-                        np.where(b > 0, b, 1.0))
-    print(f"subset {lm.size} rows ({int(nz.sum())} with N > 0): vectorised {t_fast:.2f} s "
-          f"(CPU {c_fast:.2f} s), brute-force loop {t_ref:.1f} s (CPU {c_ref:.1f} s), ratio "
-          f"{t_ref / t_fast:,.0f}x; max rel diff {rel:.2e} (vs written table {same_table:.2e})")
+    same_table = np.max(np.abs(a - np.asarray(sub["expected_number"])) / np.where(b > 0, b, 1.0))
+    print(
+        f"subset {lm.size} rows ({int(nz.sum())} with N > 0): vectorised {t_fast:.2f} s "
+        f"(CPU {c_fast:.2f} s), brute-force loop {t_ref:.1f} s (CPU {c_ref:.1f} s), ratio "
+        f"{t_ref / t_fast:,.0f}x; max rel diff {rel:.2e} (vs written table {same_table:.2e})"
+    )
     assert rel < 1e-10 and same_table < 1e-10
     del table, sub
     tmp.cleanup()

@@ -66,8 +66,9 @@ def generate(n, where):
     whole = pd.concat(frames, ignore_index=True)
     del frames
     # partitions of up to 250,000 rows (few, so their fixed cost is small); no margin cache
-    lsdb.from_dataframe(whole, lowest_order=0, highest_order=6, partition_rows=250_000,
-                        margin_threshold=None).write_catalog(hats)
+    lsdb.from_dataframe(
+        whole, lowest_order=0, highest_order=6, partition_rows=250_000, margin_threshold=None
+    ).write_catalog(hats)
     return parquet, hats
 
 
@@ -97,8 +98,10 @@ def child_memory(parquet, rows, out):
     curve = load_curve(path(CURVE))
     r, wall, cpu = timed(rank_catalog, table, curve, on_bad="skip")
     names = [str(x) for x in r.table["name"][:1000]]
-    json.dump({"wall": wall, "cpu": cpu, "rows": rows, "rss_mb": _maxrss_mb(),
-               "names": names}, open(out, "w"))
+    json.dump(
+        {"wall": wall, "cpu": cpu, "rows": rows, "rss_mb": _maxrss_mb(), "names": names},
+        open(out, "w"),
+    )
 
 
 def child_dask(hats, workers, out_dir, out):
@@ -113,13 +116,28 @@ def child_dask(hats, workers, out_dir, out):
     with dask_client(workers) as client:
         start = time.perf_counter() - w0
         before = client.run(_worker_usage)
-        r, wall, cpu = timed(rank_catalog_dask, hats, curve, out_dir, on_bad="skip",
-                             scheduler=client.scheduler.address)
+        r, wall, cpu = timed(
+            rank_catalog_dask,
+            hats,
+            curve,
+            out_dir,
+            on_bad="skip",
+            scheduler=client.scheduler.address,
+        )
         after = client.run(_worker_usage)
     worker_cpu = sum(after[k]["cpu"] - before[k]["cpu"] for k in after)
-    json.dump({"wall": wall, "cpu": cpu + worker_cpu, "start": start, "rows": r.n_read,
-               "rss_mb": _maxrss_mb(), "worker_rss_mb": [v["rss_mb"] for v in after.values()],
-               "names": [str(x) for x in r.table["name"][:50]]}, open(out, "w"))
+    json.dump(
+        {
+            "wall": wall,
+            "cpu": cpu + worker_cpu,
+            "start": start,
+            "rows": r.n_read,
+            "rss_mb": _maxrss_mb(),
+            "worker_rss_mb": [v["rss_mb"] for v in after.values()],
+            "names": [str(x) for x in r.table["name"][:50]],
+        },
+        open(out, "w"),
+    )
 
 
 def _run_child(*args):
@@ -157,25 +175,32 @@ def main():
     print(f"  generation (Parquet + HATS, separate from the ranking): {wall:.1f} s wall")
     m = _run_child("memory", parquet, mem_rows)
     rate_m = m["rows"] / m["wall"]
-    print(f"  in-memory engine, {mem_rows:,} rows: {m['wall']:.1f} s wall / {m['cpu']:.1f} s "
-          f"CPU, {rate_m:,.0f} rows/s, peak RSS {m['rss_mb']:,.0f} MB")
+    print(
+        f"  in-memory engine, {mem_rows:,} rows: {m['wall']:.1f} s wall / {m['cpu']:.1f} s "
+        f"CPU, {rate_m:,.0f} rows/s, peak RSS {m['rss_mb']:,.0f} MB"
+    )
     rates = {}
     for w in sizes:
         d = _run_child("dask", hats, w, base / f"out-{w}")
         rates[w] = d["rows"] / d["wall"]
-        print(f"  dask engine, {w} worker(s), {d['rows']:,} rows: {d['wall']:.1f} s wall / "
-              f"{d['cpu']:.1f} s CPU (client + workers), {rates[w]:,.0f} rows/s "
-              f"({rates[w] / w:,.0f} per worker), cluster start {d['start']:.1f} s; "
-              f"peak RSS client {d['rss_mb']:,.0f} MB, workers "
-              + ", ".join(f"{x:,.0f}" for x in d["worker_rss_mb"]) + " MB"
-              + ("" if max(d["worker_rss_mb"]) < 2048 else "  OVER 2 GB"))
+        print(
+            f"  dask engine, {w} worker(s), {d['rows']:,} rows: {d['wall']:.1f} s wall / "
+            f"{d['cpu']:.1f} s CPU (client + workers), {rates[w]:,.0f} rows/s "
+            f"({rates[w] / w:,.0f} per worker), cluster start {d['start']:.1f} s; "
+            f"peak RSS client {d['rss_mb']:,.0f} MB, workers "
+            + ", ".join(f"{x:,.0f}" for x in d["worker_rss_mb"])
+            + " MB"
+            + ("" if max(d["worker_rss_mb"]) < 2048 else "  OVER 2 GB")
+        )
         if a.rows == mem_rows:
-            same = d["names"] == m["names"][:len(d["names"])]
+            same = d["names"] == m["names"][: len(d["names"])]
             print(f"    first {len(d['names'])} names as the in-memory engine: {same}")
     if 1 in rates and 2 in rates:
-        print(f"  scaling 1 -> 2 workers: {rates[2] / rates[1]:.2f} x "
-              f"(ideal 2 x on two idle cores); dask (2) / in-memory rows/s: "
-              f"{rates[2] / rate_m:.2f} x")
+        print(
+            f"  scaling 1 -> 2 workers: {rates[2] / rates[1]:.2f} x "
+            f"(ideal 2 x on two idle cores); dask (2) / in-memory rows/s: "
+            f"{rates[2] / rate_m:.2f} x"
+        )
     if not a.keep and a.dir is None:
         import shutil
 

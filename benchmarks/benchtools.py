@@ -57,8 +57,9 @@ def process_times(cmd, repeat=3, env=None):
     for _ in range(repeat):
         r0 = resource.getrusage(resource.RUSAGE_CHILDREN)
         w0 = time.perf_counter()
-        subprocess.run(cmd, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
-                       env=env)
+        subprocess.run(
+            cmd, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env
+        )
         walls.append(time.perf_counter() - w0)
         r1 = resource.getrusage(resource.RUSAGE_CHILDREN)
         cpus.append((r1.ru_utime - r0.ru_utime) + (r1.ru_stime - r0.ru_stime))

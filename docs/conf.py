@@ -101,8 +101,9 @@ def write_cli_help(app):
     parts += ["   " + line if line else "" for line in main.get_help(root).splitlines()]
     for name in sorted(main.list_commands(root)):
         command = main.get_command(root, name)
-        ctx = click.Context(command, info_name=name, parent=root, **width,
-                            **command.context_settings)
+        ctx = click.Context(
+            command, info_name=name, parent=root, **width, **command.context_settings
+        )
         title = f"``ptaconstrain {name}``"
         parts += ["", title, "-" * len(title), "", ".. code-block:: text", ""]
         parts += ["   " + line if line else "" for line in command.get_help(ctx).splitlines()]

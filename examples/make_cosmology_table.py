@@ -25,8 +25,13 @@ from astropy.table import Table
 
 from ptaconstrain.cosmo import spline_nodes
 
-OUT = (Path(__file__).resolve().parent.parent / "src" / "ptaconstrain" / "data"
-       / "planck18_distance.ecsv")
+OUT = (
+    Path(__file__).resolve().parent.parent
+    / "src"
+    / "ptaconstrain"
+    / "data"
+    / "planck18_distance.ecsv"
+)
 
 
 def main():

@@ -126,12 +126,23 @@ def h0_limit_sky_map(curve, path, overwrite=False, nside=8, n_freq=16):
     pattern /= pattern.mean()
     maps = [hi * pattern for hi in h]
     extra = [(f"FREQ{i + 1}", float(fi)) for i, fi in enumerate(f)]
-    extra += [("MAPKIND", "h0_limit"), ("CONFLEV", 0.95), ("SPAN", 15.0),
-              ("COMMENT", "SYNTHETIC h0 upper-limit map of the fictional Kestrel Timing Array"),
-              ("COMMENT", "invented by examples/make_curves.py; describes no real data")]
+    extra += [
+        ("MAPKIND", "h0_limit"),
+        ("CONFLEV", 0.95),
+        ("SPAN", 15.0),
+        ("COMMENT", "SYNTHETIC h0 upper-limit map of the fictional Kestrel Timing Array"),
+        ("COMMENT", "invented by examples/make_curves.py; describes no real data"),
+    ]
     with atomic_write(path, overwrite) as tmp:
-        hp.write_map(str(tmp), maps, coord="C", column_units="", extra_header=extra,
-                     dtype=np.float64, overwrite=True)
+        hp.write_map(
+            str(tmp),
+            maps,
+            coord="C",
+            column_units="",
+            extra_header=extra,
+            dtype=np.float64,
+            overwrite=True,
+        )
 
 
 def main(argv):
@@ -141,8 +152,10 @@ def main(argv):
     save_curve(limit, out / "synthetic_h0_limit.ecsv", overwrite=overwrite)
     save_curve(future_psd_curve(), out / "synthetic_future_psd.ecsv", overwrite=overwrite)
     h0_limit_sky_map(limit, out / "synthetic_h0_limit_map.fits", overwrite=overwrite)
-    print(f"wrote {out}/synthetic_h0_limit.ecsv, synthetic_future_psd.ecsv and "
-          "synthetic_h0_limit_map.fits")
+    print(
+        f"wrote {out}/synthetic_h0_limit.ecsv, synthetic_future_psd.ecsv and "
+        "synthetic_h0_limit_map.fits"
+    )
 
 
 if __name__ == "__main__":

@@ -43,13 +43,19 @@ def make_table(seed=SEED):
     n_dense, n_loose, n_rand = 22, 10, 8
     dense = _group(rng, n_dense, 280.0, -35.0, 20.0)
     loose = _group(rng, n_loose, 60.0, 20.0, 25.0)
-    rand = SkyCoord(rng.uniform(0, 360, n_rand) * u.deg,
-                    np.degrees(np.arcsin(rng.uniform(-1, 1, n_rand))) * u.deg)
+    rand = SkyCoord(
+        rng.uniform(0, 360, n_rand) * u.deg,
+        np.degrees(np.arcsin(rng.uniform(-1, 1, n_rand))) * u.deg,
+    )
     ra = np.concatenate([dense.ra.deg, loose.ra.deg, rand.ra.deg])
     dec = np.concatenate([dense.dec.deg, loose.dec.deg, rand.dec.deg])
     n = ra.size
-    log_rms = np.concatenate([rng.uniform(np.log10(0.1), np.log10(0.8), n_dense),
-                              rng.uniform(np.log10(0.1), np.log10(2.0), n - n_dense)])
+    log_rms = np.concatenate(
+        [
+            rng.uniform(np.log10(0.1), np.log10(0.8), n_dense),
+            rng.uniform(np.log10(0.1), np.log10(2.0), n - n_dense),
+        ]
+    )
     cadence = rng.choice([14.0, 21.0, 28.0], n)
     end = rng.uniform(59600.0, 60000.0, n)
     span_yr = rng.uniform(5.0, 20.0, n)
@@ -69,13 +75,17 @@ def make_table(seed=SEED):
     t["red_gamma"] = np.round(gamma, 2)
     t["distance"] = np.round(rng.uniform(0.5, 4.0, n), 2) * u.kpc
     t.meta["name"] = "demo_array"
-    t.meta["description"] = ("INVENTED synthetic pulsar timing array for the ptaconstrain "
-                             "demo: fictional pulsars, not real objects")
+    t.meta["description"] = (
+        "INVENTED synthetic pulsar timing array for the ptaconstrain "
+        "demo: fictional pulsars, not real objects"
+    )
     t.meta["synthetic"] = True
     t.meta["generator"] = "examples/make_demo_array.py (seeded; assumptions in its docstring)"
-    t.meta["columns"] = ("toa_rms: white-noise rms per TOA; cadence: days between TOAs; "
-                         "start_mjd/end_mjd: first/last TOA; red_amp/red_gamma: power law "
-                         "P = A^2/(12 pi^2) f_yr^-3 (f/f_yr)^-gamma, blank gamma = no red noise")
+    t.meta["columns"] = (
+        "toa_rms: white-noise rms per TOA; cadence: days between TOAs; "
+        "start_mjd/end_mjd: first/last TOA; red_amp/red_gamma: power law "
+        "P = A^2/(12 pi^2) f_yr^-3 (f/f_yr)^-gamma, blank gamma = no red noise"
+    )
     return t
 
 

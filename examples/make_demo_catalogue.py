@@ -64,25 +64,32 @@ def make(n=N, seed=SEED):
     m_meas = 10.0 ** (log_m + rng.normal(0.0, 0.1, n))
     err_dex = rng.uniform(0.04, 0.2, n)
     t["mass"] = MaskedColumn(np.round(m_meas, -5), mask=~measured, unit=u.Msun)
-    t["mass_err"] = MaskedColumn(np.round(m_meas * err_dex * np.log(10.0), -5),
-                                 mask=~measured, unit=u.Msun)
+    t["mass_err"] = MaskedColumn(
+        np.round(m_meas * err_dex * np.log(10.0), -5), mask=~measured, unit=u.Msun
+    )
     t["velocity_dispersion"] = MaskedColumn(
-        np.round(predictor(rel["kh13_sigma"], log_m), 1), mask=~has_sigma, unit=u.km / u.s)
-    t["k_abs_mag"] = MaskedColumn(np.round(predictor(rel["kh13_kband"], log_m), 2),
-                                  mask=~has_k, unit=u.mag)
-    t["bulge_mass"] = MaskedColumn(np.round(predictor(rel["kh13_bulge"], log_m), -8),
-                                   mask=~has_bulge, unit=u.Msun)
-    t["core_radius"] = MaskedColumn(np.round(predictor(rel["thomas16_core"], log_m), 4),
-                                    mask=~has_core, unit=u.kpc)
-    t.meta.update({
-        "description": "INVENTED galaxies for the ptaconstrain demo; not real objects. "
-                       "Masses and galaxy properties are random draws around the shipped "
-                       "scaling relations.",
-        "invented": True,
-        "generator": "examples/make_demo_catalogue.py",
-        "seed": seed,
-        "rows": n,
-    })
+        np.round(predictor(rel["kh13_sigma"], log_m), 1), mask=~has_sigma, unit=u.km / u.s
+    )
+    t["k_abs_mag"] = MaskedColumn(
+        np.round(predictor(rel["kh13_kband"], log_m), 2), mask=~has_k, unit=u.mag
+    )
+    t["bulge_mass"] = MaskedColumn(
+        np.round(predictor(rel["kh13_bulge"], log_m), -8), mask=~has_bulge, unit=u.Msun
+    )
+    t["core_radius"] = MaskedColumn(
+        np.round(predictor(rel["thomas16_core"], log_m), 4), mask=~has_core, unit=u.kpc
+    )
+    t.meta.update(
+        {
+            "description": "INVENTED galaxies for the ptaconstrain demo; not real objects. "
+            "Masses and galaxy properties are random draws around the shipped "
+            "scaling relations.",
+            "invented": True,
+            "generator": "examples/make_demo_catalogue.py",
+            "seed": seed,
+            "rows": n,
+        }
+    )
     return t
 
 

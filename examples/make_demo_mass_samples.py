@@ -21,8 +21,13 @@ from astropy.table import QTable
 
 SEED = 20261202
 N = 2000
-OUT = (Path(__file__).resolve().parent.parent / "src" / "ptaconstrain" / "data"
-       / "demo_mass_samples.ecsv")
+OUT = (
+    Path(__file__).resolve().parent.parent
+    / "src"
+    / "ptaconstrain"
+    / "data"
+    / "demo_mass_samples.ecsv"
+)
 
 
 def main():
@@ -37,8 +42,10 @@ def main():
     t["mass"].info.format = ".5e"
     t["distance"].info.format = ".4f"
     t["weight"].info.format = ".4f"
-    t.meta["description"] = ("INVENTED posterior samples of the black-hole mass of a fictional "
-                             "galaxy (mass at each sample's distance), for the demo and examples")
+    t.meta["description"] = (
+        "INVENTED posterior samples of the black-hole mass of a fictional "
+        "galaxy (mass at each sample's distance), for the demo and examples"
+    )
     t.meta["generator"] = "examples/make_demo_mass_samples.py"
     t.write(OUT, format="ascii.ecsv", overwrite=True)
     print(f"wrote {OUT} ({N} rows)")

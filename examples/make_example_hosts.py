@@ -43,8 +43,18 @@ def make():
     """The invented hosts table (blank cells are masked)."""
     cols = list(zip(*ROWS, strict=True))
     units = [None, u.Msun, u.dex, u.Mpc, u.Mpc, u.Mpc, None, u.deg, u.deg, u.km / u.s]
-    names = ["name", "mass", "mass_err_dex", "distance", "distance_err", "mass_distance",
-             "redshift", "ra", "dec", "velocity_dispersion"]
+    names = [
+        "name",
+        "mass",
+        "mass_err_dex",
+        "distance",
+        "distance_err",
+        "mass_distance",
+        "redshift",
+        "ra",
+        "dec",
+        "velocity_dispersion",
+    ]
     t = Table()
     for name, unit, values in zip(names, units, cols, strict=True):
         if name == "name":
@@ -55,15 +65,19 @@ def make():
         t[name] = col
         if unit is not None and unit != u.dex:
             t[name].unit = unit
-    t.meta["description"] = ("INVENTED host galaxies for 'ptaconstrain exclude --hosts': "
-                             "fictional names, masses, distances and positions; not real "
-                             "objects")
+    t.meta["description"] = (
+        "INVENTED host galaxies for 'ptaconstrain exclude --hosts': "
+        "fictional names, masses, distances and positions; not real "
+        "objects"
+    )
     t.meta["synthetic"] = True
-    t.meta["columns"] = ("mass: total BH mass quoted at mass_distance; mass_err_dex: 1-sigma "
-                         "log-normal error; distance: luminosity distance with Gaussian "
-                         "distance_err; redshift: used where no distance is given; "
-                         "velocity_dispersion: central sigma (draws the hardening radius, "
-                         "and gives the mass by M-sigma where none is measured)")
+    t.meta["columns"] = (
+        "mass: total BH mass quoted at mass_distance; mass_err_dex: 1-sigma "
+        "log-normal error; distance: luminosity distance with Gaussian "
+        "distance_err; redshift: used where no distance is given; "
+        "velocity_dispersion: central sigma (draws the hardening radius, "
+        "and gives the mass by M-sigma where none is measured)"
+    )
     return t
 
 

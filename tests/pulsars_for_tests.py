@@ -16,18 +16,37 @@ def small_array(red=False, **kw):
     """Three pulsars with different epochs, cadences and noise (invented)."""
     coord = SkyCoord([10.0, 200.0, 300.0] * u.deg, [20.0, -40.0, 60.0] * u.deg)
     return PulsarArray(
-        ["T1", "T2", "T3"], coord, [0.5, 1.0, 0.3] * u.us, [14.0, 21.0, 28.0] * u.d,
-        [53000.0, 54000.0, 55000.0], [58500.0, 59000.0, 59800.0],
-        red_amp=[0.0, 2e-14 if red else 0.0, 0.0], red_gamma=[np.nan, 4.0, np.nan],
-        name="test", **kw)
+        ["T1", "T2", "T3"],
+        coord,
+        [0.5, 1.0, 0.3] * u.us,
+        [14.0, 21.0, 28.0] * u.d,
+        [53000.0, 54000.0, 55000.0],
+        [58500.0, 59000.0, 59800.0],
+        red_amp=[0.0, 2e-14 if red else 0.0, 0.0],
+        red_gamma=[np.nan, 4.0, np.nan],
+        name="test",
+        **kw,
+    )
 
 
 def timing_fit_columns(mjd):
     """The documented timing model, written out independently of the library."""
     x = (mjd - mjd.mean()) / (mjd[-1] - mjd[0])
     a = 2 * np.pi * (mjd - 51544.5) / SIDEREAL_YEAR_D
-    return np.stack([np.ones_like(x), x, x**2, np.cos(a), np.sin(a), x * np.cos(a),
-                     x * np.sin(a), np.cos(2 * a), np.sin(2 * a)], axis=1)
+    return np.stack(
+        [
+            np.ones_like(x),
+            x,
+            x**2,
+            np.cos(a),
+            np.sin(a),
+            x * np.cos(a),
+            x * np.sin(a),
+            np.cos(2 * a),
+            np.sin(2 * a),
+        ],
+        axis=1,
+    )
 
 
 def cw_residuals(mjd_grid, p, n, h0, f, inc, psi, phi0):
@@ -85,8 +104,14 @@ def projected_inverse_covariances(arr):
         t = (mjd - mjd.mean()) * DAY * u.s
         sig = arr.toa_rms[k].to_value(u.s)
         cov = sig**2 * np.eye(mjd.size)
-        red = red_noise_basis(t, (mjd[-1] - mjd[0]) * u.d, arr.toa_rms[k], arr.cadence[k],
-                              arr.red_amp[k], arr.red_gamma[k])
+        red = red_noise_basis(
+            t,
+            (mjd[-1] - mjd[0]) * u.d,
+            arr.toa_rms[k],
+            arr.cadence[k],
+            arr.red_amp[k],
+            arr.red_gamma[k],
+        )
         if red is not None:
             cov += red[0] @ np.diag(red[1].to_value(u.s**2)) @ red[0].T
         ci = np.linalg.inv(cov)

@@ -34,8 +34,7 @@ def test_shipped_table_inverse_matches_z_at_value():
     # astropy.cosmology.z_at_value (bounded root finding, ztol 1e-10 here)
     z = np.array([1e-4, 3e-3, 0.0222, 0.1, 0.7, 2.0, 6.5, 10.0])
     d = Planck18.luminosity_distance(z)
-    ref = np.array([z_at_value(Planck18.luminosity_distance, di, ztol=1e-10).value
-                    for di in d])
+    ref = np.array([z_at_value(Planck18.luminosity_distance, di, ztol=1e-10).value for di in d])
     np.testing.assert_allclose(cosmo.redshift_at(d, cosmo.PLANCK18), ref, rtol=1e-6)
     # and the table is what astropy's own Planck18 object is converted with
     np.testing.assert_allclose(cosmo.redshift_at(d, Planck18), ref, rtol=1e-6)
@@ -59,12 +58,14 @@ def test_hermite_evaluation_is_scipy_cubic_spline():
     lz, ld, _ = cosmo.spline_nodes(WMAP9)
     dz = cosmo.DistanceRedshift(WMAP9)
     x = np.log(np.geomspace(1e-8, 20, 5001))
-    np.testing.assert_allclose(np.log(dz.distance(np.exp(x))), CubicSpline(lz, ld)(x),
-                               rtol=0, atol=1e-12)
+    np.testing.assert_allclose(
+        np.log(dz.distance(np.exp(x))), CubicSpline(lz, ld)(x), rtol=0, atol=1e-12
+    )
     # the inverse (reciprocal slopes) agrees with the spline of ln z against ln D_L
     y = np.log(dz.distance(np.exp(x)))
-    np.testing.assert_allclose(np.log(dz.redshift(np.exp(y))), CubicSpline(ld, lz)(y),
-                               rtol=0, atol=1e-9)
+    np.testing.assert_allclose(
+        np.log(dz.redshift(np.exp(y))), CubicSpline(ld, lz)(y), rtol=0, atol=1e-9
+    )
     # and round-trips
     np.testing.assert_allclose(dz.redshift(dz.distance(Z)), Z, rtol=1e-9)
 
@@ -84,18 +85,23 @@ def test_astropy_default_cosmology_is_still_honoured():
 
 def test_default_needs_no_astropy_cosmology_import():
     # a fresh interpreter: a host at a distance and a redshift, without astropy.cosmology
-    code = ("import sys\nfrom ptaconstrain.binary.host import Host\n"
-            "h = Host('A', 2e10, 100)\ng = Host('B', 2e10, redshift=0.05)\n"
-            "assert h.cosmology.name == 'Planck18'\n"
-            "print(h.redshift, g.distance.value, 'astropy.cosmology' in sys.modules)")
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         check=True).stdout.split()
+    code = (
+        "import sys\nfrom ptaconstrain.binary.host import Host\n"
+        "h = Host('A', 2e10, 100)\ng = Host('B', 2e10, redshift=0.05)\n"
+        "assert h.cosmology.name == 'Planck18'\n"
+        "print(h.redshift, g.distance.value, 'astropy.cosmology' in sys.modules)"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True
+    ).stdout.split()
     assert out[2] == "False"
     # astropy.cosmology.z_at_value / luminosity_distance, as above
     assert float(out[0]) == pytest.approx(
-        z_at_value(Planck18.luminosity_distance, 100 * u.Mpc, ztol=1e-10).value, rel=1e-6)
+        z_at_value(Planck18.luminosity_distance, 100 * u.Mpc, ztol=1e-10).value, rel=1e-6
+    )
     assert float(out[1]) == pytest.approx(
-        Planck18.luminosity_distance(0.05).to_value(u.Mpc), rel=1e-6)
+        Planck18.luminosity_distance(0.05).to_value(u.Mpc), rel=1e-6
+    )
 
 
 def test_stand_in_behaves_as_planck18():

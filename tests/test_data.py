@@ -34,8 +34,7 @@ def test_invented_files_say_so_in_the_listing_and_in_their_own_metadata():
 def test_a_short_name_and_a_file_name_give_the_same_file():
     assert data.path("synthetic_h0_limit") == data.path("synthetic_h0_limit.ecsv")
     assert data.resolve("synthetic_h0_limit", "curve") == data.path("synthetic_h0_limit")
-    assert data.resolve("demo_catalogue.ecsv", ["catalogue", "hosts"]).name == \
-        "demo_catalogue.ecsv"
+    assert data.resolve("demo_catalogue.ecsv", ["catalogue", "hosts"]).name == "demo_catalogue.ecsv"
 
 
 def test_an_existing_path_wins_over_a_shipped_name(tmp_path, monkeypatch):
@@ -45,11 +44,14 @@ def test_an_existing_path_wins_over_a_shipped_name(tmp_path, monkeypatch):
     assert data.resolve(str(tmp_path / "synthetic_h0_limit"), "curve").parent == tmp_path
 
 
-@pytest.mark.parametrize("text, kinds, words", [
-    ("demo_array", "curve", "is a pulsar list, not a sensitivity curve"),
-    ("nothing_here.ecsv", "curve", "file not found, and no shipped sensitivity curve"),
-    ("nothing_here.ecsv", "pulsar list", "shipped: demo_array"),
-])
+@pytest.mark.parametrize(
+    "text, kinds, words",
+    [
+        ("demo_array", "curve", "is a pulsar list, not a sensitivity curve"),
+        ("nothing_here.ecsv", "curve", "file not found, and no shipped sensitivity curve"),
+        ("nothing_here.ecsv", "pulsar list", "shipped: demo_array"),
+    ],
+)
 def test_unknown_or_mismatched_names_give_one_line_naming_what_fits(text, kinds, words):
     with pytest.raises(InputError) as err:
         data.resolve(text, kinds)
@@ -74,5 +76,4 @@ def test_path_reads_the_same_bytes_as_importlib_resources():
 
     for f in data.shipped():
         expected = resources.files("ptaconstrain.data").joinpath(f.filename).read_bytes()
-        assert hashlib.sha256(f.path.read_bytes()).digest() == \
-            hashlib.sha256(expected).digest()
+        assert hashlib.sha256(f.path.read_bytes()).digest() == hashlib.sha256(expected).digest()

@@ -26,10 +26,14 @@ def public_modules():
     """ptaconstrain, each of its subpackages (found, so a new one is not missed), errors, cosmo."""
     import ptaconstrain
 
-    packages = sorted(f"ptaconstrain.{m.name}" for m in pkgutil.iter_modules(ptaconstrain.__path__)
-                      if m.ispkg)
-    return [name for name in ["ptaconstrain", *packages, "ptaconstrain.errors",
-                              "ptaconstrain.cosmo"] if name not in EXEMPT]
+    packages = sorted(
+        f"ptaconstrain.{m.name}" for m in pkgutil.iter_modules(ptaconstrain.__path__) if m.ispkg
+    )
+    return [
+        name
+        for name in ["ptaconstrain", *packages, "ptaconstrain.errors", "ptaconstrain.cosmo"]
+        if name not in EXEMPT
+    ]
 
 
 PUBLIC = public_modules()
@@ -67,11 +71,14 @@ def missing_sections(obj):
     is_protocol = inspect.isclass(obj) and Protocol in getattr(obj, "__mro__", ())
     # a dataclass's fields are its parameters: an Attributes section documents both
     fields_listed = dataclasses.is_dataclass(obj) and has_section(doc, "Attributes")
-    if (takes_arguments(obj) and not is_protocol and not fields_listed
-            and not has_section(doc, "Parameters")):
+    if (
+        takes_arguments(obj)
+        and not is_protocol
+        and not fields_listed
+        and not has_section(doc, "Parameters")
+    ):
         missing.append("Parameters")
-    if not inspect.isclass(obj) and not (has_section(doc, "Returns")
-                                         or has_section(doc, "Yields")):
+    if not inspect.isclass(obj) and not (has_section(doc, "Returns") or has_section(doc, "Yields")):
         missing.append("Returns")
     if not has_section(doc, "Examples") or ">>> " not in doc.split("Examples\n--------")[-1]:
         missing.append("Examples")

@@ -22,21 +22,34 @@ dec_deg = st.floats(-90.0, 90.0, allow_nan=False)
 
 
 sexa_ra = st.tuples(st.integers(0, 23), st.integers(0, 59), st.floats(0, 59.999))
-sexa_dec = st.tuples(st.sampled_from(["+", "-", "", MINUS]), st.integers(0, 89),
-                     st.integers(0, 59), st.floats(0, 59.999))
+sexa_dec = st.tuples(
+    st.sampled_from(["+", "-", "", MINUS]),
+    st.integers(0, 89),
+    st.integers(0, 59),
+    st.floats(0, 59.999),
+)
 style = st.sampled_from(["letters", "colons", "spaces"])
 
 
 def _ra_text(t, how):
     h, m, s = t
-    return {"letters": f"{h}h{m}m{s:.3f}s", "colons": f"{h:02d}:{m:02d}:{s:06.3f}",
-            "spaces": f"{h} {m} {s:.3f}"}[how]
+    return {
+        "letters": f"{h}h{m}m{s:.3f}s",
+        "colons": f"{h:02d}:{m:02d}:{s:06.3f}",
+        "spaces": f"{h} {m} {s:.3f}",
+    }[how]
 
 
 def _dec_text(t, how):
     sign, d, m, s = t
-    return sign + {"letters": f"{d}d{m}m{s:.3f}s", "colons": f"{d:02d}:{m:02d}:{s:06.3f}",
-                   "spaces": f"{d} {m} {s:.3f}"}[how]
+    return (
+        sign
+        + {
+            "letters": f"{d}d{m}m{s:.3f}s",
+            "colons": f"{d:02d}:{m:02d}:{s:06.3f}",
+            "spaces": f"{d} {m} {s:.3f}",
+        }[how]
+    )
 
 
 def _reference(value, is_ra):
@@ -54,8 +67,11 @@ def _reference(value, is_ra):
 def test_floats_ints_and_numeric_strings_are_degrees(pairs):
     ra = np.array([p[0] for p in pairs])
     dec = np.array([p[1] for p in pairs])
-    for r_in, d_in in ((ra, dec), (np.round(ra).astype(int) % 360, np.round(dec).astype(int)),
-                       (np.char.mod("%.9f", ra), np.char.mod("%.9f", dec))):
+    for r_in, d_in in (
+        (ra, dec),
+        (np.round(ra).astype(int) % 360, np.round(dec).astype(int)),
+        (np.char.mod("%.9f", ra), np.char.mod("%.9f", dec)),
+    ):
         r, d, bad = _inputs.angles_deg(r_in, d_in)
         assert not bad.any()
         ref_r = [_reference(x.item() if hasattr(x, "item") else x, True) for x in r_in]
@@ -88,8 +104,7 @@ def test_masked_columns_give_nan_where_masked(items):
 
 
 @settings(max_examples=40, deadline=None)
-@given(st.lists(st.tuples(st.one_of(ra_deg, sexa_ra), dec_deg, style), min_size=1,
-                max_size=6))
+@given(st.lists(st.tuples(st.one_of(ra_deg, sexa_ra), dec_deg, style), min_size=1, max_size=6))
 def test_object_columns_mixing_numbers_and_strings(items):
     ra = np.empty(len(items), dtype=object)
     for i, (r, _, how) in enumerate(items):
@@ -102,8 +117,9 @@ def test_object_columns_mixing_numbers_and_strings(items):
 
 
 def test_typographic_minus_and_blank_and_unreadable():
-    r, d, bad = _inputs.angles_deg(["10", "", "1O.5", "12h00m00s"],
-                                   [f"{MINUS}5.5", "3", "4", f"{MINUS}00:30:00"])
+    r, d, bad = _inputs.angles_deg(
+        ["10", "", "1O.5", "12h00m00s"], [f"{MINUS}5.5", "3", "4", f"{MINUS}00:30:00"]
+    )
     assert d[0] == -5.5 and d[3] == pytest.approx(-0.5, abs=1e-12)
     assert np.isnan(r[1]) and not bad[1]
     assert bad.tolist() == [False, False, True, False]
@@ -115,7 +131,7 @@ def test_exponent_numbers_stay_numbers_beside_unreadable_text():
     # (Python float is the reference), with or without an unreadable neighbour
     for ra in (["1e-05", "2.5E1"], ["1e-05", "2.5E1", "1O.5"]):
         r, _, bad = _inputs.angles_deg(ra, ["0"] * len(ra))
-        assert r[:2].tolist() == [1e-05, 25.0] and bad.tolist() == [False, False, True][:len(ra)]
+        assert r[:2].tolist() == [1e-05, 25.0] and bad.tolist() == [False, False, True][: len(ra)]
 
 
 def test_a_column_unit_is_honoured_and_a_wrong_one_refused():
@@ -131,17 +147,26 @@ def test_sky_out_of_range():
 
 
 # ----------------------------------------------------------------- quantities
-@pytest.mark.parametrize("value, unit, expected", [
-    (95, "Mpc", 95.0), ("95 Mpc", "Mpc", 95.0), ("95000 kpc", "Mpc", 95.0),
-    (95 * u.Mpc, "Mpc", 95.0), ("8 nHz", "Hz", 8e-9), (f"{MINUS}3 km/s", "km/s", -3.0),
-])
+@pytest.mark.parametrize(
+    "value, unit, expected",
+    [
+        (95, "Mpc", 95.0),
+        ("95 Mpc", "Mpc", 95.0),
+        ("95000 kpc", "Mpc", 95.0),
+        (95 * u.Mpc, "Mpc", 95.0),
+        ("8 nHz", "Hz", 8e-9),
+        (f"{MINUS}3 km/s", "km/s", -3.0),
+    ],
+)
 def test_quantity_reads_numbers_strings_and_quantities(value, unit, expected):
     q = _inputs.quantity(value, unit, "field")
     assert q.unit == u.Unit(unit) and q.value == pytest.approx(expected, rel=1e-12)
 
 
-@pytest.mark.parametrize("value, words", [("95 km/s", "not a length"), ("far", "cannot read"),
-                                           (np.nan, "finite"), (np.inf, "finite")])
+@pytest.mark.parametrize(
+    "value, words",
+    [("95 km/s", "not a length"), ("far", "cannot read"), (np.nan, "finite"), (np.inf, "finite")],
+)
 def test_quantity_refuses_with_one_line_naming_the_field(value, words):
     with pytest.raises(InputError, match=words) as err:
         _inputs.quantity(value, "Mpc", "distance")
@@ -178,15 +203,18 @@ def test_column_hints():
 
 
 # --------------------------------------------------------------- coordinates
-@pytest.mark.parametrize("kw, ra, dec", [
-    ({"coord": "187.7 12.4"}, 187.7, 12.4),
-    ({"coord": "12h30m00s +12d30m00s"}, 187.5, 12.5),
-    ({"coord": "12 30 00 -12 30 00"}, 187.5, -12.5),
-    ({"coord": f"187.7,{MINUS}12.4"}, 187.7, -12.4),
-    ({"ra": "12:30:00", "dec": "-5"}, 187.5, -5.0),
-    ({"ra": 10, "dec": "-05:00:00"}, 10.0, -5.0),
-    ({"coord": SkyCoord(10 * u.deg, 20 * u.deg, frame="galactic")}, None, None),
-])
+@pytest.mark.parametrize(
+    "kw, ra, dec",
+    [
+        ({"coord": "187.7 12.4"}, 187.7, 12.4),
+        ({"coord": "12h30m00s +12d30m00s"}, 187.5, 12.5),
+        ({"coord": "12 30 00 -12 30 00"}, 187.5, -12.5),
+        ({"coord": f"187.7,{MINUS}12.4"}, 187.7, -12.4),
+        ({"ra": "12:30:00", "dec": "-5"}, 187.5, -5.0),
+        ({"ra": 10, "dec": "-05:00:00"}, 10.0, -5.0),
+        ({"coord": SkyCoord(10 * u.deg, 20 * u.deg, frame="galactic")}, None, None),
+    ],
+)
 def test_coord_from(kw, ra, dec):
     c = _inputs.coord_from(**kw)
     if ra is None:  # a SkyCoord in another frame comes back as the same place in ICRS
@@ -195,11 +223,17 @@ def test_coord_from(kw, ra, dec):
     assert c.ra.deg == pytest.approx(ra, abs=1e-9) and c.dec.deg == pytest.approx(dec, abs=1e-9)
 
 
-@pytest.mark.parametrize("kw, words", [
-    ({}, None), ({"coord": "1 2", "ra": 1}, "not both"), ({"ra": 1}, "both RA and Dec"),
-    ({"coord": "1 2 3"}, "cannot read"), ({"ra": 370, "dec": 0}, "out of range"),
-    ({"ra": "12x", "dec": 0}, "cannot read"),
-])
+@pytest.mark.parametrize(
+    "kw, words",
+    [
+        ({}, None),
+        ({"coord": "1 2", "ra": 1}, "not both"),
+        ({"ra": 1}, "both RA and Dec"),
+        ({"coord": "1 2 3"}, "cannot read"),
+        ({"ra": 370, "dec": 0}, "out of range"),
+        ({"ra": "12x", "dec": 0}, "cannot read"),
+    ],
+)
 def test_coord_from_refusals(kw, words):
     if words is None:
         assert _inputs.coord_from(**kw) is None

@@ -20,11 +20,21 @@ ROOT = Path(ptaconstrain.__file__).resolve().parent
 #: rank of each top-level part; a module may import (at module level) only parts of
 #: lower or equal rank
 LAYERS = {
-    "errors": 0, "_version": 0, "data": 0, "cosmo": 1, "_files": 1, "_inputs": 2,
-    "binary": 3, "sensitivity": 3,
-    "analysis": 4, "catalogue": 4,
+    "errors": 0,
+    "_version": 0,
+    "data": 0,
+    "cosmo": 1,
+    "_files": 1,
+    "_inputs": 2,
+    "binary": 3,
+    "sensitivity": 3,
+    "analysis": 4,
+    "catalogue": 4,
     "report": 5,
-    "demo": 6, "cli": 7, "__main__": 8, "__init__": 9,
+    "demo": 6,
+    "cli": 7,
+    "__main__": 8,
+    "__init__": 9,
 }
 #: results may draw and tabulate themselves: the analysis and catalogue layers may
 #: import the report layer inside a function (lazily), never at module level
@@ -82,16 +92,32 @@ def _imports(module, path):
 
 #: below the report layer nothing draws or touches HEALPix at import time (DESIGN.md:
 #: matplotlib and healpy are imported inside the functions that need them)
-_LIGHT_PARTS = {"errors", "_version", "data", "cosmo", "_files", "_inputs", "binary",
-                "sensitivity", "analysis", "catalogue"}
-_PROBE = ("import json, sys, {name}; print(json.dumps(sorted(m for m in sys.modules "
-          "if m in ('matplotlib', 'healpy') or m.startswith('ptaconstrain.'))))")
+_LIGHT_PARTS = {
+    "errors",
+    "_version",
+    "data",
+    "cosmo",
+    "_files",
+    "_inputs",
+    "binary",
+    "sensitivity",
+    "analysis",
+    "catalogue",
+}
+_PROBE = (
+    "import json, sys, {name}; print(json.dumps(sorted(m for m in sys.modules "
+    "if m in ('matplotlib', 'healpy') or m.startswith('ptaconstrain.'))))"
+)
 
 
 def _loaded_alone(name):
     """Import ``name`` in a fresh interpreter: (name, error line or None, modules loaded)."""
-    res = subprocess.run([sys.executable, "-c", _PROBE.format(name=name)],
-                         capture_output=True, text=True, timeout=300)
+    res = subprocess.run(
+        [sys.executable, "-c", _PROBE.format(name=name)],
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
     if res.returncode != 0:
         return name, (res.stderr.strip().splitlines()[-1:] or [""])[0], []
     return name, None, json.loads(res.stdout.strip().splitlines()[-1])
@@ -134,8 +160,9 @@ print(json.dumps(sorted({{m.split(".")[0] for m in sys.modules}} & set({_SCALE!r
 def test_base_import_and_help_load_no_scale_library():
     # pyproject: the 'scale' extra is optional; `ptaconstrain --help`, `rank --help` and
     # every module of the ranking import without it (DESIGN.md: the scale engine lazily)
-    res = subprocess.run([sys.executable, "-c", _SCALE_PROBE], capture_output=True, text=True,
-                         timeout=300)
+    res = subprocess.run(
+        [sys.executable, "-c", _SCALE_PROBE], capture_output=True, text=True, timeout=300
+    )
     assert res.returncode == 0, res.stderr
     assert json.loads(res.stdout.strip().splitlines()[-1]) == []
 
@@ -163,15 +190,21 @@ def test_imports_point_downward():
             if dst == src or dst not in LAYERS or src not in LAYERS:
                 continue
             if LAYERS[dst] > LAYERS[src] and not (lazy and (src, dst) in LAZY_UPWARD):
-                bad.append(f"{module} -> {target}{'' if not name else ':' + name}"
-                           f"{' (lazy)' if lazy else ''}")
+                bad.append(
+                    f"{module} -> {target}{'' if not name else ':' + name}"
+                    f"{' (lazy)' if lazy else ''}"
+                )
     assert not bad, bad
 
 
 def test_binary_and_sensitivity_are_siblings():
     # DESIGN.md: neither imports the other; analysis/ and catalogue/ combine them
-    bad = [f"{m} -> {t}" for m, p in MODULES for t, _, _ in _imports(m, p)
-           if {_part(m), _part(t)} == {"binary", "sensitivity"}]
+    bad = [
+        f"{m} -> {t}"
+        for m, p in MODULES
+        for t, _, _ in _imports(m, p)
+        if {_part(m), _part(t)} == {"binary", "sensitivity"}
+    ]
     assert not bad, bad
 
 
@@ -193,7 +226,7 @@ def test_no_import_cycles_at_module_level():
         stack.append(node)
         for nxt in graph[node]:
             if state.get(nxt) == 1:
-                cycle.append(stack[stack.index(nxt):] + [nxt])
+                cycle.append(stack[stack.index(nxt) :] + [nxt])
             elif nxt not in state:
                 dfs(nxt, stack)
         stack.pop()

@@ -27,13 +27,29 @@ def _default_limit():
     set_memory_limit(None)
 
 
-@pytest.mark.parametrize("field, value", [
-    ("snr", float("nan")), ("snr", float("inf")), ("snr", 0), ("snr", -1), ("snr", 1e300),
-    ("confidence", 5), ("confidence", -0.5), ("confidence", 1), ("q_index", 1e300),
-    ("mass_err_dex", 1e300), ("fraction_err", 3.0), ("red_amp", float("inf")),
-    ("red_gamma", 1e300), ("span", "1e6 yr"), ("cadence", "1 min"), ("period", "1e-300 yr"),
-    ("period", "1e300 yr"), ("q_index", "abc"),
-])
+@pytest.mark.parametrize(
+    "field, value",
+    [
+        ("snr", float("nan")),
+        ("snr", float("inf")),
+        ("snr", 0),
+        ("snr", -1),
+        ("snr", 1e300),
+        ("confidence", 5),
+        ("confidence", -0.5),
+        ("confidence", 1),
+        ("q_index", 1e300),
+        ("mass_err_dex", 1e300),
+        ("fraction_err", 3.0),
+        ("red_amp", float("inf")),
+        ("red_gamma", 1e300),
+        ("span", "1e6 yr"),
+        ("cadence", "1 min"),
+        ("period", "1e-300 yr"),
+        ("period", "1e300 yr"),
+        ("q_index", "abc"),
+    ],
+)
 def test_values_outside_the_documented_ranges_are_refused_in_one_line(field, value):
     with pytest.raises(InputError) as err:
         check_field(value, field)
@@ -41,19 +57,28 @@ def test_values_outside_the_documented_ranges_are_refused_in_one_line(field, val
     assert text.startswith(f"{field}: ") and "\n" not in text
 
 
-@pytest.mark.parametrize("field, value", [
-    ("snr", 5), ("confidence", 0.95), ("q_index", -1), ("mass_err_dex", 0.3),
-    ("span", "15 yr"), ("cadence", "14 d"), ("cadence", "1 hour"), ("red_amp", 1e-14),
-    ("red_gamma", 13 / 3), ("period", "1 yr"),
-])
+@pytest.mark.parametrize(
+    "field, value",
+    [
+        ("snr", 5),
+        ("confidence", 0.95),
+        ("q_index", -1),
+        ("mass_err_dex", 0.3),
+        ("span", "15 yr"),
+        ("cadence", "14 d"),
+        ("cadence", "1 hour"),
+        ("red_amp", 1e-14),
+        ("red_gamma", 13 / 3),
+        ("period", "1 yr"),
+    ],
+)
 def test_usual_values_pass(field, value):
     check_field(value, field)
 
 
 def test_a_table_column_names_its_first_bad_row():
     with pytest.raises(InputError, match=r"cadence \(row 2, B\): 0.000694[0-9]* d is outside"):
-        check_field(np.array([14.0, 1 / 1440, 7.0]) * u.d, "cadence",
-                    rows=["1, A", "2, B", "3, C"])
+        check_field(np.array([14.0, 1 / 1440, 7.0]) * u.d, "cadence", rows=["1, A", "2, B", "3, C"])
 
 
 def test_ranges_hold_in_their_stated_units():
@@ -95,8 +120,17 @@ def test_max_memory_lets_a_large_sky_map_through_the_estimate(tmp_path):
     # work, and --max-memory 1GB lets the same estimate pass (the run then fails later on
     # the unknown frequency, which shows that the estimate was passed)
     array = str(data_file("demo_array.ecsv"))
-    args = ["threshold-map", "--array", array, "--frequency", "1 Hz", "--nside", "512",
-            "--out", str(tmp_path / "m")]
+    args = [
+        "threshold-map",
+        "--array",
+        array,
+        "--frequency",
+        "1 Hz",
+        "--nside",
+        "512",
+        "--out",
+        str(tmp_path / "m"),
+    ]
     r = CliRunner().invoke(main, args + ["--max-memory", "50MB"])
     assert r.exit_code == 1 and "needs about 101 MB" in r.output and "lower --nside" in r.output
     r = CliRunner().invoke(main, args + ["--max-memory", "1GB"])

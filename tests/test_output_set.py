@@ -136,15 +136,21 @@ def test_a_second_run_in_another_process_is_refused(tmp_path):
     import sys
 
     out = tmp_path / "out"
-    code = ("import sys; from ptaconstrain._files import output_set\n"
-            "try:\n"
-            "    with output_set(sys.argv[1], 'prod'):\n"
-            "        pass\n"
-            "except OSError as e:\n"
-            "    print(type(e).__name__); sys.exit(3)\n")
+    code = (
+        "import sys; from ptaconstrain._files import output_set\n"
+        "try:\n"
+        "    with output_set(sys.argv[1], 'prod'):\n"
+        "        pass\n"
+        "except OSError as e:\n"
+        "    print(type(e).__name__); sys.exit(3)\n"
+    )
     with output_set(out, "prod"):
-        r = subprocess.run([sys.executable, "-c", code, str(out)], capture_output=True,
-                           text=True, env={**os.environ})
+        r = subprocess.run(
+            [sys.executable, "-c", code, str(out)],
+            capture_output=True,
+            text=True,
+            env={**os.environ},
+        )
     assert r.returncode == 3 and r.stdout.strip() == "OutputBusyError", r.stderr
 
 

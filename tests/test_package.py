@@ -17,13 +17,20 @@ HEAVY = ("astropy", "matplotlib", "healpy", "scipy")
 
 def _python(code, *args):
     env = dict(os.environ, PYTHONPATH=SRC + os.pathsep + os.environ.get("PYTHONPATH", ""))
-    return subprocess.run([sys.executable, *(("-c", code) if code else ()), *args],
-                          capture_output=True, text=True, env=env, timeout=120)
+    return subprocess.run(
+        [sys.executable, *(("-c", code) if code else ()), *args],
+        capture_output=True,
+        text=True,
+        env=env,
+        timeout=120,
+    )
 
 
 def _loaded_after(statement):
-    code = (f"import sys\n{statement}\n"
-            f"print(sorted({{m.split('.')[0] for m in sys.modules}} & set({HEAVY!r})))")
+    code = (
+        f"import sys\n{statement}\n"
+        f"print(sorted({{m.split('.')[0] for m in sys.modules}} & set({HEAVY!r})))"
+    )
     r = _python(code)
     assert r.returncode == 0, r.stderr
     return r.stdout.strip()
@@ -56,8 +63,12 @@ def test_front_door_imports_and_runs():
     from ptaconstrain import Host, exclusion_map, load_curve
     from ptaconstrain.data import path as data_file
 
-    result = exclusion_map(Host("Front door", 2e10, 100), load_curve(data_file(
-        "synthetic_h0_limit.ecsv")), period=[1, 10] * u.yr, mass_ratio=[0.01, 1])
+    result = exclusion_map(
+        Host("Front door", 2e10, 100),
+        load_curve(data_file("synthetic_h0_limit.ecsv")),
+        period=[1, 10] * u.yr,
+        mass_ratio=[0.01, 1],
+    )
     assert result.host.name == "Front door" and result.is_limit
 
 
@@ -79,8 +90,20 @@ def test_python_dash_m_ptaconstrain_shows_help():
 
 
 def test_python_dash_m_ptaconstrain_reports_input_errors_in_one_line(tmp_path):
-    r = _python(None, "-m", "ptaconstrain", "exclude", "--mass", "2e10", "--distance", "100",
-                "--curve", str(tmp_path / "missing.ecsv"), "--out", str(tmp_path / "o"))
+    r = _python(
+        None,
+        "-m",
+        "ptaconstrain",
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--curve",
+        str(tmp_path / "missing.ecsv"),
+        "--out",
+        str(tmp_path / "o"),
+    )
     assert r.returncode != 0 and r.stdout == ""
     assert len(r.stderr.strip().splitlines()) == 1 and "not found" in r.stderr
     assert not (tmp_path / "o").exists()

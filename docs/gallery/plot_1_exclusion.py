@@ -12,8 +12,7 @@ from astropy import units as u
 from ptaconstrain import Host, exclusion_map, load_curve
 from ptaconstrain.data import path
 
-host = Host("Invented galaxy A", 2e10 * u.Msun, 100 * u.Mpc,
-            velocity_dispersion=330 * u.km / u.s)
+host = Host("Invented galaxy A", 2e10 * u.Msun, 100 * u.Mpc, velocity_dispersion=330 * u.km / u.s)
 curve = load_curve(path("synthetic_h0_limit.ecsv"))
 result = exclusion_map(host, curve)
 period, q = result.tightest()

@@ -14,8 +14,14 @@ from ptaconstrain import Host, exclusion_probability, load_curve
 from ptaconstrain.data import path
 from ptaconstrain.report import credible_summary_lines
 
-host = Host("Invented galaxy B", 2e10 * u.Msun, 100 * u.Mpc, mass_err_dex=0.2,
-            distance_err_frac=0.1, mass_distance=100 * u.Mpc)
+host = Host(
+    "Invented galaxy B",
+    2e10 * u.Msun,
+    100 * u.Mpc,
+    mass_err_dex=0.2,
+    distance_err_frac=0.1,
+    mass_distance=100 * u.Mpc,
+)
 curve = load_curve(path("synthetic_h0_limit.ecsv"))
 prob = exclusion_probability(host, curve, samples=20_000, seed=1)
 for line in credible_summary_lines(prob):

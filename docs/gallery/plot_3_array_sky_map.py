@@ -19,5 +19,8 @@ thresholds = array.threshold_table([8.0] * u.nHz, snr=5.0, nside=16)
 print(thresholds)
 
 # %%
-fig = sky_map_figure(thresholds.values[:, 0], pulsars=array.sky_markers(),
-                     title="Invented demo array: h0 for S/N >= 5 at 8 nHz (forecast)")
+fig = sky_map_figure(
+    thresholds.values[:, 0],
+    pulsars=array.sky_markers(),
+    title="Invented demo array: h0 for S/N >= 5 at 8 nHz (forecast)",
+)

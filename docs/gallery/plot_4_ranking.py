@@ -22,5 +22,10 @@ sky = ranking.plot(top=20)
 
 # %%
 # How the expected number accumulates down the ranking.
-cumulative = cumulative_figure(ranking.to_table(), ranking.verb, ranking.label, top=20,
-                               rate=ranking.meta.get("merger_rate_per_galaxy"))
+cumulative = cumulative_figure(
+    ranking.to_table(),
+    ranking.verb,
+    ranking.label,
+    top=20,
+    rate=ranking.meta.get("merger_rate_per_galaxy"),
+)

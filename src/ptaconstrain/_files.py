@@ -18,10 +18,26 @@ import shutil
 import tempfile
 from pathlib import Path
 
-__all__ = ["OutputExistsError", "OutputBusyError", "check_new", "atomic_write",
-           "output_set", "OutputSet", "write_table", "sha256", "read_toml", "TABLE_FORMATS",
-           "table_format", "read_table", "first_line", "check_header", "MAX_YAML_HEADER_BYTES",
-           "MAX_YAML_NODES", "MAX_FITS_HEADER_CARDS", "MAX_CONFIG_BYTES"]
+__all__ = [
+    "OutputExistsError",
+    "OutputBusyError",
+    "check_new",
+    "atomic_write",
+    "output_set",
+    "OutputSet",
+    "write_table",
+    "sha256",
+    "read_toml",
+    "TABLE_FORMATS",
+    "table_format",
+    "read_table",
+    "first_line",
+    "check_header",
+    "MAX_YAML_HEADER_BYTES",
+    "MAX_YAML_NODES",
+    "MAX_FITS_HEADER_CARDS",
+    "MAX_CONFIG_BYTES",
+]
 
 #: largest YAML header of an ECSV file read (bytes); astropy writes a few kB
 MAX_YAML_HEADER_BYTES = 1_000_000
@@ -218,12 +234,17 @@ class OutputSet:
         if self._record:
             (self._files / self.record.name).write_text("".join(f"{n}\n" for n in names))
             names.append(self.record.name)
-        earlier = {n for n in _recorded_names(self.record) | self._earlier | set(names)
-                   if os.path.lexists(self.directory / n)}
+        earlier = {
+            n
+            for n in _recorded_names(self.record) | self._earlier | set(names)
+            if os.path.lexists(self.directory / n)
+        }
         if earlier and not self.overwrite:
             first = sorted(earlier - {self.record.name}) or [self.record.name]
-            raise OutputExistsError(f"{self.directory / first[0]} already exists (an earlier "
-                                    "set): choose another --out or pass --overwrite")
+            raise OutputExistsError(
+                f"{self.directory / first[0]} already exists (an earlier "
+                "set): choose another --out or pass --overwrite"
+            )
         old = self._staging / "old"
         old.mkdir()
         moved, linked = [], []
@@ -245,8 +266,9 @@ class OutputSet:
                 with contextlib.suppress(OSError):
                     os.link(old / name, self.directory / name)
             if isinstance(err, FileExistsError):
-                raise OutputExistsError(f"{err.filename or self.directory} appeared while "
-                                        "writing: nothing was replaced") from None
+                raise OutputExistsError(
+                    f"{err.filename or self.directory} appeared while writing: nothing was replaced"
+                ) from None
             raise
         return [self.directory / n for n in published]
 
@@ -293,8 +315,10 @@ def _lock(path, product):
             fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
         except BlockingIOError:
             os.close(fd)
-            raise OutputBusyError(f"{Path(path).parent}: another run is writing {product} "
-                                  "there now; wait for it or choose another --out") from None
+            raise OutputBusyError(
+                f"{Path(path).parent}: another run is writing {product} "
+                "there now; wait for it or choose another --out"
+            ) from None
         mine = os.fstat(fd)
         try:
             now = os.stat(path)
@@ -459,8 +483,10 @@ def read_toml(path, what, error=None):
     if not path.is_file():
         raise error(f"{what} {path} not found: check the path")
     if path.stat().st_size > MAX_CONFIG_BYTES:
-        raise error(f"{path.name} is larger than {MAX_CONFIG_BYTES // 1000} kB, too large for "
-                    f"a {what}: check that it is the right file")
+        raise error(
+            f"{path.name} is larger than {MAX_CONFIG_BYTES // 1000} kB, too large for "
+            f"a {what}: check that it is the right file"
+        )
     try:
         with open(path, "rb") as fh:
             return tomllib.load(fh)
@@ -566,12 +592,14 @@ def read_table(path, what, error=None, format=None, hint="", **kwargs):
             warnings.simplefilter("always", AstropyWarning)
             table = Table.read(path, format=fmt, **kwargs) if fmt else Table.read(path, **kwargs)
     except Exception as err:  # astropy raises many types for a malformed file
-        raise error(f"{path.name} is not a readable {what} ({first_line(err)})"
-                    f"{': ' + hint if hint else ''}") from err
+        raise error(
+            f"{path.name} is not a readable {what} ({first_line(err)}){': ' + hint if hint else ''}"
+        ) from err
     for w in caught:
         if issubclass(w.category, AstropyWarning):
-            warnings.warn(f"{path.name}: {first_line(w.message)}", PtaconstrainWarning,
-                          stacklevel=2)
+            warnings.warn(
+                f"{path.name}: {first_line(w.message)}", PtaconstrainWarning, stacklevel=2
+            )
         else:
             warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     return table
@@ -628,8 +656,9 @@ def _yaml_header_problem(path):
                 break
             size += len(line)
             if size > MAX_YAML_HEADER_BYTES:
-                return (f"its ECSV header is larger than {MAX_YAML_HEADER_BYTES // 1000} kB "
-                        "(the limit)")
+                return (
+                    f"its ECSV header is larger than {MAX_YAML_HEADER_BYTES // 1000} kB (the limit)"
+                )
             lines.append(line)
     text = b"".join(lines).decode("utf-8", errors="replace")
     body = [ln[2:] if ln.startswith("# ") else ln[1:] for ln in text.splitlines()]
@@ -641,8 +670,9 @@ def _yaml_header_problem(path):
     except yaml.YAMLError:
         return None  # malformed: astropy's reader names the problem
     if root is not None and _yaml_nodes(root, {}) > MAX_YAML_NODES:
-        return (f"its ECSV header expands to more than {MAX_YAML_NODES:,} YAML nodes "
-                "(nested aliases)")
+        return (
+            f"its ECSV header expands to more than {MAX_YAML_NODES:,} YAML nodes (nested aliases)"
+        )
     return None
 
 
@@ -678,20 +708,23 @@ def _fits_header_problem(path, max_hdus=4):
                 if not block:
                     return None  # truncated: astropy says so
                 for i in range(0, len(block), card):
-                    word = block[i:i + 8].decode("ascii", "replace").strip()
+                    word = block[i : i + 8].decode("ascii", "replace").strip()
                     cards += 1
                     if word in ("BITPIX", "NAXIS", "PCOUNT", "GCOUNT") or (
-                            word.startswith("NAXIS") and word[5:].isdigit()):
+                        word.startswith("NAXIS") and word[5:].isdigit()
+                    ):
                         try:
-                            values[word] = int(block[i + 10:i + 80].split(b"/")[0].strip())
+                            values[word] = int(block[i + 10 : i + 80].split(b"/")[0].strip())
                         except ValueError:
                             return None  # astropy names the bad card
                     if word == "END":
                         break
                 else:
                     if cards > MAX_FITS_HEADER_CARDS:
-                        return (f"a FITS header holds more than {MAX_FITS_HEADER_CARDS:,} "
-                                "cards (the limit)")
+                        return (
+                            f"a FITS header holds more than {MAX_FITS_HEADER_CARDS:,} "
+                            "cards (the limit)"
+                        )
                     continue
                 break
             naxis = values.get("NAXIS", 0)

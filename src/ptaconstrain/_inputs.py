@@ -189,7 +189,8 @@ def quantity(value, unit, field, *, allow_nonfinite=False):
     except (TypeError, ValueError) as err:
         raise InputError(
             f"{field}: cannot read {value!r} as a {unit.physical_type}; give a number "
-            f"(read as {unit}) or a value with units, e.g. '1 {unit}'") from err
+            f"(read as {unit}) or a value with units, e.g. '1 {unit}'"
+        ) from err
     if q.unit == u.dimensionless_unscaled and not _has_unit(value):
         q = q.value * unit
     try:
@@ -197,7 +198,8 @@ def quantity(value, unit, field, *, allow_nonfinite=False):
     except u.UnitsError as err:
         raise InputError(
             f"{field}: {value!r} is not a {unit.physical_type}; give a number (read as "
-            f"{unit}) or a value in units of {unit.physical_type}, e.g. '1 {unit}'") from err
+            f"{unit}) or a value in units of {unit.physical_type}, e.g. '1 {unit}'"
+        ) from err
     if not allow_nonfinite and not np.all(np.isfinite(q.value)):
         raise InputError(f"{field}: must be a finite number, got {value!r}")
     return q
@@ -229,8 +231,7 @@ def positive(q, field, *, allow_zero=False):
 # ---------------------------------------------------------------- plausibility
 def mass_range_text():
     """The plausible-mass rule as a phrase, for messages and docs."""
-    return f"{MASS_RANGE[0]:.0e}-{MASS_RANGE[1]:.0e} solMass".replace("e+0", "e").replace(
-        "e+", "e")
+    return f"{MASS_RANGE[0]:.0e}-{MASS_RANGE[1]:.0e} solMass".replace("e+0", "e").replace("e+", "e")
 
 
 def distance_range_text(d_max_mpc=None):
@@ -318,11 +319,11 @@ def check_mass(mass, field="mass"):
     out = mass_out_of_range(m)
     if np.any(out):
         bad = _first_flagged(m, out)
-        hint = (f" (a log10 mass? give 10**{bad:g} = {10**bad:.3g})"
-                if 3 <= bad <= 13 else "")
+        hint = f" (a log10 mass? give 10**{bad:g} = {10**bad:.3g})" if 3 <= bad <= 13 else ""
         raise InputError(
             f"{field}: {_as_given(mass, bad, 'solMass')} is outside the plausible "
-            f"{mass_range_text()} for a massive black hole; bare numbers are solMass{hint}")
+            f"{mass_range_text()} for a massive black hole; bare numbers are solMass{hint}"
+        )
     return q
 
 
@@ -356,7 +357,8 @@ def check_distance(distance, field="distance", cosmology=None):
         bad = _first_flagged(d, out)
         raise InputError(
             f"{field}: {_as_given(distance, bad, 'Mpc')} is outside the plausible "
-            f"{distance_range_text(_d_max(cosmology))}; bare numbers are Mpc")
+            f"{distance_range_text(_d_max(cosmology))}; bare numbers are Mpc"
+        )
     return q
 
 
@@ -374,8 +376,9 @@ def mass_column_hint(mass_msun):
     m = np.asarray(mass_msun, dtype=float)
     m = m[np.isfinite(m)]
     if m.size and np.median(m) < MASS_RANGE[0] and np.all((m > 3) & (m < 13)):
-        return ("; the column looks like log10(M/solMass): map it to the log_mass field "
-                "instead of mass")
+        return (
+            "; the column looks like log10(M/solMass): map it to the log_mass field instead of mass"
+        )
     return ""
 
 
@@ -393,9 +396,11 @@ def distance_column_hint(distance_mpc):
     d = np.asarray(distance_mpc, dtype=float)
     d = d[np.isfinite(d) & (d > 0)]
     if d.size and np.median(d) > 3e3 and np.median(d) / 1e3 < 3e3:
-        return ("; the column looks like kpc (median "
-                f"{np.median(d):.3g} read as Mpc): set its unit to kpc in the column mapping "
-                "(or to Mpc, if it really is Mpc)")
+        return (
+            "; the column looks like kpc (median "
+            f"{np.median(d):.3g} read as Mpc): set its unit to kpc in the column mapping "
+            "(or to Mpc, if it really is Mpc)"
+        )
     return ""
 
 
@@ -406,8 +411,7 @@ def _column_unit(values, field):
         return None
     unit = u.Unit(unit)
     if unit.physical_type != "angle":
-        raise InputError(f"{field}: unit {unit} is not an angle; give degrees or sexagesimal "
-                         "text")
+        raise InputError(f"{field}: unit {unit} is not an angle; give degrees or sexagesimal text")
     return unit
 
 
@@ -417,8 +421,12 @@ def _angle_strings(text, is_ra, field):
 
     out = np.full(text.shape, np.nan)
     blank = np.isin(np.char.lower(text), ("", "nan", "--", "none", "null"))
-    sexa = ~blank & ((np.char.find(text, "h") >= 0) | (np.char.find(text, "H") >= 0)
-                     | (np.char.find(text, ":") >= 0) | (np.char.find(text, " ") >= 0))
+    sexa = ~blank & (
+        (np.char.find(text, "h") >= 0)
+        | (np.char.find(text, "H") >= 0)
+        | (np.char.find(text, ":") >= 0)
+        | (np.char.find(text, " ") >= 0)
+    )
     plain = ~blank & ~sexa
     bad = np.zeros(text.shape, dtype=bool)
     if plain.any():
@@ -457,8 +465,9 @@ def _parse_each(text, unit):
 def _one_angle(values, is_ra, field):
     if isinstance(values, u.Quantity):
         _column_unit(values, field)  # refuses a unit that is not an angle
-        deg = np.atleast_1d(values.to_value(u.deg) if values.unit != u.dimensionless_unscaled
-                            else values.value).astype(float)
+        deg = np.atleast_1d(
+            values.to_value(u.deg) if values.unit != u.dimensionless_unscaled else values.value
+        ).astype(float)
         return deg, np.zeros(deg.shape, dtype=bool)
     unit = _column_unit(values, field)
     data = np.ma.asarray(values)
@@ -515,8 +524,7 @@ def _angle_pair(lon, lat, lon_in_hours, fields, plural):
     lon_deg, bad_lon = _one_angle(lon, lon_in_hours, fields[0])
     lat_deg, bad_lat = _one_angle(lat, False, fields[1])
     if lon_deg.shape != lat_deg.shape:
-        raise InputError(f"sky position: {lon_deg.size} {plural[0]} but {lat_deg.size} "
-                         f"{plural[1]}")
+        raise InputError(f"sky position: {lon_deg.size} {plural[0]} but {lat_deg.size} {plural[1]}")
     return lon_deg, lat_deg, bad_lon | bad_lat
 
 
@@ -565,8 +573,9 @@ def sky_coord(ra, dec, field="sky position"):
 
     scalar = np.ndim(ra) == 0 and np.ndim(dec) == 0
     ra_deg, dec_deg, bad = angles_deg(ra, dec)
-    rows = np.flatnonzero(bad | ~np.isfinite(ra_deg) | ~np.isfinite(dec_deg)
-                          | sky_out_of_range(ra_deg, dec_deg))
+    rows = np.flatnonzero(
+        bad | ~np.isfinite(ra_deg) | ~np.isfinite(dec_deg) | sky_out_of_range(ra_deg, dec_deg)
+    )
     if rows.size:
         i = rows[0]
         r = ra if scalar else np.atleast_1d(ra)[i]
@@ -575,10 +584,12 @@ def sky_coord(ra, dec, field="sky position"):
         if bad[i] or not (np.isfinite(ra_deg[i]) and np.isfinite(dec_deg[i])):
             raise InputError(
                 f"{field}{where}: cannot read RA={r!r}, Dec={d!r}; give degrees or "
-                "sexagesimal text such as '12h30m49s' '+12d23m28s'")
+                "sexagesimal text such as '12h30m49s' '+12d23m28s'"
+            )
         raise InputError(
             f"{field}{where}: RA={r!r}, Dec={d!r} gives RA {ra_deg[i]:.6g} deg, Dec "
-            f"{dec_deg[i]:.6g} deg, out of range ({SKY_RANGE_TEXT}); numbers are degrees")
+            f"{dec_deg[i]:.6g} deg, out of range ({SKY_RANGE_TEXT}); numbers are degrees"
+        )
     c = SkyCoord(ra_deg * u.deg, dec_deg * u.deg, frame="icrs")
     return c[0] if scalar else c
 
@@ -619,8 +630,10 @@ def coord_from(coord=None, ra=None, dec=None, field="sky position"):
             return sky_coord(parts[0], parts[1], field)
         if len(parts) == 6:
             return sky_coord(" ".join(parts[:3]), " ".join(parts[3:]), field)
-        raise InputError(f"{field}: cannot read {coord!r}; give RA and Dec, e.g. "
-                         "'187.7 12.4' (deg) or '12h30m49s +12d23m28s'")
+        raise InputError(
+            f"{field}: cannot read {coord!r}; give RA and Dec, e.g. "
+            "'187.7 12.4' (deg) or '12h30m49s +12d23m28s'"
+        )
     if ra is None or dec is None:
         raise InputError(f"{field}: give both RA and Dec, or neither")
     return sky_coord(ra, dec, field)
@@ -682,13 +695,17 @@ def check_redshift(redshift, field="redshift"):
     try:
         z = quantity(redshift, u.dimensionless_unscaled, field).value
     except InputError as err:
-        raise InputError(f"{field}: cannot read {redshift!r} as a redshift; give a finite "
-                         "plain number z (not cz in km/s)") from err
+        raise InputError(
+            f"{field}: cannot read {redshift!r} as a redshift; give a finite "
+            "plain number z (not cz in km/s)"
+        ) from err
     out = (z < 0) | (z > Z_LIMIT)
     if np.any(out):
         bad = _first_flagged(z, out)
-        raise InputError(f"{field}: {bad:g} is outside 0 <= z <= {Z_LIMIT:g}; give the "
-                         "cosmological redshift z (not cz in km/s)")
+        raise InputError(
+            f"{field}: {bad:g} is outside 0 <= z <= {Z_LIMIT:g}; give the "
+            "cosmological redshift z (not cz in km/s)"
+        )
     return float(z) if np.ndim(z) == 0 else z
 
 
@@ -721,13 +738,17 @@ def check_eccentricity(eccentricity, field="eccentricity"):
     try:
         e = quantity(eccentricity, u.dimensionless_unscaled, field).value
     except InputError as err:
-        raise InputError(f"{field}: cannot read {eccentricity!r} as an eccentricity; give a "
-                         f"plain number in [0, {ECCENTRICITY_MAX:g}]") from err
+        raise InputError(
+            f"{field}: cannot read {eccentricity!r} as an eccentricity; give a "
+            f"plain number in [0, {ECCENTRICITY_MAX:g}]"
+        ) from err
     if np.ndim(e) != 0:
         raise InputError(f"{field}: give one number in [0, {ECCENTRICITY_MAX:g}], not an array")
     if not 0.0 <= e <= ECCENTRICITY_MAX:
-        raise InputError(f"{field}: {float(e):g} is outside 0 <= e <= {ECCENTRICITY_MAX:g} "
-                         "(0 is a circular orbit; e near 1 needs thousands of harmonics)")
+        raise InputError(
+            f"{field}: {float(e):g} is outside 0 <= e <= {ECCENTRICITY_MAX:g} "
+            "(0 is a circular orbit; e near 1 needs thousands of harmonics)"
+        )
     return float(e)
 
 
@@ -741,8 +762,7 @@ def range_text(lo, hi, lo_open=False, hi_open=False, unit=""):
     '0 < x < 1'
     """
     unit = f" {unit}" if unit else ""
-    return (f"{lo:g}{unit} {'<' if lo_open else '<='} x {'<' if hi_open else '<='} "
-            f"{hi:g}{unit}")
+    return f"{lo:g}{unit} {'<' if lo_open else '<='} x {'<' if hi_open else '<='} {hi:g}{unit}"
 
 
 def out_of_range(values, lo, hi, lo_open=False, hi_open=False):
@@ -765,8 +785,7 @@ def out_of_range(values, lo, hi, lo_open=False, hi_open=False):
     return ~np.isfinite(v) | low | high
 
 
-def in_range(value, field, lo, hi, *, lo_open=False, hi_open=False, unit=None, fix="",
-             rows=None):
+def in_range(value, field, lo, hi, *, lo_open=False, hi_open=False, unit=None, fix="", rows=None):
     """A number (or array) refused unless finite and within its documented range.
 
     The one range check: command-line options, file metadata and table cells
@@ -814,9 +833,11 @@ def in_range(value, field, lo, hi, *, lo_open=False, hi_open=False, unit=None, f
         try:
             values = np.asarray(value, dtype=float)
         except (TypeError, ValueError):
-            raise InputError(f"{field}: {value!r} is not a number; give a number in "
-                             f"{range_text(lo, hi, lo_open, hi_open)}"
-                             f"{'; ' + fix if fix else ''}") from None
+            raise InputError(
+                f"{field}: {value!r} is not a number; give a number in "
+                f"{range_text(lo, hi, lo_open, hi_open)}"
+                f"{'; ' + fix if fix else ''}"
+            ) from None
         result = float(values) if values.ndim == 0 else values
         unit_text = ""
     bad = np.flatnonzero(np.atleast_1d(out_of_range(values, lo, hi, lo_open, hi_open)))
@@ -824,9 +845,11 @@ def in_range(value, field, lo, hi, *, lo_open=False, hi_open=False, unit=None, f
         v = float(np.atleast_1d(values)[bad[0]])
         where = f" (row {rows[bad[0]]})" if rows is not None else ""
         shown = f"{v:g}{' ' + unit_text if unit_text else ''}"
-        raise InputError(f"{field}{where}: {shown} is outside "
-                         f"{range_text(lo, hi, lo_open, hi_open, unit_text)}"
-                         f"{'; ' + fix if fix else ''}")
+        raise InputError(
+            f"{field}{where}: {shown} is outside "
+            f"{range_text(lo, hi, lo_open, hi_open, unit_text)}"
+            f"{'; ' + fix if fix else ''}"
+        )
     return result
 
 
@@ -834,21 +857,55 @@ def in_range(value, field, lo, hi, *, lo_open=False, hi_open=False, unit=None, f
 RANGES = {
     "snr": (0.0, SNR_MAX, True, False, None, "a detection threshold is typically 3-10"),
     "confidence": (0.0, 1.0, True, True, None, "give the limit's confidence level, e.g. 0.95"),
-    "q_index": (*Q_INDEX_RANGE, False, False, None,
-                "p(q) ~ q^index; -1 is log-uniform, 0 uniform"),
-    "mass_err_dex": (0.0, MASS_ERR_DEX_MAX, False, False, None,
-                     "give the mass error in dex, e.g. 0.3"),
-    "fraction_err": (0.0, FRACTION_ERR_MAX, False, False, None,
-                     "give the error as a fraction (per cent / 100), e.g. 0.1"),
+    "q_index": (*Q_INDEX_RANGE, False, False, None, "p(q) ~ q^index; -1 is log-uniform, 0 uniform"),
+    "mass_err_dex": (
+        0.0,
+        MASS_ERR_DEX_MAX,
+        False,
+        False,
+        None,
+        "give the mass error in dex, e.g. 0.3",
+    ),
+    "fraction_err": (
+        0.0,
+        FRACTION_ERR_MAX,
+        False,
+        False,
+        None,
+        "give the error as a fraction (per cent / 100), e.g. 0.1",
+    ),
     "span": (0.0, SPAN_MAX.value, True, False, "yr", "give the observing span, e.g. 15 yr"),
-    "cadence": (CADENCE_MIN.to_value(u.d), 1e5, False, False, "d",
-                "give the interval between TOAs, e.g. 14 d"),
-    "red_amp": (0.0, RED_AMP_MAX, False, False, None,
-                "give the amplitude A (not log10 A), 0 for none"),
-    "red_gamma": (*RED_GAMMA_RANGE, False, False, None,
-                  "give the spectral index gamma, e.g. 13/3 = 4.33"),
-    "period": (PERIOD_RANGE[0].to_value(u.yr), PERIOD_RANGE[1].to_value(u.yr), False, False,
-               "yr", "give orbital periods between 1 hour and 1000 yr"),
+    "cadence": (
+        CADENCE_MIN.to_value(u.d),
+        1e5,
+        False,
+        False,
+        "d",
+        "give the interval between TOAs, e.g. 14 d",
+    ),
+    "red_amp": (
+        0.0,
+        RED_AMP_MAX,
+        False,
+        False,
+        None,
+        "give the amplitude A (not log10 A), 0 for none",
+    ),
+    "red_gamma": (
+        *RED_GAMMA_RANGE,
+        False,
+        False,
+        None,
+        "give the spectral index gamma, e.g. 13/3 = 4.33",
+    ),
+    "period": (
+        PERIOD_RANGE[0].to_value(u.yr),
+        PERIOD_RANGE[1].to_value(u.yr),
+        False,
+        False,
+        "yr",
+        "give orbital periods between 1 hour and 1000 yr",
+    ),
 }
 
 
@@ -879,19 +936,35 @@ def check_field(value, field, label=None, rows=None):
     5.0
     """
     lo, hi, lo_open, hi_open, unit, fix = RANGES[field]
-    return in_range(value, label or field, lo, hi, lo_open=lo_open, hi_open=hi_open,
-                    unit=unit, fix=fix, rows=rows)
+    return in_range(
+        value,
+        label or field,
+        lo,
+        hi,
+        lo_open=lo_open,
+        hi_open=hi_open,
+        unit=unit,
+        fix=fix,
+        rows=rows,
+    )
 
 
 # ------------------------------------------------------------------ config schemas
-_TYPE_WORDS = {str: "a string", float: "a number", int: "an integer", bool: "true or false",
-               dict: "a table", list: "a list"}
+_TYPE_WORDS = {
+    str: "a string",
+    float: "a number",
+    int: "an integer",
+    bool: "true or false",
+    dict: "a table",
+    list: "a list",
+}
 
 
 def _type_ok(value, kind):
     if kind is float:
         return isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(
-            value, (bool, np.bool_))
+            value, (bool, np.bool_)
+        )
     if kind is int:
         return isinstance(value, (int, np.integer)) and not isinstance(value, (bool, np.bool_))
     return isinstance(value, kind)
@@ -944,8 +1017,10 @@ def check_schema(data, schema, where, path=""):
     ptaconstrain.errors.InputError: map.toml: key 'columns' must be a table, got 'M' (str)
     """
     if not isinstance(data, dict):
-        raise InputError(f"{where}: {('key ' + repr(path)) if path else 'the file'} must be "
-                         f"a table, got {_shown(data)} ({type(data).__name__})")
+        raise InputError(
+            f"{where}: {('key ' + repr(path)) if path else 'the file'} must be "
+            f"a table, got {_shown(data)} ({type(data).__name__})"
+        )
     known = [k for k in schema if k != "*"]
     for key, value in data.items():
         name = f"{path}.{key}" if path else str(key)
@@ -954,27 +1029,35 @@ def check_schema(data, schema, where, path=""):
         elif "*" in schema:
             kind = schema["*"]
         else:
-            raise InputError(f"{where}: unknown key {name!r}; expected "
-                             f"{', '.join(repr(k) for k in known) or 'none'}")
+            raise InputError(
+                f"{where}: unknown key {name!r}; expected "
+                f"{', '.join(repr(k) for k in known) or 'none'}"
+            )
         if kind is object:
             continue
         if isinstance(kind, dict):
             if not isinstance(value, dict):
-                raise InputError(f"{where}: key {name!r} must be a table, got "
-                                 f"{_shown(value)} ({type(value).__name__})")
+                raise InputError(
+                    f"{where}: key {name!r} must be a table, got "
+                    f"{_shown(value)} ({type(value).__name__})"
+                )
             check_schema(value, kind, where, name)
             continue
         if isinstance(kind, list):
             if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
-                raise InputError(f"{where}: key {name!r} must be {_expected(kind)}, got "
-                                 f"{_shown(value)} ({type(value).__name__})")
+                raise InputError(
+                    f"{where}: key {name!r} must be {_expected(kind)}, got "
+                    f"{_shown(value)} ({type(value).__name__})"
+                )
             for i, item in enumerate(value):
                 check_schema(item, kind[0], where, f"{name}[{i + 1}]")
             continue
         kinds = kind if isinstance(kind, tuple) else (kind,)
         if not any(_type_ok(value, k) for k in kinds):
-            raise InputError(f"{where}: key {name!r} must be {_expected(kind)}, got "
-                             f"{_shown(value)} ({type(value).__name__})")
+            raise InputError(
+                f"{where}: key {name!r} must be {_expected(kind)}, got "
+                f"{_shown(value)} ({type(value).__name__})"
+            )
 
 
 def check_name(name, field="name"):
@@ -987,12 +1070,16 @@ def check_name(name, field="name"):
     """
     text = str(name).strip()
     if not text or len(text) > NAME_MAX:
-        raise InputError(f"{field}: give a name of 1 to {NAME_MAX} characters on one line "
-                         f"(got {len(text)} characters); it becomes part of file names")
+        raise InputError(
+            f"{field}: give a name of 1 to {NAME_MAX} characters on one line "
+            f"(got {len(text)} characters); it becomes part of file names"
+        )
     if not text.isprintable():
         bad = next(c for c in text if not c.isprintable())
-        raise InputError(f"{field}: the name holds the control character {bad!r}; give a "
-                         "name of printable characters")
+        raise InputError(
+            f"{field}: the name holds the control character {bad!r}; give a "
+            "name of printable characters"
+        )
     return text
 
 
@@ -1002,9 +1089,22 @@ class ResourceError(InputError):
 
 
 _MEMORY_LIMIT = [None]
-_BYTE_UNITS = {"": 1, "b": 1, "k": 1e3, "kb": 1e3, "m": 1e6, "mb": 1e6, "g": 1e9, "gb": 1e9,
-               "t": 1e12, "tb": 1e12, "kib": 1024, "mib": 1024**2, "gib": 1024**3,
-               "tib": 1024**4}
+_BYTE_UNITS = {
+    "": 1,
+    "b": 1,
+    "k": 1e3,
+    "kb": 1e3,
+    "m": 1e6,
+    "mb": 1e6,
+    "g": 1e9,
+    "gb": 1e9,
+    "t": 1e12,
+    "tb": 1e12,
+    "kib": 1024,
+    "mib": 1024**2,
+    "gib": 1024**3,
+    "tib": 1024**4,
+}
 
 
 def parse_bytes(text, field="max-memory"):
@@ -1019,8 +1119,9 @@ def parse_bytes(text, field="max-memory"):
 
     m = re.fullmatch(r"\s*([0-9.]+(?:e[+-]?\d+)?)\s*([a-z]*)\s*", str(text).lower())
     if m is None or m.group(2) not in _BYTE_UNITS:
-        raise InputError(f"{field}: cannot read {text!r} as a memory size; write e.g. 16GB "
-                         "or 500MB")
+        raise InputError(
+            f"{field}: cannot read {text!r} as a memory size; write e.g. 16GB or 500MB"
+        )
     value = float(m.group(1)) * _BYTE_UNITS[m.group(2)]
     if not np.isfinite(value) or value < 1e6:
         raise InputError(f"{field}: {text!r} is below 1 MB; write e.g. 16GB")
@@ -1037,8 +1138,9 @@ def bytes_text(n):
 
 def set_memory_limit(limit):
     """Set the memory limit (bytes, or text such as ``"16GB"``; None: the default)."""
-    _MEMORY_LIMIT[0] = None if limit is None else (
-        parse_bytes(limit) if isinstance(limit, str) else int(limit))
+    _MEMORY_LIMIT[0] = (
+        None if limit is None else (parse_bytes(limit) if isinstance(limit, str) else int(limit))
+    )
 
 
 def memory_limit():
@@ -1069,6 +1171,8 @@ def check_memory(n_bytes, what, reduce):
     """
     limit = memory_limit()
     if not n_bytes <= limit:
-        raise ResourceError(f"{what} needs about {bytes_text(n_bytes)} of memory, above the "
-                            f"limit of {bytes_text(limit)}: {reduce}, or raise the limit "
-                            "with --max-memory (e.g. --max-memory 16GB)")
+        raise ResourceError(
+            f"{what} needs about {bytes_text(n_bytes)} of memory, above the "
+            f"limit of {bytes_text(limit)}: {reduce}, or raise the limit "
+            "with --max-memory (e.g. --max-memory 16GB)"
+        )

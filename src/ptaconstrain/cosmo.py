@@ -22,10 +22,19 @@ import sys
 import numpy as np
 from astropy import units as u
 
-__all__ = ["get_cosmology", "cosmology_by_name", "cosmology_name", "REALIZATIONS",
-           "hubble_time",
-           "DistanceRedshift", "redshift_at", "luminosity_distance_at",
-           "spline_nodes", "Z_MAX", "PLANCK18"]
+__all__ = [
+    "get_cosmology",
+    "cosmology_by_name",
+    "cosmology_name",
+    "REALIZATIONS",
+    "hubble_time",
+    "DistanceRedshift",
+    "redshift_at",
+    "luminosity_distance_at",
+    "spline_nodes",
+    "Z_MAX",
+    "PLANCK18",
+]
 
 #: Largest redshift the interpolation covers.
 Z_MAX = 20.0
@@ -98,8 +107,7 @@ def get_cosmology(cosmology=None):
 
 
 #: astropy's built-in realizations (astropy.cosmology.realizations), newest first
-REALIZATIONS = ("Planck18", "Planck15", "Planck13", "WMAP9", "WMAP7", "WMAP5", "WMAP3",
-                "WMAP1")
+REALIZATIONS = ("Planck18", "Planck15", "Planck13", "WMAP9", "WMAP7", "WMAP5", "WMAP3", "WMAP1")
 
 
 def cosmology_by_name(name):
@@ -128,8 +136,10 @@ def cosmology_by_name(name):
 
     match = {r.lower(): r for r in REALIZATIONS}.get(str(name).strip().lower())
     if match is None:
-        raise InputError(f"cosmology: {name!r} is not one of astropy's realizations; use "
-                         f"one of {', '.join(REALIZATIONS)}")
+        raise InputError(
+            f"cosmology: {name!r} is not one of astropy's realizations; use "
+            f"one of {', '.join(REALIZATIONS)}"
+        )
     if match == "Planck18":
         return PLANCK18
     from astropy.cosmology import realizations
@@ -247,8 +257,12 @@ def _hermite(x, xk, yk, dk):
     t = (x - xk[i]) / h
     t2 = t * t
     t3 = t2 * t
-    return ((2 * t3 - 3 * t2 + 1) * yk[i] + (t3 - 2 * t2 + t) * h * dk[i]
-            + (3 * t2 - 2 * t3) * yk[i + 1] + (t3 - t2) * h * dk[i + 1])
+    return (
+        (2 * t3 - 3 * t2 + 1) * yk[i]
+        + (t3 - 2 * t2 + t) * h * dk[i]
+        + (3 * t2 - 2 * t3) * yk[i + 1]
+        + (t3 - t2) * h * dk[i + 1]
+    )
 
 
 class DistanceRedshift:

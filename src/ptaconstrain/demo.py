@@ -13,9 +13,18 @@ tests and notebooks can run one of them.
 
 from pathlib import Path
 
-__all__ = ["run_demo", "array_part", "ranking_part", "demo_array", "draw_in_parallel",
-           "HOSTS_FILE",
-           "LIMIT_FILE", "FORECAST_FILE", "ARRAY_FILE", "CATALOGUE_FILE"]
+__all__ = [
+    "run_demo",
+    "array_part",
+    "ranking_part",
+    "demo_array",
+    "draw_in_parallel",
+    "HOSTS_FILE",
+    "LIMIT_FILE",
+    "FORECAST_FILE",
+    "ARRAY_FILE",
+    "CATALOGUE_FILE",
+]
 
 HOSTS_FILE = "demo_hosts.ecsv"
 LIMIT_FILE = "synthetic_h0_limit.ecsv"
@@ -53,8 +62,9 @@ def run_demo(out, overwrite=False, progress=None):
 
     out = Path(out)
     if out.is_dir() and any(out.iterdir()) and not overwrite:
-        raise InputError(f"out: {out} is not empty; choose another directory or allow "
-                         "overwriting (--overwrite)")
+        raise InputError(
+            f"out: {out} is not empty; choose another directory or allow overwriting (--overwrite)"
+        )
     # every file of the demo is published together, or none is
     with output_set(out, "demo", overwrite):
         return _demo_outputs(out, overwrite, progress)
@@ -72,22 +82,36 @@ def _demo_outputs(out, overwrite, progress):
     limit_path = data_file(LIMIT_FILE)
     forecast_path = data_file(FORECAST_FILE)
     limit, forecast = load_curve(limit_path), load_curve(forecast_path)
-    lines = [f"ptaconstrain demo: {len(hosts)} INVENTED galaxies, synthetic curves; "
-             f"output in {out}/"]
+    lines = [
+        f"ptaconstrain demo: {len(hosts)} INVENTED galaxies, synthetic curves; output in {out}/"
+    ]
     figures = []  # drawn at the end, in parallel where that helps
     results = []
     for i, host in enumerate(hosts):
-        results.append(_host_outputs(host, limit, forecast, limit_path, forecast_path,
-                                     out, overwrite, figures, example=i == 0))
+        results.append(
+            _host_outputs(
+                host,
+                limit,
+                forecast,
+                limit_path,
+                forecast_path,
+                out,
+                overwrite,
+                figures,
+                example=i == 0,
+            )
+        )
         if progress is not None:
             progress("exclusion maps", i + 1, len(hosts))
     lines += [line for _, _, text in results for line in text]
     first = hosts[0]
-    lines.append(f"figures of {first.name} as examples ({safe_name(first.name)}_exclusion.png, "
-                 "_forecast.png); demo_overview.png compares every host, whose tables are all "
-                 "written; draw any host with: ptaconstrain exclude --mass "
-                 f"{first.mass.to_value('solMass'):.3g} --distance "
-                 f"{first.distance.to_value('Mpc'):.3g} --curve {Path(LIMIT_FILE).stem} --out DIR")
+    lines.append(
+        f"figures of {first.name} as examples ({safe_name(first.name)}_exclusion.png, "
+        "_forecast.png); demo_overview.png compares every host, whose tables are all "
+        "written; draw any host with: ptaconstrain exclude --mass "
+        f"{first.mass.to_value('solMass'):.3g} --distance "
+        f"{first.distance.to_value('Mpc'):.3g} --curve {Path(LIMIT_FILE).stem} --out DIR"
+    )
     lines += _summary_outputs(results, out, overwrite, figures)
     lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite, figures)
     lines += array_part(out, hosts, overwrite, progress, figures)
@@ -156,8 +180,9 @@ def _save_drawn(draw, stem, overwrite, args, kwargs):
     save_figure(draw(*args, **kwargs), stem, ("png",), overwrite)
 
 
-def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwrite, figures,
-                  example=False):
+def _host_outputs(
+    host, limit, forecast, limit_path, forecast_path, out, overwrite, figures, example=False
+):
     """Tables of one host for both curves; its two figures if it is the ``example``."""
     from ._files import check_new, write_table
     from .analysis.exclusion import exclusion_map
@@ -167,8 +192,10 @@ def _host_outputs(host, limit, forecast, limit_path, forecast_path, out, overwri
 
     text = []
     maps = []
-    for curve, path, tag in ((limit, limit_path, "exclusion"), (forecast, forecast_path,
-                                                                "forecast")):
+    for curve, path, tag in (
+        (limit, limit_path, "exclusion"),
+        (forecast, forecast_path, "forecast"),
+    ):
         result = exclusion_map(host, curve)
         stem = out / f"{safe_name(host.name)}_{tag}"
         meta = provenance(host.describe(), files={"curve": path})
@@ -202,15 +229,17 @@ def _summary_outputs(results, out, overwrite, figures):
         t[f"best_period_{tag}"] = u.Quantity([b[0] if b else np.nan * u.yr for b in best])
         masses = [r.smallest_excluded_companion_mass for r in maps]
         t[f"min_companion_{tag}"] = u.Quantity(
-            [np.nan * u.Msun if m is None else m for m in masses]).to(u.Msun)
+            [np.nan * u.Msun if m is None else m for m in masses]
+        ).to(u.Msun)
     t["best_q_limit"].info.description = "smallest max_mass_ratio excluded by the 95% limit"
     t["best_q_forecast"].info.description = "smallest max_mass_ratio detectable (forecast)"
     t.meta["demo"] = "INVENTED data: fictional hosts, synthetic curves"
     write_table(t, out / "demo_summary.ecsv", overwrite)
     check_new([out / "demo_overview.png"], overwrite)
     figures.append(_figure_job(overview_figure, out / "demo_overview", overwrite, lim, fc))
-    return [f"summary table {out / 'demo_summary.ecsv'}; overview figure "
-            f"{out / 'demo_overview.png'}"]
+    return [
+        f"summary table {out / 'demo_summary.ecsv'}; overview figure {out / 'demo_overview.png'}"
+    ]
 
 
 def _probability_outputs(host, limit, limit_path, out, overwrite, figures, seed=2026):
@@ -225,19 +254,23 @@ def _probability_outputs(host, limit, limit_path, out, overwrite, figures, seed=
     stem = out / f"{safe_name(host.name)}_probability"
     meta = provenance(host.describe(), files={"curve": limit_path})
     meta["demo"] = "INVENTED data: fictional host, synthetic curve"
-    write_table(exclusion_table(prob.deterministic, meta, prob_map=prob), f"{stem}.ecsv",
-                overwrite)
+    write_table(exclusion_table(prob.deterministic, meta, prob_map=prob), f"{stem}.ecsv", overwrite)
     check_new([f"{stem}.png"], overwrite)
-    figures.append(_figure_job(exclusion_figure, stem, overwrite, prob.deterministic,
-                               prob_map=prob))
+    figures.append(
+        _figure_job(exclusion_figure, stem, overwrite, prob.deterministic, prob_map=prob)
+    )
     best = prob.deterministic.tightest()
     cred = prob.tightest(0.95)
-    lines = [f"{host.name} with its errors ({host.describe().get('mass_err_dex')} dex in mass, "
-             f"{host.describe().get('distance_err')} in distance, mass scaled with distance):"]
+    lines = [
+        f"{host.name} with its errors ({host.describe().get('mass_err_dex')} dex in mass, "
+        f"{host.describe().get('distance_err')} in distance, mass scaled with distance):"
+    ]
     if best is not None and cred is not None:
-        lines.append(f"  best-fit bound q > {best[1]:.3g} at P = {best[0].to_value('yr'):.3g} yr"
-                     f"; 95% credible bound q > {cred[1]:.3g} at P = "
-                     f"{cred[0].to_value('yr'):.3g} yr ({stem}.png)")
+        lines.append(
+            f"  best-fit bound q > {best[1]:.3g} at P = {best[0].to_value('yr'):.3g} yr"
+            f"; 95% credible bound q > {cred[1]:.3g} at P = "
+            f"{cred[0].to_value('yr'):.3g} yr ({stem}.png)"
+        )
     else:
         lines += credible_summary_lines(prob)
     return lines
@@ -269,7 +302,7 @@ def _array_exclusions(out, hosts, overwrite, figures):
         meta["demo"] = "INVENTED data: fictional host and pulsar array"
         meta["array"] = "demo_array (shipped with ptaconstrain, INVENTED)"
         write_table(exclusion_table(here, meta), f"{stem}.ecsv", overwrite)
-        if host.coord is not None and not any(h.coord is not None for h in hosts[:len(at_host)]):
+        if host.coord is not None and not any(h.coord is not None for h in hosts[: len(at_host)]):
             check_new([f"{stem}.png"], overwrite)
             figures.append(_figure_job(exclusion_figure, stem, overwrite, here))
             lines.append(f"  figure {stem.name}.png: {host.name} as an example")
@@ -285,16 +318,30 @@ def _array_exclusions(out, hosts, overwrite, figures):
         b_here, b_avg = at_host[i].tightest(), averaged[i].tightest()
         if not (b_here and b_avg):
             continue
-        where = ("well-covered direction" if ratios[i] < 0.9 else
-                 "poorly covered direction" if ratios[i] > 1.1 else "near the sky average")
-        lines.append(f"  {hosts[i].name}: q > {b_here[1]:.3g} detectable at its position, "
-                     f"q > {b_avg[1]:.3g} sky-averaged ({ratios[i]:.2f} x; {where})")
+        where = (
+            "well-covered direction"
+            if ratios[i] < 0.9
+            else "poorly covered direction"
+            if ratios[i] > 1.1
+            else "near the sky average"
+        )
+        lines.append(
+            f"  {hosts[i].name}: q > {b_here[1]:.3g} detectable at its position, "
+            f"q > {b_avg[1]:.3g} sky-averaged ({ratios[i]:.2f} x; {where})"
+        )
     check_new([out / "demo_array_overview.png"], overwrite)
-    figures.append(_figure_job(
-        overview_figure, out / "demo_array_overview", overwrite, at_host, averaged,
-        title="INVENTED demo pulsar array (forecast, S/N >= 5): companions above each\n"
-              "line would be detectable, at the host's position or sky-averaged",
-        names=("at the host's position", "sky-averaged")))
+    figures.append(
+        _figure_job(
+            overview_figure,
+            out / "demo_array_overview",
+            overwrite,
+            at_host,
+            averaged,
+            title="INVENTED demo pulsar array (forecast, S/N >= 5): companions above each\n"
+            "line would be detectable, at the host's position or sky-averaged",
+            names=("at the host's position", "sky-averaged"),
+        )
+    )
     lines.append(f"  figure {out / 'demo_array_overview.png'}")
     return lines
 
@@ -309,12 +356,17 @@ def _eccentric_outputs(host, limit, limit_path, out, overwrite, figures, e=0.5):
     stem = out / f"{safe_name(host.name)}_eccentric"
     meta = provenance({**host.describe(), "eccentricity": f"{e:g}"}, files={"curve": limit_path})
     meta["demo"] = "INVENTED data: fictional host, synthetic curve"
-    title = (f"{host.name} (INVENTED): circular orbits (left) and e = {e:g} (right), "
-             "same 95% upper limit")
-    head = (f"eccentric companions of {host.name} (e = {e:g}, {len(eccentric.harmonics)} "
-            f"harmonics; {stem.name}.png beside e = 0):")
-    return _side_by_side(stem, meta, (circular, eccentric), ("e = 0", f"e = {e:g}"), title,
-                         head, overwrite, figures)
+    title = (
+        f"{host.name} (INVENTED): circular orbits (left) and e = {e:g} (right), "
+        "same 95% upper limit"
+    )
+    head = (
+        f"eccentric companions of {host.name} (e = {e:g}, {len(eccentric.harmonics)} "
+        f"harmonics; {stem.name}.png beside e = 0):"
+    )
+    return _side_by_side(
+        stem, meta, (circular, eccentric), ("e = 0", f"e = {e:g}"), title, head, overwrite, figures
+    )
 
 
 def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15):
@@ -326,17 +378,24 @@ def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15):
     host = next((h for h in hosts if h.coord is not None), hosts[0])
     arr = demo_array()
     background = Background(amplitude)
-    maps = (exclusion_map(host, arr, warn=False),
-            exclusion_map(host, arr.with_background(background), warn=False))
+    maps = (
+        exclusion_map(host, arr, warn=False),
+        exclusion_map(host, arr.with_background(background), warn=False),
+    )
     stem = out / f"{safe_name(host.name)}_array_forecast_background"
     meta = provenance({**host.describe(), "background": background.describe()})
     meta["demo"] = "INVENTED data: fictional host and pulsar array"
-    title = (f"{host.name} (INVENTED) with the INVENTED demo array: quiet sky (left) and a "
-             f"background A = {amplitude:.2g}, gamma = 13/3 as common noise (right)")
-    head = (f"background as noise ({background.describe()}), demo array at {host.name} "
-            f"({stem.name}.png):")
-    return _side_by_side(stem, meta, maps, ("quiet sky", "with background"), title, head,
-                         overwrite, figures)
+    title = (
+        f"{host.name} (INVENTED) with the INVENTED demo array: quiet sky (left) and a "
+        f"background A = {amplitude:.2g}, gamma = 13/3 as common noise (right)"
+    )
+    head = (
+        f"background as noise ({background.describe()}), demo array at {host.name} "
+        f"({stem.name}.png):"
+    )
+    return _side_by_side(
+        stem, meta, maps, ("quiet sky", "with background"), title, head, overwrite, figures
+    )
 
 
 def _side_by_side(stem, meta, maps, tags, title, head, overwrite, figures):
@@ -351,10 +410,15 @@ def _side_by_side(stem, meta, maps, tags, title, head, overwrite, figures):
     lines = [head]
     for tag, r in zip(tags, maps, strict=True):
         best = r.tightest()
-        lines.append(f"  {tag}: " + (f"nothing {r.verb}" if best is None else
-                                     f"q > {best[1]:.3g} {r.verb} at P = "
-                                     f"{best[0].to_value('yr'):.3g} yr"
-                                     + ("" if r.is_limit else " (forecast)")))
+        lines.append(
+            f"  {tag}: "
+            + (
+                f"nothing {r.verb}"
+                if best is None
+                else f"q > {best[1]:.3g} {r.verb} at P = "
+                f"{best[0].to_value('yr'):.3g} yr" + ("" if r.is_limit else " (forecast)")
+            )
+        )
     return lines
 
 
@@ -435,14 +499,27 @@ def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
     f_best = freq[i : i + 1]
     m = arr.h0_threshold_map(f_best, nside=nside, snr=snr)
     meta = provenance(files={"array": data_file(ARRAY_FILE)})
-    write_threshold_maps(fits_path, m, f_best, snr, arr.span,
-                         "pulsar list demo_array (INVENTED)", overwrite=overwrite,
-                         extra=fits_cards(meta))
+    write_threshold_maps(
+        fits_path,
+        m,
+        f_best,
+        snr,
+        arr.span,
+        "pulsar list demo_array (INVENTED)",
+        overwrite=overwrite,
+        extra=fits_cards(meta),
+    )
     job = _figure_job(
-        sky_map_figure, png_stem, overwrite, m[0], pulsars=arr.sky_markers(), hosts=hosts,
+        sky_map_figure,
+        png_stem,
+        overwrite,
+        m[0],
+        pulsars=arr.sky_markers(),
+        hosts=hosts,
         title=f"INVENTED demo array: h0 detectable at S/N >= {snr:g} (forecast), "
-              f"f = {nhz_text(f_best[0])}",
-        label=threshold_label(snr))
+        f"f = {nhz_text(f_best[0])}",
+        label=threshold_label(snr),
+    )
     if figures is None:
         job()
     else:
@@ -450,25 +527,33 @@ def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
     sky.meta["provenance"] = meta
     save_curve(sky, sky_path, overwrite)
 
-    lines = [f"pulsar array: {len(arr)} INVENTED pulsars, span {arr.span.value:.3g} yr; sky "
-             f"map {fits_path.name} + {png_stem.name}.png at f = {nhz_text(f_best[0])}: sky-"
-             f"averaged h0 >= {h_sky[i]:.3g} for S/N >= {snr:g} (forecast)"]
+    lines = [
+        f"pulsar array: {len(arr)} INVENTED pulsars, span {arr.span.value:.3g} yr; sky "
+        f"map {fits_path.name} + {png_stem.name}.png at f = {nhz_text(f_best[0])}: sky-"
+        f"averaged h0 >= {h_sky[i]:.3g} for S/N >= {snr:g} (forecast)"
+    ]
     for host in hosts:
         c = arr.curve_at(host.coord, snr=snr, frequency=freq)
         c.meta["demo"] = "INVENTED pulsar array and host"
-        c.meta["provenance"] = provenance(host.describe(),
-                                          files={"array": data_file(ARRAY_FILE)})
+        c.meta["provenance"] = provenance(host.describe(), files={"array": data_file(ARRAY_FILE)})
         save_curve(c, curve_paths[host.name], overwrite)
         h = float(c.h0_threshold(f_best, snr=snr)[0])
         if host.coord is None:
             where = "no position: sky-averaged"
         else:
             ratio = h / h_sky[i]
-            cover = ("a well-covered direction" if ratio < 0.9 else
-                     "a poorly covered direction" if ratio > 1.1 else "near the sky average")
+            cover = (
+                "a well-covered direction"
+                if ratio < 0.9
+                else "a poorly covered direction"
+                if ratio > 1.1
+                else "near the sky average"
+            )
             where = f"{ratio:.2f} x the sky average ({cover})"
-        lines.append(f"  {host.name}: h0 >= {h:.3g} at {nhz_text(f_best[0])} for S/N >= {snr:g}, "
-                     f"{where}; curve {curve_paths[host.name].name}")
+        lines.append(
+            f"  {host.name}: h0 >= {h:.3g} at {nhz_text(f_best[0])} for S/N >= {snr:g}, "
+            f"{where}; curve {curve_paths[host.name].name}"
+        )
     return lines
 
 
@@ -492,9 +577,14 @@ def ranking_part(out_dir, curve, overwrite=False):
 
     path = data_file(CATALOGUE_FILE)
     ranking, written = rank_to_files(
-        path, curve, out_dir, files={"catalogue": path},
+        path,
+        curve,
+        out_dir,
+        files={"catalogue": path},
         options={"demo": "INVENTED galaxies (fictional catalogue), synthetic curve"},
-        overwrite=overwrite, full_ecsv=True)
+        overwrite=overwrite,
+        full_ecsv=True,
+    )
     lines = ["catalogue ranking (INVENTED galaxies): " + ranking.summary_lines(0)[0]]
     lines += ranking.summary_lines(3)[1:]
     lines.append("  wrote " + ", ".join(p.name for p in written))

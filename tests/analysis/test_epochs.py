@@ -14,8 +14,15 @@ from ptaconstrain.sensitivity.pulsar_array import PulsarArray
 def _white_array():
     """Four invented white-noise pulsars, 8 yr at 14 d, 200 ns."""
     coord = SkyCoord([10, 100, 200, 300] * u.deg, [-20, 30, 5, -60] * u.deg)
-    return PulsarArray(["W1", "W2", "W3", "W4"], coord, [0.2] * 4 * u.us, [14.0] * 4 * u.d,
-                       [55000.0] * 4, [55000 + 8 * 365.25] * 4, name="white")
+    return PulsarArray(
+        ["W1", "W2", "W3", "W4"],
+        coord,
+        [0.2] * 4 * u.us,
+        [14.0] * 4 * u.d,
+        [55000.0] * 4,
+        [55000 + 8 * 365.25] * 4,
+        name="white",
+    )
 
 
 def test_h0_threshold_falls_as_inverse_root_span_for_white_noise():

@@ -40,8 +40,7 @@ def test_max_mass_ratio_sits_on_the_limit(limit_curve):
     f = wf.gw_frequency(P)
     cut = np.isfinite(r.max_mass_ratio) & (r.max_mass_ratio < 1)
     assert cut.any()
-    h = wf.strain_amplitude(host.mass, r.max_mass_ratio[cut], f[cut], host.distance,
-                            host.redshift)
+    h = wf.strain_amplitude(host.mass, r.max_mass_ratio[cut], f[cut], host.distance, host.redshift)
     np.testing.assert_allclose(h.value, r.h0_threshold[cut], rtol=1e-9)
 
 
@@ -156,5 +155,4 @@ def test_tightest_bound_skips_periods_where_the_bound_chirps():
     j = int(np.argmin(np.abs(r.period - period)))
     assert r.bound_is_monochromatic[j] and q == r.max_mass_ratio[j]
     # every valid bound is at least as loose as the reported tightest one
-    assert np.all(r.max_mass_ratio[r.bound_is_monochromatic & np.isfinite(r.max_mass_ratio)]
-                  >= q)
+    assert np.all(r.max_mass_ratio[r.bound_is_monochromatic & np.isfinite(r.max_mass_ratio)] >= q)

@@ -19,8 +19,12 @@ HOST = Host("A", 2e10, 60)
 
 def _psd_curve():
     f = np.geomspace(2e-9, 3e-7, 40)
-    return StrainCurve(f * u.Hz, 1e-26 * (f / 1e-8) ** 2 + 1e-28 * (f / 1e-8) ** -3,
-                       "strain_psd", {"span": "20 yr"})
+    return StrainCurve(
+        f * u.Hz,
+        1e-26 * (f / 1e-8) ** 2 + 1e-28 * (f / 1e-8) ** -3,
+        "strain_psd",
+        {"span": "20 yr"},
+    )
 
 
 @pytest.mark.parametrize("curve", [bucket_limit(), _psd_curve()], ids=["limit", "psd"])
@@ -29,8 +33,15 @@ def test_zero_eccentricity_reproduces_the_circular_map_exactly(curve):
     # chirping by Peters (1964) df/dt, f_ISCO of Maggiore (2008) eq. 4.39 -- bit for bit
     circ = exclusion_map(HOST, curve, Q, P, warn=False)
     e0 = exclusion_map(HOST, curve, Q, P, eccentricity=0.0, warn=False)
-    for name in ("excluded", "region", "h0_threshold", "eta_min", "max_mass_ratio",
-                 "chirp_mass_ratio", "separation_rg"):
+    for name in (
+        "excluded",
+        "region",
+        "h0_threshold",
+        "eta_min",
+        "max_mass_ratio",
+        "chirp_mass_ratio",
+        "separation_rg",
+    ):
         np.testing.assert_array_equal(getattr(e0, name), getattr(circ, name), err_msg=name)
     f = wf.gw_frequency(P)
     h_unit = wf.strain_amplitude(HOST.mass, 1.0, f, HOST.distance, HOST.redshift).value / 0.25
@@ -44,8 +55,7 @@ def _cell_by_cell(curve, e, snr=5.0):
     Mathews 1963, via harmonic_amplitude_ratio) compared one by one with the curve."""
     n = ecc.harmonic_numbers(e)
     f = wf.gw_frequency(P)
-    h0 = wf.strain_amplitude(HOST.mass, Q[:, None], f[None, :], HOST.distance,
-                            HOST.redshift).value
+    h0 = wf.strain_amplitude(HOST.mass, Q[:, None], f[None, :], HOST.distance, HOST.redshift).value
     out = np.zeros(h0.shape, bool)
     for k in n:  # a plain loop over harmonics: the reference, not the fast path
         h_k = ecc.harmonic_amplitude_ratio(k, e) * h0
@@ -83,8 +93,7 @@ def test_eccentric_chirp_and_pericentre_regions():
     assert np.any(above & (f < wf.isco_frequency(HOST.mass, HOST.redshift)))
     n_max = ecc.harmonic_numbers(e).max()
     fdot = wf.frequency_derivative(HOST.mass, Q[:, None], f[None, :], HOST.redshift)
-    drift = (fdot * n_max / 2
-             * ecc.enhancement_factor(e) * r.span**2).decompose().value
+    drift = (fdot * n_max / 2 * ecc.enhancement_factor(e) * r.span**2).decompose().value
     ok = ~above & ~np.isnan(r.eta_min)
     np.testing.assert_array_equal((r.region == CHIRPING)[:, ok], (drift > 1)[:, ok])
 
@@ -93,8 +102,7 @@ def test_probability_map_uses_each_samples_pericentre_isco():
     # a sample has no binary at f > f_ISCO,s (1 - e)^(3/2) (pericentre rule), so the
     # fraction above it is counted from the samples themselves
     h = Host("A", 2e10, 60, mass_err_dex=0.3, distance_err=5)
-    pm = exclusion_probability(h, bucket_limit(), Q, P, samples=2000, seed=3,
-                               eccentricity=0.5)
+    pm = exclusion_probability(h, bucket_limit(), Q, P, samples=2000, seed=3, eccentricity=0.5)
     assert pm.deterministic.eccentricity == 0.5
     f_isco = pm.samples.isco_frequency.to_value(u.Hz) * (1 - 0.5) ** 1.5
     expected = np.mean(pm.frequency.to_value(u.Hz)[None, :] > f_isco[:, None], axis=0)

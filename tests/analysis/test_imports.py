@@ -27,9 +27,13 @@ def test_the_import_scanner_sees_probability_imports():
     assert ".exclusion" in _imported_modules("ptaconstrain.analysis.probability")
 
 
-@pytest.mark.parametrize("module", ["ptaconstrain.analysis.exclusion",
-                                    "ptaconstrain.analysis.sampling",
-                                    "ptaconstrain.analysis.isco_counts"])
+@pytest.mark.parametrize(
+    "module",
+    [
+        "ptaconstrain.analysis.exclusion",
+        "ptaconstrain.analysis.sampling",
+        "ptaconstrain.analysis.isco_counts",
+    ],
+)
 def test_exclusion_and_sampling_never_import_probability(module):
     assert not any(name.endswith("probability") for name in _imported_modules(module))
-

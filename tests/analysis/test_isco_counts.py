@@ -40,30 +40,42 @@ def test_counts_and_kth_rank_equal_brute_force(n):
     c = IscoCounts(f_grid, f_isco, order)
     x = np.arange(n + 1)
     cols = np.arange(f_grid.size)
-    np.testing.assert_array_equal(c.above(cols[:, None], x[None, :]),
-                                  direct_counts(f_grid, f_isco, rank, x))
+    np.testing.assert_array_equal(
+        c.above(cols[:, None], x[None, :]), direct_counts(f_grid, f_isco, rank, x)
+    )
     np.testing.assert_array_equal(c.n_above, (f_grid[:, None] > f_isco[None, :]).sum(axis=1))
     for k in {1, max(1, n // 2), n}:
-        np.testing.assert_array_equal(c.kth_largest_rank(cols, k),
-                                      direct_kth(f_grid, f_isco, rank, k))
+        np.testing.assert_array_equal(
+            c.kth_largest_rank(cols, k), direct_kth(f_grid, f_isco, rank, k)
+        )
 
 
-@pytest.mark.parametrize("grid", [
-    np.geomspace(1e-9, 1e-6, 300),                       # the default-like log grid
-    np.array([3e-8]),                                     # one period
-    np.sort(np.r_[np.geomspace(1e-9, 1e-6, 50), 2e-8 * (1 + np.arange(4) * 1e-5)]),
-    np.sort(np.r_[1e-9, 1e-9, 2e-9, np.nextafter(2e-9, 1)]),  # ties and neighbours
-    np.linspace(1e-9, 1e-6, 3000),                        # too dense: binary-search path
-    np.array([1e-30, 1e30]),                              # too wide: binary-search path
-])
+@pytest.mark.parametrize(
+    "grid",
+    [
+        np.geomspace(1e-9, 1e-6, 300),  # the default-like log grid
+        np.array([3e-8]),  # one period
+        np.sort(np.r_[np.geomspace(1e-9, 1e-6, 50), 2e-8 * (1 + np.arange(4) * 1e-5)]),
+        np.sort(np.r_[1e-9, 1e-9, 2e-9, np.nextafter(2e-9, 1)]),  # ties and neighbours
+        np.linspace(1e-9, 1e-6, 3000),  # too dense: binary-search path
+        np.array([1e-30, 1e30]),  # too wide: binary-search path
+    ],
+)
 def test_grid_count_equals_searchsorted(grid):
     # reference: numpy's searchsorted(side="right"); values on, next to, below and
     # above the grid points
     rng = np.random.default_rng(5)
-    v = np.r_[10 ** rng.uniform(-10, -5, 20000), grid, np.nextafter(grid, 0),
-              np.nextafter(grid, np.inf), 1e-300, 1e300]
-    np.testing.assert_array_equal(isco_module._grid_count(grid, v),
-                                  np.searchsorted(grid, v, side="right"))
+    v = np.r_[
+        10 ** rng.uniform(-10, -5, 20000),
+        grid,
+        np.nextafter(grid, 0),
+        np.nextafter(grid, np.inf),
+        1e-300,
+        1e300,
+    ]
+    np.testing.assert_array_equal(
+        isco_module._grid_count(grid, v), np.searchsorted(grid, v, side="right")
+    )
 
 
 def test_ascending_order_equals_argsort_exactly():

@@ -29,8 +29,9 @@ def test_lognormal_samples_reproduce_the_parametric_map():
     # both against the closed form P = Phi(log10(h0/h_thr) / ((5/3) sigma)) (Thorne 1987
     # eq. 46: h0 ~ M^(5/3))
     sigma, m0 = 0.3, 5e8
-    post = MassSamples(10 ** stats.norm.rvs(np.log10(m0), sigma, size=400_000,
-                                            random_state=5) * u.Msun)
+    post = MassSamples(
+        10 ** stats.norm.rvs(np.log10(m0), sigma, size=400_000, random_state=5) * u.Msun
+    )
     host = Host("C", m0, 5)
     n = 100_000
     curve = bucket_limit()
@@ -38,11 +39,11 @@ def test_lognormal_samples_reproduce_the_parametric_map():
     with pytest.warns(PtaconstrainWarning, match="no distance error"):
         a = exclusion_probability(host, curve, Q, P, samples=n, seed=1, mass_samples=post)
     with pytest.warns(PtaconstrainWarning, match="no distance error"):
-        b = exclusion_probability(Host("C", m0, 5, mass_err_dex=sigma), curve, Q, P,
-                                  samples=n, seed=2)
+        b = exclusion_probability(
+            Host("C", m0, 5, mass_err_dex=sigma), curve, Q, P, samples=n, seed=2
+        )
     f = wf.gw_frequency(P)
-    h0 = wf.strain_amplitude(host.mass, Q[:, None], f[None, :], host.distance,
-                             host.redshift).value
+    h0 = wf.strain_amplitude(host.mass, Q[:, None], f[None, :], host.distance, host.redshift).value
     expected = stats.norm.cdf(np.log10(h0 / curve.h0_threshold(f)) / (5 / 3 * sigma))
     ok = np.isfinite(expected) & np.isfinite(a.probability)
     assert np.any((expected[ok] > 0.1) & (expected[ok] < 0.9))
@@ -52,14 +53,12 @@ def test_lognormal_samples_reproduce_the_parametric_map():
     assert np.all(np.abs(a.probability[ok] - b.probability[ok]) <= 2 * tol)
     for c in a.credibility:
         both = np.isfinite(a.max_mass_ratio[c]) & (a.max_mass_ratio[c] < 0.2)
-        np.testing.assert_allclose(a.max_mass_ratio[c][both], b.max_mass_ratio[c][both],
-                                   rtol=0.05)
+        np.testing.assert_allclose(a.max_mass_ratio[c][both], b.max_mass_ratio[c][both], rtol=0.05)
 
 
 def test_weights_and_joint_distances_are_used():
     # weighted rows are drawn in proportion to their weights (multinomial, 5 sigma)
-    post = MassSamples([1e9, 2e9, 4e9] * u.Msun, distance=[10, 20, 40] * u.Mpc,
-                       weights=[1, 2, 7])
+    post = MassSamples([1e9, 2e9, 4e9] * u.Msun, distance=[10, 20, 40] * u.Mpc, weights=[1, 2, 7])
     s = resample_host(Host("W", 2e9, 20), post, n=50_000, seed=3)
     frac = [np.mean(s.mass.value == m) for m in (1e9, 2e9, 4e9)]
     np.testing.assert_allclose(frac, [0.1, 0.2, 0.7], atol=5 * np.sqrt(0.7 * 0.3 / 50_000))

@@ -22,9 +22,11 @@ from ptaconstrain.sensitivity.curve import StrainCurve
 
 # soft assumptions these tests make on purpose (each is tested where it is raised)
 fixed_errors = pytest.mark.filterwarnings(
-    "ignore:host .* so the samples do not vary:ptaconstrain.errors.PtaconstrainWarning")
+    "ignore:host .* so the samples do not vary:ptaconstrain.errors.PtaconstrainWarning"
+)
 averaged_orientation = pytest.mark.filterwarnings(
-    "ignore:forecasts use the orientation-averaged S/N:ptaconstrain.errors.PtaconstrainWarning")
+    "ignore:forecasts use the orientation-averaged S/N:ptaconstrain.errors.PtaconstrainWarning"
+)
 
 Q = np.geomspace(1e-4, 1, 40)
 P = np.geomspace(0.05, 60, 45) * u.yr
@@ -33,8 +35,9 @@ P = np.geomspace(0.05, 60, 45) * u.yr
 def noise_curve():
     """A strain-noise PSD power law (test input, not physics), sky-averaged, 20 yr."""
     f = np.geomspace(2e-9, 3e-7, 50)
-    return StrainCurve(f * u.Hz, 1e-21 * (f / 1e-8) ** 1.5 * u.Hz**-1, "strain_psd",
-                            {"span": "20 yr"})
+    return StrainCurve(
+        f * u.Hz, 1e-21 * (f / 1e-8) ** 1.5 * u.Hz**-1, "strain_psd", {"span": "20 yr"}
+    )
 
 
 def mc_tol(p, n, k=5.0):
@@ -45,9 +48,13 @@ def mc_tol(p, n, k=5.0):
 def brute_force(samples, curve, q, period, snr=5.0, span=None):
     """Cell-by-cell, sample-by-sample comparison of the Thorne (1987, eq. 46) h0."""
     f = wf.gw_frequency(period)
-    h0 = wf.strain_amplitude(samples.mass[:, None, None], q[None, :, None],
-                             f[None, None, :], samples.distance[:, None, None],
-                             samples.redshift).value
+    h0 = wf.strain_amplitude(
+        samples.mass[:, None, None],
+        q[None, :, None],
+        f[None, None, :],
+        samples.distance[:, None, None],
+        samples.redshift,
+    ).value
     if samples.orientation_factor is not None:
         h0 = h0 * np.sqrt(samples.orientation_factor)[:, None, None]
     thr = curve.h0_threshold(f, snr=snr, span=curve.observing_span(span))
@@ -66,8 +73,9 @@ def test_zero_uncertainty_reproduces_the_deterministic_map(limit_curve, mass):
     r = exclusion_probability(host, limit_curve, Q, P, samples=200, seed=1)
     nan_cols = np.isin(det.region, (UNCONSTRAINED, ABOVE_ISCO)).all(axis=0)
     assert nan_cols.any()
-    np.testing.assert_array_equal(np.isnan(r.probability),
-                                  np.broadcast_to(nan_cols, Q.shape + P.shape))
+    np.testing.assert_array_equal(
+        np.isnan(r.probability), np.broadcast_to(nan_cols, Q.shape + P.shape)
+    )
     np.testing.assert_array_equal(r.probability[:, ~nan_cols], det.excluded[:, ~nan_cols] * 1.0)
     for c in r.credibility:
         np.testing.assert_array_equal(r.max_mass_ratio[c], det.max_mass_ratio)
@@ -103,8 +111,9 @@ def test_matches_brute_force_on_the_same_samples(curve):
 def test_credible_bound_agrees_with_the_cell_probabilities():
     # definition: q > q_c is excluded with probability >= c, q < q_c is not
     host = Host("B", 3e10, 200, mass_err_dex=(0.2, 0.4), distance_err=20, mass_distance=190)
-    r = exclusion_probability(host, power_law_limit(), Q, P, samples=3000, seed=6,
-                              credibility=(0.3, 0.5, 0.9, 0.95, 1.0))
+    r = exclusion_probability(
+        host, power_law_limit(), Q, P, samples=3000, seed=6, credibility=(0.3, 0.5, 0.9, 0.95, 1.0)
+    )
     for c, qc in r.max_mass_ratio.items():
         ok = np.isfinite(qc)
         np.testing.assert_array_equal(r.probability[:, ok] >= c, Q[:, None] > qc[None, ok])
@@ -121,8 +130,9 @@ def test_lognormal_mass_error_gives_a_normal_cdf(limit_curve):
     r = exclusion_probability(host, limit_curve, Q, P, samples=n, seed=11)
     f = wf.gw_frequency(P)
     assert r.above_isco_fraction[np.isfinite(limit_curve.h0_threshold(f))].max() == 0
-    h_best = wf.strain_amplitude(host.mass, Q[:, None], f[None, :], host.distance,
-                              host.redshift).value
+    h_best = wf.strain_amplitude(
+        host.mass, Q[:, None], f[None, :], host.distance, host.redshift
+    ).value
     expected = stats.norm.cdf(np.log10(h_best / limit_curve.h0_threshold(f)) / (5 / 3 * sigma))
     ok = np.isfinite(expected)
     assert np.any((expected[ok] > 0.1) & (expected[ok] < 0.9))
@@ -138,8 +148,9 @@ def test_asymmetric_mass_error_is_a_two_piece_normal(limit_curve):
     n = 100_000
     r = exclusion_probability(host, limit_curve, Q, P, samples=n, seed=12)
     f = wf.gw_frequency(P)
-    h_best = wf.strain_amplitude(host.mass, Q[:, None], f[None, :], host.distance,
-                              host.redshift).value
+    h_best = wf.strain_amplitude(
+        host.mass, Q[:, None], f[None, :], host.distance, host.redshift
+    ).value
     w = np.log10(limit_curve.h0_threshold(f) / h_best) / (5 / 3)  # needed mass offset, dex
     expected = np.where(w < 0, stats.norm.sf(w / lo), stats.norm.sf(w / hi))
     ok = np.isfinite(expected)
@@ -167,8 +178,9 @@ def test_reference_distance_mass_makes_h0_scale_as_d_to_two_thirds():
     assert sd_corr == pytest.approx(2 / 3 * frac, rel=0.02)
     assert sd_flat == pytest.approx(frac, rel=0.02)
     # per sample the scaling is exact: ln h0 = (2/3) ln D + const
-    np.testing.assert_allclose(corr.log_scale(s0), 2 / 3 * np.log(corr.distance / (60 * u.Mpc)),
-                               atol=1e-12)
+    np.testing.assert_allclose(
+        corr.log_scale(s0), 2 / 3 * np.log(corr.distance / (60 * u.Mpc)), atol=1e-12
+    )
 
 
 @fixed_errors
@@ -182,8 +194,9 @@ def test_noise_budget_inclination_probability_closed_form():
     r = exclusion_probability(host, curve, Q, P, samples=n, seed=13)
     assert r.orientation
     f = wf.gw_frequency(P)
-    h_best = wf.strain_amplitude(host.mass, Q[:, None], f[None, :], host.distance,
-                              host.redshift).value
+    h_best = wf.strain_amplitude(
+        host.mass, Q[:, None], f[None, :], host.distance, host.redshift
+    ).value
     ratio = curve.h0_threshold(f, snr=5.0) / h_best
     x_star = -3 + np.sqrt(8 + 3.2 * ratio**2)
     expected = 1 - np.sqrt(np.clip(x_star, 0, 1))

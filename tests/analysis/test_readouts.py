@@ -21,8 +21,9 @@ from ptaconstrain.sensitivity.curve import StrainCurve
 
 
 def _map(host):
-    return exclusion_map(host, power_law_limit(), np.logspace(-3, 0, 40),
-                         np.geomspace(0.5, 30, 50) * u.yr)
+    return exclusion_map(
+        host, power_law_limit(), np.logspace(-3, 0, 40), np.geomspace(0.5, 30, 50) * u.yr
+    )
 
 
 @pytest.mark.parametrize("z", [0.01, 0.3, 2.0])
@@ -31,7 +32,8 @@ def test_angular_diameter_distance_matches_astropy(z):
 
     d_l = Planck18.luminosity_distance(z)
     assert angular_diameter_distance(d_l, z).to_value(u.Mpc) == pytest.approx(
-        Planck18.angular_diameter_distance(z).to_value(u.Mpc), rel=1e-10)  # astropy
+        Planck18.angular_diameter_distance(z).to_value(u.Mpc), rel=1e-10
+    )  # astropy
 
 
 def test_angular_separation_is_kepler_over_the_angular_diameter_distance():
@@ -43,7 +45,8 @@ def test_angular_separation_is_kepler_over_the_angular_diameter_distance():
     p_rest = r.period[10] / 1.05
     a = np.cbrt(const.G * 1e10 * u.Msun * p_rest**2 / (4 * np.pi**2))
     theta = (a / Planck18.angular_diameter_distance(0.05)).to(
-        u.uas, equivalencies=u.dimensionless_angles())
+        u.uas, equivalencies=u.dimensionless_angles()
+    )
     assert angular_separation(r)[10].to_value(u.uas) == pytest.approx(theta.value, rel=1e-6)
 
 
@@ -69,7 +72,8 @@ def test_merger_lines_give_that_merger_time():
     times, q = merger_time_lines(r, [1e6, 1e8] * u.yr)
     ok = np.isfinite(q[0])
     tau = wf.coalescence_time(host.mass, q[0][ok], r.frequency[ok], host.redshift) / (
-        1 + host.redshift)
+        1 + host.redshift
+    )
     assert np.allclose(tau.to_value(u.yr), 1e6, rtol=1e-9)
 
 
@@ -77,8 +81,9 @@ def test_default_merger_times_end_at_the_hubble_time():
     from astropy.cosmology import Planck18
 
     t = default_merger_times()
-    assert t[2].to_value(u.Gyr) == pytest.approx(Planck18.hubble_time.to_value(u.Gyr),
-                                                 rel=1e-6)  # astropy
+    assert t[2].to_value(u.Gyr) == pytest.approx(
+        Planck18.hubble_time.to_value(u.Gyr), rel=1e-6
+    )  # astropy
 
 
 @pytest.mark.parametrize("inc_deg", [0.0, 30.0, 60.0, 90.0])

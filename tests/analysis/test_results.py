@@ -67,9 +67,19 @@ def test_repr_is_short_and_names_host_kind_grid_and_bound(results):
 def test_to_table_has_the_documented_columns_with_units(results):
     det, prob, _ = results
     t = det.to_table()
-    assert t.colnames == ["period", "f_gw", "h0_threshold", "max_mass_ratio", "companion_mass",
-                          "separation", "separation_rg", "chirp_mass_ratio",
-                          "angular_separation", "merger_time", "constrained"]
+    assert t.colnames == [
+        "period",
+        "f_gw",
+        "h0_threshold",
+        "max_mass_ratio",
+        "companion_mass",
+        "separation",
+        "separation_rg",
+        "chirp_mass_ratio",
+        "angular_separation",
+        "merger_time",
+        "constrained",
+    ]
     assert t["period"].unit == u.yr and t["f_gw"].unit == u.Hz
     assert t["companion_mass"].unit == u.Msun and t["separation"].unit == u.pc
     np.testing.assert_array_equal(t["max_mass_ratio"], det.max_mass_ratio)

@@ -22,15 +22,20 @@ def _quadrupole_harmonic_power(e, n_max, samples=4096):
     (Peters & Mathews 1963, eq. 16 with mu = M = a = 1).
     """
     t = 2 * np.pi * np.arange(samples) / samples
-    big_e = optimize.newton(lambda x: x - e * np.sin(x) - t, t + e * np.sin(t),
-                            fprime=lambda x: 1 - e * np.cos(x), tol=1e-14, maxiter=100)
+    big_e = optimize.newton(
+        lambda x: x - e * np.sin(x) - t,
+        t + e * np.sin(t),
+        fprime=lambda x: 1 - e * np.cos(x),
+        tol=1e-14,
+        maxiter=100,
+    )
     x = np.cos(big_e) - e
     y = np.sqrt(1 - e**2) * np.sin(big_e)
     r2 = x**2 + y**2
     q = [x * x - r2 / 3, y * y - r2 / 3, -r2 / 3, x * y, x * y]  # xx, yy, zz, xy, yx
     c = [np.fft.rfft(qi) / samples for qi in q]
     n = np.arange(1, n_max + 1)
-    power = sum(np.abs(ci[1:n_max + 1]) ** 2 for ci in c)
+    power = sum(np.abs(ci[1 : n_max + 1]) ** 2 for ci in c)
     return n, 2 / 5 * n**6 * power / (32 / 5)
 
 
@@ -39,8 +44,7 @@ def test_g_matches_numerical_quadrupole_integration(e):
     # outside check: quadrupole formula over one Keplerian orbit vs Peters & Mathews
     # (1963) eq. 20; spectral (FFT) accuracy on 4096 samples is ~1e-12 for these e
     n, p_num = _quadrupole_harmonic_power(e, 400)
-    np.testing.assert_allclose(ecc.harmonic_power(n[:60], e), p_num[:60], rtol=1e-8,
-                               atol=1e-12)
+    np.testing.assert_allclose(ecc.harmonic_power(n[:60], e), p_num[:60], rtol=1e-8, atol=1e-12)
     # the total against F(e), Peters & Mathews (1963) eq. 17 (harmonics beyond 400 carry
     # < 1e-12 of it at e = 0.7)
     assert p_num.sum() == pytest.approx(float(ecc.enhancement_factor(e)), rel=1e-9)
@@ -59,8 +63,9 @@ def test_amplitude_ratio_is_two_over_n_sqrt_g():
     # h_n = (2/n) sqrt(g(n, e)) h0; at e = 0, h_2 = h0 (the circular amplitude)
     assert float(ecc.harmonic_amplitude_ratio(2, 0.0)) == 1.0
     n = np.arange(1, 30)
-    np.testing.assert_allclose(ecc.harmonic_amplitude_ratio(n, 0.6) ** 2 * n**2 / 4,
-                               ecc.harmonic_power(n, 0.6), rtol=1e-14)
+    np.testing.assert_allclose(
+        ecc.harmonic_amplitude_ratio(n, 0.6) ** 2 * n**2 / 4, ecc.harmonic_power(n, 0.6), rtol=1e-14
+    )
 
 
 @pytest.mark.parametrize("e", [0.0, 0.3, 0.5, 0.7, 0.95])
@@ -91,7 +96,7 @@ def test_merger_time_against_integrating_peters_equations(e0):
     # a reaches 1e-3 a0, vs the quadrature of eq. 5.14
     m, q, p = 1e9 * u.Msun, 0.5, 1 * u.yr
     a0 = wf.separation(m, p)
-    beta = (64 / 5 * const.G**3 * m**3 * wf.symmetric_mass_ratio(q) / const.c**5)
+    beta = 64 / 5 * const.G**3 * m**3 * wf.symmetric_mass_ratio(q) / const.c**5
     t_unit = (a0**4 / beta).to(u.yr).value  # time in units of a0^4 / beta
 
     def rhs(_, y):
@@ -101,6 +106,7 @@ def test_merger_time_against_integrating_peters_equations(e0):
 
     def hit(_, y):
         return y[0] - 1e-3
+
     hit.terminal = True
     sol = integrate.solve_ivp(rhs, (0, 1), [1.0, e0], events=hit, rtol=1e-11, atol=1e-14)
     t_num = sol.t_events[0][0] * t_unit
@@ -117,8 +123,7 @@ def test_merger_time_limits():
     tc = wf.coalescence_time(m, q, wf.gw_frequency(p))
     assert ecc.merger_time(m, q, p, 0.0) == tc
     e0 = 0.99999
-    assert ecc.merger_time_factor(e0) == pytest.approx(768 / 425 * (1 - e0**2) ** 3.5,
-                                                        rel=1e-2)
+    assert ecc.merger_time_factor(e0) == pytest.approx(768 / 425 * (1 - e0**2) ** 3.5, rel=1e-2)
 
 
 def test_pericentre_isco():
@@ -127,7 +132,8 @@ def test_pericentre_isco():
     f = ecc.pericentre_isco_frequency(m, 0.5)
     a = wf.separation(m, wf.orbital_period(f))
     assert (a * 0.5 / (6 * wf.gravitational_radius(m))).decompose().value == pytest.approx(
-        1.0, rel=1e-12)
+        1.0, rel=1e-12
+    )
     assert ecc.pericentre_isco_frequency(m, 0.0) == wf.isco_frequency(m)
 
 

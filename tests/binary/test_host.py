@@ -17,14 +17,16 @@ def test_redshift_gives_planck18_luminosity_distance():
     # reference: astropy.cosmology.Planck18
     h = Host("A", 1e10, redshift=0.05, cosmology=Planck18)
     assert h.distance.to_value(u.Mpc) == pytest.approx(
-        Planck18.luminosity_distance(0.05).to_value(u.Mpc), rel=1e-7)
+        Planck18.luminosity_distance(0.05).to_value(u.Mpc), rel=1e-7
+    )
 
 
 def test_cosmology_is_selectable():
     # reference: astropy.cosmology.WMAP9
     h = Host("A", 1e10, redshift=0.05, cosmology=WMAP9)
     assert h.distance.to_value(u.Mpc) == pytest.approx(
-        WMAP9.luminosity_distance(0.05).to_value(u.Mpc), rel=1e-7)
+        WMAP9.luminosity_distance(0.05).to_value(u.Mpc), rel=1e-7
+    )
 
 
 def test_host_honours_astropy_default_cosmology():
@@ -33,7 +35,8 @@ def test_host_honours_astropy_default_cosmology():
         h = Host("A", 1e10, redshift=0.05)
     assert h.cosmology is WMAP9
     assert h.distance.to_value(u.Mpc) == pytest.approx(
-        WMAP9.luminosity_distance(0.05).to_value(u.Mpc), rel=1e-7)
+        WMAP9.luminosity_distance(0.05).to_value(u.Mpc), rel=1e-7
+    )
     assert abs(WMAP9.luminosity_distance(0.05) - Planck18.luminosity_distance(0.05)) > 5 * u.Mpc
 
 
@@ -53,14 +56,17 @@ def test_decimal_strings_are_degrees():
     assert h.coord.ra.deg == pytest.approx(187.7, abs=1e-12)
 
 
-@pytest.mark.parametrize("kwargs, words", [
-    # 95 km = 3.08e-18 Mpc (IAU 2012 au and parsec definitions, via astropy.units)
-    ({"mass": 1e9, "distance": "95 km"}, "distance: '95 km' (3.08e-18 Mpc)"),
-    ({"mass": 1e9, "distance": 1e6}, "distance: 1e+06 Mpc"),
-    ({"mass": 9.5, "distance": 10}, "10**9.5"),
-    ({"mass": 1e9, "redshift": 11}, "redshift: 11"),
-    ({"mass": 1e9, "redshift": "1300 km/s"}, "not cz"),
-])
+@pytest.mark.parametrize(
+    "kwargs, words",
+    [
+        # 95 km = 3.08e-18 Mpc (IAU 2012 au and parsec definitions, via astropy.units)
+        ({"mass": 1e9, "distance": "95 km"}, "distance: '95 km' (3.08e-18 Mpc)"),
+        ({"mass": 1e9, "distance": 1e6}, "distance: 1e+06 Mpc"),
+        ({"mass": 9.5, "distance": 10}, "10**9.5"),
+        ({"mass": 1e9, "redshift": 11}, "redshift: 11"),
+        ({"mass": 1e9, "redshift": "1300 km/s"}, "not cz"),
+    ],
+)
 def test_implausible_values_are_one_line_input_errors(kwargs, words):
     with pytest.raises(InputError, match=re.escape(words)) as err:
         Host("A", **kwargs)

@@ -142,4 +142,5 @@ def test_gravitational_radius_of_the_sun():
     # G Msun / c^2 = 1476.625 m (IAU 2015 Resolution B3 nominal solar mass parameter
     # GM = 1.3271244e20 m^3 s^-2, divided by c^2)
     assert wf.gravitational_radius(1 * u.Msun).to_value(u.m) == pytest.approx(
-        1.3271244e20 / 299792458.0**2, rel=1e-7)
+        1.3271244e20 / 299792458.0**2, rel=1e-7
+    )

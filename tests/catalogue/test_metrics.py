@@ -63,8 +63,9 @@ def test_probability_against_monte_carlo():
 
 
 @settings(max_examples=40, deadline=None)
-@given(lm=st.floats(8.0, 11.5), d=st.floats(5.0, 500.0), s=st.floats(0.0, 0.5),
-       k=st.floats(1.01, 5.0))
+@given(
+    lm=st.floats(8.0, 11.5), d=st.floats(5.0, 500.0), s=st.floats(0.0, 0.5), k=st.floats(1.01, 5.0)
+)
 def test_farther_never_better(lm, d, s, k):
     # moving a galaxy farther (same redshift) never raises any metric
     out = galaxy_metrics([lm, lm], [s, s], [d, d * k] * u.Mpc, [0.0, 0.0], F, THR)
@@ -76,8 +77,9 @@ def test_farther_never_better(lm, d, s, k):
 
 
 @settings(max_examples=40, deadline=None)
-@given(lm=st.floats(8.0, 11.0), d=st.floats(5.0, 500.0), s=st.floats(0.0, 0.5),
-       dm=st.floats(0.01, 1.0))
+@given(
+    lm=st.floats(8.0, 11.0), d=st.floats(5.0, 500.0), s=st.floats(0.0, 0.5), dm=st.floats(0.01, 1.0)
+)
 def test_heavier_never_worse(lm, d, s, dm):
     # raising the mass never lowers the strain metrics.  The expected number is not
     # monotonic (residence time falls as M^(-5/3), test_population), so it is not here.

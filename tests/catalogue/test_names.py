@@ -20,7 +20,7 @@ def test_duplicates_match_a_python_set_across_chunks():
     names = np.char.add("G", rng.integers(0, 3000, 10_000).astype(str))
     names[::97] = "Galaxie-Œ"  # non-ASCII names are kept as UTF-8 bytes
     s = NameSet()
-    got = np.concatenate([s.add(names[i:i + 777]) for i in range(0, names.size, 777)])
+    got = np.concatenate([s.add(names[i : i + 777]) for i in range(0, names.size, 777)])
     assert np.array_equal(got, _first_occurrence_brute(names.tolist()))
     assert len(s) == len(set(names.tolist()))
     assert np.array_equal(duplicate_mask(names), got)
@@ -28,8 +28,9 @@ def test_duplicates_match_a_python_set_across_chunks():
 
 def test_hash_collisions_are_resolved_by_exact_comparison(monkeypatch):
     # every name gets the same hash: the answer must still be exact
-    monkeypatch.setattr(names_module, "name_hashes",
-                        lambda n: np.zeros(np.asarray(n).size, dtype=np.uint64))
+    monkeypatch.setattr(
+        names_module, "name_hashes", lambda n: np.zeros(np.asarray(n).size, dtype=np.uint64)
+    )
     names = ["a", "b", "a", "c", "b", "d"]
     s = NameSet()
     got = np.concatenate([s.add(names[:2]), s.add(names[2:4]), s.add(names[4:])])

@@ -33,11 +33,14 @@ def _f_isco(m_tot_msun):
     return C**3 / (6**1.5 * np.pi * G * m_tot_msun * MSUN)
 
 
-@pytest.mark.parametrize("m, q, f1, f2", [
-    (1e9, 1.0, 3e-9, 1e-8),
-    (3e9, 0.1, 1e-8, 1e-7),
-    (1e10, 0.01, 2e-9, 5e-9),
-])
+@pytest.mark.parametrize(
+    "m, q, f1, f2",
+    [
+        (1e9, 1.0, 3e-9, 1e-8),
+        (3e9, 0.1, 1e-8, 1e-7),
+        (1e10, 0.01, 2e-9, 5e-9),
+    ],
+)
 def test_residence_time_is_integral_of_inverse_chirp(m, q, f1, f2):
     # t = int df / (df/dt), integrated numerically (Peters 1964)
     ref, _ = integrate.quad(lambda f: 1 / _fdot(m, q, f), f1, f2, epsrel=1e-12)
@@ -70,8 +73,7 @@ def test_inverse_eta_tail_log_uniform(q_low):
 def test_inverse_eta_tail_power_law(index):
     d = MassRatioDistribution(q_min=0.02, index=index)
     norm, _ = integrate.quad(lambda q: q**index, 0.02, 1.0, epsrel=1e-13)
-    ref, _ = integrate.quad(lambda q: q**index / norm * (1 + q) ** 2 / q, 0.1, 1.0,
-                            epsrel=1e-13)
+    ref, _ = integrate.quad(lambda q: q**index / norm * (1 + q) ** 2 / q, 0.1, 1.0, epsrel=1e-13)
     assert d.inverse_eta_tail(0.1) == pytest.approx(ref, rel=1e-9)
     assert integrate.quad(d.pdf, 0.02, 1.0)[0] == pytest.approx(1.0, rel=1e-9)
 

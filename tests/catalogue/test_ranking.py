@@ -12,8 +12,12 @@ CURVE = bucket_limit()
 
 
 def _table(**cols):
-    base = {"name": ["A", "B", "C"], "ra": [10.0, 200.0, 300.0], "dec": [-20.0, 5.0, 60.0],
-            "distance": [30.0, 60.0, 90.0]}
+    base = {
+        "name": ["A", "B", "C"],
+        "ra": [10.0, 200.0, 300.0],
+        "dec": [-20.0, 5.0, 60.0],
+        "distance": [30.0, 60.0, 90.0],
+    }
     base.update(cols)
     return Table(base)
 
@@ -50,7 +54,6 @@ def test_population_options_change_numbers_not_order():
     assert stats.kendalltau(a.table["h0_ratio"], b.table["h0_ratio"])[0] == pytest.approx(1)
 
 
-
 def test_result_is_frozen_with_a_short_repr_a_table_and_a_plot():
     from dataclasses import FrozenInstanceError
 
@@ -73,10 +76,15 @@ def test_result_is_frozen_with_a_short_repr_a_table_and_a_plot():
 def _synthetic(n, seed=5):
     rng = np.random.default_rng(seed)
     log_m = rng.normal(8.6, 0.6, n)
-    t = Table({"name": np.char.add("S-", np.arange(n).astype(str)),
-               "ra": rng.uniform(0, 360, n), "dec": rng.uniform(-80, 80, n),
-               "distance": np.cbrt(rng.uniform(10.0**3, 300.0**3, n)),
-               "velocity_dispersion": 200.0 * 10 ** ((log_m - 8.49) / 4.38)})
+    t = Table(
+        {
+            "name": np.char.add("S-", np.arange(n).astype(str)),
+            "ra": rng.uniform(0, 360, n),
+            "dec": rng.uniform(-80, 80, n),
+            "distance": np.cbrt(rng.uniform(10.0**3, 300.0**3, n)),
+            "velocity_dispersion": 200.0 * 10 ** ((log_m - 8.49) / 4.38),
+        }
+    )
     t["velocity_dispersion"][::50] = t["velocity_dispersion"][0]  # ties in the metric
     t["distance"][::50] = t["distance"][0]
     t["name"][7] = t["name"][3]  # a repeat across chunks is rejected once
@@ -91,14 +99,16 @@ def test_streamed_ranking_equals_the_in_memory_one(tmp_path, metric):
 
     t = _synthetic(12_000)
     mem = rank_catalog(t, CURVE, metric=metric, chunk_size=1000, on_bad="skip")
-    st = rank_catalog(t, CURVE, metric=metric, chunk_size=1000, on_bad="skip",
-                      stream_dir=tmp_path, top_rows=30)
+    st = rank_catalog(
+        t, CURVE, metric=metric, chunk_size=1000, on_bad="skip", stream_dir=tmp_path, top_rows=30
+    )
     try:
         full = vstack(list(st.blocks(size=2500)), metadata_conflicts="silent")
         assert st.n_ranked == len(mem.table) == len(full) == 11_999
         assert st.rejections.counts == mem.rejections.counts
-        assert st.expected_total == pytest.approx(float(np.sum(mem.table["expected_number"])),
-                                                  rel=1e-12)
+        assert st.expected_total == pytest.approx(
+            float(np.sum(mem.table["expected_number"])), rel=1e-12
+        )
         for col in mem.table.colnames:
             a, b = np.asarray(mem.table[col]), np.asarray(full[col])
             if b.dtype.kind == "S":
@@ -106,8 +116,7 @@ def test_streamed_ranking_equals_the_in_memory_one(tmp_path, metric):
             assert np.array_equal(a, b, equal_nan=a.dtype.kind == "f"), col
         assert list(st.table["name"]) == list(mem.table["name"][:30])
         assert st.meta["relations_used"] == mem.meta["relations_used"]
-        np.testing.assert_array_equal(st.column("expected_number"),
-                                      mem.table["expected_number"])
+        np.testing.assert_array_equal(st.column("expected_number"), mem.table["expected_number"])
     finally:
         st.close()
     assert not any(tmp_path.iterdir())  # the runs are removed
@@ -122,8 +131,9 @@ def test_order_does_not_depend_on_chunk_size(tmp_path):
     try:
         na, nb = a.column("name"), b.column("name")
         assert np.array_equal(na, nb)
-        np.testing.assert_allclose(a.column("expected_number"), b.column("expected_number"),
-                                   rtol=1e-13, atol=0)
+        np.testing.assert_allclose(
+            a.column("expected_number"), b.column("expected_number"), rtol=1e-13, atol=0
+        )
     finally:
         a.close()
         b.close()

@@ -9,8 +9,11 @@ from ptaconstrain.catalogue.reader import _csv_pieces
 ROWS = "name,ra,maß\nGalaxié Nord,10.5,1e9\nB,20,2e9\nCé,30,3e9\n"
 
 
-@pytest.mark.parametrize("data", [ROWS.encode("utf-8"), b"\xef\xbb\xbf" + ROWS.encode("utf-8")],
-                         ids=["utf-8", "utf-8 with BOM (Excel)"])
+@pytest.mark.parametrize(
+    "data",
+    [ROWS.encode("utf-8"), b"\xef\xbb\xbf" + ROWS.encode("utf-8")],
+    ids=["utf-8", "utf-8 with BOM (Excel)"],
+)
 def test_utf8_csv_is_read_with_its_names_and_columns(tmp_path, data):
     path = tmp_path / "cat.csv"
     path.write_bytes(data)

@@ -49,8 +49,9 @@ def test_shipped_coefficients_match_published(rel, name, alpha, beta, pivot, sca
     r = rel[name]
     # the papers quote alpha to 0.01 dex (or M/1e9 to 3 digits: 0.005 dex)
     assert r.alpha == pytest.approx(alpha, abs=0.005)
-    assert r.beta == pytest.approx(beta, abs=0.0051 if name.startswith("kh13_") and
-                                   "mass" in r.predictor else 1e-9)
+    assert r.beta == pytest.approx(
+        beta, abs=0.0051 if name.startswith("kh13_") and "mass" in r.predictor else 1e-9
+    )
     assert r.pivot == pytest.approx(pivot, rel=1e-12)
     assert r.scatter_dex == pytest.approx(scatter, abs=1e-9)
     assert r.from_memory  # every shipped value was recalled: say so
@@ -119,15 +120,27 @@ def test_user_toml_same_schema(tmp_path):
     assert rels[0].log_mass(400.0) == pytest.approx(8.0 + 5.0 * np.log10(2.0), rel=1e-14)
 
 
-@pytest.mark.parametrize("body, word", [
-    ('name = "x"\npredictor = "velocity_dispersion"\nalpha = 8.0\nbeta = 4.0\n', "lacks"),
-    ('name = "x"\npredictor = "luminosity"\nalpha = 8.0\nbeta = 4.0\npivot = 1.0\n'
-     'unit = "km/s"\nscatter_dex = 0.3\ncitation = "c"\n', "predictor"),
-    ('name = "x"\npredictor = "velocity_dispersion"\nalpha = 8.0\nbeta = 4.0\npivot = 1.0\n'
-     'unit = "kpc"\nscatter_dex = 0.3\ncitation = "c"\n', "unit"),
-    ('name = "x"\npredictor = "velocity_dispersion"\nalpha = 8.0\nbeta = 4.0\npivot = 1.0\n'
-     'unit = "km/s"\nscatter_dex = -0.3\ncitation = "c"\n', "scatter_dex"),
-])
+@pytest.mark.parametrize(
+    "body, word",
+    [
+        ('name = "x"\npredictor = "velocity_dispersion"\nalpha = 8.0\nbeta = 4.0\n', "lacks"),
+        (
+            'name = "x"\npredictor = "luminosity"\nalpha = 8.0\nbeta = 4.0\npivot = 1.0\n'
+            'unit = "km/s"\nscatter_dex = 0.3\ncitation = "c"\n',
+            "predictor",
+        ),
+        (
+            'name = "x"\npredictor = "velocity_dispersion"\nalpha = 8.0\nbeta = 4.0\npivot = 1.0\n'
+            'unit = "kpc"\nscatter_dex = 0.3\ncitation = "c"\n',
+            "unit",
+        ),
+        (
+            'name = "x"\npredictor = "velocity_dispersion"\nalpha = 8.0\nbeta = 4.0\npivot = 1.0\n'
+            'unit = "km/s"\nscatter_dex = -0.3\ncitation = "c"\n',
+            "scatter_dex",
+        ),
+    ],
+)
 def test_bad_relation_files_name_the_problem(tmp_path, body, word):
     path = tmp_path / "bad.toml"
     path.write_text("[[relation]]\n" + body)

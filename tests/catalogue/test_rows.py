@@ -15,15 +15,23 @@ CURVE = bucket_limit()
 
 
 def _table(**cols):
-    base = {"name": ["A", "B", "C"], "ra": [10.0, 200.0, 300.0], "dec": [-20.0, 5.0, 60.0],
-            "distance": [30.0, 60.0, 90.0]}
+    base = {
+        "name": ["A", "B", "C"],
+        "ra": [10.0, 200.0, 300.0],
+        "dec": [-20.0, 5.0, 60.0],
+        "distance": [30.0, 60.0, 90.0],
+    }
     base.update(cols)
     return Table(base)
 
 
 def test_mass_source_preference_and_relation_order():
-    t = _table(mass=[3e9, np.nan, np.nan], mass_err=[3e8, np.nan, np.nan],
-               velocity_dispersion=[300.0, 280.0, np.nan], k_abs_mag=[-26.0, -25.5, -25.0])
+    t = _table(
+        mass=[3e9, np.nan, np.nan],
+        mass_err=[3e8, np.nan, np.nan],
+        velocity_dispersion=[300.0, 280.0, np.nan],
+        k_abs_mag=[-26.0, -25.5, -25.0],
+    )
     r = rank_catalog(t, CURVE, metric="h0_ratio")
     src = dict(zip(r.table["name"], r.table["mass_source"], strict=True))
     assert src == {"A": "measured", "B": "kh13_sigma", "C": "kh13_kband"}
@@ -35,27 +43,30 @@ def test_mass_source_preference_and_relation_order():
     assert src2["B"] == "kh13_kband"
 
 
-@pytest.mark.parametrize("change, reason", [
-    ({"name": ["A", "B", "A"]}, "duplicate name"),
-    ({"mass": [np.nan, 2e9, 3e9]}, "no usable mass"),
-    ({"distance": [-5.0, 60.0, 90.0]}, "impossible distance"),
-    ({"distance": [0.0, 60.0, 90.0]}, "impossible distance"),
-    ({"distance": [np.inf, 60.0, 90.0]}, "impossible distance"),
-    ({"mass": [-1e9, 2e9, 3e9]}, "impossible mass"),
-    ({"dec": [95.0, 5.0, 60.0]}, "sky position out of range"),
-    # ICRS right ascension lies in [0, 360) deg (IAU convention, common practice): a value
-    # outside is a units or sign mistake and must not be wrapped silently
-    ({"ra": [400.0, 200.0, 300.0]}, "sky position out of range"),
-    ({"ra": [-10.0, 200.0, 300.0]}, "sky position out of range"),
-    ({"ra": [360.0, 200.0, 300.0]}, "sky position out of range"),
-    ({"ra": [np.nan, 200.0, 300.0]}, "sky position missing"),
-    ({"ra": ["1O.5", "200", "300"]}, "sky position unreadable"),
-    # plausibility (ptaconstrain._inputs: 1e3-1e13 solMass, 0.1 Mpc to z = 10)
-    ({"mass": [50.0, 2e9, 3e9]}, "mass is outside the plausible 1e3-1e13 solMass"),
-    ({"mass": [1e14, 2e9, 3e9]}, "mass is outside the plausible 1e3-1e13 solMass"),
-    ({"distance": [0.05, 60.0, 90.0]}, "distance is outside the plausible 0.1 Mpc"),
-    ({"distance": [2e5, 60.0, 90.0]}, "distance is outside the plausible 0.1 Mpc"),
-])
+@pytest.mark.parametrize(
+    "change, reason",
+    [
+        ({"name": ["A", "B", "A"]}, "duplicate name"),
+        ({"mass": [np.nan, 2e9, 3e9]}, "no usable mass"),
+        ({"distance": [-5.0, 60.0, 90.0]}, "impossible distance"),
+        ({"distance": [0.0, 60.0, 90.0]}, "impossible distance"),
+        ({"distance": [np.inf, 60.0, 90.0]}, "impossible distance"),
+        ({"mass": [-1e9, 2e9, 3e9]}, "impossible mass"),
+        ({"dec": [95.0, 5.0, 60.0]}, "sky position out of range"),
+        # ICRS right ascension lies in [0, 360) deg (IAU convention, common practice): a value
+        # outside is a units or sign mistake and must not be wrapped silently
+        ({"ra": [400.0, 200.0, 300.0]}, "sky position out of range"),
+        ({"ra": [-10.0, 200.0, 300.0]}, "sky position out of range"),
+        ({"ra": [360.0, 200.0, 300.0]}, "sky position out of range"),
+        ({"ra": [np.nan, 200.0, 300.0]}, "sky position missing"),
+        ({"ra": ["1O.5", "200", "300"]}, "sky position unreadable"),
+        # plausibility (ptaconstrain._inputs: 1e3-1e13 solMass, 0.1 Mpc to z = 10)
+        ({"mass": [50.0, 2e9, 3e9]}, "mass is outside the plausible 1e3-1e13 solMass"),
+        ({"mass": [1e14, 2e9, 3e9]}, "mass is outside the plausible 1e3-1e13 solMass"),
+        ({"distance": [0.05, 60.0, 90.0]}, "distance is outside the plausible 0.1 Mpc"),
+        ({"distance": [2e5, 60.0, 90.0]}, "distance is outside the plausible 0.1 Mpc"),
+    ],
+)
 def test_bad_rows_error_or_skip_with_reason(change, reason):
     cols = {"mass": [1e9, 2e9, 3e9]}
     cols.update(change)
@@ -93,36 +104,47 @@ def test_the_distance_redshift_converter_rows_use_matches_astropy():
     assert dz.redshift(250.0) == pytest.approx(zz, rel=1e-7)
 
 
-
 def _ranked(t, **kw):
     r = rank_catalog(t, CURVE, **kw)
     return {str(row["name"]): row for row in r.table}, r
 
 
-@pytest.mark.parametrize("ra, dec, unit_ra", [
-    # text holding decimal degrees is degrees (it used to be read as hours: 187.7 -> 295.5)
-    (["187.7", "10.0"], ["12.4", "-5.0"], "deg"),
-    # sexagesimal text: RA in hours, Dec in degrees
-    (["12h30m49s", "00:40:00"], ["+12d23m28s", "-05:00:00"], "hourangle"),
-    (["12 30 49", "0 40 0"], ["12 23 28", "-5 0 0"], "hourangle"),
-])
+@pytest.mark.parametrize(
+    "ra, dec, unit_ra",
+    [
+        # text holding decimal degrees is degrees (it used to be read as hours: 187.7 -> 295.5)
+        (["187.7", "10.0"], ["12.4", "-5.0"], "deg"),
+        # sexagesimal text: RA in hours, Dec in degrees
+        (["12h30m49s", "00:40:00"], ["+12d23m28s", "-05:00:00"], "hourangle"),
+        (["12 30 49", "0 40 0"], ["12 23 28", "-5 0 0"], "hourangle"),
+    ],
+)
 def test_text_positions_follow_the_one_rule(ra, dec, unit_ra):
-    t = Table({"name": ["A", "B"], "ra": ra, "dec": dec, "distance": [20.0, 40.0],
-               "mass": [3e9, 4e9]})
+    t = Table(
+        {"name": ["A", "B"], "ra": ra, "dec": dec, "distance": [20.0, 40.0], "mass": [3e9, 4e9]}
+    )
     rows, _ = _ranked(t)
     for name, r, d in zip("AB", ra, dec, strict=True):
         # reference: astropy's own Angle parser with the unit the rule assigns
         assert rows[name]["ra"].to_value(u.deg) == pytest.approx(
-            Angle(r, unit=unit_ra).deg, abs=1e-9)
+            Angle(r, unit=unit_ra).deg, abs=1e-9
+        )
         assert rows[name]["dec"].to_value(u.deg) == pytest.approx(
-            Angle(d, unit="deg").deg, abs=1e-9)
+            Angle(d, unit="deg").deg, abs=1e-9
+        )
 
 
 def test_numeric_ra_beside_sexagesimal_dec_stays_degrees():
     # each column is read on its own: numbers are degrees (it used to become 10 h = 150 deg)
-    t = Table({"name": ["A", "B"], "ra": [10.0, 200.0],
-               "dec": ["-05:00:00", "\u221220:30:00"], "distance": [20.0, 40.0],
-               "mass": [3e9, 4e9]})
+    t = Table(
+        {
+            "name": ["A", "B"],
+            "ra": [10.0, 200.0],
+            "dec": ["-05:00:00", "\u221220:30:00"],
+            "distance": [20.0, 40.0],
+            "mass": [3e9, 4e9],
+        }
+    )
     rows, _ = _ranked(t)
     assert rows["A"]["ra"].to_value(u.deg) == 10.0
     assert rows["A"]["dec"].to_value(u.deg) == pytest.approx(-5.0, abs=1e-12)
@@ -130,17 +152,31 @@ def test_numeric_ra_beside_sexagesimal_dec_stays_degrees():
 
 
 def test_masked_position_is_missing_not_zero():
-    t = Table({"name": ["A", "B"], "ra": MaskedColumn([10.0, 20.0], mask=[True, False]),
-               "dec": [5.0, 6.0], "distance": [20.0, 40.0], "mass": [3e9, 4e9]})
+    t = Table(
+        {
+            "name": ["A", "B"],
+            "ra": MaskedColumn([10.0, 20.0], mask=[True, False]),
+            "dec": [5.0, 6.0],
+            "distance": [20.0, 40.0],
+            "mass": [3e9, 4e9],
+        }
+    )
     _, r = _ranked(t, on_bad="skip")
     assert list(r.table["name"]) == ["B"]
     assert r.rejections.counts == {"sky position missing (blank or NaN)": 1}
 
 
 def test_log10_masses_in_the_mass_column_are_refused_with_a_hint():
-    t = Table({"name": ["A", "B", "C"], "ra": [1.0, 2.0, 3.0], "dec": [0.0, 1.0, 2.0],
-               "distance": [20.0, 30.0, 40.0], "mass": [9.3, 9.6, np.nan],
-               "velocity_dispersion": [np.nan, np.nan, 250.0]})
+    t = Table(
+        {
+            "name": ["A", "B", "C"],
+            "ra": [1.0, 2.0, 3.0],
+            "dec": [0.0, 1.0, 2.0],
+            "distance": [20.0, 30.0, 40.0],
+            "mass": [9.3, 9.6, np.nan],
+            "velocity_dispersion": [np.nan, np.nan, 250.0],
+        }
+    )
     with pytest.raises(CatalogError) as err:
         rank_catalog(t, CURVE)
     msg = str(err.value)
@@ -148,14 +184,21 @@ def test_log10_masses_in_the_mass_column_are_refused_with_a_hint():
     assert "log10(M/solMass)" in msg and "log_mass" in msg
     rows, r = _ranked(t, on_bad="skip")
     assert list(rows) == ["C"]  # never ranked at 9.3 solMass
-    (reason, n), = r.rejections.counts.items()
+    ((reason, n),) = r.rejections.counts.items()
     assert n == 2 and "outside the plausible" in reason and "log10(M/solMass)" in reason
 
 
 def test_kpc_read_as_mpc_is_refused_with_a_hint():
-    t = Table({"name": ["A", "B", "C"], "ra": [1.0, 2.0, 3.0], "dec": [0.0, 1.0, 2.0],
-               "distance": [3.0e4, 6.0e4, np.nan], "redshift": [np.nan, np.nan, 0.01],
-               "mass": [3e9, 4e9, 5e9]})
+    t = Table(
+        {
+            "name": ["A", "B", "C"],
+            "ra": [1.0, 2.0, 3.0],
+            "dec": [0.0, 1.0, 2.0],
+            "distance": [3.0e4, 6.0e4, np.nan],
+            "redshift": [np.nan, np.nan, 0.01],
+            "mass": [3e9, 4e9, 5e9],
+        }
+    )
     with pytest.raises(CatalogError, match="looks like kpc") as err:
         rank_catalog(t, CURVE)
     assert "\n" not in str(err.value) and "row 1 ('A')" in str(err.value)
@@ -165,8 +208,15 @@ def test_kpc_read_as_mpc_is_refused_with_a_hint():
 
 
 def test_declared_units_are_trusted_and_converted():
-    t = Table({"name": ["A", "B"], "ra": [1.0, 2.0], "dec": [0.0, 1.0],
-               "distance": [3.0e4, 6.0e4], "mass": [3e9, 4e9]})
+    t = Table(
+        {
+            "name": ["A", "B"],
+            "ra": [1.0, 2.0],
+            "dec": [0.0, 1.0],
+            "distance": [3.0e4, 6.0e4],
+            "mass": [3e9, 4e9],
+        }
+    )
     with pytest.raises(CatalogError, match="kpc"):  # bare numbers: refused
         rank_catalog(t, CURVE)
     rows, _ = _ranked(t, columns=ColumnMap(units={"distance": "Mpc"}))  # stated: trusted
@@ -177,8 +227,7 @@ def test_declared_units_are_trusted_and_converted():
 
 
 def test_wrong_physical_type_names_the_column_and_unit():
-    t = Table({"name": ["A"], "ra": [1.0], "dec": [0.0], "distance": [20.0],
-               "mass": [3e9]})
+    t = Table({"name": ["A"], "ra": [1.0], "dec": [0.0], "distance": [20.0], "mass": [3e9]})
     t["distance"].unit = u.km / u.s
     with pytest.raises(CatalogError) as err:
         rank_catalog(t, CURVE)
@@ -186,11 +235,20 @@ def test_wrong_physical_type_names_the_column_and_unit():
     assert "\n" not in msg and "'distance'" in msg and "Mpc" in msg and "length" in msg
 
 
-@pytest.mark.parametrize("z, words", [(12.0, "redshift is outside"), (-0.01, "redshift is"),
-                                      (1e-7, "distance from the redshift")])
+@pytest.mark.parametrize(
+    "z, words",
+    [(12.0, "redshift is outside"), (-0.01, "redshift is"), (1e-7, "distance from the redshift")],
+)
 def test_redshift_only_rows_out_of_range(z, words):
-    t = Table({"name": ["A", "B"], "ra": [1.0, 2.0], "dec": [0.0, 1.0],
-               "redshift": [z, 0.02], "mass": [3e9, 4e9]})
+    t = Table(
+        {
+            "name": ["A", "B"],
+            "ra": [1.0, 2.0],
+            "dec": [0.0, 1.0],
+            "redshift": [z, 0.02],
+            "mass": [3e9, 4e9],
+        }
+    )
     with pytest.raises(CatalogError, match=words):
         rank_catalog(t, CURVE)
     rows, _ = _ranked(t, on_bad="skip")

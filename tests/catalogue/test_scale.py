@@ -11,8 +11,9 @@ import pytest
 
 pytest.importorskip("pyarrow", reason="the optional 'scale' extra (pyarrow) is not installed")
 pytest.importorskip("lsdb", reason="the optional 'scale' extra (lsdb) is not installed")
-pytest.importorskip("distributed",
-                    reason="the optional 'scale' extra (dask[distributed]) is not installed")
+pytest.importorskip(
+    "distributed", reason="the optional 'scale' extra (dask[distributed]) is not installed"
+)
 
 import healpy as hp  # noqa: E402
 import pandas as pd  # noqa: E402
@@ -28,9 +29,11 @@ from ptaconstrain.sensitivity.curve import load_curve  # noqa: E402
 # lsdb 0.11 and nested-pandas 0.7 call pandas methods with inplace=True, deprecated in pandas
 # 3.1, and dask.distributed may leave a socket to the garbage collector when a cluster
 # stops: their warnings, not ours
-pytestmark = [pytest.mark.filterwarnings("ignore:The inplace keyword"),
-              pytest.mark.filterwarnings("ignore::ResourceWarning"),
-              pytest.mark.filterwarnings("ignore::pytest.PytestUnraisableExceptionWarning")]
+pytestmark = [
+    pytest.mark.filterwarnings("ignore:The inplace keyword"),
+    pytest.mark.filterwarnings("ignore::ResourceWarning"),
+    pytest.mark.filterwarnings("ignore::pytest.PytestUnraisableExceptionWarning"),
+]
 
 N_ROWS = 100_000
 CURVE = str(data_path("synthetic_h0_limit.ecsv"))  # the shipped invented limit
@@ -39,16 +42,18 @@ CURVE = str(data_path("synthetic_h0_limit.ecsv"))  # the shipped invented limit
 def _invented_catalogue(n, seed=11):
     """Invented galaxies: measured and sigma-predicted masses, redshifts, bad rows, repeats."""
     rng = np.random.default_rng(seed)
-    df = pd.DataFrame({
-        "name": [f"INV-{i:06d}" for i in range(n)],
-        "ra": rng.uniform(0.0, 360.0, n),
-        "dec": np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, n))),
-        "distance": rng.uniform(5.0, 400.0, n),
-        "redshift": np.full(n, np.nan),
-        "mass": 10.0 ** rng.uniform(8.0, 10.5, n),
-        "mass_err_dex": rng.uniform(0.05, 0.3, n),
-        "velocity_dispersion": rng.uniform(150.0, 380.0, n),
-    })
+    df = pd.DataFrame(
+        {
+            "name": [f"INV-{i:06d}" for i in range(n)],
+            "ra": rng.uniform(0.0, 360.0, n),
+            "dec": np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, n))),
+            "distance": rng.uniform(5.0, 400.0, n),
+            "redshift": np.full(n, np.nan),
+            "mass": 10.0 ** rng.uniform(8.0, 10.5, n),
+            "mass_err_dex": rng.uniform(0.05, 0.3, n),
+            "velocity_dispersion": rng.uniform(150.0, 380.0, n),
+        }
+    )
     third = rng.random(n)
     df.loc[third < 0.3, "mass"] = np.nan  # these take the velocity-dispersion relation
     zrows = (third > 0.3) & (third < 0.4)
@@ -68,8 +73,9 @@ def catalogue(tmp_path_factory):
     base = tmp_path_factory.mktemp("scale")
     df = _invented_catalogue(N_ROWS)
     df.to_parquet(base / "galaxies.parquet", row_group_size=20_000, index=False)
-    lsdb.from_dataframe(df, lowest_order=0, highest_order=3, partition_rows=40_000,
-                        margin_threshold=None).write_catalog(base / "galaxies_hats")
+    lsdb.from_dataframe(
+        df, lowest_order=0, highest_order=3, partition_rows=40_000, margin_threshold=None
+    ).write_catalog(base / "galaxies_hats")
     return base, df
 
 
@@ -79,8 +85,15 @@ def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path):
     curve = load_curve(CURVE)
     memory = rank_catalog(Table.from_pandas(df), curve, on_bad="skip")
     parquet = rank_catalog(base / "galaxies.parquet", curve, on_bad="skip", chunk_size=30_000)
-    hats = rank_catalog_dask(base / "galaxies_hats", curve, tmp_path / "out", workers=2,
-                             on_bad="skip", chunk_size=30_000, top_rows=100)
+    hats = rank_catalog_dask(
+        base / "galaxies_hats",
+        curve,
+        tmp_path / "out",
+        workers=2,
+        on_bad="skip",
+        chunk_size=30_000,
+        top_rows=100,
+    )
     n = memory.n_ranked
     assert n == parquet.n_ranked == hats.n_ranked == N_ROWS - 3  # 3 bad rows; repeats dropped
     assert memory.rejections.counts == parquet.rejections.counts == hats.rejections.counts
@@ -91,13 +104,29 @@ def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path):
     assert list(parquet.table["name"]) == list(ref["name"])
     names = np.char.decode(np.asarray(hats.runs.column("name")), "utf-8")
     assert list(names) == list(ref["name"])
-    for key in ("h0_ratio", "min_mass_ratio", "prob_equal_mass", "expected_number",
-                "h0_equal_mass", "log_mass"):
+    for key in (
+        "h0_ratio",
+        "min_mass_ratio",
+        "prob_equal_mass",
+        "expected_number",
+        "h0_equal_mass",
+        "log_mass",
+    ):
         want = np.asarray(ref[key], dtype=float)
-        np.testing.assert_allclose(np.asarray(parquet.table[key], dtype=float), want,
-                                   rtol=1e-12, equal_nan=True, err_msg=key)
-        np.testing.assert_allclose(np.asarray(hats.runs.column(key), dtype=float), want,
-                                   rtol=1e-12, equal_nan=True, err_msg=key)
+        np.testing.assert_allclose(
+            np.asarray(parquet.table[key], dtype=float),
+            want,
+            rtol=1e-12,
+            equal_nan=True,
+            err_msg=key,
+        )
+        np.testing.assert_allclose(
+            np.asarray(hats.runs.column(key), dtype=float),
+            want,
+            rtol=1e-12,
+            equal_nan=True,
+            err_msg=key,
+        )
     cum = np.asarray(hats.runs.column("cumulative_expected_number"))
     np.testing.assert_allclose(cum, np.asarray(ref["cumulative_expected_number"]), rtol=1e-9)
     assert hats.expected_total == pytest.approx(memory.expected_total, rel=1e-12)
@@ -136,11 +165,15 @@ def test_missing_mapped_column_is_the_same_one_line_error(catalogue, tmp_path, e
     base, _ = catalogue
     curve = CURVE
     args = ["rank", "--curve", str(curve), "--column", "distance=dist_mpc"]
-    ecsv = _error_line(CliRunner().invoke(
-        main, [*args, "--out", str(tmp_path / "a"), _small_ecsv(base, tmp_path)]))
+    ecsv = _error_line(
+        CliRunner().invoke(main, [*args, "--out", str(tmp_path / "a"), _small_ecsv(base, tmp_path)])
+    )
     source = base / ("galaxies_hats" if engine == "dask" else "galaxies.parquet")
-    other = _error_line(CliRunner().invoke(
-        main, [*args, "--out", str(tmp_path / "b"), "--engine", engine, str(source)]))
+    other = _error_line(
+        CliRunner().invoke(
+            main, [*args, "--out", str(tmp_path / "b"), "--engine", engine, str(source)]
+        )
+    )
     assert "'dist_mpc' (mapped to distance) is not in the catalogue" in ecsv
     assert other.split(";")[0] == ecsv.split(";")[0]
     assert not (tmp_path / "b").exists() or not any((tmp_path / "b").iterdir())
@@ -158,10 +191,22 @@ def test_wrong_type_in_parquet_is_the_same_one_line_error(tmp_path):
     df.to_parquet(tmp_path / "bad.parquet", index=False)
     Table.from_pandas(df).write(tmp_path / "bad.ecsv")
     curve = CURVE
-    lines = [_error_line(CliRunner().invoke(main, ["rank", str(tmp_path / name), "--curve",
-                                                   str(curve), "--out", str(tmp_path / name)
-                                                   + "-out"]))
-             for name in ("bad.parquet", "bad.ecsv")]
+    lines = [
+        _error_line(
+            CliRunner().invoke(
+                main,
+                [
+                    "rank",
+                    str(tmp_path / name),
+                    "--curve",
+                    str(curve),
+                    "--out",
+                    str(tmp_path / name) + "-out",
+                ],
+            )
+        )
+        for name in ("bad.parquet", "bad.ecsv")
+    ]
     assert lines[0] == lines[1]
     assert "'mass' (mass) is not numeric" in lines[0]
 
@@ -171,9 +216,21 @@ def test_unreachable_scheduler_is_one_line_and_leaves_nothing(catalogue, tmp_pat
     base, _ = catalogue
     curve = CURVE
     out = tmp_path / "out"
-    result = CliRunner().invoke(main, ["rank", str(base / "galaxies_hats"), "--engine", "dask",
-                                       "--scheduler", "tcp://127.0.0.1:9", "--curve",
-                                       str(curve), "--out", str(out)])
+    result = CliRunner().invoke(
+        main,
+        [
+            "rank",
+            str(base / "galaxies_hats"),
+            "--engine",
+            "dask",
+            "--scheduler",
+            "tcp://127.0.0.1:9",
+            "--curve",
+            str(curve),
+            "--out",
+            str(out),
+        ],
+    )
     line = _error_line(result)
     assert "tcp://127.0.0.1:9 cannot be reached" in line
     assert not out.exists() or not any(out.iterdir())

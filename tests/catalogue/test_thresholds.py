@@ -47,8 +47,15 @@ def _north_south(nside=4, south=3.0):
 
 
 def _pair():
-    return Table({"name": ["N", "S"], "ra": [40.0, 40.0], "dec": [50.0, -50.0],
-                  "distance": [50.0, 50.0], "velocity_dispersion": [320.0, 320.0]})
+    return Table(
+        {
+            "name": ["N", "S"],
+            "ra": [40.0, 40.0],
+            "dec": [50.0, -50.0],
+            "distance": [50.0, 50.0],
+            "velocity_dispersion": [320.0, 320.0],
+        }
+    )
 
 
 def test_double_implements_the_protocol():
@@ -79,8 +86,15 @@ def test_grid_in_another_frame_is_read_in_that_frame():
     rng = np.random.default_rng(4)
     n = 60
     ra, dec = rng.uniform(0, 360, n), np.degrees(np.arcsin(rng.uniform(-1, 1, n)))
-    t = Table({"name": [f"G{i}" for i in range(n)], "ra": ra, "dec": dec,
-               "distance": np.full(n, 50.0), "mass": np.full(n, 3e9)})
+    t = Table(
+        {
+            "name": [f"G{i}" for i in range(n)],
+            "ra": ra,
+            "dec": dec,
+            "distance": np.full(n, 50.0),
+            "mass": np.full(n, 3e9),
+        }
+    )
     r = rank_catalog(t, sens, metric="h0_ratio")
     gal = SkyCoord(r.table["ra"], r.table["dec"], frame="icrs").galactic
     pix = hp.ang2pix(nside, gal.l.deg, gal.b.deg, lonlat=True)
@@ -112,8 +126,15 @@ def test_healpix_limit_map_is_used_pixel_by_pixel():
     scale = np.where(lat >= 0, 1.0, 2.0)
     maps = THR[:, None] * scale[None, :]
     sky = LimitMap(F, maps, confidence=0.95, span=15.0)
-    t = Table({"name": ["N", "S"], "ra": [40.0, 40.0], "dec": [50.0, -50.0],
-               "distance": [50.0, 50.0], "velocity_dispersion": [320.0, 320.0]})
+    t = Table(
+        {
+            "name": ["N", "S"],
+            "ra": [40.0, 40.0],
+            "dec": [50.0, -50.0],
+            "distance": [50.0, 50.0],
+            "velocity_dispersion": [320.0, 320.0],
+        }
+    )
     r = rank_catalog(t, sky, metric="h0_ratio")
     ratio = dict(zip(r.table["name"], r.table["h0_ratio"], strict=True))
     assert ratio["N"] == pytest.approx(2 * ratio["S"], rel=1e-9)
@@ -131,13 +152,19 @@ def test_galactic_frame_limit_map_is_read_at_each_galaxys_own_pixel():
     nside = 4
     npix = hp.nside2npix(nside)
     scale = 1.0 + np.arange(npix) / 10.0  # every pixel different
-    sky = LimitMap(F, THR[:, None] * scale[None, :], frame="G", confidence=0.95,
-                      span=15.0)
+    sky = LimitMap(F, THR[:, None] * scale[None, :], frame="G", confidence=0.95, span=15.0)
     rng = np.random.default_rng(4)
     n = 60
     ra, dec = rng.uniform(0, 360, n), np.degrees(np.arcsin(rng.uniform(-1, 1, n)))
-    t = Table({"name": [f"G{i}" for i in range(n)], "ra": ra, "dec": dec,
-               "distance": np.full(n, 50.0), "mass": np.full(n, 3e9)})
+    t = Table(
+        {
+            "name": [f"G{i}" for i in range(n)],
+            "ra": ra,
+            "dec": dec,
+            "distance": np.full(n, 50.0),
+            "mass": np.full(n, 3e9),
+        }
+    )
     r = rank_catalog(t, sky, metric="h0_ratio")
     gal = SkyCoord(r.table["ra"], r.table["dec"], frame="icrs").galactic
     pix = hp.ang2pix(nside, gal.l.deg, gal.b.deg, lonlat=True)
@@ -154,8 +181,15 @@ def test_blank_map_pixels_are_counted_not_silent():
     _, lat = hp.pix2ang(nside, np.arange(hp.nside2npix(nside)), lonlat=True)
     maps = np.where(lat[None, :] >= 0, THR[:, None], np.nan)  # no southern limit
     sky = LimitMap(F, maps, confidence=0.95, span=15.0)
-    t = Table({"name": ["N", "S"], "ra": [40.0, 40.0], "dec": [50.0, -50.0],
-               "distance": [50.0, 50.0], "velocity_dispersion": [320.0, 320.0]})
+    t = Table(
+        {
+            "name": ["N", "S"],
+            "ra": [40.0, 40.0],
+            "dec": [50.0, -50.0],
+            "distance": [50.0, 50.0],
+            "velocity_dispersion": [320.0, 320.0],
+        }
+    )
     r = rank_catalog(t, sky)
     assert list(r.rejections.notes.values()) == [1]
     assert any("no sensitivity" in line for line in r.summary_lines())
@@ -176,8 +210,15 @@ def test_array_thresholds_at_galaxies_match_curve_at_their_positions():
     rng = np.random.default_rng(8)
     n = 8
     ra, dec = rng.uniform(0, 360, n), np.degrees(np.arcsin(rng.uniform(-1, 1, n)))
-    t = Table({"name": [f"G{i}" for i in range(n)], "ra": ra, "dec": dec,
-               "distance": np.full(n, 50.0), "mass": np.full(n, 3e9)})
+    t = Table(
+        {
+            "name": [f"G{i}" for i in range(n)],
+            "ra": ra,
+            "dec": dec,
+            "distance": np.full(n, 50.0),
+            "mass": np.full(n, 3e9),
+        }
+    )
     r = rank_catalog(t, arr, metric="h0_ratio")
     freq = r.sensitivity.frequency
     for row in r.table:  # a handful of galaxies: the reference is one call each

@@ -60,8 +60,21 @@ def test_curve_at_position_writes_readable_strain_psd(tmp_path):
 def test_skymap_writes_fits_and_png_per_frequency(tmp_path):
     arr = _write_array(tmp_path / "a.ecsv")
     out = tmp_path / "maps"
-    res = _run(["threshold-map", "--array", arr, "--frequency", "8 nHz", "--frequency", "2e-8",
-                "--nside", "8", "--out", str(out)])
+    res = _run(
+        [
+            "threshold-map",
+            "--array",
+            arr,
+            "--frequency",
+            "8 nHz",
+            "--frequency",
+            "2e-8",
+            "--nside",
+            "8",
+            "--out",
+            str(out),
+        ]
+    )
     assert res.exit_code == 0, res.output
     maps = hp.read_map(str(out / "h0_threshold_map.fits"), field=(0, 1))
     assert maps.shape == (2, hp.nside2npix(8)) and np.all(maps > 0)
@@ -72,11 +85,14 @@ def test_skymap_writes_fits_and_png_per_frequency(tmp_path):
     assert "dimensionless strain" in lines[1]
 
 
-@pytest.mark.parametrize("over, words", [
-    ({"toa_rms": None}, "column 'toa_rms' is missing"),
-    ({"toa_rms": [np.nan, 1.0, 0.5, 2.0] * u.us}, "row 1 (X1): toa_rms is NaN"),
-    ({"cadence": [14.0, -28.0, 21.0, 14.0] * u.d}, "row 2 (X2): cadence"),
-])
+@pytest.mark.parametrize(
+    "over, words",
+    [
+        ({"toa_rms": None}, "column 'toa_rms' is missing"),
+        ({"toa_rms": [np.nan, 1.0, 0.5, 2.0] * u.us}, "row 1 (X1): toa_rms is NaN"),
+        ({"cadence": [14.0, -28.0, 21.0, 14.0] * u.d}, "row 2 (X2): cadence"),
+    ],
+)
 @pytest.mark.parametrize("command", ["curve", "threshold-map"])
 def test_bad_pulsar_list_one_line_error_no_output(tmp_path, over, words, command):
     arr = _write_array(tmp_path / "bad.ecsv", **over)
@@ -89,15 +105,18 @@ def test_bad_pulsar_list_one_line_error_no_output(tmp_path, over, words, command
     assert not out.exists() or not any(out.iterdir())
 
 
-@pytest.mark.parametrize("args, words", [
-    (["--frequency", "8 parsec"], "frequency"),
-    (["--frequency", "abc"], "cannot read 'abc'"),
-    (["--frequency", "-3 nHz"], "must be positive"),
-    (["--frequency", "8 nHz", "--nside", "30"], "30 is not a power of 2"),
-    (["--frequency", "8 nHz", "--nside", "0"], "not a power of 2"),
-    (["--frequency", "8"], "outside the array's band"),  # 8 Hz: a unit slip
-    (["--frequency", "0.1 nHz"], "outside the array's band"),  # below 1/T
-])
+@pytest.mark.parametrize(
+    "args, words",
+    [
+        (["--frequency", "8 parsec"], "frequency"),
+        (["--frequency", "abc"], "cannot read 'abc'"),
+        (["--frequency", "-3 nHz"], "must be positive"),
+        (["--frequency", "8 nHz", "--nside", "30"], "30 is not a power of 2"),
+        (["--frequency", "8 nHz", "--nside", "0"], "not a power of 2"),
+        (["--frequency", "8"], "outside the array's band"),  # 8 Hz: a unit slip
+        (["--frequency", "0.1 nHz"], "outside the array's band"),  # below 1/T
+    ],
+)
 def test_skymap_bad_options(tmp_path, args, words):
     arr = _write_array(tmp_path / "a.ecsv")
     out = tmp_path / "maps"
@@ -107,8 +126,7 @@ def test_skymap_bad_options(tmp_path, args, words):
 
 
 def test_missing_array_file(tmp_path):
-    res = _run(["curve", "--array", str(tmp_path / "none.ecsv"), "--out",
-                str(tmp_path / "c.ecsv")])
+    res = _run(["curve", "--array", str(tmp_path / "none.ecsv"), "--out", str(tmp_path / "c.ecsv")])
     _assert_one_line_error(res, "not found")
 
 
@@ -124,9 +142,11 @@ def test_demo_array_part_covers_well_and_poorly_covered_hosts(tmp_path):
     from ptaconstrain.binary.host import Host
     from ptaconstrain.demo import array_part
 
-    hosts = [Host("Near cluster", 1e10, 50.0, ra=284.1, dec=-37.2),
-             Host("Far side", 1e10, 50.0, ra=150.3, dec=21.8),
-             Host("No position", 1e10, 50.0)]
+    hosts = [
+        Host("Near cluster", 1e10, 50.0, ra=284.1, dec=-37.2),
+        Host("Far side", 1e10, 50.0, ra=150.3, dec=21.8),
+        Host("No position", 1e10, 50.0),
+    ]
     lines = array_part(tmp_path, hosts)
     text = "\n".join(lines)
     assert "INVENTED" in lines[0]
@@ -135,8 +155,12 @@ def test_demo_array_part_covers_well_and_poorly_covered_hosts(tmp_path):
     ratio = [float(x.split(", ")[1].split(" x ")[0]) for x in (near, far)]
     assert ratio[0] < 0.8 and ratio[1] > 1.5
     assert "sky-averaged" in next(x for x in lines if "No position" in x)
-    for name in ("demo_array_h0_map.fits", "demo_array_h0_map.png",
-                 "demo_array_curve_Near_cluster.ecsv", "demo_array_curve_sky_averaged.ecsv"):
+    for name in (
+        "demo_array_h0_map.fits",
+        "demo_array_h0_map.png",
+        "demo_array_curve_Near_cluster.ecsv",
+        "demo_array_curve_sky_averaged.ecsv",
+    ):
         assert (tmp_path / name).is_file(), text
     with pytest.raises(FileExistsError):
         array_part(tmp_path, hosts)
@@ -151,19 +175,21 @@ def test_curve_position_follows_the_one_sky_rule(tmp_path):
     skies = []
     for ra in ("187.7", "12:30:48"):
         out = tmp_path / f"c{len(skies)}.ecsv"
-        res = _run(["curve", "--array", arr, "--ra", ra, "--dec", "\u22125.5", "--out",
-                    str(out)])
+        res = _run(["curve", "--array", arr, "--ra", ra, "--dec", "\u22125.5", "--out", str(out)])
         assert res.exit_code == 0, res.output
         skies.append(load_curve(out).sky)
     assert Angle("12:30:48", unit=u.hourangle).deg == pytest.approx(187.7)
     assert skies == ["ra=187.7000deg dec=-5.5000deg"] * 2
 
 
-@pytest.mark.parametrize("ra, dec, words", [
-    ("400", "0", "out of range"),
-    ("abc", "0", "cannot read"),
-    ("10", None, "give both RA and Dec"),
-])
+@pytest.mark.parametrize(
+    "ra, dec, words",
+    [
+        ("400", "0", "out of range"),
+        ("abc", "0", "cannot read"),
+        ("10", None, "give both RA and Dec"),
+    ],
+)
 def test_curve_bad_position_one_line_error_no_output(tmp_path, ra, dec, words):
     arr = _write_array(tmp_path / "a.ecsv")
     out = tmp_path / "c.ecsv"

@@ -31,16 +31,44 @@ def test_curve_with_background_is_less_sensitive_at_low_frequency(tmp_path):
 
 
 def test_threshold_map_records_the_background(tmp_path):
-    r = _run("threshold-map", "--array", ARRAY, "--frequency", "8 nHz", "--nside", 4,
-             "--out", tmp_path, "--background", "2e-15,3.5")
+    r = _run(
+        "threshold-map",
+        "--array",
+        ARRAY,
+        "--frequency",
+        "8 nHz",
+        "--nside",
+        4,
+        "--out",
+        tmp_path,
+        "--background",
+        "2e-15,3.5",
+    )
     assert r.exit_code == 0, r.output
     header = fits.getheader(tmp_path / "h0_threshold_map.fits", 1)
     assert header["BGAMP"] == 2e-15 and header["BGGAMMA"] == 3.5
 
 
 def test_exclude_array_with_background(tmp_path):
-    base = ["exclude", "--mass", "2e10", "--distance", "100", "--ra", "284.1", "--dec",
-            "-37.2", "--array", ARRAY, "--grid", "30x40", "--format", "png", "--name", "B"]
+    base = [
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--ra",
+        "284.1",
+        "--dec",
+        "-37.2",
+        "--array",
+        ARRAY,
+        "--grid",
+        "30x40",
+        "--format",
+        "png",
+        "--name",
+        "B",
+    ]
     assert _run(*base, "--out", tmp_path / "q").exit_code == 0
     r = _run(*base, "--out", tmp_path / "b", "--background", "2.4e-15")
     assert r.exit_code == 0, r.output
@@ -54,17 +82,37 @@ def test_exclude_array_with_background(tmp_path):
 
 
 def test_background_needs_an_array(tmp_path):
-    r = _run("exclude", "--mass", "2e10", "--distance", "100", "--curve",
-             data_file("synthetic_h0_limit.ecsv"), "--out", tmp_path / "o",
-             "--background", "2.4e-15")
+    r = _run(
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--curve",
+        data_file("synthetic_h0_limit.ecsv"),
+        "--out",
+        tmp_path / "o",
+        "--background",
+        "2.4e-15",
+    )
     assert r.exit_code == 2 and "--array" in r.output and not (tmp_path / "o").exists()
     r = _run("curve", "--array", ARRAY, "--out", tmp_path / "c.ecsv", "--background", "-15")
     assert r.exit_code == 2 and "log10" in r.output and "Traceback" not in r.output
 
 
 def test_rank_array_with_background_records_it(tmp_path):
-    res = _run("rank", data_file("demo_catalogue.ecsv"), "--array", ARRAY, "--out",
-               tmp_path, "--metric", "h0_ratio", "--background", "2.4e-15")
+    res = _run(
+        "rank",
+        data_file("demo_catalogue.ecsv"),
+        "--array",
+        ARRAY,
+        "--out",
+        tmp_path,
+        "--metric",
+        "h0_ratio",
+        "--background",
+        "2.4e-15",
+    )
     assert res.exit_code == 0, res.output
     t = Table.read(tmp_path / "ranking_top.ecsv")
     text = json.dumps(dict(t.meta), default=str)

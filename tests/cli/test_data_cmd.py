@@ -36,24 +36,46 @@ def test_unknown_data_name_is_one_line():
 
 def test_exclude_takes_a_shipped_curve_from_any_directory(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)  # no checkout here: only the package data can serve
-    res = _run("exclude", "--mass", "2e10", "--distance", "100", "--curve",
-               "synthetic_h0_limit", "--grid", "30", "--format", "png", "--out", "res")
+    res = _run(
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--curve",
+        "synthetic_h0_limit",
+        "--grid",
+        "30",
+        "--format",
+        "png",
+        "--out",
+        "res",
+    )
     assert res.exit_code == 0, res.output
     meta = QTable.read(tmp_path / "res" / "host_exclusion.ecsv").meta
     assert meta["files"]["curve"]["shipped"] == "synthetic_h0_limit"
     assert meta["files"]["curve"]["path"] == str(data.path("synthetic_h0_limit"))
 
 
-@pytest.mark.parametrize("args, words", [
-    (["exclude", "--mass", "2e10", "--distance", "100", "--curve", "demo_array"],
-     "is a pulsar list, not a sensitivity curve"),
-    (["exclude", "--mass", "2e10", "--distance", "100", "--limit-map", "synthetic_h0_limit"],
-     "is a sensitivity curve, not a HEALPix limit map"),
-    (["curve", "--array", "demo_hosts"], "is a hosts table, not a pulsar list"),
-    (["rank", "demo_array", "--curve", "synthetic_h0_limit"],
-     "not a galaxy catalogue or hosts table"),
-    (["rank", "missing_catalogue", "--curve", "synthetic_h0_limit"], "file not found"),
-])
+@pytest.mark.parametrize(
+    "args, words",
+    [
+        (
+            ["exclude", "--mass", "2e10", "--distance", "100", "--curve", "demo_array"],
+            "is a pulsar list, not a sensitivity curve",
+        ),
+        (
+            ["exclude", "--mass", "2e10", "--distance", "100", "--limit-map", "synthetic_h0_limit"],
+            "is a sensitivity curve, not a HEALPix limit map",
+        ),
+        (["curve", "--array", "demo_hosts"], "is a hosts table, not a pulsar list"),
+        (
+            ["rank", "demo_array", "--curve", "synthetic_h0_limit"],
+            "not a galaxy catalogue or hosts table",
+        ),
+        (["rank", "missing_catalogue", "--curve", "synthetic_h0_limit"], "file not found"),
+    ],
+)
 def test_wrong_shipped_names_are_one_line_errors_and_write_nothing(tmp_path, args, words):
     out = tmp_path / "out"
     res = _run(*args, "--out", str(out))
@@ -66,11 +88,11 @@ def test_wrong_shipped_names_are_one_line_errors_and_write_nothing(tmp_path, arg
 def _help_examples():
     """Every ``ptaconstrain ...`` command line shown in a --help text (continuations joined)."""
     found = []
-    for command in [[], ["exclude"], ["curve"], ["threshold-map"], ["rank"], ["data"],
-                    ["demo"]]:
+    for command in [[], ["exclude"], ["curve"], ["threshold-map"], ["rank"], ["data"], ["demo"]]:
         text = _run(*command, "--help").output.replace("\\\n", " ")
-        found += [line.strip() for line in text.splitlines()
-                  if line.strip().startswith("ptaconstrain ")]
+        found += [
+            line.strip() for line in text.splitlines() if line.strip().startswith("ptaconstrain ")
+        ]
     return list(dict.fromkeys(found))
 
 
@@ -81,10 +103,15 @@ def test_help_examples_name_shipped_data_not_checkout_paths():
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("example", [
-    e for e in _help_examples()
-    if not e.startswith("ptaconstrain demo")  # the demo: tests/cli/test_demo.py
-    and "# your own" not in e])  # an example for the user's own data says so
+@pytest.mark.parametrize(
+    "example",
+    [
+        e
+        for e in _help_examples()
+        if not e.startswith("ptaconstrain demo")  # the demo: tests/cli/test_demo.py
+        and "# your own" not in e
+    ],
+)  # an example for the user's own data says so
 def test_every_help_example_runs_from_an_empty_directory(tmp_path, monkeypatch, example):
     # issue 12: the examples work from any directory after pip install
     monkeypatch.chdir(tmp_path)

@@ -12,8 +12,23 @@ CURVE = str(data_file("synthetic_h0_limit.ecsv"))
 
 def _run(tmp_path, *extra):
     out = tmp_path / "out"
-    res = CliRunner().invoke(main, ["exclude", "--mass", "2e10", "--curve", CURVE, "--format",
-                                    "none", "--grid", "40", "--out", str(out), *extra])
+    res = CliRunner().invoke(
+        main,
+        [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--curve",
+            CURVE,
+            "--format",
+            "none",
+            "--grid",
+            "40",
+            "--out",
+            str(out),
+            *extra,
+        ],
+    )
     assert res.exit_code == 0, res.output
     return res.output.splitlines()[2], QTable.read(out / "host_exclusion.ecsv").meta
 
@@ -44,7 +59,20 @@ def test_rescaled_mass_is_echoed(tmp_path):
 
 
 def test_unknown_cosmology_is_one_line(tmp_path):
-    res = CliRunner().invoke(main, ["exclude", "--mass", "2e10", "--redshift", "0.05",
-                                    "--cosmology", "Flat42", "--curve", CURVE,
-                                    "--out", str(tmp_path / "o")])
+    res = CliRunner().invoke(
+        main,
+        [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--redshift",
+            "0.05",
+            "--cosmology",
+            "Flat42",
+            "--curve",
+            CURVE,
+            "--out",
+            str(tmp_path / "o"),
+        ],
+    )
     assert res.exit_code == 1 and "WMAP9" in res.output and not (tmp_path / "o").exists()

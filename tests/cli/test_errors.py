@@ -15,12 +15,26 @@ def _run(args):
 
 
 def _args(curve_file, out):
-    return ["exclude", "--mass", "2e10", "--distance", "100", "--curve", str(curve_file),
-            "--out", str(out), "--grid", "20", "--format", "png"]
+    return [
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--curve",
+        str(curve_file),
+        "--out",
+        str(out),
+        "--grid",
+        "20",
+        "--format",
+        "png",
+    ]
 
 
-@pytest.mark.parametrize("exc", [RuntimeError("boom"), KeyError("frequency"),
-                                 ValueError("a bug, not an input")])
+@pytest.mark.parametrize(
+    "exc", [RuntimeError("boom"), KeyError("frequency"), ValueError("a bug, not an input")]
+)
 def test_a_bug_is_reported_as_an_internal_error(monkeypatch, tmp_path, curve_file, exc):
     def broken(*args, **kwargs):
         raise exc
@@ -57,8 +71,7 @@ def test_input_error_is_one_line_with_status_1(monkeypatch, tmp_path, curve_file
     out = tmp_path / "res"
     r = _run(_args(curve_file, out))
     assert r.exit_code == 1
-    assert r.output.strip() == ("Error: curve: 'x.ecsv' has no frequency column; "
-                                "add one in Hz")
+    assert r.output.strip() == ("Error: curve: 'x.ecsv' has no frequency column; add one in Hz")
     assert not out.exists() or not any(out.iterdir())
 
 
@@ -85,8 +98,7 @@ def _warning_load_curve(monkeypatch):
 
     def load(*args, **kwargs):
         for _ in range(2):  # the same assumption twice gives one note
-            warnings.warn("span: none recorded; 10 yr assumed", PtaconstrainWarning,
-                          stacklevel=2)
+            warnings.warn("span: none recorded; 10 yr assumed", PtaconstrainWarning, stacklevel=2)
         return real(*args, **kwargs)
 
     monkeypatch.setattr(curve_module, "load_curve", load)

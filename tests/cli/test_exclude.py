@@ -13,8 +13,21 @@ def run(args):
 
 
 def base_args(curve_file, out):
-    return ["exclude", "--mass", "2e10 solMass", "--distance", "100 Mpc", "--curve",
-            str(curve_file), "--out", str(out), "--grid", "40x50", "--name", "Test Host"]
+    return [
+        "exclude",
+        "--mass",
+        "2e10 solMass",
+        "--distance",
+        "100 Mpc",
+        "--curve",
+        str(curve_file),
+        "--out",
+        str(out),
+        "--grid",
+        "40x50",
+        "--name",
+        "Test Host",
+    ]
 
 
 def test_exclude_writes_table_and_figures(tmp_path, curve_file):
@@ -24,7 +37,10 @@ def test_exclude_writes_table_and_figures(tmp_path, curve_file):
     lines = r.output.strip().splitlines()
     assert "ruled out at P =" in lines[0] and "95% upper limit" in lines[0]
     assert {p.name for p in out.iterdir()} == {
-        "Test_Host_exclusion.ecsv", "Test_Host_exclusion.png", "Test_Host_exclusion.pdf"}
+        "Test_Host_exclusion.ecsv",
+        "Test_Host_exclusion.png",
+        "Test_Host_exclusion.pdf",
+    }
     t = QTable.read(out / "Test_Host_exclusion.ecsv")
     assert len(t) == 50
     assert t["period"].unit == u.yr and t["f_gw"].unit == u.Hz
@@ -37,10 +53,40 @@ def test_exclude_writes_table_and_figures(tmp_path, curve_file):
 
 
 def test_bare_numbers_are_solar_masses_and_megaparsecs(tmp_path, curve_file):
-    a = run(["exclude", "--mass", "2e10", "--distance", "100", "--curve", str(curve_file),
-             "--out", str(tmp_path / "a"), "--grid", "20", "--format", "png"])
-    b = run(["exclude", "--mass", "20000000000 solMass", "--distance", "0.1 Gpc", "--curve",
-             str(curve_file), "--out", str(tmp_path / "b"), "--grid", "20", "--format", "png"])
+    a = run(
+        [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--distance",
+            "100",
+            "--curve",
+            str(curve_file),
+            "--out",
+            str(tmp_path / "a"),
+            "--grid",
+            "20",
+            "--format",
+            "png",
+        ]
+    )
+    b = run(
+        [
+            "exclude",
+            "--mass",
+            "20000000000 solMass",
+            "--distance",
+            "0.1 Gpc",
+            "--curve",
+            str(curve_file),
+            "--out",
+            str(tmp_path / "b"),
+            "--grid",
+            "20",
+            "--format",
+            "png",
+        ]
+    )
     assert a.exit_code == b.exit_code == 0
     assert a.output.splitlines()[0] == b.output.splitlines()[0]
 
@@ -61,10 +107,12 @@ def _bad_curve(tmp_path, text, name="bad.ecsv"):
     return p
 
 
-ECSV_HEAD = ("# %ECSV 1.0\n# ---\n# datatype:\n"
-             "# - {name: frequency, unit: Hz, datatype: float64}\n"
-             "# - {name: h0_limit, datatype: float64}\n# schema: astropy-2.0\n"
-             "frequency h0_limit\n")
+ECSV_HEAD = (
+    "# %ECSV 1.0\n# ---\n# datatype:\n"
+    "# - {name: frequency, unit: Hz, datatype: float64}\n"
+    "# - {name: h0_limit, datatype: float64}\n# schema: astropy-2.0\n"
+    "frequency h0_limit\n"
+)
 
 
 @pytest.mark.parametrize(
@@ -114,7 +162,7 @@ def test_bad_arguments_give_one_line_and_no_output(tmp_path, curve_file, change,
         if key in args:
             args[args.index(key) + 1] = change[i + 1]
         else:
-            args += change[i:i + 2]
+            args += change[i : i + 2]
     r = run(args)
     assert r.exit_code != 0
     text = r.output.strip()
@@ -175,8 +223,9 @@ def test_forecast_summary_says_it_is_not_an_exclusion(tmp_path):
 
     f = np.geomspace(2e-9, 3e-7, 40)
     path = tmp_path / "psd.ecsv"
-    save_curve(StrainCurve(f * u.Hz, 1e-27 * (f / 1e-8) ** 2, "strain_psd",
-                                {"span": "20 yr"}), path)
+    save_curve(
+        StrainCurve(f * u.Hz, 1e-27 * (f / 1e-8) ** 2, "strain_psd", {"span": "20 yr"}), path
+    )
     r = run(base_args(path, tmp_path / "res") + ["--snr", "8"])
     assert r.exit_code == 0, r.output
     assert "would be detectable" in r.output and "not an exclusion" in r.output
@@ -203,10 +252,22 @@ def test_help_shows_an_example():
 
 def test_uncertainties_add_credible_columns_contours_and_seed(tmp_path, curve_file):
     out = tmp_path / "res"
-    args = base_args(curve_file, out) + ["--mass-err", "0.2", "--distance-err", "10%",
-                                         "--mass-distance", "100", "--samples", "20000",
-                                         "--seed", "7", "--credibility", "0.9,0.95",
-                                         "--format", "png"]
+    args = base_args(curve_file, out) + [
+        "--mass-err",
+        "0.2",
+        "--distance-err",
+        "10%",
+        "--mass-distance",
+        "100",
+        "--samples",
+        "20000",
+        "--seed",
+        "7",
+        "--credibility",
+        "0.9,0.95",
+        "--format",
+        "png",
+    ]
     r = run(args)
     assert r.exit_code == 0, r.output
     assert "with probability >= 0.95" in r.output and "seed 7" in r.output
@@ -218,8 +279,11 @@ def test_uncertainties_add_credible_columns_contours_and_seed(tmp_path, curve_fi
     ok = np.isfinite(a) & np.isfinite(b)
     assert np.all(b[ok] >= a[ok])
     # same seed, same table
-    r2 = run(args[:args.index("--out") + 1] + [str(tmp_path / "again")] +
-             args[args.index("--out") + 2:])
+    r2 = run(
+        args[: args.index("--out") + 1]
+        + [str(tmp_path / "again")]
+        + args[args.index("--out") + 2 :]
+    )
     assert r2.exit_code == 0
     t2 = QTable.read(tmp_path / "again" / "Test_Host_exclusion.ecsv")
     np.testing.assert_array_equal(t2["max_mass_ratio_0.95"], b)
@@ -236,10 +300,12 @@ def test_a_dotted_host_name_keeps_its_whole_name_in_every_file(tmp_path, curve_f
     names = sorted(p.name for p in out.iterdir())
     # '+' cannot stay in a file name: a stable suffix from the original name is added
     # (6 hex digits of hashlib.blake2s(name, digest_size=3))
-    assert names == ["Fictus_J1234.5_6789_04703a_exclusion.ecsv",
-                     "Fictus_J1234.5_6789_04703a_exclusion.png",
-                     "Fictus_J1234.7_1111_1034ef_exclusion.ecsv",
-                     "Fictus_J1234.7_1111_1034ef_exclusion.png"]
+    assert names == [
+        "Fictus_J1234.5_6789_04703a_exclusion.ecsv",
+        "Fictus_J1234.5_6789_04703a_exclusion.png",
+        "Fictus_J1234.7_1111_1034ef_exclusion.ecsv",
+        "Fictus_J1234.7_1111_1034ef_exclusion.png",
+    ]
 
 
 def test_names_differing_only_in_unsafe_characters_keep_distinct_files(tmp_path, curve_file):

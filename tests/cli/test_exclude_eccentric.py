@@ -10,8 +10,24 @@ from ptaconstrain.cli import main
 
 
 def _args(curve_file, out, *extra):
-    return ["exclude", "--mass", "2e10", "--distance", "100", "--curve", str(curve_file),
-            "--out", str(out), "--grid", "30x40", "--format", "png", "--name", "E", *extra]
+    return [
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--curve",
+        str(curve_file),
+        "--out",
+        str(out),
+        "--grid",
+        "30x40",
+        "--format",
+        "png",
+        "--name",
+        "E",
+        *extra,
+    ]
 
 
 def test_eccentricity_reaches_table_figure_and_summary(tmp_path, curve_file):
@@ -21,8 +37,13 @@ def test_eccentricity_reaches_table_figure_and_summary(tmp_path, curve_file):
     t = QTable.read(tmp_path / "o" / "E_exclusion.ecsv")
     assert t.meta["eccentricity"] == "0.5" and t.meta["inputs"]["eccentricity"] == "0.5"
     # the table holds the library's numbers (same grid, same host)
-    res = exclusion_map(Host("E", 2e10, 100), load_curve(curve_file),
-                        np.geomspace(1e-4, 1, 30), t["period"], eccentricity=0.5)
+    res = exclusion_map(
+        Host("E", 2e10, 100),
+        load_curve(curve_file),
+        np.geomspace(1e-4, 1, 30),
+        t["period"],
+        eccentricity=0.5,
+    )
     np.testing.assert_allclose(t["max_mass_ratio"], res.max_mass_ratio, rtol=1e-12)
 
 

@@ -18,8 +18,7 @@ def _north_south_limit_map(path):
     freqs = [3e-9, 1e-8, 1e-7]
     maps = [np.where(north, 1e-15, 1e-14) * (f / 1e-8) for f in freqs]
     extra = [(f"FREQ{i + 1}", f) for i, f in enumerate(freqs)] + [("MAPKIND", "h0_limit")]
-    hp.write_map(str(path), maps, coord="C", column_units="", extra_header=extra,
-                 dtype=np.float64)
+    hp.write_map(str(path), maps, coord="C", column_units="", extra_header=extra, dtype=np.float64)
     return path
 
 
@@ -33,9 +32,29 @@ def test_skymap_limit_is_taken_at_the_host_pixel(tmp_path):
     path = _north_south_limit_map(tmp_path / "lim.fits")
     bounds = {}
     for name, dec in (("north", "40"), ("south", "-40")):
-        r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--ra", "150", "--dec", dec,
-                  "--limit-map", str(path), "--out", str(tmp_path / name), "--name", name,
-                  "--grid", "60", "--format", "png"])
+        r = _run(
+            [
+                "exclude",
+                "--mass",
+                "2e10",
+                "--distance",
+                "100",
+                "--ra",
+                "150",
+                "--dec",
+                dec,
+                "--limit-map",
+                str(path),
+                "--out",
+                str(tmp_path / name),
+                "--name",
+                name,
+                "--grid",
+                "60",
+                "--format",
+                "png",
+            ]
+        )
         assert r.exit_code == 0, r.output
         assert "at the host's position" in r.output and "ruled out" in r.output
         notes = [line for line in r.output.splitlines() if line.startswith("Note:")]
@@ -49,9 +68,23 @@ def test_skymap_limit_is_taken_at_the_host_pixel(tmp_path):
 
 
 def test_array_without_position_says_sky_averaged(tmp_path):
-    r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--array",
-              str(data_file("demo_array.ecsv")), "--out", str(tmp_path / "o"),
-              "--grid", "30", "--format", "png"])
+    r = _run(
+        [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--distance",
+            "100",
+            "--array",
+            str(data_file("demo_array.ecsv")),
+            "--out",
+            str(tmp_path / "o"),
+            "--grid",
+            "30",
+            "--format",
+            "png",
+        ]
+    )
     assert r.exit_code == 0, r.output
     assert "sky-averaged" in r.output and "would be detectable" in r.output
     # the assumption is a note on stderr, once
@@ -63,8 +96,9 @@ def test_array_without_position_says_sky_averaged(tmp_path):
 
 def test_exactly_one_sensitivity_source(tmp_path):
     for extra in ([], ["--curve", "synthetic_h0_limit", "--array", "demo_array"]):
-        r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--out",
-                  str(tmp_path / "o")] + extra)
+        r = _run(
+            ["exclude", "--mass", "2e10", "--distance", "100", "--out", str(tmp_path / "o")] + extra
+        )
         assert r.exit_code != 0 and "exactly one of --curve, --array or --limit-map" in r.output
         assert len(r.output.strip().splitlines()) == 1
     assert not (tmp_path / "o").exists()
@@ -76,17 +110,42 @@ def test_threshold_map_is_refused_as_a_limit_map(tmp_path):
     from ptaconstrain.sensitivity.limit_map import write_threshold_maps
 
     path = tmp_path / "forecast.fits"
-    write_threshold_maps(path, np.full((2, hp.nside2npix(NSIDE)), 1e-15), [1e-8, 2e-8] * u.Hz,
-                         5.0, 10 * u.yr, "test")
-    r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--limit-map", str(path),
-              "--out", str(tmp_path / "o")])
+    write_threshold_maps(
+        path, np.full((2, hp.nside2npix(NSIDE)), 1e-15), [1e-8, 2e-8] * u.Hz, 5.0, 10 * u.yr, "test"
+    )
+    r = _run(
+        [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--distance",
+            "100",
+            "--limit-map",
+            str(path),
+            "--out",
+            str(tmp_path / "o"),
+        ]
+    )
     assert r.exit_code != 0 and len(r.output.strip().splitlines()) == 1
     assert "Traceback" not in r.output and not (tmp_path / "o").exists()
 
 
 def test_span_is_refused_with_an_array(tmp_path):
-    r = _run(["exclude", "--mass", "2e10", "--distance", "100", "--span", "5", "--array",
-              str(data_file("demo_array.ecsv")), "--out", str(tmp_path / "o")])
+    r = _run(
+        [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--distance",
+            "100",
+            "--span",
+            "5",
+            "--array",
+            str(data_file("demo_array.ecsv")),
+            "--out",
+            str(tmp_path / "o"),
+        ]
+    )
     assert r.exit_code != 0 and "--span" in r.output and not (tmp_path / "o").exists()
 
 

@@ -36,8 +36,22 @@ def _run(*args):
 
 def test_shipped_table_gives_per_host_outputs_summary_and_overview(tmp_path, curve_file):
     out = tmp_path / "out"
-    res = _run("--hosts", HOSTS, "--curve", curve_file, "--out", str(out), "--seed", "3",
-               "--samples", "2000", "--grid", "40", "--format", "png")
+    res = _run(
+        "--hosts",
+        HOSTS,
+        "--curve",
+        curve_file,
+        "--out",
+        str(out),
+        "--seed",
+        "3",
+        "--samples",
+        "2000",
+        "--grid",
+        "40",
+        "--format",
+        "png",
+    )
     assert res.exit_code == 0, res.output
     summary = QTable.read(out / "hosts_summary.ecsv")
     n = len(Table.read(HOSTS))
@@ -58,8 +72,18 @@ def test_shipped_table_gives_per_host_outputs_summary_and_overview(tmp_path, cur
 def test_batch_bound_equals_the_single_host_bound(tmp_path, curve_file):
     path = _table(tmp_path, [("Alpha", 10.0, 5.0, 50.0, 2e10, 0.0)])
     out = tmp_path / "out"
-    res = _run("--hosts", path, "--curve", curve_file, "--out", str(out), "--grid", "60",
-               "--format", "none")
+    res = _run(
+        "--hosts",
+        path,
+        "--curve",
+        curve_file,
+        "--out",
+        str(out),
+        "--grid",
+        "60",
+        "--format",
+        "none",
+    )
     assert res.exit_code == 0, res.output
     shown = sorted(p.name for p in out.iterdir() if not p.name.startswith("."))
     assert shown == ["Alpha_exclusion.ecsv", "hosts_summary.ecsv"]
@@ -67,17 +91,20 @@ def test_batch_bound_equals_the_single_host_bound(tmp_path, curve_file):
     from ptaconstrain.analysis.exclusion import default_periods
 
     curve = bucket_limit()
-    ref = exclusion_map(Host("Alpha", 2e10, 50), curve, np.logspace(-4, 0, 60),
-                        default_periods(curve, 60))
+    ref = exclusion_map(
+        Host("Alpha", 2e10, 50), curve, np.logspace(-4, 0, 60), default_periods(curve, 60)
+    )
     period, q = ref.tightest()
     assert summary["tightest_q"][0] == pytest.approx(q, rel=1e-12)
     assert summary["tightest_period"][0].to_value(u.yr) == pytest.approx(
-        period.to_value(u.yr), rel=1e-12)
+        period.to_value(u.yr), rel=1e-12
+    )
 
 
 def test_bad_row_stops_with_one_line_and_no_output(tmp_path, curve_file):
-    path = _table(tmp_path, [("Alpha", 10.0, 5.0, 50.0, 2e10, 0.1),
-                             ("Beta", 20.0, 95.0, 60.0, 1e10, 0.1)])
+    path = _table(
+        tmp_path, [("Alpha", 10.0, 5.0, 50.0, 2e10, 0.1), ("Beta", 20.0, 95.0, 60.0, 1e10, 0.1)]
+    )
     out = tmp_path / "out"
     res = _run("--hosts", path, "--curve", curve_file, "--out", str(out))
     assert res.exit_code == 1
@@ -87,13 +114,32 @@ def test_bad_row_stops_with_one_line_and_no_output(tmp_path, curve_file):
 
 
 def test_bad_rows_are_skipped_counted_and_listed(tmp_path, curve_file):
-    path = _table(tmp_path, [("Alpha", 10.0, 5.0, 50.0, 2e10, 0.1),
-                             ("Beta", 20.0, 95.0, 60.0, 1e10, 0.1),
-                             ("Gamma", 30.0, 5.0, 60.0, 9.3, 0.1),
-                             ("Alpha", 40.0, 5.0, 70.0, 1e10, 0.1)])
+    path = _table(
+        tmp_path,
+        [
+            ("Alpha", 10.0, 5.0, 50.0, 2e10, 0.1),
+            ("Beta", 20.0, 95.0, 60.0, 1e10, 0.1),
+            ("Gamma", 30.0, 5.0, 60.0, 9.3, 0.1),
+            ("Alpha", 40.0, 5.0, 70.0, 1e10, 0.1),
+        ],
+    )
     out = tmp_path / "out"
-    res = _run("--hosts", path, "--curve", curve_file, "--out", str(out), "--on-bad", "skip",
-               "--format", "none", "--samples", "1000", "--grid", "30")
+    res = _run(
+        "--hosts",
+        path,
+        "--curve",
+        curve_file,
+        "--out",
+        str(out),
+        "--on-bad",
+        "skip",
+        "--format",
+        "none",
+        "--samples",
+        "1000",
+        "--grid",
+        "30",
+    )
     assert res.exit_code == 0, res.output
     assert "skipped: sky position out of range" in res.output
     rejected = Table.read(out / "hosts_rejected.ecsv")
@@ -109,8 +155,18 @@ def test_single_host_options_are_refused_with_hosts(tmp_path, curve_file, option
 
 
 def test_hosts_options_are_refused_without_hosts(tmp_path, curve_file):
-    res = _run("--mass", "2e10", "--distance", "50", "--curve", curve_file, "--on-bad", "skip",
-               "--out", str(tmp_path / "o"))
+    res = _run(
+        "--mass",
+        "2e10",
+        "--distance",
+        "50",
+        "--curve",
+        curve_file,
+        "--on-bad",
+        "skip",
+        "--out",
+        str(tmp_path / "o"),
+    )
     assert res.exit_code == 2 and "--on-bad applies to --hosts only" in res.output
 
 
@@ -123,18 +179,31 @@ def test_existing_outputs_are_not_overwritten(tmp_path, curve_file):
     assert res.exit_code == 1 and "--overwrite" in res.output
     assert (out / "hosts_summary.ecsv").read_text() == "mine"
     assert sorted(p.name for p in out.iterdir() if not p.name.startswith(".")) == [
-        "hosts_summary.ecsv"]
+        "hosts_summary.ecsv"
+    ]
 
 
 def test_column_mapping_as_for_rank(tmp_path, curve_file):
-    t = Table({"galaxy": ["Alpha"], "RA": [10.0], "DEC": [5.0], "D_Mpc": [50.0],
-               "M_bh": [2e10]})
+    t = Table({"galaxy": ["Alpha"], "RA": [10.0], "DEC": [5.0], "D_Mpc": [50.0], "M_bh": [2e10]})
     path = tmp_path / "h.csv"
     t.write(path, format="ascii.csv")
     out = tmp_path / "out"
-    res = _run("--hosts", str(path), "--curve", curve_file, "--out", str(out),
-               "--column", "name=galaxy", "--column", "distance=D_Mpc",
-               "--column", "mass=M_bh", "--format", "none")
+    res = _run(
+        "--hosts",
+        str(path),
+        "--curve",
+        curve_file,
+        "--out",
+        str(out),
+        "--column",
+        "name=galaxy",
+        "--column",
+        "distance=D_Mpc",
+        "--column",
+        "mass=M_bh",
+        "--format",
+        "none",
+    )
     assert res.exit_code == 0, res.output
     assert (out / "Alpha_exclusion.ecsv").is_file()
 
@@ -153,10 +222,22 @@ def test_a_failure_midway_leaves_no_output(tmp_path, curve_file, monkeypatch):
         return real(host, *args, **kwargs)
 
     monkeypatch.setattr(batch, "exclusion_map", failing)
-    path = _table(tmp_path, [(n, 10.0 * i, 5.0, 50.0, 2e10, 0.0)
-                             for i, n in enumerate(("A", "B", "C", "D"), 1)])
+    path = _table(
+        tmp_path,
+        [(n, 10.0 * i, 5.0, 50.0, 2e10, 0.0) for i, n in enumerate(("A", "B", "C", "D"), 1)],
+    )
     out = tmp_path / "out"
-    res = _run("--hosts", path, "--curve", curve_file, "--out", str(out), "--grid", "30",
-               "--format", "none")
+    res = _run(
+        "--hosts",
+        path,
+        "--curve",
+        curve_file,
+        "--out",
+        str(out),
+        "--grid",
+        "30",
+        "--format",
+        "none",
+    )
     assert res.exit_code == 1 and "no space left" in res.output.lower()
     assert not out.exists() or not [p for p in out.iterdir() if not p.name.startswith(".")]

@@ -8,9 +8,28 @@ from ptaconstrain.cli import main
 
 
 def _args(curve_file, out, *extra):
-    return ["exclude", "--mass", "2e10", "--distance", "100", "--curve", str(curve_file),
-            "--out", str(out), "--grid", "30x40", "--format", "png", "--name", "P",
-            "--samples", "5000", "--seed", "7", *extra]
+    return [
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--curve",
+        str(curve_file),
+        "--out",
+        str(out),
+        "--grid",
+        "30x40",
+        "--format",
+        "png",
+        "--name",
+        "P",
+        "--samples",
+        "5000",
+        "--seed",
+        "7",
+        *extra,
+    ]
 
 
 def _posterior(path, with_distance=False):
@@ -40,11 +59,13 @@ def test_mass_samples_turn_on_probability_columns(tmp_path, curve_file):
 
 def test_conflicting_errors_are_refused(tmp_path, curve_file):
     post = _posterior(tmp_path / "post.ecsv", with_distance=True)
-    r = CliRunner().invoke(main, _args(curve_file, tmp_path / "o", "--mass-samples", post,
-                                       "--mass-err", "0.2"))
+    r = CliRunner().invoke(
+        main, _args(curve_file, tmp_path / "o", "--mass-samples", post, "--mass-err", "0.2")
+    )
     assert r.exit_code == 2 and "--mass-err" in r.output
-    r = CliRunner().invoke(main, _args(curve_file, tmp_path / "o", "--mass-samples", post,
-                                       "--distance-err", "5"))
+    r = CliRunner().invoke(
+        main, _args(curve_file, tmp_path / "o", "--mass-samples", post, "--distance-err", "5")
+    )
     assert r.exit_code == 2 and "distance" in r.output and not (tmp_path / "o").exists()
 
 

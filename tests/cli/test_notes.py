@@ -12,9 +12,25 @@ LIMIT_NHZ = "# f h0\n2 1e-14\n10 5e-15\n100 3e-14\n"
 def _run(tmp_path, text, *extra, kind="h0_limit"):
     path = tmp_path / "curve.txt"
     path.write_text(text)
-    return CliRunner().invoke(main, ["exclude", "--mass", "2e10", "--distance", "100",
-                                     "--curve", str(path), "--kind", kind, "--format", "none",
-                                     "--out", str(tmp_path / "out"), *extra])
+    return CliRunner().invoke(
+        main,
+        [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--distance",
+            "100",
+            "--curve",
+            str(path),
+            "--kind",
+            kind,
+            "--format",
+            "none",
+            "--out",
+            str(tmp_path / "out"),
+            *extra,
+        ],
+    )
 
 
 def _notes(res):
@@ -38,8 +54,9 @@ def test_confidence_option_sets_the_label_and_silences_its_note(tmp_path):
     assert not any("confidence" in n for n in _notes(res))
 
 
-@pytest.mark.parametrize("extra, word", [(("--snr", "7"), "--snr is ignored"),
-                                         (("--seed", "3"), "--seed is ignored")])
+@pytest.mark.parametrize(
+    "extra, word", [(("--snr", "7"), "--snr is ignored"), (("--seed", "3"), "--seed is ignored")]
+)
 def test_ignored_options_are_noted(tmp_path, extra, word):
     res = _run(tmp_path, LIMIT_HZ, *extra)
     assert res.exit_code == 0 and any(word in n for n in _notes(res))
@@ -49,8 +66,9 @@ def test_confidence_for_a_noise_budget_is_noted_as_ignored(tmp_path):
     psd = "# f psd\n2e-9 1e-10\n1e-8 5e-12\n1e-7 3e-11\n"
     res = _run(tmp_path, psd, "--confidence", "0.9", kind="strain_psd")
     assert res.exit_code == 0
-    assert any("noise budget (a forecast), so the confidence 0.9 is ignored" in n
-               for n in _notes(res))
+    assert any(
+        "noise budget (a forecast), so the confidence 0.9 is ignored" in n for n in _notes(res)
+    )
 
 
 def test_a_curve_in_nhz_gets_a_unit_hint_not_period_advice(tmp_path):

@@ -17,8 +17,22 @@ def run(args):
 
 
 def exclude_args(curve_file, out, *extra):
-    return ["exclude", "--mass", "2e10", "--distance", "100", "--curve", curve_file,
-            "--out", out, "--grid", "30x30", "--name", "Test Host", *extra]
+    return [
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--curve",
+        curve_file,
+        "--out",
+        out,
+        "--grid",
+        "30x30",
+        "--name",
+        "Test Host",
+        *extra,
+    ]
 
 
 def listing(directory):
@@ -48,12 +62,12 @@ def test_exclude_on_a_full_disk_leaves_no_partial_set(tmp_path, curve_file, full
     r = run(exclude_args(curve_file, out, "--format", "png,pdf"))
     assert r.exit_code == 1
     assert r.output.strip().splitlines() == [
-        f"Error: {out / 'Test_Host_exclusion.pdf'}: no space left on device"]
+        f"Error: {out / 'Test_Host_exclusion.pdf'}: no space left on device"
+    ]
     assert listing(out) == []
 
 
-def test_exclude_on_a_full_disk_leaves_the_earlier_set_untouched(tmp_path, curve_file,
-                                                                 full_disk):
+def test_exclude_on_a_full_disk_leaves_the_earlier_set_untouched(tmp_path, curve_file, full_disk):
     out = tmp_path / "res"
     full_disk.formats = set()  # the disk fills between the two runs
     assert run(exclude_args(curve_file, out, "--format", "png")).exit_code == 0
@@ -101,8 +115,9 @@ def test_demo_on_a_full_disk_leaves_no_partial_set(tmp_path, full_disk):
 def test_threshold_map_on_a_full_disk_leaves_no_partial_set(tmp_path, full_disk):
     full_disk.formats = {"png"}  # the FITS map is written first, then the figures
     out = tmp_path / "maps"
-    r = run(["threshold-map", "--array", ARRAY, "--frequency", "8 nHz", "--nside", "4",
-             "--out", out])
+    r = run(
+        ["threshold-map", "--array", ARRAY, "--frequency", "8 nHz", "--nside", "4", "--out", out]
+    )
     assert r.exit_code == 1 and "no space left on device" in r.output
     assert listing(out) == []
 

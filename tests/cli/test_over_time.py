@@ -26,9 +26,31 @@ def test_curve_years_writes_one_curve_per_epoch(tmp_path):
 
 
 def test_exclude_years_table_and_target(tmp_path):
-    r = _run("exclude", "--mass", "2e10", "--distance", "100", "--ra", "284.1", "--dec",
-             "-37.2", "--array", ARRAY, "--grid", "30x40", "--format", "png", "--name", "T",
-             "--years", "0,10", "--target-q", "0.5", "--out", tmp_path)
+    r = _run(
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--ra",
+        "284.1",
+        "--dec",
+        "-37.2",
+        "--array",
+        ARRAY,
+        "--grid",
+        "30x40",
+        "--format",
+        "png",
+        "--name",
+        "T",
+        "--years",
+        "0,10",
+        "--target-q",
+        "0.5",
+        "--out",
+        tmp_path,
+    )
     assert r.exit_code == 0, r.output
     t = QTable.read(tmp_path / "T_over_time.ecsv")
     assert len(t) == 2 and t.meta["first_epoch_reaching_target"] == "+0 yr"
@@ -37,8 +59,19 @@ def test_exclude_years_table_and_target(tmp_path):
 
 
 def test_years_needs_an_array_and_rms_factor_needs_years(tmp_path):
-    r = _run("exclude", "--mass", "2e10", "--distance", "100", "--curve",
-             data_file("synthetic_h0_limit.ecsv"), "--years", "5", "--out", tmp_path / "o")
+    r = _run(
+        "exclude",
+        "--mass",
+        "2e10",
+        "--distance",
+        "100",
+        "--curve",
+        data_file("synthetic_h0_limit.ecsv"),
+        "--years",
+        "5",
+        "--out",
+        tmp_path / "o",
+    )
     assert r.exit_code == 2 and "--array" in r.output and not (tmp_path / "o").exists()
     r = _run("curve", "--array", ARRAY, "--out", tmp_path / "c.ecsv", "--rms-factor", "2")
     assert r.exit_code == 2 and "--years" in r.output

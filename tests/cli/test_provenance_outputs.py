@@ -40,16 +40,33 @@ def test_curve_from_a_pulsar_list_records_version_and_input_checksum(tmp_path):
 
 def test_threshold_map_fits_header_names_the_version(tmp_path):
     arr = _write_array(tmp_path / "a.ecsv")
-    _ok("threshold-map", "--array", arr, "--frequency", "10 nHz", "--nside", "4",
-        "--out", tmp_path / "m")
+    _ok(
+        "threshold-map",
+        "--array",
+        arr,
+        "--frequency",
+        "10 nHz",
+        "--nside",
+        "4",
+        "--out",
+        tmp_path / "m",
+    )
     with fits.open(tmp_path / "m" / "h0_threshold_map.fits") as hdul:
         assert hdul[1].header["SOFTWARE"] == SOFTWARE
         assert hdul[1].header["CREATED"].endswith("Z")
 
 
 def test_ranking_fits_and_exclusion_table_record_the_version(tmp_path):
-    _ok("rank", "demo_catalogue", "--curve", "synthetic_h0_limit", "--out", tmp_path / "r",
-        "--top", "3")
+    _ok(
+        "rank",
+        "demo_catalogue",
+        "--curve",
+        "synthetic_h0_limit",
+        "--out",
+        tmp_path / "r",
+        "--top",
+        "3",
+    )
     header = fits.getheader(tmp_path / "r" / "ranking.fits", 1)
     meta = Table.read(tmp_path / "r" / "ranking.fits").meta
     text = meta.get("provenance") or meta.get("PROVENANCE") or header.get("PROVENAN")

@@ -20,8 +20,9 @@ CATALOGUE = str(data_file("demo_catalogue.ecsv"))
 def curve_file(tmp_path_factory):
     f = np.logspace(np.log10(2e-9), -7, 40)
     x = f / 8e-9
-    c = StrainCurve(f * u.Hz, 5e-15 * (x**-2 + x), "h0_limit",
-                         meta={"confidence": 0.95, "span": "15 yr"})
+    c = StrainCurve(
+        f * u.Hz, 5e-15 * (x**-2 + x), "h0_limit", meta={"confidence": 0.95, "span": "15 yr"}
+    )
     path = tmp_path_factory.mktemp("curve") / "limit.ecsv"
     save_curve(c, path)
     return str(path)
@@ -37,13 +38,27 @@ def test_rank_writes_table_and_figures(tmp_path, curve_file):
     assert res.exit_code == 0, res.output
     assert "ranked 400 of 400" in res.output and "excluded" in res.output
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["ranking.fits", "ranking_cumulative.png", "ranking_rejected.ecsv",
-                     "ranking_sky.png", "ranking_top.ecsv"]
+    assert names == [
+        "ranking.fits",
+        "ranking_cumulative.png",
+        "ranking_rejected.ecsv",
+        "ranking_sky.png",
+        "ranking_top.ecsv",
+    ]
     full = QTable.read(out / "ranking.fits")
     top = QTable.read(out / "ranking_top.ecsv")
     assert len(full) == 400 and len(top) == 5
-    for col in ("rank", "name", "mass_source", "f_best", "h0_ratio", "min_mass_ratio",
-                "prob_equal_mass", "expected_number", "velocity_dispersion"):
+    for col in (
+        "rank",
+        "name",
+        "mass_source",
+        "f_best",
+        "h0_ratio",
+        "min_mass_ratio",
+        "prob_equal_mass",
+        "expected_number",
+        "velocity_dispersion",
+    ):
         assert col in full.colnames and col in top.colnames
     assert top.meta["provenance"]["files"]["curve"]["sha256"]
     assert top.meta["verb"] == "excluded"
@@ -56,11 +71,13 @@ def test_rank_writes_table_and_figures(tmp_path, curve_file):
     # the top rows are the first rows of the full table, value for value
     for col in top.colnames:
         a, b = np.asarray(top[col]), np.asarray(full[col][:5])
-        assert np.array_equal(a, b.astype(a.dtype) if a.dtype.kind == "U" else b,
-                              equal_nan=a.dtype.kind == "f"), col
+        assert np.array_equal(
+            a, b.astype(a.dtype) if a.dtype.kind == "U" else b, equal_nan=a.dtype.kind == "f"
+        ), col
     assert np.all(np.diff(full["expected_number"]) <= 0)
-    np.testing.assert_allclose(full["cumulative_expected_number"],
-                               np.cumsum(full["expected_number"]), rtol=1e-12)
+    np.testing.assert_allclose(
+        full["cumulative_expected_number"], np.cumsum(full["expected_number"]), rtol=1e-12
+    )
 
 
 def test_full_ecsv_on_request_equals_the_fits_table(tmp_path, curve_file):
@@ -72,8 +89,9 @@ def test_full_ecsv_on_request_equals_the_fits_table(tmp_path, curve_file):
     assert text.colnames == full.colnames and len(text) == len(full) == 400
     for col in text.colnames:
         a, b = np.asarray(text[col]), np.asarray(full[col])
-        assert np.array_equal(a, b.astype(a.dtype) if a.dtype.kind == "U" else b,
-                              equal_nan=a.dtype.kind == "f"), col
+        assert np.array_equal(
+            a, b.astype(a.dtype) if a.dtype.kind == "U" else b, equal_nan=a.dtype.kind == "f"
+        ), col
     assert text.meta["provenance"]["software"]
     assert not [p for p in out.iterdir() if p.name.startswith(".")]  # runs removed
 
@@ -85,8 +103,15 @@ def test_help_shows_an_example():
 
 
 def _bad_catalogue(tmp_path, **change):
-    t = Table({"name": ["A", "B", "C"], "ra": [1.0, 2.0, 3.0], "dec": [0.0, 10.0, 20.0],
-               "distance": [20.0, 30.0, 40.0], "velocity_dispersion": [300.0, 250, 200]})
+    t = Table(
+        {
+            "name": ["A", "B", "C"],
+            "ra": [1.0, 2.0, 3.0],
+            "dec": [0.0, 10.0, 20.0],
+            "distance": [20.0, 30.0, 40.0],
+            "velocity_dispersion": [300.0, 250, 200],
+        }
+    )
     for k, v in change.items():
         if v is None:
             t.remove_column(k)
@@ -97,17 +122,19 @@ def _bad_catalogue(tmp_path, **change):
     return str(path)
 
 
-@pytest.mark.parametrize("change, words", [
-    ({"dec": None}, "no 'dec' column"),
-    ({"distance": None}, "neither a 'distance' nor a 'redshift'"),
-    ({"name": ["A", "A", "C"]}, "duplicate name"),
-    ({"distance": [20.0, -3.0, 40.0]}, "impossible distance"),
-    ({"velocity_dispersion": [300.0, np.nan, 200.0]}, "no usable mass"),
-])
+@pytest.mark.parametrize(
+    "change, words",
+    [
+        ({"dec": None}, "no 'dec' column"),
+        ({"distance": None}, "neither a 'distance' nor a 'redshift'"),
+        ({"name": ["A", "A", "C"]}, "duplicate name"),
+        ({"distance": [20.0, -3.0, 40.0]}, "impossible distance"),
+        ({"velocity_dispersion": [300.0, np.nan, 200.0]}, "no usable mass"),
+    ],
+)
 def test_bad_catalogue_one_line_no_output(tmp_path, curve_file, change, words):
     out = tmp_path / "out"
-    res = _run("rank", _bad_catalogue(tmp_path, **change), "--curve", curve_file,
-               "--out", str(out))
+    res = _run("rank", _bad_catalogue(tmp_path, **change), "--curve", curve_file, "--out", str(out))
     assert res.exit_code != 0
     err = res.output.strip().splitlines()
     assert err[-1].startswith("Error:") and words in err[-1]
@@ -118,8 +145,16 @@ def test_bad_catalogue_one_line_no_output(tmp_path, curve_file, change, words):
 
 def test_skip_counts_and_records_the_bad_rows(tmp_path, curve_file):
     out = tmp_path / "out"
-    res = _run("rank", _bad_catalogue(tmp_path, name=["A", "A", "C"]), "--curve",
-               curve_file, "--out", str(out), "--on-bad", "skip")
+    res = _run(
+        "rank",
+        _bad_catalogue(tmp_path, name=["A", "A", "C"]),
+        "--curve",
+        curve_file,
+        "--out",
+        str(out),
+        "--on-bad",
+        "skip",
+    )
     assert res.exit_code == 0, res.output
     assert "1 row skipped: duplicate name" in res.output
     rej = Table.read(out / "ranking_rejected.ecsv")
@@ -136,14 +171,17 @@ def test_refuses_to_overwrite(tmp_path, curve_file):
     assert _run(*args, "--overwrite").exit_code == 0
 
 
-@pytest.mark.parametrize("extra, words", [
-    (("--array", "demo_array"), "exactly one of"),
-    (("--column", "distance"), "FIELD=COLUMN"),
-    (("--relation", "no_such"), "unknown"),
-    (("--rate", "1 km"), "--rate"),
-    (("--rate", "-1"), "positive"),
-    (("--top", "0"), "--top"),
-])
+@pytest.mark.parametrize(
+    "extra, words",
+    [
+        (("--array", "demo_array"), "exactly one of"),
+        (("--column", "distance"), "FIELD=COLUMN"),
+        (("--relation", "no_such"), "unknown"),
+        (("--rate", "1 km"), "--rate"),
+        (("--rate", "-1"), "positive"),
+        (("--top", "0"), "--top"),
+    ],
+)
 def test_usage_errors(tmp_path, curve_file, extra, words):
     res = _run("rank", CATALOGUE, "--curve", curve_file, "--out", str(tmp_path / "o"), *extra)
     assert res.exit_code != 0 and words in res.output and "Traceback" not in res.output
@@ -152,8 +190,16 @@ def test_usage_errors(tmp_path, curve_file, extra, words):
 @pytest.mark.slow
 def test_array_option_sky_dependent(tmp_path):
     out = tmp_path / "out"
-    res = _run("rank", CATALOGUE, "--array", str(data_file("demo_array.ecsv")),
-               "--out", str(out), "--metric", "h0_ratio")
+    res = _run(
+        "rank",
+        CATALOGUE,
+        "--array",
+        str(data_file("demo_array.ecsv")),
+        "--out",
+        str(out),
+        "--metric",
+        "h0_ratio",
+    )
     assert res.exit_code == 0, res.output
     t = Table.read(out / "ranking_top.ecsv")
     assert t.meta["sky"].startswith("healpix") and t.meta["verb"] == "detectable"
@@ -175,8 +221,9 @@ def test_exclusion_figures_of_the_top_targets(tmp_path, curve_file):
     from ptaconstrain.report.provenance import safe_name
 
     out = tmp_path / "out"
-    res = _run("rank", CATALOGUE, "--curve", curve_file, "--out", str(out),
-               "--exclusion-figures", "2")
+    res = _run(
+        "rank", CATALOGUE, "--curve", curve_file, "--out", str(out), "--exclusion-figures", "2"
+    )
     assert res.exit_code == 0, res.output
     names = list(Table.read(out / "ranking_top.ecsv")["name"][:3])
     assert (out / f"{safe_name(names[0])}_exclusion.png").is_file()
@@ -189,21 +236,30 @@ def test_forecast_figures_are_named_forecast(tmp_path):
     from ptaconstrain.report.provenance import safe_name
 
     f = np.logspace(np.log10(2e-9), -7, 40)
-    psd = StrainCurve(f * u.Hz, 1e-26 * (f / 1e-8) ** -2 + 1e-28, "strain_psd",
-                      meta={"span": "15 yr"})
+    psd = StrainCurve(
+        f * u.Hz, 1e-26 * (f / 1e-8) ** -2 + 1e-28, "strain_psd", meta={"span": "15 yr"}
+    )
     path = tmp_path / "psd.ecsv"
     save_curve(psd, path)
     out = tmp_path / "out"
-    res = _run("rank", CATALOGUE, "--curve", str(path), "--out", str(out),
-               "--exclusion-figures", "1")
+    res = _run(
+        "rank", CATALOGUE, "--curve", str(path), "--out", str(out), "--exclusion-figures", "1"
+    )
     assert res.exit_code == 0, res.output
     first = Table.read(out / "ranking_top.ecsv")["name"][0]
     assert (out / f"{safe_name(first)}_forecast.png").is_file()
 
 
 def test_plausibility_errors_reach_the_user_as_one_line(tmp_path, curve_file):
-    t = Table({"name": ["A", "B"], "ra": ["187.7", "12h30m00s"], "dec": ["12.4", "-05:00:00"],
-               "distance": [20.0, 30.0], "mass": [9.3, 9.5]})
+    t = Table(
+        {
+            "name": ["A", "B"],
+            "ra": ["187.7", "12h30m00s"],
+            "dec": ["12.4", "-05:00:00"],
+            "distance": [20.0, 30.0],
+            "mass": [9.3, 9.5],
+        }
+    )
     path = tmp_path / "logmass.csv"
     t.write(path, format="ascii.csv")
     out = tmp_path / "out"

@@ -14,20 +14,25 @@ _SHIPPED = {
     "limit_map": "synthetic_h0_limit_map.fits",
 }
 
-CATALOGUE_CSV = ("name,ra,dec,distance,mass\nFictus A,10,10,100,2e9\nFictus B,200,-30,150,5e9\n"
-                 "Fictus C,300,45,80,1e10\n")
+CATALOGUE_CSV = (
+    "name,ra,dec,distance,mass\nFictus A,10,10,100,2e9\nFictus B,200,-30,150,5e9\n"
+    "Fictus C,300,45,80,1e10\n"
+)
 COLUMNS_TOML = '[columns]\nmass = "mass"\n'
-RELATIONS_TOML = ('[[relation]]\nname = "invented"\npredictor = "velocity_dispersion"\n'
-                  'alpha = 8.3\nbeta = 5.6\npivot = 200.0\nunit = "km/s"\nscatter_dex = 0.3\n'
-                  'citation = "invented for tests"\n')
+RELATIONS_TOML = (
+    '[[relation]]\nname = "invented"\npredictor = "velocity_dispersion"\n'
+    'alpha = 8.3\nbeta = 5.6\npivot = 200.0\nunit = "km/s"\nscatter_dex = 0.3\n'
+    'citation = "invented for tests"\n'
+)
 
 
 def valid(kind):
     """The bytes of a valid file of ``kind``."""
     if kind in _SHIPPED:
         return data_file(_SHIPPED[kind]).read_bytes()
-    return {"catalogue": CATALOGUE_CSV, "columns": COLUMNS_TOML,
-            "relations": RELATIONS_TOML}[kind].encode("utf-8")
+    return {"catalogue": CATALOGUE_CSV, "columns": COLUMNS_TOML, "relations": RELATIONS_TOML}[
+        kind
+    ].encode("utf-8")
 
 
 def _text(kind):
@@ -85,20 +90,31 @@ def _cell(kind, value):
 
 #: name -> (kinds it applies to, maker(kind) -> bytes or None)
 CRAFTED = {
-    "empty": (("curve", "array", "catalogue", "limit_map", "columns", "relations"),
-              lambda k: b""),
-    "truncated": (("curve", "array", "catalogue", "limit_map", "columns", "relations"),
-                  lambda k: valid(k)[: len(valid(k)) * 3 // 5]),
-    "binary": (("curve", "array", "catalogue", "limit_map", "columns", "relations"),
-               lambda k: bytes(range(256)) * 40),
-    "utf-16": (("curve", "array", "catalogue", "columns", "relations"),
-               lambda k: valid(k).decode("utf-8").encode("utf-16")),
-    "latin-1": (("curve", "array", "catalogue", "columns", "relations"),
-                lambda k: valid(k).decode("utf-8").replace("e", "\u00e9", 3).encode("latin-1")),
-    "byte-order mark": (("curve", "array", "catalogue", "columns", "relations"),
-                        lambda k: b"\xef\xbb\xbf" + valid(k)),
-    "NUL bytes": (("curve", "array", "catalogue", "columns", "relations"),
-                  lambda k: valid(k).replace(b"\n", b"\n\0", 5)),
+    "empty": (("curve", "array", "catalogue", "limit_map", "columns", "relations"), lambda k: b""),
+    "truncated": (
+        ("curve", "array", "catalogue", "limit_map", "columns", "relations"),
+        lambda k: valid(k)[: len(valid(k)) * 3 // 5],
+    ),
+    "binary": (
+        ("curve", "array", "catalogue", "limit_map", "columns", "relations"),
+        lambda k: bytes(range(256)) * 40,
+    ),
+    "utf-16": (
+        ("curve", "array", "catalogue", "columns", "relations"),
+        lambda k: valid(k).decode("utf-8").encode("utf-16"),
+    ),
+    "latin-1": (
+        ("curve", "array", "catalogue", "columns", "relations"),
+        lambda k: valid(k).decode("utf-8").replace("e", "\u00e9", 3).encode("latin-1"),
+    ),
+    "byte-order mark": (
+        ("curve", "array", "catalogue", "columns", "relations"),
+        lambda k: b"\xef\xbb\xbf" + valid(k),
+    ),
+    "NUL bytes": (
+        ("curve", "array", "catalogue", "columns", "relations"),
+        lambda k: valid(k).replace(b"\n", b"\n\0", 5),
+    ),
     "YAML alias bomb": (("curve", "array"), alias_bomb),
     "enormous ECSV header": (("curve", "array"), enormous_ecsv_header),
     "enormous FITS header": (("limit_map", "curve", "catalogue"), enormous_fits_header),
@@ -106,14 +122,19 @@ CRAFTED = {
     "1e300 cell": (("curve", "array", "catalogue"), lambda k: _cell(k, "1e300")),
     "-1e300 cell": (("curve", "array", "catalogue"), lambda k: _cell(k, "-1e300")),
     "text cell": (("curve", "array", "catalogue"), lambda k: _cell(k, "abc")),
-    "a directory": (("curve", "array", "catalogue", "limit_map", "columns", "relations"),
-                    lambda k: None),
-    "deeply nested TOML": (("columns", "relations"),
-                           lambda k: ("x = " + "[" * 5000 + "]" * 5000 + "\n").encode()),
-    "huge TOML": (("columns", "relations"),
-                  lambda k: valid(k) + b"# " + b"x" * 2_000_000 + b"\n"),
-    "wrong shape": (("columns", "relations"),
-                    lambda k: b'columns = "mass"\n' if k == "columns" else b"relation = 3\n"),
+    "a directory": (
+        ("curve", "array", "catalogue", "limit_map", "columns", "relations"),
+        lambda k: None,
+    ),
+    "deeply nested TOML": (
+        ("columns", "relations"),
+        lambda k: ("x = " + "[" * 5000 + "]" * 5000 + "\n").encode(),
+    ),
+    "huge TOML": (("columns", "relations"), lambda k: valid(k) + b"# " + b"x" * 2_000_000 + b"\n"),
+    "wrong shape": (
+        ("columns", "relations"),
+        lambda k: b'columns = "mass"\n' if k == "columns" else b"relation = 3\n",
+    ),
     "one line": (("curve", "array", "catalogue"), lambda k: b"name\n"),
 }
 
@@ -125,8 +146,14 @@ def cases():
 
 def write(tmp_path, name, kind):
     """Write the crafted file; returns its path."""
-    suffix = {"curve": ".ecsv", "array": ".ecsv", "catalogue": ".csv", "limit_map": ".fits",
-              "columns": ".toml", "relations": ".toml"}[kind]
+    suffix = {
+        "curve": ".ecsv",
+        "array": ".ecsv",
+        "catalogue": ".csv",
+        "limit_map": ".fits",
+        "columns": ".toml",
+        "relations": ".toml",
+    }[kind]
     if name == "enormous FITS header":
         suffix = ".fits"
     path = tmp_path / f"crafted{suffix}"

@@ -15,24 +15,73 @@ from fuzz.promise import ARRAY, CURVE, assert_promise, left_in, run
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-FUZZ = settings(max_examples=4, deadline=None, derandomize=True, database=None,
-                suppress_health_check=list(HealthCheck))
+FUZZ = settings(
+    max_examples=4,
+    deadline=None,
+    derandomize=True,
+    database=None,
+    suppress_health_check=list(HealthCheck),
+)
 
 #: number texts a careless or hostile user may type
-HOSTILE_NUMBERS = st.sampled_from([
-    "nan", "inf", "-inf", "1e300", "-1e300", "1e-300", "0", "-0", "-1", "abc", "", " ",
-    "1e", "0x10", "1e10000", "\u22125", "1,2", "1;2", "5 parsec", "5 kg", "1e9 yr",
-    "99999999999999999999", "--", "None",
-]) | st.floats(allow_nan=True, allow_infinity=True).map(repr)
+HOSTILE_NUMBERS = st.sampled_from(
+    [
+        "nan",
+        "inf",
+        "-inf",
+        "1e300",
+        "-1e300",
+        "1e-300",
+        "0",
+        "-0",
+        "-1",
+        "abc",
+        "",
+        " ",
+        "1e",
+        "0x10",
+        "1e10000",
+        "\u22125",
+        "1,2",
+        "1;2",
+        "5 parsec",
+        "5 kg",
+        "1e9 yr",
+        "99999999999999999999",
+        "--",
+        "None",
+    ]
+) | st.floats(allow_nan=True, allow_infinity=True).map(repr)
 
 #: option -> base command it is given to (small, fast settings)
-EXCLUDE = ["exclude", "--mass", "2e10", "--distance", "100", "--curve", CURVE, "--grid", "12",
-           "--format", "png"]
+EXCLUDE = [
+    "exclude",
+    "--mass",
+    "2e10",
+    "--distance",
+    "100",
+    "--curve",
+    CURVE,
+    "--grid",
+    "12",
+    "--format",
+    "png",
+]
 NUMBER_OPTIONS = {
-    "--mass": EXCLUDE, "--distance": EXCLUDE, "--snr": EXCLUDE, "--span": EXCLUDE,
-    "--mass-err": EXCLUDE, "--distance-err": EXCLUDE, "--redshift": EXCLUDE,
-    "--ra": EXCLUDE, "--dec": EXCLUDE, "--sigma": EXCLUDE, "--samples": EXCLUDE,
-    "--grid": EXCLUDE, "--credibility": EXCLUDE, "--period-range": EXCLUDE,
+    "--mass": EXCLUDE,
+    "--distance": EXCLUDE,
+    "--snr": EXCLUDE,
+    "--span": EXCLUDE,
+    "--mass-err": EXCLUDE,
+    "--distance-err": EXCLUDE,
+    "--redshift": EXCLUDE,
+    "--ra": EXCLUDE,
+    "--dec": EXCLUDE,
+    "--sigma": EXCLUDE,
+    "--samples": EXCLUDE,
+    "--grid": EXCLUDE,
+    "--credibility": EXCLUDE,
+    "--period-range": EXCLUDE,
     "--mass-ratio-range": EXCLUDE,
 }
 
@@ -60,8 +109,16 @@ def test_hostile_numbers_on_the_command_line(tmp_path_factory, option, value):
 
 
 RANK = ["rank", None, "--curve", CURVE, "--top", "2"]
-RANK_OPTIONS = ("--q-index", "--rate", "--q-min", "--snr", "--span", "--chunk-size", "--top",
-                "--nodes")
+RANK_OPTIONS = (
+    "--q-index",
+    "--rate",
+    "--q-min",
+    "--snr",
+    "--span",
+    "--chunk-size",
+    "--top",
+    "--nodes",
+)
 
 
 @pytest.fixture(scope="module")
@@ -103,10 +160,24 @@ def test_hostile_numbers_for_curve(tmp_path_factory, option, value):
 
 
 #: strings: names with every kind of character, very long ones, option syntax
-HOSTILE_TEXT = st.text(min_size=0, max_size=400) | st.sampled_from([
-    "x" * 300, "../../etc/passwd", "a/b", "\0", "\n", "NGC 1.2+3", ".", "..", "-", "--out",
-    "Fictus J1234.5+6789", "\u202e evil", "CON", "a" * 121,
-])
+HOSTILE_TEXT = st.text(min_size=0, max_size=400) | st.sampled_from(
+    [
+        "x" * 300,
+        "../../etc/passwd",
+        "a/b",
+        "\0",
+        "\n",
+        "NGC 1.2+3",
+        ".",
+        "..",
+        "-",
+        "--out",
+        "Fictus J1234.5+6789",
+        "\u202e evil",
+        "CON",
+        "a" * 121,
+    ]
+)
 
 
 @FUZZ
@@ -132,12 +203,53 @@ def test_hostile_strings_for_rank(tmp_path_factory, catalogue, option, value):
 # ------------------------------------------------------------------ crafted files
 def _command(kind, path, catalogue, out):
     base = {
-        "curve": ["exclude", "--mass", "2e10", "--distance", "100", "--curve", path,
-                  "--grid", "12", "--format", "png"],
-        "array": ["exclude", "--mass", "2e10", "--distance", "100", "--ra", "10", "--dec",
-                  "10", "--array", path, "--grid", "12", "--format", "png"],
-        "limit_map": ["exclude", "--mass", "2e10", "--distance", "100", "--ra", "10",
-                      "--dec", "10", "--limit-map", path, "--grid", "12", "--format", "png"],
+        "curve": [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--distance",
+            "100",
+            "--curve",
+            path,
+            "--grid",
+            "12",
+            "--format",
+            "png",
+        ],
+        "array": [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--distance",
+            "100",
+            "--ra",
+            "10",
+            "--dec",
+            "10",
+            "--array",
+            path,
+            "--grid",
+            "12",
+            "--format",
+            "png",
+        ],
+        "limit_map": [
+            "exclude",
+            "--mass",
+            "2e10",
+            "--distance",
+            "100",
+            "--ra",
+            "10",
+            "--dec",
+            "10",
+            "--limit-map",
+            path,
+            "--grid",
+            "12",
+            "--format",
+            "png",
+        ],
         "catalogue": ["rank", path, "--curve", CURVE],
         "columns": ["rank", catalogue, "--curve", CURVE, "--columns", path],
         "relations": ["rank", catalogue, "--curve", CURVE, "--relation", path],
@@ -168,8 +280,7 @@ COMMANDS = {
     "exclude": EXCLUDE,
     "rank": ["rank", None, "--curve", CURVE, "--format", "png"],
     "curve": ["curve", "--array", ARRAY],
-    "threshold-map": ["threshold-map", "--array", ARRAY, "--nside", "4", "--frequency",
-                      "8 nHz"],
+    "threshold-map": ["threshold-map", "--array", ARRAY, "--nside", "4", "--frequency", "8 nHz"],
     "demo": ["demo"],
 }
 
@@ -190,6 +301,7 @@ def test_a_full_disk_leaves_no_partial_set(tmp_path, monkeypatch, catalogue, com
             if count[0] >= nth:
                 raise OSError(errno.ENOSPC, "No space left on device", str(args[0]))
             return real(self)(*args, **kwargs)
+
         return write
 
     table_write = Table.__dict__["write"]  # astropy's unified-I/O descriptor

@@ -11,10 +11,22 @@ from ptaconstrain.sensitivity.pulsar_array import PulsarArray
 
 def _result():
     coord = SkyCoord([10, 100, 200] * u.deg, [-20, 30, 5] * u.deg)
-    arr = PulsarArray(["A", "B", "C"], coord, [0.2] * 3 * u.us, [14.0] * 3 * u.d,
-                      [55000.0] * 3, [55000 + 6 * 365.25] * 3, name="invented")
-    return forecast_over_time(Host("Invented", 1e10, 30, ra=150, dec=10), arr,
-                              [0, 10] * u.yr, rms_factor=2, mass_ratio=np.geomspace(1e-4, 1, 30))
+    arr = PulsarArray(
+        ["A", "B", "C"],
+        coord,
+        [0.2] * 3 * u.us,
+        [14.0] * 3 * u.d,
+        [55000.0] * 3,
+        [55000 + 6 * 365.25] * 3,
+        name="invented",
+    )
+    return forecast_over_time(
+        Host("Invented", 1e10, 30, ra=150, dec=10),
+        arr,
+        [0, 10] * u.yr,
+        rms_factor=2,
+        mass_ratio=np.geomspace(1e-4, 1, 30),
+    )
 
 
 def test_table_units_and_figure_labels():

@@ -20,9 +20,12 @@ from ptaconstrain.report.figures import exclusion_figure, save_figure
 
 @pytest.fixture(scope="module")
 def result():
-    return exclusion_map(Host("Figure host", 2e10, 100), power_law_limit(),
-                         mass_ratio=np.geomspace(1e-3, 1, 40),
-                         period=np.geomspace(0.3, 30, 50) * u.yr)
+    return exclusion_map(
+        Host("Figure host", 2e10, 100),
+        power_law_limit(),
+        mass_ratio=np.geomspace(1e-3, 1, 40),
+        period=np.geomspace(0.3, 30, 50) * u.yr,
+    )
 
 
 @pytest.mark.slow
@@ -45,8 +48,9 @@ save_figure(overview_figure([r]), {str(tmp_path / "all")!r}, ("png",))
 print("matplotlib.pyplot" in sys.modules)
 """
     env = dict(os.environ, PYTHONPATH=os.pathsep.join([src, tests]))
-    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env,
-                       timeout=120)
+    r = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, env=env, timeout=120
+    )
     assert r.returncode == 0, r.stderr
     assert r.stdout.strip() == "False"
     # PNG signature (ISO/IEC 15948 section 5.2) and PDF header (ISO 32000-1 section 7.5.2)
@@ -122,8 +126,14 @@ def test_a_huge_ranking_sky_map_draws_a_bounded_even_sample(monkeypatch):
     monkeypatch.setattr(rankplots, "MAX_SKY_POINTS", 1000)
     n = 25_000
     rng = np.random.default_rng(3)
-    t = Table({"rank": np.arange(1, n + 1), "ra": rng.uniform(0, 360, n),
-               "dec": rng.uniform(-90, 90, n), "h0_ratio": np.linspace(10, 0.1, n)})
+    t = Table(
+        {
+            "rank": np.arange(1, n + 1),
+            "ra": rng.uniform(0, 360, n),
+            "dec": rng.uniform(-90, 90, n),
+            "h0_ratio": np.linspace(10, 0.1, n),
+        }
+    )
     fig = rankplots.sky_figure(t, "h0_ratio", "excluded", "95% upper limit")
     drawn = sum(len(c.get_offsets()) for c in fig.axes[0].collections)
     # 100 best + ceil((25000 - 100) / 900) = 28 -> 0..24899 step 28 -> 890 more

@@ -18,8 +18,12 @@ from ptaconstrain.report.paper_style import STYLES, apply_style
 
 
 def _fig():
-    return exclusion_map(Host("A", 2e10, 50), power_law_limit(),
-                         np.logspace(-3, 0, 30), np.geomspace(0.5, 30, 30) * u.yr).plot()
+    return exclusion_map(
+        Host("A", 2e10, 50),
+        power_law_limit(),
+        np.logspace(-3, 0, 30),
+        np.geomspace(0.5, 30, 30) * u.yr,
+    ).plot()
 
 
 @pytest.mark.parametrize("style", list(STYLES))
@@ -51,8 +55,8 @@ def test_no_legend_entry_for_a_line_outside_the_plot():
     ax = Figure().subplots()
     ax.set_xlim(1, 2)
     ax.set_ylim(1, 2)
-    inside, = ax.plot([1.5], [1.5])
-    outside, = ax.plot([5, 6], [5, 6])
+    (inside,) = ax.plot([1.5], [1.5])
+    (outside,) = ax.plot([5, 6], [5, 6])
     assert shows_in(ax, inside) and not shows_in(ax, outside)
 
 
@@ -60,16 +64,25 @@ def test_hardening_line_off_the_plot_gets_no_legend_entry():
     # a tiny velocity dispersion puts a_h = G mu / 4 sigma^2 far beyond the periods shown
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        r = exclusion_map(Host("A", 2e10, 50, velocity_dispersion=1), power_law_limit(),
-                          np.logspace(-3, 0, 30), np.geomspace(0.5, 30, 30) * u.yr)
+        r = exclusion_map(
+            Host("A", 2e10, 50, velocity_dispersion=1),
+            power_law_limit(),
+            np.logspace(-3, 0, 30),
+            np.geomspace(0.5, 30, 30) * u.yr,
+        )
     labels = [t.get_text() for t in r.plot().axes[0].get_legend().get_texts()]
     assert not any("hardening" in t for t in labels)
 
 
 def test_latex_summary_is_aastex_with_units_and_escaped_percent(tmp_path):
-    b = bound_hosts([Host("A", 2e10, 50, mass_err_dex=0.2, distance_err=3), Host("B", 5e9, 30)],
-                    power_law_limit(), np.logspace(-3, 0, 30),
-                    np.geomspace(0.5, 30, 30) * u.yr, samples=500, seed=1)
+    b = bound_hosts(
+        [Host("A", 2e10, 50, mass_err_dex=0.2, distance_err=3), Host("B", 5e9, 30)],
+        power_law_limit(),
+        np.logspace(-3, 0, 30),
+        np.geomspace(0.5, 30, 30) * u.yr,
+        samples=500,
+        seed=1,
+    )
     t = summary_table(b)
     write_summary_latex(QTable(t), tmp_path / "s.tex")
     tex = (tmp_path / "s.tex").read_text()

@@ -32,10 +32,19 @@ def test_provenance_names_the_version_and_hashes_files(tmp_path):
 
 
 def _git(root, *args):
-    subprocess.run(["git", "-C", str(root), *args], check=True, capture_output=True,
-                   env={"GIT_AUTHOR_NAME": "t", "GIT_AUTHOR_EMAIL": "t@example.invalid",
-                        "GIT_COMMITTER_NAME": "t", "GIT_COMMITTER_EMAIL": "t@example.invalid",
-                        "HOME": str(root), "PATH": "/usr/bin:/bin"})
+    subprocess.run(
+        ["git", "-C", str(root), *args],
+        check=True,
+        capture_output=True,
+        env={
+            "GIT_AUTHOR_NAME": "t",
+            "GIT_AUTHOR_EMAIL": "t@example.invalid",
+            "GIT_COMMITTER_NAME": "t",
+            "GIT_COMMITTER_EMAIL": "t@example.invalid",
+            "HOME": str(root),
+            "PATH": "/usr/bin:/bin",
+        },
+    )
 
 
 @pytest.fixture
@@ -65,8 +74,9 @@ def _revision(pkg):
 
 def test_a_checkout_records_git_describe_and_the_commit(checkout):
     root, pkg = checkout
-    commit = subprocess.run(["git", "-C", str(root), "rev-parse", "HEAD"], check=True,
-                            capture_output=True, text=True).stdout.strip()
+    commit = subprocess.run(
+        ["git", "-C", str(root), "rev-parse", "HEAD"], check=True, capture_output=True, text=True
+    ).stdout.strip()
     text = _revision(pkg)
     assert text == f"v9.8.7-0-g{commit[:7]} (commit {commit})"
     (pkg / "mod.py").write_text("x = 2\n")  # an uncommitted change to a tracked file
@@ -91,8 +101,11 @@ def test_git_that_cannot_answer_is_recorded_not_raised(checkout, monkeypatch):
 
 
 def test_fits_cards_fit_in_fits_strings_and_keep_the_dirty_mark():
-    meta = {"software": "ptaconstrain 1.2.3", "created": "2026-01-01T00:00:00Z",
-            "source_revision": "v1.2.3-4-gabcdef0 (commit " + "a" * 40 + ", +dirty)"}
+    meta = {
+        "software": "ptaconstrain 1.2.3",
+        "created": "2026-01-01T00:00:00Z",
+        "source_revision": "v1.2.3-4-gabcdef0 (commit " + "a" * 40 + ", +dirty)",
+    }
     cards = prov.fits_cards(meta)
     assert cards["SRCREV"] == "v1.2.3-4-gabcdef0+dirty"
     # astropy.io.fits is the reference: each card must fit one 80-character header line

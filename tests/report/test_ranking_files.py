@@ -32,10 +32,11 @@ def test_blocks_give_the_bytes_astropy_writes(tmp_path, block):
     ref = tmp_path / "ref.fits"
     t.write(ref)
     out = tmp_path / "blocks.fits"
-    write_fits_blocks((t[i:i + block] for i in range(0, len(t), block)), out, len(t), meta)
+    write_fits_blocks((t[i : i + block] for i in range(0, len(t), block)), out, len(t), meta)
     with fits.open(ref) as a, fits.open(out) as b:
         assert [(c.name, c.format, c.unit) for c in a[1].columns] == [
-            (c.name, c.format, c.unit) for c in b[1].columns]
+            (c.name, c.format, c.unit) for c in b[1].columns
+        ]
         assert a[1].header["NAXIS2"] == b[1].header["NAXIS2"] == len(t)
         assert a[1].data.tobytes() == b[1].data.tobytes()
     back = QTable.read(out)
@@ -47,8 +48,12 @@ def test_blocks_give_the_bytes_astropy_writes(tmp_path, block):
 
 def test_masked_and_text_columns_take_astropy_path(tmp_path):
     # reference: Table.write of the same table (astropy converts masked and str columns)
-    t = Table({"x": np.ma.array([1.0, 2.0, 3.0], mask=[False, True, False]),
-               "s": np.array(["a", "bb", "ccc"])})
+    t = Table(
+        {
+            "x": np.ma.array([1.0, 2.0, 3.0], mask=[False, True, False]),
+            "s": np.array(["a", "bb", "ccc"]),
+        }
+    )
     ref, out = tmp_path / "ref.fits", tmp_path / "out.fits"
     t.write(ref)
     write_fits_blocks([t[:2], t[2:]], out, 3)

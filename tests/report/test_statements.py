@@ -22,17 +22,23 @@ def _texts(fig):
 
 def _psd(sky="averaged"):
     f = np.geomspace(2e-9, 3e-7, 40)
-    return StrainCurve(f * u.Hz, 1e-10 * (f / 1e-8) ** -2 + 1e-12, "strain_psd",
-                       {"span": "12 yr", "sky": sky})
+    return StrainCurve(
+        f * u.Hz, 1e-10 * (f / 1e-8) ** -2 + 1e-12, "strain_psd", {"span": "12 yr", "sky": sky}
+    )
 
 
-@pytest.mark.parametrize("meta, text", [
-    ({}, "sky-averaged"),
-    ({"sky": "averaged"}, "sky-averaged"),
-    ({"sky": "ra=284.1000deg dec=-37.2000deg"}, "RA 284.10°, Dec -37.20°"),
-    ({"sky": "averaged", "sky_note": "mean of the map's pixels (no host position)"},
-     "mean of the map's pixels"),
-])
+@pytest.mark.parametrize(
+    "meta, text",
+    [
+        ({}, "sky-averaged"),
+        ({"sky": "averaged"}, "sky-averaged"),
+        ({"sky": "ra=284.1000deg dec=-37.2000deg"}, "RA 284.10°, Dec -37.20°"),
+        (
+            {"sky": "averaged", "sky_note": "mean of the map's pixels (no host position)"},
+            "mean of the map's pixels",
+        ),
+    ],
+)
 def test_sky_in_words(meta, text):
     assert sky_text(_psd().__class__(_psd().frequency, _psd().value, "strain_psd", meta)) == text
 
@@ -46,18 +52,25 @@ def test_limit_figure_states_exclusion_confidence_and_sky():
 def test_forecast_at_a_position_states_snr_span_and_position():
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        result = exclusion_map(Host("A", 2e10, 50), _psd("ra=10.0000deg dec=-5.0000deg"),
-                               snr=7)
+        result = exclusion_map(Host("A", 2e10, 50), _psd("ra=10.0000deg dec=-5.0000deg"), snr=7)
     line = figure_statement(result)
-    assert line == ("forecast, not an exclusion: S/N ≥ 7 over 12 yr (orientation-averaged); "
-                    "at RA 10.00°, Dec -5.00°")
+    assert line == (
+        "forecast, not an exclusion: S/N ≥ 7 over 12 yr (orientation-averaged); "
+        "at RA 10.00°, Dec -5.00°"
+    )
     assert line in _texts(result.plot())
 
 
 def test_probability_contours_get_one_line_saying_what_they_are_over():
     host = Host("A", 2e10, 50, mass_err_dex=0.2, distance_err=5)
-    prob = exclusion_probability(host, power_law_limit(), np.logspace(-3, 0, 30),
-                                 np.geomspace(0.5, 20, 30) * u.yr, samples=500, seed=1)
+    prob = exclusion_probability(
+        host,
+        power_law_limit(),
+        np.logspace(-3, 0, 30),
+        np.geomspace(0.5, 20, 30) * u.yr,
+        samples=500,
+        seed=1,
+    )
     text = _texts(prob.plot())
     assert text.count("probability over the host's mass and distance errors") == 1
     assert "on top of the limit's own confidence" in text

@@ -46,12 +46,18 @@ def test_unicode_tick_labels_are_matplotlibs_labels_in_plain_text(limits):
     new_minor = [t.get_text() for t in ax.xaxis.get_minorticklabels()]
 
     def plain(s):
-        return (s.removeprefix("$\\mathdefault{").removesuffix("}$").replace("\\times", "×")
-                .replace("^{", "^").replace("}", "").replace("-", "−"))
+        return (
+            s.removeprefix("$\\mathdefault{")
+            .removesuffix("}$")
+            .replace("\\times", "×")
+            .replace("^{", "^")
+            .replace("}", "")
+            .replace("-", "−")
+        )
 
     def sup(s):  # 10⁻³ -> 10^−3 for comparison with the mathtext text
         table = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹⁻", "0123456789−")
-        if "10" in s and s[s.index("10") + 2:]:
+        if "10" in s and s[s.index("10") + 2 :]:
             head, tail = s.split("10", 1)
             return f"{head}10^{tail.translate(table)}"
         return s
@@ -84,14 +90,22 @@ def test_minor_tick_markers_sit_where_matplotlib_puts_minor_ticks(limits, second
     ref = ref[(ref >= lo) & (ref <= hi)]
     ref = ref[~np.isclose(np.log10(ref), np.round(np.log10(ref)))]
     before = len(ax.get_children())
-    minor_ticks_as_markers(ax, axis, (lo, hi), "right" if secondary else "left",
-                           (lambda m: m / 3e9) if secondary else None)
+    minor_ticks_as_markers(
+        ax,
+        axis,
+        (lo, hi),
+        "right" if secondary else "left",
+        (lambda m: m / 3e9) if secondary else None,
+    )
     added = ax.get_children()[before:] if len(ax.get_children()) > before else []
     if np.log10(hi / lo) <= 1:  # labelled minor ticks: left to matplotlib
         assert not added
         return
-    (line,) = [a for a in ax.get_children() if getattr(a, "get_marker", None)
-               and a.get_marker() == (1 if secondary else 0)]
+    (line,) = [
+        a
+        for a in ax.get_children()
+        if getattr(a, "get_marker", None) and a.get_marker() == (1 if secondary else 0)
+    ]
     got = np.sort(line.get_ydata())
     expect = np.sort(ref / 3e9 if secondary else ref)
     np.testing.assert_allclose(got, expect, rtol=1e-12)
@@ -111,9 +125,12 @@ def test_region_image_draws_the_same_cells_as_pcolormesh():
     from matplotlib.colors import BoundaryNorm, ListedColormap
     from matplotlib.figure import Figure
 
-    r = exclusion_map(Host("Image host", 2e10, 100), power_law_limit(),
-                      mass_ratio=np.geomspace(1e-3, 1, 40),
-                      period=np.geomspace(0.3, 30, 50) * u.yr)
+    r = exclusion_map(
+        Host("Image host", 2e10, 100),
+        power_law_limit(),
+        mass_ratio=np.geomspace(1e-3, 1, 40),
+        period=np.geomspace(0.3, 30, 50) * u.yr,
+    )
     codes = sorted(figures.REGION_STYLE)
     cmap = ListedColormap([figures.REGION_STYLE[c][2] for c in codes])
     norm = BoundaryNorm(np.arange(len(codes) + 1) - 0.5, cmap.N)

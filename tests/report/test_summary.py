@@ -26,9 +26,13 @@ def test_every_constrained_period_chirping_is_said_so():
     # limit, but at these periods every q above ~0.01 chirps within the span
     host = Host("Chirper", 5.4e10, 100)
     period = np.geomspace(1.0, 1.1, 7) * u.yr
-    result = exclusion_map(host, power_law_limit(h_ref=H_REF, f_ref=F_REF),
-                           mass_ratio=np.geomspace(0.1, 1, 30), period=period,
-                           span=7 * u.yr)
+    result = exclusion_map(
+        host,
+        power_law_limit(h_ref=H_REF, f_ref=F_REF),
+        mass_ratio=np.geomspace(0.1, 1, 30),
+        period=period,
+        span=7 * u.yr,
+    )
     f = 2 / period
     # premise, from waveform directly: the bound sits inside the chirping region
     q_bound = result.max_mass_ratio
@@ -36,8 +40,10 @@ def test_every_constrained_period_chirping_is_said_so():
     assert result.tightest() is None
     # expected ratio: h0 of q = 1 (waveform.strain_amplitude) over the limit H_REF f/F_REF
     h0 = wf.strain_amplitude(host.mass, 1.0, f, host.distance, host.redshift)
-    expected = np.max(h0.to_value(u.dimensionless_unscaled)
-                      / (H_REF * (f / (F_REF * u.Hz)).to_value(u.dimensionless_unscaled)))
+    expected = np.max(
+        h0.to_value(u.dimensionless_unscaled)
+        / (H_REF * (f / (F_REF * u.Hz)).to_value(u.dimensionless_unscaled))
+    )
     assert expected > 3  # several times above the limit
     first, second = summary_lines(result)
     assert "no companion ruled out" in first
@@ -50,8 +56,12 @@ def test_every_constrained_period_chirping_is_said_so():
 def test_every_period_above_isco_is_said_so():
     host = Host("Tight", 5.4e10, 100)
     period = np.geomspace(1e-4, 2e-4, 5) * u.yr
-    result = exclusion_map(host, power_law_limit(h_ref=H_REF, f_ref=F_REF, f_hi=1e-3),
-                           mass_ratio=np.geomspace(0.1, 1, 10), period=period)
+    result = exclusion_map(
+        host,
+        power_law_limit(h_ref=H_REF, f_ref=F_REF, f_hi=1e-3),
+        mass_ratio=np.geomspace(0.1, 1, 10),
+        period=period,
+    )
     # test-mass Schwarzschild ISCO: f_ISCO = c^3 / (6^(3/2) pi G M (1+z)), P = 2 / f
     f_isco = const.c**3 / (6**1.5 * np.pi * const.G * host.mass * (1 + host.redshift))
     p_isco = (2 / f_isco).to_value(u.yr)
@@ -70,8 +80,10 @@ def test_a_binary_below_the_limit_stays_below():
     result = exclusion_map(host, power_law_limit(h_ref=H_REF, f_ref=F_REF), period=period)
     f = 2 / period
     h0 = wf.strain_amplitude(host.mass, 1.0, f, host.distance, host.redshift)
-    expected = np.max(h0.to_value(u.dimensionless_unscaled)
-                      / (H_REF * (f / (F_REF * u.Hz)).to_value(u.dimensionless_unscaled)))
+    expected = np.max(
+        h0.to_value(u.dimensionless_unscaled)
+        / (H_REF * (f / (F_REF * u.Hz)).to_value(u.dimensionless_unscaled))
+    )
     assert expected < 1
     second = summary_lines(result)[1]
     assert "stays below the limit" in second

@@ -109,13 +109,19 @@ def test_residual_of_cw_is_time_integral_of_redshift():
     phase = 2 * np.pi * f * t + 0.2
     hp_t = h0 * (1 + np.cos(inc) ** 2) * np.cos(phase)
     hx_t = 2 * h0 * np.cos(inc) * np.sin(phase)
-    proj = 0.5 * p @ (eplus[None] * hp_t[:, None, None]
-                      + ecross[None] * hx_t[:, None, None]) @ p / (1.0 - p @ n)
+    proj = (
+        0.5
+        * p
+        @ (eplus[None] * hp_t[:, None, None] + ecross[None] * hx_t[:, None, None])
+        @ p
+        / (1.0 - p @ n)
+    )
     r = integrate.cumulative_trapezoid(proj, t, initial=0.0)
     amp_num = 0.5 * (r.max() - r.min())
     fp, fx = antenna.antenna_pattern(p, n)
     amp = antenna.residual_amplitude(h0, f * u.Hz).value * np.sqrt(
-        antenna.orientation_factor(fp, fx, inc, psi))
+        antenna.orientation_factor(fp, fx, inc, psi)
+    )
     assert amp_num == pytest.approx(amp, rel=1e-4)  # trapezoid error ~ (2 pi dt f)^2 / 12
 
 
@@ -134,12 +140,14 @@ def test_snr_squared_factorises_and_pulsar_term_doubles():
     acc = 0.0
     for ci, wi in zip(x, wt, strict=True):
         for psi in psis:
-            acc = acc + wi / 2 / psis.size * antenna.snr_squared(1e-15, f, w, fp, fx,
-                                                            np.arccos(ci), psi)
+            acc = acc + wi / 2 / psis.size * antenna.snr_squared(
+                1e-15, f, w, fp, fx, np.arccos(ci), psi
+            )
     avg = antenna.orientation_averaged_snr_squared(1e-15, f, w, antenna.pattern_power(p, n))
     assert np.allclose(acc, avg, rtol=1e-10)
-    twice = antenna.orientation_averaged_snr_squared(1e-15, f, w, antenna.pattern_power(p, n),
-                                                 pulsar_term=True)
+    twice = antenna.orientation_averaged_snr_squared(
+        1e-15, f, w, antenna.pattern_power(p, n), pulsar_term=True
+    )
     assert np.allclose(twice, antenna.PULSAR_TERM_FACTOR * avg)
 
 

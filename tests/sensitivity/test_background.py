@@ -24,8 +24,15 @@ F = np.array([2e-9, 3.2e-9, 5e-9, 8e-9, 1.3e-8, 2e-8, 5e-8, 1e-7]) * u.Hz
 def _five_pulsars():
     """Five invented pulsars on one schedule (10 yr, 14 d, 100 ns): 261 TOAs each."""
     coord = SkyCoord([10, 80, 150, 230, 300] * u.deg, [20, -40, 60, -10, 5] * u.deg)
-    return PulsarArray([f"X{i}" for i in range(5)], coord, [0.1] * 5 * u.us,
-                       [14.0] * 5 * u.d, [55000.0] * 5, [55000 + 3652.5] * 5, name="five")
+    return PulsarArray(
+        [f"X{i}" for i in range(5)],
+        coord,
+        [0.1] * 5 * u.us,
+        [14.0] * 5 * u.d,
+        [55000.0] * 5,
+        [55000 + 3652.5] * 5,
+        name="five",
+    )
 
 
 def test_hellings_downs_is_the_sky_average_of_the_antenna_patterns():
@@ -58,8 +65,9 @@ def test_per_pulsar_background_weights_match_a_dense_gls():
         sig = arr.toa_rms[k].to_value(u.s)
         cov = sig**2 * np.eye(mjd.size)
         for amp, gam in ((arr.red_amp[k], arr.red_gamma[k]), (BG.amplitude, BG.gamma)):
-            red = red_noise_basis(t * u.s, (mjd[-1] - mjd[0]) * u.d, arr.toa_rms[k],
-                                  arr.cadence[k], amp, gam)
+            red = red_noise_basis(
+                t * u.s, (mjd[-1] - mjd[0]) * u.d, arr.toa_rms[k], arr.cadence[k], amp, gam
+            )
             if red is not None:  # the same modes: the larger set, cut at 1e-4 P_w
                 basis, phi = red[0], red[1].to_value(u.s**2)
                 cov += basis @ np.diag(phi) @ basis.T
@@ -67,8 +75,10 @@ def test_per_pulsar_background_weights_match_a_dense_gls():
         md = timing_fit_columns(mjd)
         g = ci - ci @ md @ np.linalg.solve(md.T @ ci @ md, md.T @ ci)
         arg = 2 * np.pi * np.outer(t, f.to_value(u.Hz))
-        ref = 0.5 * (np.einsum("if,ij,jf->f", np.cos(arg), g, np.cos(arg))
-                     + np.einsum("if,ij,jf->f", np.sin(arg), g, np.sin(arg)))
+        ref = 0.5 * (
+            np.einsum("if,ij,jf->f", np.cos(arg), g, np.cos(arg))
+            + np.einsum("if,ij,jf->f", np.sin(arg), g, np.sin(arg))
+        )
         # numpy's dense inverse of this ill-conditioned covariance (red noise ~1e10 above
         # white) agrees to ~5e-5; the library uses Cholesky and Woodbury
         np.testing.assert_allclose(w[k], ref, rtol=1e-4)

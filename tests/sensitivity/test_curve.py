@@ -83,10 +83,12 @@ def test_plain_text_needs_a_kind(tmp_path):
 
 
 def _ecsv(tmp_path, body, header=None):
-    header = header or ("# %ECSV 1.0\n# ---\n# datatype:\n"
-                        "# - {name: frequency, unit: Hz, datatype: float64}\n"
-                        "# - {name: h0_limit, datatype: float64}\n"
-                        "# schema: astropy-2.0\nfrequency h0_limit\n")
+    header = header or (
+        "# %ECSV 1.0\n# ---\n# datatype:\n"
+        "# - {name: frequency, unit: Hz, datatype: float64}\n"
+        "# - {name: h0_limit, datatype: float64}\n"
+        "# schema: astropy-2.0\nfrequency h0_limit\n"
+    )
     p = tmp_path / "bad.ecsv"
     p.write_text(header + body)
     return p
@@ -109,18 +111,22 @@ def test_malformed_curves_are_rejected_with_the_fix(tmp_path, body, message):
 
 
 def test_missing_value_column_is_named(tmp_path):
-    header = ("# %ECSV 1.0\n# ---\n# datatype:\n"
-              "# - {name: frequency, unit: Hz, datatype: float64}\n"
-              "# - {name: strain, datatype: float64}\n# schema: astropy-2.0\nfrequency strain\n")
+    header = (
+        "# %ECSV 1.0\n# ---\n# datatype:\n"
+        "# - {name: frequency, unit: Hz, datatype: float64}\n"
+        "# - {name: strain, datatype: float64}\n# schema: astropy-2.0\nfrequency strain\n"
+    )
     with pytest.raises(CurveError, match="exactly one of the columns"):
         load_curve(_ecsv(tmp_path, "1e-9 1\n1e-8 2\n", header))
 
 
 def test_frequency_without_unit_is_rejected(tmp_path):
-    header = ("# %ECSV 1.0\n# ---\n# datatype:\n"
-              "# - {name: frequency, datatype: float64}\n"
-              "# - {name: h0_limit, datatype: float64}\n# schema: astropy-2.0\n"
-              "frequency h0_limit\n")
+    header = (
+        "# %ECSV 1.0\n# ---\n# datatype:\n"
+        "# - {name: frequency, datatype: float64}\n"
+        "# - {name: h0_limit, datatype: float64}\n# schema: astropy-2.0\n"
+        "frequency h0_limit\n"
+    )
     with pytest.raises(CurveError, match="no unit"):
         load_curve(_ecsv(tmp_path, "1e-9 1e-14\n1e-8 2e-14\n", header))
 

@@ -27,8 +27,16 @@ def _limit_values():
 def _write_limit_map(path, **header_changes):
     maps, _ = _limit_values()
     extra = [(f"FREQ{i + 1}", f) for i, f in enumerate(FREQS)] + [("CONFLEV", 0.9)]
-    hp.write_map(str(path), list(maps), nest=True, coord="G", column_units="",
-                 extra_header=extra, overwrite=True, dtype=np.float64)
+    hp.write_map(
+        str(path),
+        list(maps),
+        nest=True,
+        coord="G",
+        column_units="",
+        extra_header=extra,
+        overwrite=True,
+        dtype=np.float64,
+    )
     if header_changes:
         with fits.open(path, mode="update") as hdul:
             for k, v in header_changes.items():
@@ -86,14 +94,17 @@ def test_limit_map_sky_average_and_exclusion_uses_host_position(tmp_path):
     assert nopos.curve.sky == "averaged"
 
 
-@pytest.mark.parametrize("change, words", [
-    ({"ORDERING": None}, "ORDERING is missing"),
-    ({"COORDSYS": "X"}, "COORDSYS is X"),
-    ({"TUNIT1": "K"}, "has unit 'K'"),
-    ({"FREQ2": None}, "add the header keyword FREQ2"),
-    ({"CONFLEV": 95.0}, "CONFLEV"),
-    ({"MAPKIND": "h0_threshold"}, "forecast"),
-])
+@pytest.mark.parametrize(
+    "change, words",
+    [
+        ({"ORDERING": None}, "ORDERING is missing"),
+        ({"COORDSYS": "X"}, "COORDSYS is X"),
+        ({"TUNIT1": "K"}, "has unit 'K'"),
+        ({"FREQ2": None}, "add the header keyword FREQ2"),
+        ({"CONFLEV": 95.0}, "CONFLEV"),
+        ({"MAPKIND": "h0_threshold"}, "forecast"),
+    ],
+)
 def test_bad_limit_maps_name_keyword_and_fix(tmp_path, change, words):
     path = _write_limit_map(tmp_path / "bad.fits", **change)
     with pytest.raises(limit_map.LimitMapError) as err:
@@ -103,8 +114,13 @@ def test_bad_limit_maps_name_keyword_and_fix(tmp_path, change, words):
 
 def test_single_frequency_map_is_refused(tmp_path):
     path = tmp_path / "one.fits"
-    hp.write_map(str(path), np.ones(hp.nside2npix(4)), coord="C", extra_header=[("FREQ1", 1e-8)],
-                 dtype=np.float64)
+    hp.write_map(
+        str(path),
+        np.ones(hp.nside2npix(4)),
+        coord="C",
+        extra_header=[("FREQ1", 1e-8)],
+        dtype=np.float64,
+    )
     with pytest.raises(limit_map.LimitMapError, match="two or more frequencies"):
         limit_map.load_limit_map(path)
 
@@ -143,8 +159,7 @@ def test_threshold_table_is_the_map_on_its_own_grid_and_frame(tmp_path):
     for pix in (0, 300, 767):
         lon, lat = hp.pix2ang(NSIDE, pix, lonlat=True)
         centre = SkyCoord(l=lon * u.deg, b=lat * u.deg, frame="galactic")
-        assert table.values[pix] == pytest.approx(lim.curve_at(centre).h0_threshold(f),
-                                                  rel=1e-12)
+        assert table.values[pix] == pytest.approx(lim.curve_at(centre).h0_threshold(f), rel=1e-12)
 
 
 def test_threshold_table_refuses_frequencies_between_columns(tmp_path):
@@ -176,17 +191,28 @@ def test_streamed_threshold_file_is_byte_for_byte_healpy_write_map(tmp_path, nsi
     maps = np.random.default_rng(1).uniform(1e-15, 1e-14, (3, npix))
     f = [8e-9, 2e-8, 3e-8] * u.Hz
     limit_map.write_threshold_maps(tmp_path / "a.fits", maps, f, 5.0, 12.0 * u.yr, "t")
-    blocks = (maps[:, lo:lo + step] for lo in range(0, npix, step))
-    limit_map.write_threshold_maps(tmp_path / "b.fits", blocks, f, 5.0, 12.0 * u.yr, "t",
-                                   nside=nside)
-    header = [("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
-              ("SNR", 5.0, "S/N threshold"), ("SPAN", 12.0, "observing span [yr]"),
-              ("SOURCE", "t", ""), ("ORIENT", "mean rho^2 over incl. and polarisation", "")]
-    header += [(f"FREQ{i + 1}", fi, "GW frequency of column [Hz]")
-               for i, fi in enumerate(f.value)]
-    hp.write_map(str(tmp_path / "h.fits"), list(maps), nest=False, coord="C",
-                 column_names=[f"H0_{fi * 1e9:.4g}NHZ" for fi in f.value], column_units="",
-                 extra_header=header, dtype=np.float64)
+    blocks = (maps[:, lo : lo + step] for lo in range(0, npix, step))
+    limit_map.write_threshold_maps(
+        tmp_path / "b.fits", blocks, f, 5.0, 12.0 * u.yr, "t", nside=nside
+    )
+    header = [
+        ("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
+        ("SNR", 5.0, "S/N threshold"),
+        ("SPAN", 12.0, "observing span [yr]"),
+        ("SOURCE", "t", ""),
+        ("ORIENT", "mean rho^2 over incl. and polarisation", ""),
+    ]
+    header += [(f"FREQ{i + 1}", fi, "GW frequency of column [Hz]") for i, fi in enumerate(f.value)]
+    hp.write_map(
+        str(tmp_path / "h.fits"),
+        list(maps),
+        nest=False,
+        coord="C",
+        column_names=[f"H0_{fi * 1e9:.4g}NHZ" for fi in f.value],
+        column_units="",
+        extra_header=header,
+        dtype=np.float64,
+    )
     ref = (tmp_path / "h.fits").read_bytes()
     assert (tmp_path / "a.fits").read_bytes() == ref
     assert (tmp_path / "b.fits").read_bytes() == ref
@@ -195,6 +221,13 @@ def test_streamed_threshold_file_is_byte_for_byte_healpy_write_map(tmp_path, nsi
 def test_streamed_threshold_file_refuses_short_blocks(tmp_path):
     maps = np.ones((2, hp.nside2npix(NSIDE)))
     with pytest.raises(limit_map.LimitMapError, match="12 nside"):
-        limit_map.write_threshold_maps(tmp_path / "s.fits", iter([maps[:, :-5]]),
-                                       [8e-9, 2e-8] * u.Hz, 5.0, 12.0 * u.yr, "t", nside=NSIDE)
+        limit_map.write_threshold_maps(
+            tmp_path / "s.fits",
+            iter([maps[:, :-5]]),
+            [8e-9, 2e-8] * u.Hz,
+            5.0,
+            12.0 * u.yr,
+            "t",
+            nside=NSIDE,
+        )
     assert not list(tmp_path.iterdir())

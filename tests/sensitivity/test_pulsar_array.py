@@ -29,8 +29,7 @@ def test_snr_agrees_with_time_domain_matched_filter(freq):
     src = SkyCoord(45.0 * u.deg, -10.0 * u.deg)
     n = antenna.coord_to_vectors(src)
     h0, inc, psi = 1e-14, 0.7, 0.4
-    mf = np.mean([matched_filter_rho2(arr, n, h0, freq, inc, psi, ph)
-                  for ph in (0.0, np.pi / 2)])
+    mf = np.mean([matched_filter_rho2(arr, n, h0, freq, inc, psi, ph) for ph in (0.0, np.pi / 2)])
     ours = arr.snr_squared(h0, [freq] * u.Hz, coord=src, inclination=inc, psi=psi)[0]
     # issue requirement 5%; trapezoid integration on a 1-day grid is good to < 1e-4
     assert ours == pytest.approx(mf, rel=1e-3)
@@ -56,9 +55,17 @@ def test_curve_threshold_reproduces_orientation_averaged_snr():
         acc = 0.0
         for ci, wi in zip(x, wt, strict=True):
             for psi in psis:
-                acc += wi / 2 / psis.size * np.mean(
-                    [matched_filter_rho2(arr, n, h_thr[j], fj, np.arccos(ci), psi, ph)
-                     for ph in (0.0, np.pi / 2)])
+                acc += (
+                    wi
+                    / 2
+                    / psis.size
+                    * np.mean(
+                        [
+                            matched_filter_rho2(arr, n, h_thr[j], fj, np.arccos(ci), psi, ph)
+                            for ph in (0.0, np.pi / 2)
+                        ]
+                    )
+                )
         assert np.sqrt(acc) == pytest.approx(5.0, rel=1e-3)  # trapezoid error < 1e-4
 
 
@@ -84,8 +91,11 @@ def test_map_matrix_product_equals_exact_per_direction_computation():
                     for k in range(len(arr)):
                         mjd = arr.epochs(k)
                         grid = np.arange(mjd[0], mjd[-1] + 0.5, 1.0)
-                        r = np.interp(mjd, grid, cw_residuals(grid, arr.vectors[k], n, h0, fj,
-                                                              np.arccos(ci_), psi, ph))
+                        r = np.interp(
+                            mjd,
+                            grid,
+                            cw_residuals(grid, arr.vectors[k], n, h0, fj, np.arccos(ci_), psi, ph),
+                        )
                         acc += wi / 2 / psis.size / 2 * r @ gs[k] @ r
         assert m[j, pix] == pytest.approx(5.0 * h0 / np.sqrt(acc), rel=1e-3)
 
@@ -108,7 +118,8 @@ def test_pulsar_term_doubles_snr_squared():
     a0, a1 = small_array(), small_array(pulsar_term=True)
     src = SkyCoord(1.0 * u.rad, 0.2 * u.rad)
     assert a1.snr_squared(1e-14, f, coord=src) == pytest.approx(
-        2 * a0.snr_squared(1e-14, f, coord=src))
+        2 * a0.snr_squared(1e-14, f, coord=src)
+    )
     assert a1.curve_at(src, frequency=f).meta["pulsar_term"] == "incoherent"
 
 
@@ -143,8 +154,7 @@ def test_threshold_table_pixel_equals_curve_at_the_pixel_centre():
 def test_threshold_table_reads_bare_numbers_as_hz():
     arr = small_array()
     bare = arr.threshold_table(1e-8, nside=2)
-    assert bare.values == pytest.approx(arr.threshold_table(10 * u.nHz, nside=2).values,
-                                        rel=1e-12)
+    assert bare.values == pytest.approx(arr.threshold_table(10 * u.nHz, nside=2).values, rel=1e-12)
     with pytest.raises(PtaconstrainError, match="outside the array's band"):
         arr.threshold_table(8.0, nside=2)  # 8 Hz: a unit slip
     with pytest.raises(PtaconstrainError, match="power of 2"):
@@ -152,10 +162,15 @@ def test_threshold_table_reads_bare_numbers_as_hz():
 
 
 # ------------------------------------------------------- speed and memory paths
-@pytest.mark.parametrize("by, kwargs", [
-    ("pixel", {"pixels": 1000}), ("pixel", {"pixels": 7}),
-    ("frequency", {"block_bytes": 1}), ("frequency", {"block_bytes": 8 * 3072 * 2, "pixels": 333}),
-])
+@pytest.mark.parametrize(
+    "by, kwargs",
+    [
+        ("pixel", {"pixels": 1000}),
+        ("pixel", {"pixels": 7}),
+        ("frequency", {"block_bytes": 1}),
+        ("frequency", {"block_bytes": 8 * 3072 * 2, "pixels": 333}),
+    ],
+)
 def test_map_blocks_equal_whole_map_bit_for_bit(by, kwargs):
     # Reference: h0_threshold_map, itself checked above against the per-direction
     # brute force; blocking must change no bit (one frequency per block included).
@@ -163,10 +178,14 @@ def test_map_blocks_equal_whole_map_bit_for_bit(by, kwargs):
     base = small_array(red=True)
     rng = np.random.default_rng(3)
     n = 40
-    arr = type(base)([f"P{i}" for i in range(n)],
-                     SkyCoord(rng.uniform(0, 360, n) * u.deg, rng.uniform(-80, 80, n) * u.deg),
-                     np.full(n, 1.0) * u.us, np.full(n, 30.0) * u.d, np.full(n, 55000.0),
-                     np.full(n, 58000.0))
+    arr = type(base)(
+        [f"P{i}" for i in range(n)],
+        SkyCoord(rng.uniform(0, 360, n) * u.deg, rng.uniform(-80, 80, n) * u.deg),
+        np.full(n, 1.0) * u.us,
+        np.full(n, 30.0) * u.d,
+        np.full(n, 55000.0),
+        np.full(n, 58000.0),
+    )
     f = np.geomspace(5e-9, 1e-7, 37) * u.Hz
     whole = arr.h0_threshold_map(f, nside=16)
     got = np.full_like(whole, np.nan)

@@ -37,8 +37,9 @@ def test_load_array_from_ecsv_with_span_and_sexagesimal(tmp_path):
     path = tmp_path / "psr.ecsv"
     t.write(path, format="ascii.ecsv")
     arr = load_array(path)
-    expect = SkyCoord(["00h40m00s", "16h40m00s"], ["-05d00m00s", "+40d00m00s"],
-                      unit=(u.hourangle, u.deg))
+    expect = SkyCoord(
+        ["00h40m00s", "16h40m00s"], ["-05d00m00s", "+40d00m00s"], unit=(u.hourangle, u.deg)
+    )
     assert np.allclose(arr.coord.ra.deg, expect.ra.deg)
     assert np.allclose(arr.end_mjd, 59000.0)
     assert arr.pulsar_spans.to_value(u.yr) == pytest.approx([10.0, 6.0])
@@ -54,9 +55,9 @@ def test_position_rule_numeric_text_is_degrees_colons_are_hours_unicode_minus():
     t["dec"] = ["\u22125.5", "\u221212:23:28"]
     arr = array_from_table(t)
     assert arr.coord.ra.deg == pytest.approx(
-        [Angle("187.7d").deg, Angle("12:30:49", unit=u.hourangle).deg], abs=1e-9)
-    assert arr.coord.dec.deg == pytest.approx(
-        [-5.5, Angle("-12:23:28", unit=u.deg).deg], abs=1e-9)
+        [Angle("187.7d").deg, Angle("12:30:49", unit=u.hourangle).deg], abs=1e-9
+    )
+    assert arr.coord.dec.deg == pytest.approx([-5.5, Angle("-12:23:28", unit=u.deg).deg], abs=1e-9)
 
 
 def test_plain_table_columns_with_units_are_converted():
@@ -84,29 +85,33 @@ def test_load_array_ecliptic_columns_and_mjd_epochs():
     t["start_mjd"] = [53000.0, 54000.0]
     t["end_mjd"] = [59000.0, 59500.0]
     arr = array_from_table(t)
-    expect = SkyCoord([100.0, 300.0] * u.deg, [10.0, -60.0] * u.deg,
-                      frame=BarycentricMeanEcliptic).icrs
+    expect = SkyCoord(
+        [100.0, 300.0] * u.deg, [10.0, -60.0] * u.deg, frame=BarycentricMeanEcliptic
+    ).icrs
     assert arr.coord.separation(expect).max().to_value(u.arcsec) < 1e-6
     assert arr.n_toas[0] == int(6000 // 14) + 1
 
 
-@pytest.mark.parametrize("over, words", [
-    ({"toa_rms": None}, "column 'toa_rms' is missing"),
-    ({"ra": None, "dec": None}, "position columns are missing"),
-    ({"dec": None}, "column 'dec' is missing"),
-    ({"span": None}, "column 'span' is missing"),
-    ({"toa_rms": [np.nan, 1.0] * u.us}, "row 1 (A): toa_rms is NaN"),
-    ({"cadence": [14.0, -3.0] * u.d}, "row 2 (B): cadence"),
-    ({"name": ["A", "A"]}, "appears twice"),
-    ({"span": [0.5, 6.0] * u.yr}, "at least 1 yr"),
-    ({"cadence": [14.0, 400.0] * u.d}, "TOAs"),
-    ({"toa_rms": [0.5, 1.0] * u.m}, "has unit m"),
-    ({"red_amp": [-14.0, 0.0], "red_gamma": [3.0, 3.0]}, "not log10 A"),
-    ({"red_amp": [1e-14, 0.0]}, "red_gamma is missing"),
-    ({"ra": ["10", "abc"]}, "row 2 (B): cannot read position"),
-    ({"dec": [-5.0, 95.0] * u.deg}, "row 2 (B): position"),
-    ({"ra": [10.0, 250.0] * u.m}, "not an angle"),
-])
+@pytest.mark.parametrize(
+    "over, words",
+    [
+        ({"toa_rms": None}, "column 'toa_rms' is missing"),
+        ({"ra": None, "dec": None}, "position columns are missing"),
+        ({"dec": None}, "column 'dec' is missing"),
+        ({"span": None}, "column 'span' is missing"),
+        ({"toa_rms": [np.nan, 1.0] * u.us}, "row 1 (A): toa_rms is NaN"),
+        ({"cadence": [14.0, -3.0] * u.d}, "row 2 (B): cadence"),
+        ({"name": ["A", "A"]}, "appears twice"),
+        ({"span": [0.5, 6.0] * u.yr}, "at least 1 yr"),
+        ({"cadence": [14.0, 400.0] * u.d}, "TOAs"),
+        ({"toa_rms": [0.5, 1.0] * u.m}, "has unit m"),
+        ({"red_amp": [-14.0, 0.0], "red_gamma": [3.0, 3.0]}, "not log10 A"),
+        ({"red_amp": [1e-14, 0.0]}, "red_gamma is missing"),
+        ({"ra": ["10", "abc"]}, "row 2 (B): cannot read position"),
+        ({"dec": [-5.0, 95.0] * u.deg}, "row 2 (B): position"),
+        ({"ra": [10.0, 250.0] * u.m}, "not an angle"),
+    ],
+)
 def test_bad_pulsar_lists_name_column_and_fix(over, words):
     with pytest.raises(ArrayError) as err:
         array_from_table(_table(**over))

@@ -17,10 +17,15 @@ def test_white_noise_psd_is_two_sigma_squared_dt():
     sigma, dt = 0.7e-6, 14 * DAY
     rng = np.random.default_rng(3)
     x = rng.normal(0.0, sigma, 2**16)
-    _, pxx = signal.welch(x, fs=1.0 / dt, nperseg=1024, return_onesided=True,
-                          scaling="density")
-    arr = PulsarArray(["W"], SkyCoord(0 * u.deg, 0 * u.deg, frame="icrs")[None],
-                      [0.7] * u.us, [14.0] * u.d, [50000.0], [56000.0])
+    _, pxx = signal.welch(x, fs=1.0 / dt, nperseg=1024, return_onesided=True, scaling="density")
+    arr = PulsarArray(
+        ["W"],
+        SkyCoord(0 * u.deg, 0 * u.deg, frame="icrs")[None],
+        [0.7] * u.us,
+        [14.0] * u.d,
+        [50000.0],
+        [56000.0],
+    )
     ours = arr.noise_psd([1e-8] * u.Hz).to_value(u.s**2 / u.Hz)[0, 0]
     assert np.mean(pxx[1:-1]) == pytest.approx(ours, rel=0.02)  # 64 x 127 averages
 
@@ -33,8 +38,7 @@ def test_red_noise_psd_matches_characteristic_strain_form():
     fyr = 1.0 / (365.25 * DAY)
     hc = amp * (f.value / fyr) ** ((3.0 - gamma) / 2.0)
     expect = hc**2 / (12 * np.pi**2 * f.value**3)
-    assert np.allclose(timing.red_noise_psd(f, amp, gamma).to_value(u.s**3), expect,
-                       rtol=1e-12)
+    assert np.allclose(timing.red_noise_psd(f, amp, gamma).to_value(u.s**3), expect, rtol=1e-12)
 
 
 def test_design_matrix_spans_the_documented_timing_model():
@@ -60,8 +64,7 @@ def test_red_noise_basis_variances_follow_the_power_law():
     fk = np.arange(1, k + 1) / span.to_value(u.s)
     fyr = 1.0 / (365.25 * DAY)
     pr = amp**2 / (12 * np.pi**2) * fyr**-3 * (fk / fyr) ** -gam
-    assert phi.to_value(u.s**2) == pytest.approx(np.tile(pr / span.to_value(u.s), 2),
-                                                 rel=1e-10)
+    assert phi.to_value(u.s**2) == pytest.approx(np.tile(pr / span.to_value(u.s), 2), rel=1e-10)
     assert timing.red_noise_basis(t, span, 0.4 * u.us, 14 * u.d, 0.0, np.nan) is None
 
 
@@ -113,9 +116,16 @@ def test_analytic_weights_agree_with_exact_in_documented_domain():
     # Module docstring: within 8% (white) and 15% (red-noise dominated) for
     # f >= 4/T_p, |f - k/yr| > 2/T_p (k = 1, 2), f < 1/(2 dt).  Continuum
     # limit of the white-noise matched filter: w = N dt / P = N / (2 sigma^2).
-    arr = PulsarArray(["W", "R"], SkyCoord([0, 90] * u.deg, [0, 30] * u.deg),
-                      [1.0, 0.5] * u.us, [14.0, 14.0] * u.d, [53000.0, 53000.0],
-                      [58500.0, 58500.0], red_amp=[0.0, 3e-14], red_gamma=[np.nan, 4.0])
+    arr = PulsarArray(
+        ["W", "R"],
+        SkyCoord([0, 90] * u.deg, [0, 30] * u.deg),
+        [1.0, 0.5] * u.us,
+        [14.0, 14.0] * u.d,
+        [53000.0, 53000.0],
+        [58500.0, 58500.0],
+        red_amp=[0.0, 3e-14],
+        red_gamma=[np.nan, 4.0],
+    )
     tp = arr.pulsar_spans[0].to_value(u.s)
     f = np.logspace(np.log10(4 / tp), np.log10(1 / (2 * 14 * DAY)), 300) * u.Hz
     fyr = (f * u.yr).to_value(u.dimensionless_unscaled)

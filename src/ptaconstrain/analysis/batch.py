@@ -36,8 +36,11 @@ def has_errors(host):
     >>> has_errors(Host("A", 2e10, 50)), has_errors(Host("B", 2e10, 50, mass_err_dex=0.2))
     (False, True)
     """
-    return (host.mass_err_dex is not None or host.distance_err is not None
-            or host.velocity_err is not None)
+    return (
+        host.mass_err_dex is not None
+        or host.distance_err is not None
+        or host.velocity_err is not None
+    )
 
 
 @dataclass(frozen=True, eq=False)
@@ -99,8 +102,7 @@ class HostBounds:
         NaN for hosts without errors (no probability map) and where nothing is
         excluded at that level.
         """
-        out = [r.tightest(level) if isinstance(r, ProbabilityMap) else None
-               for r in self.results]
+        out = [r.tightest(level) if isinstance(r, ProbabilityMap) else None for r in self.results]
         period = u.Quantity([np.nan * u.yr if b is None else b[0] for b in out]).to(u.yr)
         return period, np.array([np.nan if b is None else b[1] for b in out])
 
@@ -125,10 +127,25 @@ class HostBounds:
         return f"HostBounds({len(self)} hosts, {int(bound.sum())} with a bound; {text})"
 
 
-def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=None, *,
-                samples=100_000, seed=None, credibility=DEFAULT_CREDIBILITY, curve_for=None,
-                on_bad="error", on_result=None, keep_samples=True, orientation=None,
-                eccentricity=0.0, progress=None):
+def bound_hosts(
+    hosts,
+    sensitivity,
+    mass_ratio=None,
+    period=None,
+    snr=5.0,
+    span=None,
+    *,
+    samples=100_000,
+    seed=None,
+    credibility=DEFAULT_CREDIBILITY,
+    curve_for=None,
+    on_bad="error",
+    on_result=None,
+    keep_samples=True,
+    orientation=None,
+    eccentricity=0.0,
+    progress=None,
+):
     """Bound the companions of every host in ``hosts`` against one sensitivity.
 
     Parameters
@@ -201,18 +218,28 @@ def bound_hosts(hosts, sensitivity, mass_ratio=None, period=None, snr=5.0, span=
         try:
             curve = sensitivity if curve_for is None else curve_for(host)
             if has_errors(host):
-                result = exclusion_probability(host, curve, mass_ratio, period,
-                                               samples=samples, seed=host_seed,
-                                               credibility=levels, snr=snr, span=span,
-                                               orientation=orientation,
-                                               eccentricity=eccentricity)
+                result = exclusion_probability(
+                    host,
+                    curve,
+                    mass_ratio,
+                    period,
+                    samples=samples,
+                    seed=host_seed,
+                    credibility=levels,
+                    snr=snr,
+                    span=span,
+                    orientation=orientation,
+                    eccentricity=eccentricity,
+                )
             else:
-                result = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span,
-                                       eccentricity=eccentricity)
+                result = exclusion_map(
+                    host, curve, mass_ratio, period, snr=snr, span=span, eccentricity=eccentricity
+                )
         except PtaconstrainError as err:
             if on_bad == "error":
-                raise InputError(f"host {host.name!r}: {err}; fix it, or skip such hosts "
-                                "with --on-bad skip") from err
+                raise InputError(
+                    f"host {host.name!r}: {err}; fix it, or skip such hosts with --on-bad skip"
+                ) from err
             failed.append((host, str(err)))
             if progress is not None:
                 progress(1)

@@ -71,8 +71,10 @@ class EpochForecast(FromCurve):
         return self.maps[0].curve
 
     def __repr__(self):
-        pairs = ", ".join(f"+{y:g} yr: q > {q:.3g}" for y, q in
-                          zip(self.years.to_value(u.yr), self.tightest_mass_ratio, strict=True))
+        pairs = ", ".join(
+            f"+{y:g} yr: q > {q:.3g}"
+            for y, q in zip(self.years.to_value(u.yr), self.tightest_mass_ratio, strict=True)
+        )
         return f"EpochForecast({self.host.name!r}; {pairs})"
 
     def first_epoch(self, mass_ratio):
@@ -107,8 +109,17 @@ class EpochForecast(FromCurve):
         return epoch_figure(self, ax=ax, target_q=target_q)
 
 
-def forecast_over_time(host, array, years, rms_factor=1.0, mass_ratio=None, period=None,
-                       snr=5.0, eccentricity=0.0, callback=None):
+def forecast_over_time(
+    host,
+    array,
+    years,
+    rms_factor=1.0,
+    mass_ratio=None,
+    period=None,
+    snr=5.0,
+    eccentricity=0.0,
+    callback=None,
+):
     """The forecast for ``host`` with the array observed longer, epoch by epoch.
 
     Parameters
@@ -158,12 +169,19 @@ def forecast_over_time(host, array, years, rms_factor=1.0, mass_ratio=None, peri
         curves.append(arr.curve_at(host.coord, snr=snr, frequency=freq))
     if period is None:
         period = default_periods(curves[-1])
-    maps = tuple(exclusion_map(host, c, mass_ratio, period, snr=snr, eccentricity=eccentricity,
-                               warn=False) for c in curves)
+    maps = tuple(
+        exclusion_map(host, c, mass_ratio, period, snr=snr, eccentricity=eccentricity, warn=False)
+        for c in curves
+    )
     best = [m.tightest() for m in maps]
     q = np.array([np.nan if b is None else b[1] for b in best])
     p = np.array([np.nan if b is None else b[0].to_value(u.yr) for b in best]) * u.yr
-    return EpochForecast(host=host, years=years.to(u.yr),
-                         span=u.Quantity([a.span for a in arrays]).to(u.yr), maps=maps,
-                         tightest_mass_ratio=q, tightest_period=p,
-                         rms_factor=float(rms_factor))
+    return EpochForecast(
+        host=host,
+        years=years.to(u.yr),
+        span=u.Quantity([a.span for a in arrays]).to(u.yr),
+        maps=maps,
+        tightest_mass_ratio=q,
+        tightest_period=p,
+        rms_factor=float(rms_factor),
+    )

@@ -55,6 +55,7 @@ __all__ = [
     "sensitivity_for",
 ]
 
+
 def default_mass_ratios(n=300, q_min=1e-4):
     """Log-spaced mass ratios from ``q_min`` to 1.
 
@@ -224,10 +225,15 @@ class ExclusionMap(FromCurve):
 
     def __repr__(self):
         best = self.tightest()
-        bound = ("nothing " + self.verb if best is None else
-                 f"q > {best[1]:.3g} {self.verb} at P = {best[0].to_value(u.yr):.3g} yr")
-        return (f"ExclusionMap({self.host.name!r}, {self.label}, grid {self.mass_ratio.size} q "
-                f"x {self.period.size} P;\n  tightest: {bound})")
+        bound = (
+            "nothing " + self.verb
+            if best is None
+            else f"q > {best[1]:.3g} {self.verb} at P = {best[0].to_value(u.yr):.3g} yr"
+        )
+        return (
+            f"ExclusionMap({self.host.name!r}, {self.label}, grid {self.mass_ratio.size} q "
+            f"x {self.period.size} P;\n  tightest: {bound})"
+        )
 
     def to_table(self, meta=None):
         """One row per period: the bound on companions of the host.
@@ -350,13 +356,17 @@ def sensitivity_for(host, curve, warn=True):
     if not isinstance(curve, PositionalSensitivity):
         return curve
     if host.coord is None and warn:
-        warnings.warn(f"host {host.name!r} has no sky position, so the sky-averaged "
-                      "sensitivity is used", PtaconstrainWarning, stacklevel=3)
+        warnings.warn(
+            f"host {host.name!r} has no sky position, so the sky-averaged sensitivity is used",
+            PtaconstrainWarning,
+            stacklevel=3,
+        )
     return curve.curve_at(host.coord)
 
 
-def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None, *,
-                  eccentricity=0.0, warn=True):
+def exclusion_map(
+    host, curve, mass_ratio=None, period=None, snr=5.0, span=None, *, eccentricity=0.0, warn=True
+):
     """Which companions of ``host`` the sensitivity ``curve`` rules out.
 
     Circular orbits by default; with ``eccentricity`` every binary of the map
@@ -409,9 +419,11 @@ def exclusion_map(host, curve, mass_ratio=None, period=None, snr=5.0, span=None,
     e = check_eccentricity(eccentricity)
     curve = sensitivity_for(host, curve, warn=warn)
     if warn and not curve.is_limit and "inclination" not in curve.meta:
-        warnings.warn("forecasts use the orientation-averaged S/N, "
-                      "as the binary's inclination is unknown", PtaconstrainWarning,
-                      stacklevel=2)
+        warnings.warn(
+            "forecasts use the orientation-averaged S/N, as the binary's inclination is unknown",
+            PtaconstrainWarning,
+            stacklevel=2,
+        )
     q = default_mass_ratios() if mass_ratio is None else np.asarray(mass_ratio, dtype=float)
     q = np.atleast_1d(q)
     eta = wf.symmetric_mass_ratio(q)  # validates q
@@ -505,4 +517,3 @@ def _harmonic_eta_min(curve, f, h_unit, harmonics, e, snr, span):
         eta_min = eta_best / np.sqrt(np.sum(rel**2, axis=0))
     eta_min = np.where(any_band, eta_min, np.nan)
     return eta_min * h_unit, eta_min
-

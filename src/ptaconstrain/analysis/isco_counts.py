@@ -59,8 +59,9 @@ def _grid_count(grid, values):
     if k1 - k0 + 1 > _LUT_MAX:
         return np.searchsorted(grid, values, side="right")
     per_bucket = int(np.bincount(gkey - k0).max())
-    if per_bucket > _LUT_STEPS or not (values.min(initial=1.0) > 0
-                                       and values.max(initial=1.0) < np.inf):
+    if per_bucket > _LUT_STEPS or not (
+        values.min(initial=1.0) > 0 and values.max(initial=1.0) < np.inf
+    ):
         return np.searchsorted(grid, values, side="right")  # also NaN (min/max propagate)
     low = (np.arange(k0, k1 + 1, dtype=np.int64) << _LUT_SHIFT).view(np.float64)
     lut = np.searchsorted(grid, low, side="left").astype(np.int32)  # #{grid < bucket}

@@ -144,11 +144,16 @@ class ProbabilityMap(FromCurve):
     def __repr__(self):
         top = max(self.credibility)
         best = self.tightest(top)
-        bound = ("nothing " + self.verb if best is None else
-                 f"q > {best[1]:.3g} {self.verb} at P = {best[0].to_value(u.yr):.3g} yr")
-        return (f"ProbabilityMap({self.host.name!r}, {self.label}, grid {self.mass_ratio.size} q "
-                f"x {self.period.size} P, {self.n_samples} samples, seed {self.seed};\n"
-                f"  tightest at probability >= {top:g}: {bound})")
+        bound = (
+            "nothing " + self.verb
+            if best is None
+            else f"q > {best[1]:.3g} {self.verb} at P = {best[0].to_value(u.yr):.3g} yr"
+        )
+        return (
+            f"ProbabilityMap({self.host.name!r}, {self.label}, grid {self.mass_ratio.size} q "
+            f"x {self.period.size} P, {self.n_samples} samples, seed {self.seed};\n"
+            f"  tightest at probability >= {top:g}: {bound})"
+        )
 
     def to_table(self, meta=None):
         """One row per period: best-fit bound plus one credible bound per credibility.
@@ -248,9 +253,11 @@ def _check_size(samples, det):
     except (TypeError, ValueError):
         return  # sample_host names the problem
     cells = det.mass_ratio.size * det.frequency.size
-    check_memory(24 * 8.0 * n + 8 * 8.0 * cells,
-                 f"the probability map ({n:,} samples, {det.mass_ratio.size} x "
-                 f"{det.frequency.size} grid)", "lower --samples (or --grid)")
+    check_memory(
+        24 * 8.0 * n + 8 * 8.0 * cells,
+        f"the probability map ({n:,} samples, {det.mass_ratio.size} x {det.frequency.size} grid)",
+        "lower --samples (or --grid)",
+    )
 
 
 def _check_credibility(credibility):
@@ -376,14 +383,17 @@ def exclusion_probability(
     """
     levels = _check_credibility(credibility)
     curve = sensitivity_for(host, curve)
-    det = exclusion_map(host, curve, mass_ratio, period, snr=snr, span=span,
-                        eccentricity=eccentricity, warn=False)
+    det = exclusion_map(
+        host, curve, mass_ratio, period, snr=snr, span=span, eccentricity=eccentricity, warn=False
+    )
     if orientation is None:
         orientation = not det.is_limit
     elif not orientation and not det.is_limit:
-        warnings.warn("forecasts use the orientation-averaged S/N, "
-                      "as orientation sampling was turned off", PtaconstrainWarning,
-                      stacklevel=2)
+        warnings.warn(
+            "forecasts use the orientation-averaged S/N, as orientation sampling was turned off",
+            PtaconstrainWarning,
+            stacklevel=2,
+        )
     if not isinstance(samples, HostSamples):
         _check_size(samples, det)
     if isinstance(samples, HostSamples):
@@ -391,8 +401,7 @@ def exclusion_probability(
         if orientation and draws.orientation_factor is None:
             raise InputError("samples: these were drawn without orientation; redraw with it")
     elif mass_samples is not None:
-        draws = resample_host(host, mass_samples, samples, seed=seed,
-                              orientation=bool(orientation))
+        draws = resample_host(host, mass_samples, samples, seed=seed, orientation=bool(orientation))
     else:
         draws = sample_host(host, samples, seed=seed, orientation=bool(orientation))
     if not orientation:

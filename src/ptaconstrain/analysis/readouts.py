@@ -15,8 +15,14 @@ from ..binary import waveform as wf
 from ..sensitivity.curve import StrainCurve
 from .sampling import orientation_factor
 
-__all__ = ["angular_diameter_distance", "angular_separation", "merger_time",
-           "merger_time_lines", "default_merger_times", "curve_at_inclination"]
+__all__ = [
+    "angular_diameter_distance",
+    "angular_separation",
+    "merger_time",
+    "merger_time_lines",
+    "default_merger_times",
+    "curve_at_inclination",
+]
 
 
 def angular_diameter_distance(luminosity_distance, redshift):
@@ -106,8 +112,9 @@ def merger_time(result):
     host = result.host
     q = result.max_mass_ratio
     ok = np.isfinite(q)
-    tau = wf.coalescence_time(host.mass, np.where(ok, q, 1.0), result.frequency,
-                              host.redshift) / (1.0 + host.redshift)
+    tau = wf.coalescence_time(host.mass, np.where(ok, q, 1.0), result.frequency, host.redshift) / (
+        1.0 + host.redshift
+    )
     return np.where(ok, tau.to_value(u.yr), np.nan) * u.yr
 
 
@@ -167,10 +174,14 @@ def merger_time_lines(result, times=None):
     (3, 2)
     """
     host = result.host
-    times = (default_merger_times(host.cosmology) if times is None
-             else np.atleast_1d(u.Quantity(times, u.yr)))
-    tau_equal = wf.coalescence_time(host.mass, 1.0, result.frequency,
-                                    host.redshift) / (1.0 + host.redshift)
+    times = (
+        default_merger_times(host.cosmology)
+        if times is None
+        else np.atleast_1d(u.Quantity(times, u.yr))
+    )
+    tau_equal = wf.coalescence_time(host.mass, 1.0, result.frequency, host.redshift) / (
+        1.0 + host.redshift
+    )
     eta = 0.25 * (tau_equal[None, :] / times[:, None]).to_value(u.dimensionless_unscaled)
     q = np.full(eta.shape, np.nan)
     ok = eta <= 0.25

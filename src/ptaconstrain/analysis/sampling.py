@@ -20,8 +20,7 @@ from ..binary import waveform as wf
 from ..errors import InputError, PtaconstrainWarning
 from ..sensitivity.curve import ORIENTATION_MEAN
 
-__all__ = ["HostSamples", "sample_host", "resample_host", "orientation_factor",
-           "distance_sigma"]
+__all__ = ["HostSamples", "sample_host", "resample_host", "orientation_factor", "distance_sigma"]
 
 _PERCENTILES = (16.0, 50.0, 84.0)
 
@@ -107,8 +106,12 @@ def _warn_exact(host):
     if host.distance_err is None and host.velocity_err is None:
         missing.append("no distance error (exact distance assumed)")
     if missing:
-        warnings.warn(f"host {host.name!r} has {' and '.join(missing)}, so the samples "
-                      "do not vary that quantity", PtaconstrainWarning, stacklevel=3)
+        warnings.warn(
+            f"host {host.name!r} has {' and '.join(missing)}, so the samples "
+            "do not vary that quantity",
+            PtaconstrainWarning,
+            stacklevel=3,
+        )
 
 
 def _split_normal_dex(z, err_dex):
@@ -195,11 +198,16 @@ class HostSamples:
         s = self.summary()
         m_lo, m_med, m_hi = s["mass"].to_value(u.Msun)
         d_lo, d_med, d_hi = s["distance"].to_value(u.Mpc)
-        orient = "orientation sampled" if self.orientation_factor is not None else (
-            "orientation not sampled")
-        return (f"HostSamples(n={self.n}, seed={self.seed}, {orient};\n"
-                f"  mass {m_med:.4g} (-{m_med - m_lo:.2g}/+{m_hi - m_med:.2g}) solMass, "
-                f"distance {d_med:.4g} (-{d_med - d_lo:.2g}/+{d_hi - d_med:.2g}) Mpc)")
+        orient = (
+            "orientation sampled"
+            if self.orientation_factor is not None
+            else ("orientation not sampled")
+        )
+        return (
+            f"HostSamples(n={self.n}, seed={self.seed}, {orient};\n"
+            f"  mass {m_med:.4g} (-{m_med - m_lo:.2g}/+{m_hi - m_med:.2g}) solMass, "
+            f"distance {d_med:.4g} (-{d_med - d_lo:.2g}/+{d_hi - d_med:.2g}) Mpc)"
+        )
 
     def to_table(self):
         """The samples as a table, one row per sample.
@@ -386,16 +394,18 @@ def resample_host(host, mass_samples, n=100_000, seed=None, orientation=False):
     """
     n, seed = _check_draws(n, seed)
     rng = np.random.default_rng(seed)
-    rows = rng.choice(mass_samples.size, size=n, replace=True,
-                      p=mass_samples.probabilities)
+    rows = rng.choice(mass_samples.size, size=n, replace=True, p=mass_samples.probabilities)
     m = mass_samples.mass[rows].to(u.Msun)
     if mass_samples.distance is not None:
         d = mass_samples.distance[rows].to(u.Mpc)
     else:
         if host.distance_err is None and host.velocity_err is None:
-            warnings.warn(f"host {host.name!r} has no distance error and the mass samples no "
-                          "distances, so the exact distance is assumed", PtaconstrainWarning,
-                          stacklevel=3)
+            warnings.warn(
+                f"host {host.name!r} has no distance error and the mass samples no "
+                "distances, so the exact distance is assumed",
+                PtaconstrainWarning,
+                stacklevel=3,
+            )
         d = _host_distances(host, rng, n)
         if host.mass_distance is not None:
             m = (m * (d / host.mass_distance)).to(u.Msun)

@@ -207,8 +207,7 @@ def decay_rates(total_mass, mass_ratio, separation, eccentricity):
     beta = 64.0 / 5.0 * _G**3 * total_mass**3 * eta / _C**5
     a = separation
     dadt = -beta / a**3 * enhancement_factor(e)
-    dedt = (-(19.0 / 12.0) * beta * e / (a**4 * (1.0 - e**2) ** 2.5)
-            * (1.0 + 121.0 / 304.0 * e**2))
+    dedt = -(19.0 / 12.0) * beta * e / (a**4 * (1.0 - e**2) ** 2.5) * (1.0 + 121.0 / 304.0 * e**2)
     return dadt.to(u.m / u.s), dedt.to(1 / u.s)
 
 
@@ -241,12 +240,16 @@ def merger_time_factor(eccentricity):
         return 1.0
 
     def integrand(e):
-        return e ** (29.0 / 19.0) * (1.0 + 121.0 / 304.0 * e**2) ** (1181.0 / 2299.0) / (
-            1.0 - e**2) ** 1.5
+        return (
+            e ** (29.0 / 19.0)
+            * (1.0 + 121.0 / 304.0 * e**2) ** (1181.0 / 2299.0)
+            / (1.0 - e**2) ** 1.5
+        )
 
     integral, _ = integrate.quad(integrand, 0.0, e0, epsabs=0.0, epsrel=1e-12, limit=200)
-    c0_over_a0 = (1.0 - e0**2) * e0 ** (-12.0 / 19.0) * (
-        1.0 + 121.0 / 304.0 * e0**2) ** (-870.0 / 2299.0)
+    c0_over_a0 = (
+        (1.0 - e0**2) * e0 ** (-12.0 / 19.0) * (1.0 + 121.0 / 304.0 * e0**2) ** (-870.0 / 2299.0)
+    )
     return float(4.0 * 12.0 / 19.0 * c0_over_a0**4 * integral)
 
 

@@ -121,20 +121,22 @@ class Host:
         self.cosmology = get_cosmology(cosmology)
         self.mass_quoted = _scalar(check_mass(mass, "mass"), "mass")
         if distance is None and redshift is None:
-            raise InputError("distance: give a luminosity distance (bare numbers are Mpc) "
-                             "or a redshift")
-        self.redshift = None if redshift is None else _scalar(check_redshift(redshift),
-                                                              "redshift")
+            raise InputError(
+                "distance: give a luminosity distance (bare numbers are Mpc) or a redshift"
+            )
+        self.redshift = None if redshift is None else _scalar(check_redshift(redshift), "redshift")
         if distance is not None:
-            self.distance = _scalar(check_distance(distance, "distance", self.cosmology),
-                                    "distance")
+            self.distance = _scalar(
+                check_distance(distance, "distance", self.cosmology), "distance"
+            )
         else:
             if self.redshift == 0:
-                raise InputError("redshift: must be > 0 when no distance is given; give "
-                                 "the distance instead")
+                raise InputError(
+                    "redshift: must be > 0 when no distance is given; give the distance instead"
+                )
             self.distance = check_distance(
-                luminosity_distance_at(self.redshift, self.cosmology), "redshift",
-                self.cosmology)
+                luminosity_distance_at(self.redshift, self.cosmology), "redshift", self.cosmology
+            )
         if self.redshift is None:
             self.redshift = redshift_at(self.distance, self.cosmology)
         elif distance is not None and self.redshift > 0:
@@ -142,31 +144,43 @@ class Host:
             if not 1 / 1.5 < (self.distance / d_z).value < 1.5:
                 raise InputError(
                     f"redshift: z = {self.redshift:g} means D_L = {d_z:.4g}, far from the "
-                    f"distance {self.distance:.4g} given: drop one of them or correct it")
+                    f"distance {self.distance:.4g} given: drop one of them or correct it"
+                )
 
         self.mass_err_dex = _dex_pair(mass_err_dex, mass_err_frac)
         self.distance_err = _distance_sigma(self.distance, distance_err, distance_err_frac)
         self.velocity_err = None
         if velocity_err is not None:
-            self.velocity_err = _scalar(positive(
-                quantity(velocity_err, u.km / u.s, "velocity_err"), "velocity_err",
-                allow_zero=True), "velocity_err")
+            self.velocity_err = _scalar(
+                positive(
+                    quantity(velocity_err, u.km / u.s, "velocity_err"),
+                    "velocity_err",
+                    allow_zero=True,
+                ),
+                "velocity_err",
+            )
             if distance is not None:
                 raise InputError(
                     "velocity_err: a peculiar-velocity error applies to a redshift distance; "
-                    "give the redshift without a distance, or a distance error instead")
+                    "give the redshift without a distance, or a distance error instead"
+                )
         self.mass_distance = None
         if mass_distance is not None:
             self.mass_distance = _scalar(
-                check_distance(mass_distance, "mass_distance", self.cosmology), "mass_distance")
+                check_distance(mass_distance, "mass_distance", self.cosmology), "mass_distance"
+            )
         self.coord = coord_from(coord, ra, dec)
         if self.coord is not None and not self.coord.isscalar:
             raise InputError("sky position: give one position for a host")
         self.velocity_dispersion = None
         if velocity_dispersion is not None:
-            self.velocity_dispersion = _scalar(positive(
-                quantity(velocity_dispersion, u.km / u.s, "velocity_dispersion"),
-                "velocity_dispersion"), "velocity_dispersion")
+            self.velocity_dispersion = _scalar(
+                positive(
+                    quantity(velocity_dispersion, u.km / u.s, "velocity_dispersion"),
+                    "velocity_dispersion",
+                ),
+                "velocity_dispersion",
+            )
 
     @property
     def mass(self):
@@ -212,9 +226,7 @@ class Host:
             out["ra"] = f"{icrs.ra.deg:.6f} deg"
             out["dec"] = f"{icrs.dec.deg:.6f} deg"
         if self.velocity_dispersion is not None:
-            out["velocity_dispersion"] = (
-                f"{self.velocity_dispersion.to_value(u.km / u.s):.6g} km/s"
-            )
+            out["velocity_dispersion"] = f"{self.velocity_dispersion.to_value(u.km / u.s):.6g} km/s"
         return out
 
     def __repr__(self):
@@ -238,8 +250,10 @@ def _fraction(value, field):
     try:
         return np.atleast_1d(quantity(value, u.dimensionless_unscaled, field).value)
     except InputError as err:
-        raise InputError(f"{field}: cannot read {value!r}; give a finite plain number "
-                         "(dex for mass_err_dex, a fraction such as 0.1 otherwise)") from err
+        raise InputError(
+            f"{field}: cannot read {value!r}; give a finite plain number "
+            "(dex for mass_err_dex, a fraction such as 0.1 otherwise)"
+        ) from err
 
 
 def _dex_pair(mass_err_dex, mass_err_frac):
@@ -248,8 +262,9 @@ def _dex_pair(mass_err_dex, mass_err_frac):
     if mass_err_frac is not None:
         frac = _fraction(mass_err_frac, "mass_err_frac")
         if frac.size != 1 or frac[0] < 0:
-            raise InputError(f"mass_err_frac: must be one value >= 0 (e.g. 0.2 for 20%), "
-                             f"got {mass_err_frac!r}")
+            raise InputError(
+                f"mass_err_frac: must be one value >= 0 (e.g. 0.2 for 20%), got {mass_err_frac!r}"
+            )
         check_field(frac[0], "fraction_err", "mass_err_frac")
         sig = float(frac[0]) / np.log(10.0)
         return (sig, sig)
@@ -282,8 +297,11 @@ def _distance_sigma(distance, distance_err, distance_err_frac):
     err = quantity(distance_err, u.Mpc, "distance_err")
     err = _scalar(positive(err, "distance_err", allow_zero=True), "distance_err")
     # at most the distance itself (FRACTION_ERR_MAX), as for a fractional error
-    check_field((err / distance).to_value(u.dimensionless_unscaled), "fraction_err",
-                f"distance_err ({err:.3g}) as a fraction of the distance ({distance:.3g})")
+    check_field(
+        (err / distance).to_value(u.dimensionless_unscaled),
+        "fraction_err",
+        f"distance_err ({err:.3g}) as a fraction of the distance ({distance:.3g})",
+    )
     return err
 
 
@@ -333,14 +351,20 @@ def hosts_from_table(table):
     hosts = []
     for i, row in enumerate(table):
         try:
-            hosts.append(Host(
-                str(row["name"]), get(row, "mass", u.Msun),
-                get(row, "distance", u.Mpc), redshift=get(row, "redshift"),
-                mass_err_dex=get(row, "mass_err_dex"),
-                distance_err=get(row, "distance_err", u.Mpc),
-                mass_distance=get(row, "mass_distance", u.Mpc),
-                ra=get(row, "ra", u.deg), dec=get(row, "dec", u.deg),
-                velocity_dispersion=get(row, "sigma", u.km / u.s)))
+            hosts.append(
+                Host(
+                    str(row["name"]),
+                    get(row, "mass", u.Msun),
+                    get(row, "distance", u.Mpc),
+                    redshift=get(row, "redshift"),
+                    mass_err_dex=get(row, "mass_err_dex"),
+                    distance_err=get(row, "distance_err", u.Mpc),
+                    mass_distance=get(row, "mass_distance", u.Mpc),
+                    ra=get(row, "ra", u.deg),
+                    dec=get(row, "dec", u.deg),
+                    velocity_dispersion=get(row, "sigma", u.km / u.s),
+                )
+            )
         except InputError as err:
             raise InputError(f"host table row {i + 1}: {err}") from err
     return hosts

@@ -86,8 +86,9 @@ class MassSamples:
             bad = ~np.isfinite(w) | (w < 0)
             if np.any(bad):
                 i = int(np.flatnonzero(bad)[0])
-                raise MassSamplesError(f"weights: row {i + 1} has {w[i]!r}; weights must be "
-                                       "finite and >= 0")
+                raise MassSamplesError(
+                    f"weights: row {i + 1} has {w[i]!r}; weights must be finite and >= 0"
+                )
             if not w.sum() > 0:
                 raise MassSamplesError("weights: all zero; give at least one positive weight")
             object.__setattr__(self, "weights", w)
@@ -115,14 +116,14 @@ class MassSamples:
         p = self.probabilities
         order = np.argsort(self.mass.value)
         cdf = np.cumsum(p[order])
-        lo, med, hi = (self.mass.value[order][np.searchsorted(cdf, c)]
-                       for c in (0.16, 0.5, 0.84))
+        lo, med, hi = (self.mass.value[order][np.searchsorted(cdf, c)] for c in (0.16, 0.5, 0.84))
         return {
             "mass_samples": self.source,
             "mass_samples_rows": str(self.size),
             "mass_samples_effective_size": f"{self.effective_size:.4g}",
             "mass_samples_mass": f"{med:.4g} (-{med - lo:.3g}/+{hi - med:.3g}) solMass",
-            "mass_samples_distance": "from the file" if self.distance is not None
+            "mass_samples_distance": "from the file"
+            if self.distance is not None
             else "not in the file (the host's distance and its error)",
         }
 
@@ -159,28 +160,38 @@ def load_mass_samples(path):
     from .._files import read_table
 
     path = Path(path)
-    t = read_table(path, "mass-sample table", MassSamplesError,
-                   hint="write it as ECSV or CSV with a 'mass' column")
+    t = read_table(
+        path,
+        "mass-sample table",
+        MassSamplesError,
+        hint="write it as ECSV or CSV with a 'mass' column",
+    )
     names = {c.lower(): c for c in t.colnames}
     if "mass" not in names:
-        raise MassSamplesError(f"{path.name}: no 'mass' column (solMass); found "
-                               f"{', '.join(t.colnames) or 'no columns'}")
+        raise MassSamplesError(
+            f"{path.name}: no 'mass' column (solMass); found "
+            f"{', '.join(t.colnames) or 'no columns'}"
+        )
 
     def column(key, unit):
         col = t[names[key]]
         values = np.ma.filled(np.ma.asarray(getattr(col, "value", col), dtype=float), np.nan)
         if np.any(np.isnan(values)):
             row = int(np.flatnonzero(np.isnan(values))[0]) + 1
-            raise MassSamplesError(f"{path.name}: column '{key}' is empty or NaN in row {row}; "
-                                   "remove that row")
+            raise MassSamplesError(
+                f"{path.name}: column '{key}' is empty or NaN in row {row}; remove that row"
+            )
         if unit is None:
             return values
         return values * (col.unit if getattr(col, "unit", None) is not None else unit)
 
     wkey = "weight" if "weight" in names else ("weights" if "weights" in names else None)
     try:
-        return MassSamples(column("mass", u.Msun),
-                           column("distance", u.Mpc) if "distance" in names else None,
-                           column(wkey, None) if wkey else None, source=path.name)
+        return MassSamples(
+            column("mass", u.Msun),
+            column("distance", u.Mpc) if "distance" in names else None,
+            column(wkey, None) if wkey else None,
+            source=path.name,
+        )
     except (InputError, u.UnitsError) as err:
         raise MassSamplesError(f"{path.name}: {err}") from err

@@ -46,8 +46,7 @@ def _check_mass_ratio(q):
     q = np.asarray(q, dtype=float)
     if not np.all(np.isfinite(q)) or np.any(q <= 0) or np.any(q > 1):
         bad = q[~(np.isfinite(q) & (q > 0) & (q <= 1))].ravel()[0]
-        raise InputError(f"mass_ratio: {bad:g} is not in (0, 1]; give q = m2/m1 with "
-                         "m2 <= m1")
+        raise InputError(f"mass_ratio: {bad:g} is not in (0, 1]; give q = m2/m1 with m2 <= m1")
     return q
 
 

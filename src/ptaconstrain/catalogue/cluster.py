@@ -23,8 +23,9 @@ class ClusterError(InputError):
 
 
 @contextlib.contextmanager
-def dask_client(workers=2, scheduler=None, memory_limit=DEFAULT_MEMORY_LIMIT,
-                timeout=CONNECT_TIMEOUT):
+def dask_client(
+    workers=2, scheduler=None, memory_limit=DEFAULT_MEMORY_LIMIT, timeout=CONNECT_TIMEOUT
+):
     """Context manager yielding a ``distributed.Client``, closed (and its cluster stopped) after.
 
     Parameters
@@ -54,16 +55,20 @@ def dask_client(workers=2, scheduler=None, memory_limit=DEFAULT_MEMORY_LIMIT,
     cluster = None
     try:
         if scheduler:
-            client = Client(str(scheduler), timeout=f"{float(timeout)}s",
-                            set_as_default=True)
+            client = Client(str(scheduler), timeout=f"{float(timeout)}s", set_as_default=True)
         else:
             import dask
 
             # the workers' statistical profiler samples every 10 ms: CPU the ranking needs
             with dask.config.set({"distributed.worker.profile.enabled": False}):
-                cluster = LocalCluster(n_workers=int(workers), threads_per_worker=1,
-                                       processes=True, memory_limit=memory_limit,
-                                       dashboard_address=":0", silence_logs=logging.ERROR)
+                cluster = LocalCluster(
+                    n_workers=int(workers),
+                    threads_per_worker=1,
+                    processes=True,
+                    memory_limit=memory_limit,
+                    dashboard_address=":0",
+                    silence_logs=logging.ERROR,
+                )
             client = Client(cluster, set_as_default=True)
     except (OSError, TimeoutError, ValueError) as err:
         if cluster is not None:
@@ -72,9 +77,11 @@ def dask_client(workers=2, scheduler=None, memory_limit=DEFAULT_MEMORY_LIMIT,
             raise ClusterError(
                 f"Dask scheduler {scheduler} cannot be reached within {float(timeout):g} s: "
                 "check the address (e.g. tcp://host:8786) or drop --scheduler to start a "
-                "local cluster") from err
-        raise ClusterError(f"cannot start a local Dask cluster of {workers} workers "
-                           f"({err}); try fewer --workers") from err
+                "local cluster"
+            ) from err
+        raise ClusterError(
+            f"cannot start a local Dask cluster of {workers} workers ({err}); try fewer --workers"
+        ) from err
     try:
         yield client
     finally:

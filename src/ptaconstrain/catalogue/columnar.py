@@ -25,8 +25,15 @@ import numpy as np
 from .._files import first_line
 from .columns import CatalogError
 
-__all__ = ["columnar_kind", "require_scale", "arrow_to_table", "frame_to_table",
-           "ParquetSource", "HatsSource", "open_columnar"]
+__all__ = [
+    "columnar_kind",
+    "require_scale",
+    "arrow_to_table",
+    "frame_to_table",
+    "ParquetSource",
+    "HatsSource",
+    "open_columnar",
+]
 
 _PARQUET_SUFFIXES = (".parquet", ".parq", ".pq")
 _HATS_MARKERS = ("hats.properties", "properties", "collection.properties")
@@ -54,7 +61,8 @@ def require_scale(what, modules=("pyarrow",)):
         except ImportError as err:
             raise CatalogError(
                 f"{what} needs the optional package {name}: install the scale extra, "
-                "pip install 'ptaconstrain[scale]'") from err
+                "pip install 'ptaconstrain[scale]'"
+            ) from err
 
 
 def columnar_kind(path):
@@ -71,7 +79,8 @@ def columnar_kind(path):
     path = Path(path)
     if path.is_dir():
         if any((path / m).is_file() for m in _HATS_MARKERS) and (
-                (path / "dataset").is_dir() or (path / "collection.properties").is_file()):
+            (path / "dataset").is_dir() or (path / "collection.properties").is_file()
+        ):
             return "hats"
         if any(p.suffix.lower() in _PARQUET_SUFFIXES for p in path.rglob("*")):
             return "parquet"
@@ -156,8 +165,10 @@ class ParquetSource:
             self.colnames = list(self._dataset.schema.names)
             self.n_rows = int(self._dataset.count_rows())
         except (OSError, ValueError) as err:  # pyarrow's ArrowInvalid is a ValueError
-            raise CatalogError(f"{self.path.name} is not a readable Parquet dataset "
-                               f"({first_line(err)}): fix or rewrite the file") from err
+            raise CatalogError(
+                f"{self.path.name} is not a readable Parquet dataset "
+                f"({first_line(err)}): fix or rewrite the file"
+            ) from err
 
     def chunks(self, chunk_size=100_000, columns=None):
         """Yield (first_row, Table) pieces of at most ``chunk_size`` rows."""
@@ -168,8 +179,9 @@ class ParquetSource:
                     yield start, arrow_to_table(batch)
                     start += batch.num_rows
         except (OSError, ValueError) as err:
-            raise CatalogError(f"{self.path.name}: cannot read rows ({first_line(err)}): "
-                               "fix or rewrite the file") from err
+            raise CatalogError(
+                f"{self.path.name}: cannot read rows ({first_line(err)}): fix or rewrite the file"
+            ) from err
 
 
 class HatsSource:
@@ -195,8 +207,10 @@ class HatsSource:
         try:
             self.catalog = lsdb.open_catalog(self.path)
         except Exception as err:  # lsdb/hats raise many types for a damaged catalogue
-            raise CatalogError(f"{self.path.name} is not a readable HATS catalogue "
-                               f"({first_line(err)}): check the directory") from err
+            raise CatalogError(
+                f"{self.path.name} is not a readable HATS catalogue "
+                f"({first_line(err)}): check the directory"
+            ) from err
         self.colnames = [str(c) for c in self.catalog.columns]
         total = self.catalog.hc_structure.catalog_info.total_rows
         self.n_rows = int(total) if total is not None else 0
@@ -210,7 +224,7 @@ class HatsSource:
             if columns is not None:
                 frame = frame[list(columns)]
             for a in range(0, len(frame), chunk_size):
-                piece = frame_to_table(frame.iloc[a:a + chunk_size])
+                piece = frame_to_table(frame.iloc[a : a + chunk_size])
                 yield start, piece
                 start += len(piece)
 
@@ -222,5 +236,7 @@ def open_columnar(path, kind=None):
         return HatsSource(path)
     if kind == "parquet":
         return ParquetSource(path)
-    raise CatalogError(f"{Path(path).name} is neither Parquet nor a HATS catalogue: give a "
-                       ".parquet file, a directory of them, or a HATS catalogue directory")
+    raise CatalogError(
+        f"{Path(path).name} is neither Parquet nor a HATS catalogue: give a "
+        ".parquet file, a directory of them, or a HATS catalogue directory"
+    )

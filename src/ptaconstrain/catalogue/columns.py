@@ -21,8 +21,14 @@ from .._files import read_toml
 from .._inputs import check_schema
 from ..errors import InputError
 
-__all__ = ["FIELDS", "REQUIRED", "CatalogError", "ColumnMap", "load_column_map",
-           "COLUMN_MAP_SCHEMA"]
+__all__ = [
+    "FIELDS",
+    "REQUIRED",
+    "CatalogError",
+    "ColumnMap",
+    "load_column_map",
+    "COLUMN_MAP_SCHEMA",
+]
 
 #: schema of a column-mapping TOML file (see :func:`ptaconstrain._inputs.check_schema`)
 COLUMN_MAP_SCHEMA = {"columns": {"*": str}, "units": {"*": str}}
@@ -111,7 +117,8 @@ class ColumnMap:
             except ValueError as err:
                 raise CatalogError(
                     f"column mapping: unit {unit!r} of {field} is unknown; give an astropy "
-                    "unit such as 'Mpc' or 'kpc'") from err
+                    "unit such as 'Mpc' or 'kpc'"
+                ) from err
 
     def resolve(self, colnames):
         """Map fields to the catalogue's columns.
@@ -147,12 +154,11 @@ class ColumnMap:
             if field not in out:
                 raise CatalogError(
                     f"catalogue has no {field!r} column: map one with --columns "
-                    f"(TOML [columns] {field} = \"...\") or rename it"
+                    f'(TOML [columns] {field} = "...") or rename it'
                 )
         if "distance" not in out and "redshift" not in out:
             raise CatalogError(
-                "catalogue has neither a 'distance' nor a 'redshift' column: map one "
-                "with --columns"
+                "catalogue has neither a 'distance' nor a 'redshift' column: map one with --columns"
             )
         return out
 

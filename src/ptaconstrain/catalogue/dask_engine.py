@@ -95,26 +95,30 @@ def _partition_frame(data, rejections, part, n_rows, metric):
     """One partition's kernel output as one frame: ranked, rejected, note and count rows."""
     import pandas as pd
 
-    data = {k: (v.to_value(_UNITS[k]) if k in _UNITS else np.asarray(v))
-            for k, v in data.items()}
+    data = {k: (v.to_value(_UNITS[k]) if k in _UNITS else np.asarray(v)) for k, v in data.items()}
     n_ok = data["row"].size
     rej = rejections.table()
     notes = rejections.notes
     n_other = len(rej) + len(notes) + 1
-    status = np.r_[np.full(n_ok, _RANKED), np.full(len(rej), _REJECTED),
-                   np.full(len(notes), _NOTE), _READ].astype(np.int8)
+    status = np.r_[
+        np.full(n_ok, _RANKED), np.full(len(rej), _REJECTED), np.full(len(notes), _NOTE), _READ
+    ].astype(np.int8)
     key, tie = sort_keys(metric, data[metric], data["h0_ratio"])
-    cols = {"_status": status, "_part": np.full(status.size, part, np.int64),
-            "_local": np.r_[data["row"], np.asarray(rej["row"]) - 1,
-                            np.zeros(len(notes) + 1, np.int64)].astype(np.int64),
-            "_key": np.r_[key, np.full(n_other, np.inf)],
-            "_tie": np.r_[tie, np.full(n_other, np.inf)],
-            "_hash": np.r_[name_hashes(data["name"]).view(np.int64),
-                           np.zeros(n_other, np.int64)],
-            "_reason": _text(np.full(n_ok, ""), rej["reason"], list(notes), [""]),
-            "_value": _text(np.full(n_ok, ""), rej["value"], np.full(len(notes) + 1, "")),
-            "_count": np.r_[np.zeros(n_ok + len(rej), np.int64),
-                            np.array(list(notes.values()), np.int64), n_rows].astype(np.int64)}
+    cols = {
+        "_status": status,
+        "_part": np.full(status.size, part, np.int64),
+        "_local": np.r_[
+            data["row"], np.asarray(rej["row"]) - 1, np.zeros(len(notes) + 1, np.int64)
+        ].astype(np.int64),
+        "_key": np.r_[key, np.full(n_other, np.inf)],
+        "_tie": np.r_[tie, np.full(n_other, np.inf)],
+        "_hash": np.r_[name_hashes(data["name"]).view(np.int64), np.zeros(n_other, np.int64)],
+        "_reason": _text(np.full(n_ok, ""), rej["reason"], list(notes), [""]),
+        "_value": _text(np.full(n_ok, ""), rej["value"], np.full(len(notes) + 1, "")),
+        "_count": np.r_[
+            np.zeros(n_ok + len(rej), np.int64), np.array(list(notes.values()), np.int64), n_rows
+        ].astype(np.int64),
+    }
     for k, v in data.items():
         if k == "row":
             continue
@@ -137,8 +141,10 @@ def _rank_partition(frame, plan, part, chunk_size, pixel=None):
     if pixel is not None:
         thresholds = plan.sensitivity.partition_thresholds(pixel.order, pixel.pixel)
     table = frame_to_table(frame)
-    pieces = [rank_piece(table[a:a + chunk_size], plan, a, rejections, thresholds)
-              for a in range(0, max(len(table), 1), chunk_size)]  # a loop over chunks
+    pieces = [
+        rank_piece(table[a : a + chunk_size], plan, a, rejections, thresholds)
+        for a in range(0, max(len(table), 1), chunk_size)
+    ]  # a loop over chunks
     data = {k: _join([p[k] for p in pieces]) for k in pieces[0]}
     return _partition_frame(data, rejections, part, len(table), plan.metric)
 
@@ -150,8 +156,7 @@ def _join(arrays):
 
 
 def _hats_kernel(frame, pixel, plan, index_of, chunk_size):
-    return _rank_partition(frame, plan, index_of[(pixel.order, pixel.pixel)], chunk_size,
-                           pixel)
+    return _rank_partition(frame, plan, index_of[(pixel.order, pixel.pixel)], chunk_size, pixel)
 
 
 def _parquet_kernel(frame, plan, chunk_size, partition_info=None):
@@ -170,13 +175,13 @@ def _mapped(path, kind, plan, chunk_size):
         pixels = cat.get_healpix_pixels()
         index_of = {(p.order, p.pixel): i for i, p in enumerate(pixels)}
         meta = _rank_partition(cat.meta, plan, 0, chunk_size)
-        mapped = cat.map_partitions(_hats_kernel, plan, index_of, chunk_size,
-                                    include_pixel=True, meta=meta)
+        mapped = cat.map_partitions(
+            _hats_kernel, plan, index_of, chunk_size, include_pixel=True, meta=meta
+        )
         return mapped.to_dask_dataframe(divisions=False)
     ddf = dd.read_parquet(str(path))
     meta = _rank_partition(ddf._meta, plan, 0, chunk_size)
-    return ddf.map_partitions(_parquet_kernel, plan, chunk_size, meta=meta,
-                              align_dataframes=False)
+    return ddf.map_partitions(_parquet_kernel, plan, chunk_size, meta=meta, align_dataframes=False)
 
 
 def _source_columns(path, kind):
@@ -196,8 +201,12 @@ def _bookkeeping(rows, offsets):
     catrow = offsets[rej["_part"].to_numpy()] + rej["_local"].to_numpy()
     for reason in dict.fromkeys(rej["_reason"].tolist()):  # a loop over reasons
         sel = (rej["_reason"] == reason).to_numpy()
-        rejections.add(catrow[sel], rej["name"].to_numpy()[sel].astype(str), reason,
-                       rej["_value"].to_numpy()[sel].astype(str))
+        rejections.add(
+            catrow[sel],
+            rej["name"].to_numpy()[sel].astype(str),
+            reason,
+            rej["_value"].to_numpy()[sel].astype(str),
+        )
     notes = rows[rows["_status"] == _NOTE]
     for reason, count in notes.groupby("_reason", sort=False)["_count"].sum().items():
         rejections.note(reason, int(count))
@@ -210,8 +219,7 @@ def _duplicates(ranked, offsets):
     shared = counts[counts > 1].compute()
     if not len(shared):
         return None
-    cand = ranked[ranked["_hash"].isin(list(shared.index))][
-        ["_part", "_local", "name"]].compute()
+    cand = ranked[ranked["_hash"].isin(list(shared.index))][["_part", "_local", "name"]].compute()
     cand["_row"] = offsets[cand["_part"].to_numpy()] + cand["_local"].to_numpy()
     cand = cand.sort_values("_row", kind="stable")
     return cand[cand["name"].duplicated(keep="first")]
@@ -226,8 +234,13 @@ def _sort_frame(frame, **kwargs):
     """Order the rows of one range of keys exactly: key, tie-breaker, then name (UTF-8)."""
     from .names import name_bytes
 
-    order = np.lexsort((name_bytes(frame["name"].to_numpy().astype(str)),
-                        frame["_tie"].to_numpy(), frame["_key"].to_numpy()))
+    order = np.lexsort(
+        (
+            name_bytes(frame["name"].to_numpy().astype(str)),
+            frame["_tie"].to_numpy(),
+            frame["_key"].to_numpy(),
+        )
+    )
     return frame.iloc[order]
 
 
@@ -299,9 +312,21 @@ def _write_ranked(sorted_dir, out_dir, metric, verb, offsets, meta):
     Path(out_dir).mkdir()
     meta_json = json.dumps(meta, default=str)
     keep = [i for i in range(len(files)) if sizes[i]]
-    dask.compute(*[dask.delayed(_write_part)(
-        str(files[i]), str(Path(out_dir) / _part_name(k)), int(first[i]), float(start[i]),
-        offsets, metric, verb, meta_json) for k, i in enumerate(keep)])
+    dask.compute(
+        *[
+            dask.delayed(_write_part)(
+                str(files[i]),
+                str(Path(out_dir) / _part_name(k)),
+                int(first[i]),
+                float(start[i]),
+                offsets,
+                metric,
+                verb,
+                meta_json,
+            )
+            for k, i in enumerate(keep)
+        ]
+    )
     return float(np.sum(sums))
 
 
@@ -330,8 +355,11 @@ class ParquetRanking:
     def blocks(self, size=1 << 18, columns=None):
         """Yield the rows in rank order as dicts of arrays / Quantities (kernel-row form)."""
         skip = {"rank", "catalogue_row", "mass", "cumulative_expected_number"}
-        names = None if columns is None else list(dict.fromkeys(
-            ["catalogue_row" if c == "row" else c for c in columns]))
+        names = (
+            None
+            if columns is None
+            else list(dict.fromkeys(["catalogue_row" if c == "row" else c for c in columns]))
+        )
         for batch in self._batches(int(size), names):
             out = {}
             for name, col in zip(batch.schema.names, batch.columns, strict=True):
@@ -375,8 +403,9 @@ class ParquetRanking:
         """The given 0-based rank positions of ``columns`` as an astropy Table (a sample)."""
         from astropy.table import Table
 
-        return Table(self._dataset.take(np.asarray(rows, dtype=np.int64),
-                                        columns=list(columns)).to_pydict())
+        return Table(
+            self._dataset.take(np.asarray(rows, dtype=np.int64), columns=list(columns)).to_pydict()
+        )
 
     def close(self):
         """Nothing to remove: the Parquet ranking is an output, not a scratch file."""
@@ -385,12 +414,35 @@ class ParquetRanking:
         return f"ParquetRanking({self.n_rows} rows in {self.directory})"
 
 
-def rank_catalog_dask(catalog, sensitivity, out_dir, *, workers=2, scheduler=None,
-                      columns=None, relations=None, population=None, metric="expected_number",
-                      snr=5.0, span=None, on_bad="error", chunk_size=100_000, n_nodes=16,
-                      cosmology=None, sky="auto", sky_nside=None, files=None, inputs=None,
-                      top_rows=50, memory_limit=None, timeout=None, progress=None,
-                      overwrite=False, parquet_path=None, work_dir=None):
+def rank_catalog_dask(
+    catalog,
+    sensitivity,
+    out_dir,
+    *,
+    workers=2,
+    scheduler=None,
+    columns=None,
+    relations=None,
+    population=None,
+    metric="expected_number",
+    snr=5.0,
+    span=None,
+    on_bad="error",
+    chunk_size=100_000,
+    n_nodes=16,
+    cosmology=None,
+    sky="auto",
+    sky_nside=None,
+    files=None,
+    inputs=None,
+    top_rows=50,
+    memory_limit=None,
+    timeout=None,
+    progress=None,
+    overwrite=False,
+    parquet_path=None,
+    work_dir=None,
+):
     """Rank a Parquet or HATS catalogue on a Dask cluster; write ``out_dir/ranking.parquet``.
 
     Parameters
@@ -442,12 +494,17 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     path = Path(catalog)
     kind = columnar_kind(path) if path.exists() else None
     if kind is None:
-        raise CatalogError(f"{path.name}: the Dask engine reads Parquet files, directories of "
-                           "Parquet or HATS catalogues; convert the catalogue or use "
-                           "--engine memory" if path.exists()
-                           else f"catalogue {path} not found: check the path")
-    require_scale("the Dask engine", ("pyarrow", "dask", "distributed") +
-                  (("lsdb",) if kind == "hats" else ()))
+        raise CatalogError(
+            f"{path.name}: the Dask engine reads Parquet files, directories of "
+            "Parquet or HATS catalogues; convert the catalogue or use "
+            "--engine memory"
+            if path.exists()
+            else f"catalogue {path} not found: check the path"
+        )
+    require_scale(
+        "the Dask engine",
+        ("pyarrow", "dask", "distributed") + (("lsdb",) if kind == "hats" else ()),
+    )
     population = population or PopulationModel()
     colmap = column_map(columns)
     rels = select_relations(relations)
@@ -458,25 +515,41 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     out_dir = Path(out_dir)
     final = Path(parquet_path) if parquet_path is not None else out_dir / PARQUET_DIR
     if final.exists() and not overwrite:
-        raise FileExistsError(f"{final} already exists: choose another --out or pass "
-                              "--overwrite")
+        raise FileExistsError(f"{final} already exists: choose another --out or pass --overwrite")
     work_dir = Path(work_dir) if work_dir is not None else out_dir
     work_dir.mkdir(parents=True, exist_ok=True)
     work = Path(tempfile.mkdtemp(prefix=".ranking-dask-", dir=work_dir))
     say = progress or (lambda text: None)
     try:
-        with dask_client(workers, scheduler, memory_limit or DEFAULT_MEMORY_LIMIT,
-                         CONNECT_TIMEOUT if timeout is None else timeout):
+        with dask_client(
+            workers,
+            scheduler,
+            memory_limit or DEFAULT_MEMORY_LIMIT,
+            CONNECT_TIMEOUT if timeout is None else timeout,
+        ):
             result = _run(path, kind, plan, int(chunk_size), on_bad, work, say)
             rejections, offsets, n_read, sources, n_ranked = result
-            meta = ranking_meta(_Named(path.name), colmap, rels, population, sens, metric,
-                                on_bad, n_nodes, dz.cosmology, rejections, n_ranked, sources,
-                                n_read)
+            meta = ranking_meta(
+                _Named(path.name),
+                colmap,
+                rels,
+                population,
+                sens,
+                metric,
+                on_bad,
+                n_nodes,
+                dz.cosmology,
+                rejections,
+                n_ranked,
+                sources,
+                n_read,
+            )
             where = f"scheduler {scheduler}" if scheduler else f"{workers} local workers"
             meta["engine"] = f"dask ({where}); {kind} input"
             say("writing the ranking")
-            total = _write_ranked(work / "sorted", work / PARQUET_DIR, metric, sens.verb,
-                                  offsets, dict(meta))
+            total = _write_ranked(
+                work / "sorted", work / PARQUET_DIR, metric, sens.verb, offsets, dict(meta)
+            )
         if final.exists():  # overwrite: the old ranking goes only now
             os.rename(final, work / "replaced")
         os.rename(work / PARQUET_DIR, final)
@@ -488,10 +561,20 @@ cosmology, sky, sky_nside, files, inputs, top_rows
         table[key] = np.char.decode(np.asarray(table[key]), "utf-8")
     table.meta.update(meta)
     table.meta["provenance"] = ranking_provenance(_Named(path.name, path), files, inputs)
-    return Ranking(table=table, rejections=rejections, metric=metric, verb=sens.verb,
-                   label=sens.label(), meta=meta, n_read=n_read,
-                   sky_markers=sens.sky_markers(), sensitivity=sens, n_ranked=n_ranked,
-                   expected_total=total, runs=runs)
+    return Ranking(
+        table=table,
+        rejections=rejections,
+        metric=metric,
+        verb=sens.verb,
+        label=sens.label(),
+        meta=meta,
+        n_read=n_read,
+        sky_markers=sens.sky_markers(),
+        sensitivity=sens,
+        n_ranked=n_ranked,
+        expected_total=total,
+        runs=runs,
+    )
 
 
 class _Named:
@@ -507,10 +590,12 @@ def _run(path, kind, plan, chunk_size, on_bad, work, say):
 
     say("ranking every partition")
     _mapped(path, kind, plan, chunk_size).to_parquet(
-        str(work / "rows"), write_index=False, name_function=_part_name)
+        str(work / "rows"), write_index=False, name_function=_part_name
+    )
     rows = dd.read_parquet(str(work / "rows"))
     book = rows[rows["_status"] != _RANKED][
-        ["_status", "_part", "_local", "name", "_reason", "_value", "_count"]].compute()
+        ["_status", "_part", "_local", "name", "_reason", "_value", "_count"]
+    ].compute()
     read = book[book["_status"] == _READ].groupby("_part")["_count"].sum()
     n_parts = int(read.index.max()) + 1 if len(read) else 0
     sizes = np.zeros(n_parts, np.int64)
@@ -523,8 +608,11 @@ def _run(path, kind, plan, chunk_size, on_bad, work, say):
     say("finding repeated names")
     dup = _duplicates(ranked, offsets)
     if dup is not None and len(dup):
-        rejections.add(offsets[dup["_part"].to_numpy()] + dup["_local"].to_numpy(),
-                       dup["name"].to_numpy().astype(str), DUPLICATE_REASON)
+        rejections.add(
+            offsets[dup["_part"].to_numpy()] + dup["_local"].to_numpy(),
+            dup["name"].to_numpy().astype(str),
+            DUPLICATE_REASON,
+        )
         rejections.check(on_bad)
         drop = dup["_part"].to_numpy() * (1 << 40) + dup["_local"].to_numpy()
         ranked = ranked.map_partitions(_drop_rows, drop)
@@ -534,7 +622,7 @@ def _run(path, kind, plan, chunk_size, on_bad, work, say):
     if not n_ranked:
         raise no_rows_error(path.name, rejections)
     say("sorting")
-    ranked.sort_values(["_key", "_tie"], npartitions=-(-n_ranked // SORTED_ROWS),
-                       sort_function=_sort_frame).to_parquet(
-        str(work / "sorted"), write_index=False, name_function=_part_name)
+    ranked.sort_values(
+        ["_key", "_tie"], npartitions=-(-n_ranked // SORTED_ROWS), sort_function=_sort_frame
+    ).to_parquet(str(work / "sorted"), write_index=False, name_function=_part_name)
     return rejections, offsets, n_read, sources, n_ranked

@@ -64,8 +64,10 @@ class HostTable:
         return len(self.hosts)
 
     def __repr__(self):
-        return (f"HostTable({self.name!r}, {len(self.hosts)} hosts, "
-                f"{self.rejections.total} rows rejected)")
+        return (
+            f"HostTable({self.name!r}, {len(self.hosts)} hosts, "
+            f"{self.rejections.total} rows rejected)"
+        )
 
 
 def read_hosts(source, columns=None, on_bad="error", relations=None, cosmology=None):
@@ -126,11 +128,14 @@ def read_hosts(source, columns=None, on_bad="error", relations=None, cosmology=N
             rows.append(int(gal["row"][i]))
             sources.append(str(gal["mass_source"][i]))
     if not hosts:
-        raise CatalogError(f"{reader.name}: no usable host ({rejections.total} rows rejected: "
-                           f"{'; '.join(rejections.counts) or 'empty table'}): fix the table "
-                           "or its column mapping")
-    return HostTable(hosts, np.array(rows, dtype=np.int64), np.array(sources, dtype=str),
-                     rejections, reader.name)
+        raise CatalogError(
+            f"{reader.name}: no usable host ({rejections.total} rows rejected: "
+            f"{'; '.join(rejections.counts) or 'empty table'}): fix the table "
+            "or its column mapping"
+        )
+    return HostTable(
+        hosts, np.array(rows, dtype=np.int64), np.array(sources, dtype=str), rejections, reader.name
+    )
 
 
 def _extra_fields(piece, colmap, resolved, local, gal, rejections):
@@ -146,16 +151,22 @@ def _extra_fields(piece, colmap, resolved, local, gal, rejections):
         bad &= ok
         if bad.any():
             text = np.char.add(f"{field} = ", np.char.mod("%.4g", values[bad]))
-            rejections.add(gal["row"][bad], gal["name"][bad],
-                           f"impossible {field} (must be >= 0 and finite, in {unit})",
-                           np.char.add(text, f" {unit}"))
+            rejections.add(
+                gal["row"][bad],
+                gal["name"][bad],
+                f"impossible {field} (must be >= 0 and finite, in {unit})",
+                np.char.add(text, f" {unit}"),
+            )
             ok &= ~bad
         out[field] = values
     # each host's files are named after it: duplicate names would overwrite each other
     dup = duplicate_mask(gal["name"]) & ok
     if dup.any():
-        rejections.add(gal["row"][dup], gal["name"][dup],
-                       "duplicate name (each host's files are named after it)")
+        rejections.add(
+            gal["row"][dup],
+            gal["name"][dup],
+            "duplicate name (each host's files are named after it)",
+        )
         ok &= ~dup
     out["ok"] = ok
     return out
@@ -168,15 +179,19 @@ def _host(gal, extra, i, resolved, cosmology):
     d_err = float(extra["distance_err"][i])
     v_disp = float(extra["velocity_dispersion"][i])
     return Host(
-        str(gal["name"][i]), 10.0 ** float(gal["log_mass"][i]) * u.Msun, d * u.Mpc,
+        str(gal["name"][i]),
+        10.0 ** float(gal["log_mass"][i]) * u.Msun,
+        d * u.Mpc,
         mass_err_dex=sigma if sigma > 0 else None,
         distance_err=d_err * u.Mpc if d_err > 0 else None,
         # the mass is already at distance d; keeping d as its reference distance lets a
         # sampled distance rescale it linearly (dynamical masses scale with D)
         mass_distance=d * u.Mpc if "mass_distance" in resolved else None,
-        ra=float(gal["ra"][i]), dec=float(gal["dec"][i]),
+        ra=float(gal["ra"][i]),
+        dec=float(gal["dec"][i]),
         velocity_dispersion=v_disp * u.km / u.s if v_disp > 0 else None,
-        cosmology=cosmology)
+        cosmology=cosmology,
+    )
 
 
 def _reason(err):

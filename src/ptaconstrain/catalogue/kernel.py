@@ -20,8 +20,10 @@ from .rows import prepare_chunk
 
 __all__ = ["RankPlan", "chunk_metrics", "rank_piece", "NO_SENSITIVITY_NOTE"]
 
-NO_SENSITIVITY_NOTE = ("no sensitivity at the galaxy's position (e.g. a blank map pixel): "
-                       "metrics NaN, expected number 0")
+NO_SENSITIVITY_NOTE = (
+    "no sensitivity at the galaxy's position (e.g. a blank map pixel): "
+    "metrics NaN, expected number 0"
+)
 
 
 @dataclass(frozen=True)
@@ -75,9 +77,17 @@ def chunk_metrics(gal, sens, population, n_nodes, rejections, thresholds=None):
         thr, sky_index = sens.thresholds(gal["ra"], gal["dec"])
     else:
         thr, sky_index = thresholds, None
-    met = galaxy_metrics(gal["log_mass"], gal["log_mass_sigma"], gal["distance"] * u.Mpc,
-                         gal["redshift"], sens.frequency, thr, population, n_nodes=n_nodes,
-                         sky_index=sky_index)
+    met = galaxy_metrics(
+        gal["log_mass"],
+        gal["log_mass_sigma"],
+        gal["distance"] * u.Mpc,
+        gal["redshift"],
+        sens.frequency,
+        thr,
+        population,
+        n_nodes=n_nodes,
+        sky_index=sky_index,
+    )
     rejections.note(NO_SENSITIVITY_NOTE, np.count_nonzero(np.isnan(met["f_best"].value)))
     return {**gal, **met}
 
@@ -100,7 +110,9 @@ def rank_piece(table, plan, start_row, rejections, thresholds=None):
     dict of ndarray / Quantity
         The usable rows (possibly none: every key is there all the same).
     """
-    gal = prepare_chunk(table, plan.colmap, plan.resolved, plan.relations, start_row, plan.dz,
-                        rejections)
-    return chunk_metrics(gal, plan.sensitivity, plan.population, plan.n_nodes, rejections,
-                         thresholds)
+    gal = prepare_chunk(
+        table, plan.colmap, plan.resolved, plan.relations, start_row, plan.dz, rejections
+    )
+    return chunk_metrics(
+        gal, plan.sensitivity, plan.population, plan.n_nodes, rejections, thresholds
+    )

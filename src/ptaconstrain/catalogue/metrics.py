@@ -67,8 +67,17 @@ def most_sensitive_frequency(frequency, h0_threshold):
     return np.where(empty, -1, idx)
 
 
-def galaxy_metrics(log_mass, log_mass_sigma, distance, redshift, frequency, h0_threshold,
-                   population=None, n_nodes=16, sky_index=None):
+def galaxy_metrics(
+    log_mass,
+    log_mass_sigma,
+    distance,
+    redshift,
+    frequency,
+    h0_threshold,
+    population=None,
+    n_nodes=16,
+    sky_index=None,
+):
     """All per-galaxy metrics, vectorised over galaxies.
 
     Parameters
@@ -139,12 +148,12 @@ def galaxy_metrics(log_mass, log_mass_sigma, distance, redshift, frequency, h0_t
         # log S is normal with sd (5/3) sigma: P(S/4 > g_best) in closed form
         margin = np.log10(ratio)
         spread = (5.0 / 3.0) * sig
-        prob = np.where(spread > 0, ndtr(margin / np.where(spread > 0, spread, 1.0)),
-                        (margin > 0).astype(float))
+        prob = np.where(
+            spread > 0, ndtr(margin / np.where(spread > 0, spread, 1.0)), (margin > 0).astype(float)
+        )
         prob = np.where(np.isnan(margin), np.nan, prob)
     f_isco = wf.isco_frequency(mass, z)
-    n_exp = expected_number(mu, sig, dist, z, f, thr2, population, n_nodes=n_nodes,
-                            sky_index=sky)
+    n_exp = expected_number(mu, sig, dist, z, f, thr2, population, n_nodes=n_nodes, sky_index=sky)
     return {
         "f_best": f_best,
         "h0_threshold_best": thr_best,

@@ -71,8 +71,9 @@ def name_hashes(names):
     names = np.asarray(names)
     if names.dtype.kind == "S":
         width = max(names.dtype.itemsize, 1)
-        codes = np.frombuffer(np.ascontiguousarray(names).astype(f"S{width}").tobytes(),
-                              np.uint8).reshape(names.size, width)
+        codes = np.frombuffer(
+            np.ascontiguousarray(names).astype(f"S{width}").tobytes(), np.uint8
+        ).reshape(names.size, width)
     else:
         names = np.ascontiguousarray(names.astype(str))
         width = max(names.dtype.itemsize // 4, 1)
@@ -130,8 +131,10 @@ class NameSet:
             same = level_names[pos[hit]] == names[hit]
             dup[hit[same]] = True
             for i in hit[~same]:  # a 64-bit hash collision (about 1e-6 at 1e7 names)
-                lo, hi = np.searchsorted(level_h, h[i], "left"), np.searchsorted(
-                    level_h, h[i], "right")
+                lo, hi = (
+                    np.searchsorted(level_h, h[i], "left"),
+                    np.searchsorted(level_h, h[i], "right"),
+                )
                 dup[i] = bool(np.any(level_names[lo:hi] == names[i]))
         keep = ~dup
         order = np.argsort(h[keep], kind="stable")
@@ -161,7 +164,7 @@ def _repeats_within(h, names):
     same = names[hs] == names[first_of[rank[hs]]]
     dup[hs[same]] = True
     for i in hs[~same]:  # a hash collision inside the chunk: compare with every earlier row
-        earlier = order[start[np.searchsorted(start, rank[i], "right") - 1]:rank[i]]
+        earlier = order[start[np.searchsorted(start, rank[i], "right") - 1] : rank[i]]
         dup[i] = bool(np.any(names[earlier] == names[i]))
     return dup
 

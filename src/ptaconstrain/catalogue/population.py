@@ -98,8 +98,9 @@ class MassRatioDistribution:
     def _antiderivative(self, q):
         # p(q)/eta(q) * norm = q^g (1+q)^2 / q = q^(g-1) + 2 q^g + q^(g+1)
         g = self.index
-        return (_power_integral(g - 1.0, q) + 2.0 * _power_integral(g, q)
-                + _power_integral(g + 1.0, q))
+        return (
+            _power_integral(g - 1.0, q) + 2.0 * _power_integral(g, q) + _power_integral(g + 1.0, q)
+        )
 
     def inverse_eta_tail(self, q_low):
         """int_{max(q_low, q_min)}^1 p(q) / eta(q) dq, in closed form.
@@ -211,8 +212,9 @@ def residence_time(total_mass, mass_ratio, f_low, f_high, redshift=0.0):
     f_isco = wf.isco_frequency(total_mass, redshift)
     lo = np.minimum(f_low.to(u.Hz), f_isco)
     hi = np.minimum(f_high.to(u.Hz), f_isco)
-    dt = (wf.coalescence_time(total_mass, mass_ratio, lo, redshift)
-          - wf.coalescence_time(total_mass, mass_ratio, hi, redshift))
+    dt = wf.coalescence_time(total_mass, mass_ratio, lo, redshift) - wf.coalescence_time(
+        total_mass, mass_ratio, hi, redshift
+    )
     return np.maximum(dt, 0 * u.yr)
 
 
@@ -380,9 +382,7 @@ def sky_rows(sky_index, n_groups, n):
     """
     if sky_index is None:
         if n_groups not in (1, n):
-            raise ValueError(
-                f"h0_threshold has {n_groups} rows for {n} galaxies: give sky_index"
-            )
+            raise ValueError(f"h0_threshold has {n_groups} rows for {n} galaxies: give sky_index")
         return np.zeros(n, dtype=np.int64) if n_groups == 1 else np.arange(n)
     idx = np.broadcast_to(np.asarray(sky_index, dtype=np.int64), (n,))
     if idx.size and (idx.min() < 0 or idx.max() >= n_groups):
@@ -390,8 +390,18 @@ def sky_rows(sky_index, n_groups, n):
     return idx
 
 
-def expected_number(log_mass, log_mass_sigma, distance, redshift, frequency, h0_threshold,
-                    population, n_nodes=16, sky_index=None, max_block=65_536):
+def expected_number(
+    log_mass,
+    log_mass_sigma,
+    distance,
+    redshift,
+    frequency,
+    h0_threshold,
+    population,
+    n_nodes=16,
+    sky_index=None,
+    max_block=65_536,
+):
     """Expected number of excluded (or detectable) binaries per galaxy.
 
     N = R sum_j E_M[K [f_j^(-8/3) - min(f_{j+1}, f_ISCO)^(-8/3)]_+ W(g_j / S)]
@@ -465,8 +475,9 @@ def expected_number(log_mass, log_mass_sigma, distance, redshift, frequency, h0_
     g_band = g_band[None, :] if g_band.ndim == 1 else g_band
     sky = sky_rows(sky_index, g_band.shape[0], n)
     group = sky[rows]
-    contrib = _pair_numbers(lg_mz, log_s, group, frequency, g_band, population.mass_ratio,
-                            max_block)
+    contrib = _pair_numbers(
+        lg_mz, log_s, group, frequency, g_band, population.mass_ratio, max_block
+    )
     out = np.bincount(rows, weights=weight[sub, nodes] * contrib, minlength=n)
     return rate * out
 

@@ -208,7 +208,7 @@ class RankedRuns:
         columns = list(self._columns) if columns is None else list(columns)
         starts = self._starts()
         for b0 in range(0, self.n_rows, int(size)):
-            idx = self._order[b0:b0 + int(size)]
+            idx = self._order[b0 : b0 + int(size)]
             run = np.searchsorted(starts, idx, "right") - 1
             by_run = np.argsort(run, kind="stable")
             runs, first = np.unique(run[by_run], return_index=True)
@@ -220,7 +220,7 @@ class RankedRuns:
                 for r, a, b in zip(runs, bounds[:-1], bounds[1:], strict=True):
                     pos = by_run[a:b]
                     lo = int(idx[pos[0]] - starts[r])  # contiguous and increasing in the run
-                    piece = np.load(self._dir / f"{r}_{k}.npy", mmap_mode="r")[lo:lo + b - a]
+                    piece = np.load(self._dir / f"{r}_{k}.npy", mmap_mode="r")[lo : lo + b - a]
                     if col is None:
                         col = np.empty(idx.size, dtype=dtype or piece.dtype)
                     col[pos] = piece

@@ -41,8 +41,17 @@ from .relations import select_relations
 from .rows import Rejections, prepare_chunk
 from .thresholds import ThresholdLookup
 
-__all__ = ["Ranking", "rank_catalog", "ranking_table", "ranking_meta", "ranking_provenance",
-           "check_options", "resolve_columns", "no_rows_error", "column_map"]
+__all__ = [
+    "Ranking",
+    "rank_catalog",
+    "ranking_table",
+    "ranking_meta",
+    "ranking_provenance",
+    "check_options",
+    "resolve_columns",
+    "no_rows_error",
+    "column_map",
+]
 
 
 @dataclass(frozen=True)
@@ -119,9 +128,11 @@ class Ranking:
     def __repr__(self):
         t = self.table
         best = ", ".join(str(n) for n in t["name"][:3]) if len(t) else "none"
-        return (f"Ranking of {self.n_ranked} of {self.n_read} galaxies by {self.metric}\n"
-                f"  sensitivity: {self.label} ({self.verb}), sky: {self.meta.get('sky')}\n"
-                f"  rejected rows: {self.rejections.total}; best: {best}")
+        return (
+            f"Ranking of {self.n_ranked} of {self.n_read} galaxies by {self.metric}\n"
+            f"  sensitivity: {self.label} ({self.verb}), sky: {self.meta.get('sky')}\n"
+            f"  rejected rows: {self.rejections.total}; best: {best}"
+        )
 
     @property
     def streamed(self):
@@ -143,7 +154,7 @@ class Ranking:
         """
         if not self.streamed:
             for b0 in range(0, len(self.table), int(size)):
-                yield self.table[b0:b0 + int(size)]
+                yield self.table[b0 : b0 + int(size)]
             return
         rank, cum = 1, 0.0
         for d in self.runs.blocks(size):
@@ -187,11 +198,20 @@ class Ranking:
 
         data = self.table
         if self.streamed:  # every galaxy on the map, in rank order, from disk
-            data = Table({k: self.column(k) for k in dict.fromkeys(
-                ["rank", "ra", "dec", self.metric])}, copy=False)
-        return sky_figure(data, self.metric, self.verb, self.label,
-                          markers=self.sky_markers, top=top,
-                          rate=self.meta.get("merger_rate_per_galaxy"), ax=ax)
+            data = Table(
+                {k: self.column(k) for k in dict.fromkeys(["rank", "ra", "dec", self.metric])},
+                copy=False,
+            )
+        return sky_figure(
+            data,
+            self.metric,
+            self.verb,
+            self.label,
+            markers=self.sky_markers,
+            top=top,
+            rate=self.meta.get("merger_rate_per_galaxy"),
+            ax=ax,
+        )
 
     def summary_lines(self, top=5):
         """A few lines: counts, the sensitivity, and the best ``top`` targets."""
@@ -202,8 +222,10 @@ class Ranking:
         ]
         lines += ["  " + s for s in self.rejections.summary()]
         total = self.expected_total
-        lines.append(f"  expected number of {self.verb} binaries in all: {total:.3g} "
-                     f"(merger rate {self.meta['merger_rate_per_galaxy']} per galaxy)")
+        lines.append(
+            f"  expected number of {self.verb} binaries in all: {total:.3g} "
+            f"(merger rate {self.meta['merger_rate_per_galaxy']} per galaxy)"
+        )
         ref = "limit" if self.is_limit else "threshold"
         for row in t[:top]:
             q = row["min_mass_ratio"]
@@ -249,9 +271,11 @@ def no_rows_error(name, rejections):
     counts = rejections.counts
     top = max(counts, key=counts.get) if counts else "no rows"
     more = f" and {len(counts) - 1} other reason(s)" if len(counts) > 1 else ""
-    return CatalogError(f"{name}: no usable rows ({rejections.total} rejected; "
-                        f"{counts.get(top, 0)} for: {top}{more}): fix the catalogue "
-                        "or its column mapping")
+    return CatalogError(
+        f"{name}: no usable rows ({rejections.total} rejected; "
+        f"{counts.get(top, 0)} for: {top}{more}): fix the catalogue "
+        "or its column mapping"
+    )
 
 
 def column_map(columns):
@@ -263,11 +287,29 @@ def column_map(columns):
     return ColumnMap() if columns is None else load_column_map(columns)
 
 
-def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, population=None,
-                 metric="expected_number", snr=5.0, span=None, on_bad="error",
-                 chunk_size=100_000, n_nodes=16, cosmology=None, sky="auto", sky_nside=None,
-                 format=None, progress=None, files=None, inputs=None, stream_dir=None,
-                 top_rows=50):
+def rank_catalog(
+    catalog,
+    sensitivity,
+    *,
+    columns=None,
+    relations=None,
+    population=None,
+    metric="expected_number",
+    snr=5.0,
+    span=None,
+    on_bad="error",
+    chunk_size=100_000,
+    n_nodes=16,
+    cosmology=None,
+    sky="auto",
+    sky_nside=None,
+    format=None,
+    progress=None,
+    files=None,
+    inputs=None,
+    stream_dir=None,
+    top_rows=50,
+):
     """Read a galaxy catalogue and rank it as continuous-wave targets.
 
     Parameters
@@ -354,8 +396,11 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
                 data = chunk_metrics(gal, sens, population, n_nodes, rejections)
                 dup = seen.add(data["name"])
                 if dup.any():
-                    rejections.add(data["row"][dup], data["name"][dup],
-                                   "duplicate name (the first occurrence is kept)")
+                    rejections.add(
+                        data["row"][dup],
+                        data["name"][dup],
+                        "duplicate name (the first occurrence is kept)",
+                    )
                     rejections.check(on_bad)
                     data = {k: v[~dup] for k, v in data.items()}
                 if data["row"].size:  # running totals
@@ -387,14 +432,37 @@ def rank_catalog(catalog, sensitivity, *, columns=None, relations=None, populati
         if runs is not None:
             runs.close()
         raise
-    meta = ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes,
-                        dz.cosmology, rejections, n_ranked, sources, n_read)
+    meta = ranking_meta(
+        reader,
+        colmap,
+        rels,
+        population,
+        sens,
+        metric,
+        on_bad,
+        n_nodes,
+        dz.cosmology,
+        rejections,
+        n_ranked,
+        sources,
+        n_read,
+    )
     table.meta.update(meta)
     table.meta["provenance"] = ranking_provenance(reader, files, inputs)
-    return Ranking(table=table, rejections=rejections, metric=metric, verb=sens.verb,
-                   label=sens.label(), meta=meta, n_read=n_read,
-                   sky_markers=sens.sky_markers(), sensitivity=sens, n_ranked=n_ranked,
-                   expected_total=total, runs=runs)
+    return Ranking(
+        table=table,
+        rejections=rejections,
+        metric=metric,
+        verb=sens.verb,
+        label=sens.label(),
+        meta=meta,
+        n_read=n_read,
+        sky_markers=sens.sky_markers(),
+        sensitivity=sens,
+        n_ranked=n_ranked,
+        expected_total=total,
+        runs=runs,
+    )
 
 
 def _concat(arrays):
@@ -437,12 +505,18 @@ def ranking_table(d, metric, verb, first_rank=1, cum_start=0.0):
     t["log_mass_sigma"] = d["log_mass_sigma"]
     t["f_best"] = d["f_best"]
     t["h0_threshold_best"] = d["h0_threshold_best"]
-    for key in ("h0_equal_mass", "h0_ratio", "min_mass_ratio", "prob_equal_mass",
-                "expected_number"):
+    for key in (
+        "h0_equal_mass",
+        "h0_ratio",
+        "min_mass_ratio",
+        "prob_equal_mass",
+        "expected_number",
+    ):
         t[key] = d[key]
     # one running sum continued across blocks: the same additions as a single cumsum
     t["cumulative_expected_number"] = np.cumsum(
-        np.r_[cum_start, np.nan_to_num(d["expected_number"])])[1:]
+        np.r_[cum_start, np.nan_to_num(d["expected_number"])]
+    )[1:]
     t["isco_frequency"] = d["isco_frequency"]
     t["f_best_above_isco"] = d["f_best_above_isco"]
     for key in FIELDS:
@@ -455,8 +529,9 @@ def ranking_table(d, metric, verb, first_rank=1, cum_start=0.0):
     for key in FIELDS:
         if key in t.colnames and key not in ("name", "ra", "dec", "distance", "redshift"):
             unit = FIELDS[key][0]
-            t[key].info.description = "input: " + FIELDS[key][1] + (
-                " [mag]" if unit == "mag" else "")
+            t[key].info.description = (
+                "input: " + FIELDS[key][1] + (" [mag]" if unit == "mag" else "")
+            )
     desc = {
         "rank": f"rank by {metric}",
         "catalogue_row": "1-based data row in the input catalogue",
@@ -469,8 +544,7 @@ def ranking_table(d, metric, verb, first_rank=1, cum_start=0.0):
         "h0_equal_mass": "h0 of a q = 1 binary of the median mass at f_best",
         "h0_ratio": "h0_equal_mass / h0_threshold_best",
         "min_mass_ratio": f"smallest mass ratio {verb} at f_best (NaN: none)",
-        "prob_equal_mass": f"probability over the mass uncertainty that q = 1 is {verb} "
-                           "at f_best",
+        "prob_equal_mass": f"probability over the mass uncertainty that q = 1 is {verb} at f_best",
         "expected_number": f"expected number of {verb} binaries (population model)",
         "cumulative_expected_number": "sum of expected_number down to this rank",
         "isco_frequency": "GW frequency at the ISCO of the median mass",
@@ -502,8 +576,21 @@ def ranking_provenance(reader, files, inputs):
     return provenance(inputs, files=all_files)
 
 
-def ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes, cosmology,
-                 rejections, n_ranked, sources, n_read):
+def ranking_meta(
+    reader,
+    colmap,
+    rels,
+    population,
+    sens,
+    metric,
+    on_bad,
+    n_nodes,
+    cosmology,
+    rejections,
+    n_ranked,
+    sources,
+    n_read,
+):
     """How a ranking was made, for the table meta (``reader`` needs only ``.name``)."""
     meta = {
         "product": "continuous-wave target ranking",
@@ -526,10 +613,10 @@ def ranking_meta(reader, colmap, rels, population, sens, metric, on_bad, n_nodes
         "scatter_quadrature": f"Gauss-Legendre, {int(n_nodes)} nodes in Phi(log10 M)",
         "cosmology": getattr(cosmology, "name", None) or str(cosmology),
         "most_sensitive_frequency": "argmin over the tabulated frequencies of "
-                                    "h0_threshold / f^(2/3)",
+        "h0_threshold / f^(2/3)",
         "population_model": "steady merger rate R per galaxy; Peters (1964) residence time "
-                            "per band between tabulated frequencies, capped at f_ISCO; a band "
-                            "counts when h0 beats the threshold at both edges",
+        "per band between tabulated frequencies, capped at f_ISCO; a band "
+        "counts when h0 beats the threshold at both edges",
     }
     meta.update(population.describe())
     return meta

@@ -43,7 +43,7 @@ def count_data_rows(path):
     body = tail.rstrip(b"\r\n\t ")
     if not body and size <= (1 << 16):
         return 0
-    lines = ends - tail[len(body):].count(b"\n") + 1  # the last line, with or without "\n"
+    lines = ends - tail[len(body) :].count(b"\n") + 1  # the last line, with or without "\n"
     return max(lines - 1, 0)
 
 
@@ -92,8 +92,10 @@ class CatalogReader:
         if isinstance(source, Table):
             self._table = source
             self.name = "<table>"
-        elif format in (None, "parquet", "hats") and (
-                format or columnar_kind(source)) in ("parquet", "hats"):
+        elif format in (None, "parquet", "hats") and (format or columnar_kind(source)) in (
+            "parquet",
+            "hats",
+        ):
             path = Path(source)
             if not path.exists():
                 raise CatalogError(f"catalogue {path} not found: check the path")
@@ -128,12 +130,14 @@ class CatalogReader:
         except CatalogError:
             raise
         except UnicodeDecodeError as err:
-            raise CatalogError(f"{path.name} is not UTF-8 text ({first_line(err)}): save it "
-                               "as UTF-8 CSV") from err
+            raise CatalogError(
+                f"{path.name} is not UTF-8 text ({first_line(err)}): save it as UTF-8 CSV"
+            ) from err
         except Exception as err:  # astropy raises many types for a malformed file
             raise CatalogError(
                 f"{path.name} is not a readable CSV table ({first_line(err)}): fix the "
-                "file or convert it to ECSV") from err
+                "file or convert it to ECSV"
+            ) from err
         self.colnames = list(head.colnames)
         self.n_rows = count_data_rows(path)
         self._bytes = path.stat().st_size
@@ -156,7 +160,7 @@ class CatalogReader:
             return
         if not self.streamed:
             for start in range(0, self.n_rows, chunk_size):
-                yield start, self._table[start:start + chunk_size]
+                yield start, self._table[start : start + chunk_size]
             return
         per_row = self._bytes / max(self.n_rows, 1)
         nchars = int(max(per_row * chunk_size, 1 << 16))
@@ -168,11 +172,13 @@ class CatalogReader:
         except (CatalogError, GeneratorExit):
             raise
         except UnicodeDecodeError as err:
-            raise CatalogError(f"{self.name} is not UTF-8 text ({first_line(err)}): save it "
-                               "as UTF-8 CSV") from err
+            raise CatalogError(
+                f"{self.name} is not UTF-8 text ({first_line(err)}): save it as UTF-8 CSV"
+            ) from err
         except Exception as err:  # astropy raises many types for a malformed row
             raise CatalogError(
-                f"{self.name}: cannot read rows ({first_line(err)}): fix the file") from err
+                f"{self.name}: cannot read rows ({first_line(err)}): fix the file"
+            ) from err
 
     def __repr__(self):
         how = f"streamed {self.kind}" if self.streamed else "in memory"
@@ -183,8 +189,9 @@ def _read_whole(path, format):
     from .._files import read_table
 
     kw = {"memmap": True} if format == "fits" and not path.name.lower().endswith(".gz") else {}
-    return read_table(path, "table", CatalogError, format=format,
-                      hint="use ECSV, CSV, FITS or VOTable", **kw)
+    return read_table(
+        path, "table", CatalogError, format=format, hint="use ECSV, CSV, FITS or VOTable", **kw
+    )
 
 
 def _open_text(path):
@@ -198,8 +205,9 @@ def _open_text(path):
     with open(path, "rb") as fh:
         start = fh.read(4)
     if start[:2] in (b"\xff\xfe", b"\xfe\xff"):
-        raise CatalogError(f"{path.name} is UTF-16 text: save it as UTF-8 CSV (with or "
-                           "without a byte-order mark)")
+        raise CatalogError(
+            f"{path.name} is UTF-16 text: save it as UTF-8 CSV (with or without a byte-order mark)"
+        )
     return open(path, encoding="utf-8-sig", newline="")
 
 
@@ -231,7 +239,7 @@ def _csv_pieces(path, nchars):
             if not chunk:
                 body, rest = rest, ""
             else:
-                body, rest = rest + chunk[: last + 1], chunk[last + 1:]
+                body, rest = rest + chunk[: last + 1], chunk[last + 1 :]
             if body.strip():
                 yield _parse_csv(header + body)
             if not chunk:

@@ -47,10 +47,25 @@ _FORMS = ("power_law", "linear")
 _REQUIRED = ("name", "predictor", "alpha", "beta", "pivot", "unit", "scatter_dex", "citation")
 #: schema of a relations TOML file (see :func:`ptaconstrain._inputs.check_schema`);
 #: unknown keys of an entry are named by :func:`load_relations` itself
-RELATIONS_SCHEMA = {"relation": [{
-    "name": str, "predictor": str, "alpha": float, "beta": float, "pivot": float,
-    "unit": str, "scatter_dex": float, "citation": str, "form": str, "from_memory": bool,
-    "note": str, "*": object}], "*": object}
+RELATIONS_SCHEMA = {
+    "relation": [
+        {
+            "name": str,
+            "predictor": str,
+            "alpha": float,
+            "beta": float,
+            "pivot": float,
+            "unit": str,
+            "scatter_dex": float,
+            "citation": str,
+            "form": str,
+            "from_memory": bool,
+            "note": str,
+            "*": object,
+        }
+    ],
+    "*": object,
+}
 
 
 class RelationError(InputError):
@@ -206,8 +221,10 @@ class Relation:
         else:
             law = f"log M = {self.alpha:g} + {self.beta:g} (x - ({self.pivot:g} {self.unit}))"
         mem = " (from memory)" if self.from_memory else ""
-        return (f"{self.name}: {self.predictor}, {law}, scatter {self.scatter_dex:g} dex; "
-                f"{self.citation}{mem}")
+        return (
+            f"{self.name}: {self.predictor}, {law}, scatter {self.scatter_dex:g} dex; "
+            f"{self.citation}{mem}"
+        )
 
 
 def load_relations(path):
@@ -325,8 +342,7 @@ def select_relations(choices=None):
             out.append(shipped[item])
         else:
             raise RelationError(
-                f"relation {item!r} is unknown: use one of {', '.join(shipped)} "
-                "or a .toml file"
+                f"relation {item!r} is unknown: use one of {', '.join(shipped)} or a .toml file"
             )
     names = [r.name for r in out]
     dup = {n for n in names if names.count(n) > 1}

@@ -83,8 +83,11 @@ class Rejections:
             self._rows.append(rows)
             self._names.append(np.asarray(names, dtype=str))
             self._reasons.append(np.full(rows.size, reason, dtype=object))
-            self._values.append(np.full(rows.size, "", dtype=object) if values is None
-                                else np.asarray(values, dtype=object))
+            self._values.append(
+                np.full(rows.size, "", dtype=object)
+                if values is None
+                else np.asarray(values, dtype=object)
+            )
 
     def note(self, reason, count):
         """Count ``count`` rows kept under an assumption described by ``reason``."""
@@ -131,14 +134,24 @@ class Rejections:
         from astropy.table import Table
 
         if not self._rows:
-            return Table({"row": np.zeros(0, np.int64), "name": np.zeros(0, "U1"),
-                          "value": np.zeros(0, "U1"), "reason": np.zeros(0, "U1")})
+            return Table(
+                {
+                    "row": np.zeros(0, np.int64),
+                    "name": np.zeros(0, "U1"),
+                    "value": np.zeros(0, "U1"),
+                    "reason": np.zeros(0, "U1"),
+                }
+            )
         rows = np.concatenate(self._rows)
         order = np.argsort(rows, kind="stable")
-        return Table({"row": rows[order] + 1,
-                      "name": np.concatenate(self._names)[order],
-                      "value": np.concatenate(self._values)[order].astype(str),
-                      "reason": np.concatenate(self._reasons)[order].astype(str)})
+        return Table(
+            {
+                "row": rows[order] + 1,
+                "name": np.concatenate(self._names)[order],
+                "value": np.concatenate(self._values)[order].astype(str),
+                "reason": np.concatenate(self._reasons)[order].astype(str),
+            }
+        )
 
     def summary(self):
         """Lines 'N rows skipped: reason' and 'N rows: note' (empty when clean)."""
@@ -183,15 +196,17 @@ def column_values(table, colmap, resolved, field):
         try:
             data = np.ma.filled(np.ma.asarray(column).astype(float), np.nan)
         except (TypeError, ValueError) as err:
-            raise CatalogError(f"catalogue column {col!r} ({field}) is not numeric: map a "
-                               "numeric column") from err
+            raise CatalogError(
+                f"catalogue column {col!r} ({field}) is not numeric: map a numeric column"
+            ) from err
     target = FIELDS[field][0]
     unit = colmap.unit(field, column)
     if target is None or unit is None or target == "mag" or unit == u.Unit(target):
         return data
     try:  # the one unit rule: the column's unit must be of the field's physical type
-        factor = _inputs.quantity(f"1 {unit.to_string()}", target,
-                                  f"catalogue column {col!r} ({field})").value
+        factor = _inputs.quantity(
+            f"1 {unit.to_string()}", target, f"catalogue column {col!r} ({field})"
+        ).value
     except InputError as err:
         raise CatalogError(str(err)) from err
     return data * factor
@@ -215,9 +230,11 @@ class _Rows:
 
 def _describe(label, values, unit=""):
     """A function giving 'label = value unit' for the rows of a mask (formatted lazily)."""
+
     def shown(mask):
         text = np.char.mod("%.4g", np.asarray(values, dtype=float)[mask])
         return np.char.add(f"{label} = ", np.char.add(text, f" {unit}".rstrip()))
+
     return shown
 
 
@@ -239,11 +256,12 @@ def _sky(table, resolved, state):
         return np.char.add(np.char.add("RA = ", ra_text), np.char.add(", Dec = ", dec_text))
 
     state.reject(unreadable, f"sky position unreadable: {_SEXAGESIMAL_HINT}", shown)
-    state.reject(~np.isfinite(ra) | ~np.isfinite(dec), "sky position missing (blank or NaN)",
-                 shown)
-    state.reject(_inputs.sky_out_of_range(ra, dec),
-                 f"sky position out of range ({_inputs.SKY_RANGE_TEXT}); numbers are degrees",
-                 shown)
+    state.reject(~np.isfinite(ra) | ~np.isfinite(dec), "sky position missing (blank or NaN)", shown)
+    state.reject(
+        _inputs.sky_out_of_range(ra, dec),
+        f"sky position out of range ({_inputs.SKY_RANGE_TEXT}); numbers are degrees",
+        shown,
+    )
     return ra, dec
 
 
@@ -256,29 +274,40 @@ def _distance(table, colmap, resolved, dz, state):
     d_max = float(dz.distance(_inputs.Z_LIMIT))
     plausible = f"outside the plausible {_inputs.distance_range_text(d_max)}"
     with np.errstate(invalid="ignore"):
-        state.reject(~np.isnan(d) & ~((d > 0) & (d < np.inf)),
-                     "impossible distance (must be positive and finite)",
-                     _describe("distance", d, "Mpc"))
+        state.reject(
+            ~np.isnan(d) & ~((d > 0) & (d < np.inf)),
+            "impossible distance (must be positive and finite)",
+            _describe("distance", d, "Mpc"),
+        )
         have_d, have_z = np.isfinite(d) & (d > 0), np.isfinite(z)
         hint = ""
         if dist is not None and not colmap.declared("distance", table[resolved["distance"]]):
             hint = _inputs.distance_column_hint(d[have_d & ~state.bad])
         if hint:  # a bare column that looks like kpc: none of its values can be trusted
-            state.reject(have_d, f"distance is not plausible in Mpc (bare numbers are Mpc; "
-                         f"plausible: {_inputs.distance_range_text(d_max)}){hint}",
-                         _describe("distance", d, "Mpc"))
-        state.reject(have_d & _inputs.distance_out_of_range(d, dz.cosmology),
-                     f"distance is {plausible}; bare numbers are Mpc",
-                     _describe("distance", d, "Mpc"))
-        state.reject(have_z & ((z < 0) | (z > _inputs.Z_LIMIT) | (~have_d & (z == 0))),
-                     f"redshift is outside the plausible 0 < z <= {_inputs.Z_LIMIT:g}",
-                     _describe("redshift", z))
+            state.reject(
+                have_d,
+                f"distance is not plausible in Mpc (bare numbers are Mpc; "
+                f"plausible: {_inputs.distance_range_text(d_max)}){hint}",
+                _describe("distance", d, "Mpc"),
+            )
+        state.reject(
+            have_d & _inputs.distance_out_of_range(d, dz.cosmology),
+            f"distance is {plausible}; bare numbers are Mpc",
+            _describe("distance", d, "Mpc"),
+        )
+        state.reject(
+            have_z & ((z < 0) | (z > _inputs.Z_LIMIT) | (~have_d & (z == 0))),
+            f"redshift is outside the plausible 0 < z <= {_inputs.Z_LIMIT:g}",
+            _describe("redshift", z),
+        )
         state.reject(~have_d & ~have_z, "no distance or redshift (blank or NaN)")
         use_z = ~have_d & have_z & ~state.bad
         d = np.where(use_z, dz.distance(np.where(use_z, z, 1.0)), d)
-        state.reject(use_z & _inputs.distance_out_of_range(d, dz.cosmology),
-                     f"distance from the redshift is {plausible}",
-                     _describe("redshift", z))
+        state.reject(
+            use_z & _inputs.distance_out_of_range(d, dz.cosmology),
+            f"distance from the redshift is {plausible}",
+            _describe("redshift", z),
+        )
         z = np.where(have_d & ~have_z & ~state.bad, dz.redshift(np.where(have_d, d, 1.0)), z)
     return d, z
 
@@ -293,20 +322,27 @@ def _measured_mass(table, colmap, resolved, d, state):
     plausible = f"outside the plausible {_inputs.mass_range_text()} for a massive black hole"
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         mm = np.full(n, np.nan) if m is None else m
-        state.reject(~np.isnan(mm) & ~((mm > 0) & (mm < np.inf)),
-                     "impossible mass (must be positive and finite)",
-                     _describe("mass", mm, "solMass"))
-        state.reject(_inputs.mass_out_of_range(mm),
-                     f"mass is {plausible}; bare numbers are solMass"
-                     f"{_inputs.mass_column_hint(mm)}", _describe("mass", mm, "solMass"))
+        state.reject(
+            ~np.isnan(mm) & ~((mm > 0) & (mm < np.inf)),
+            "impossible mass (must be positive and finite)",
+            _describe("mass", mm, "solMass"),
+        )
+        state.reject(
+            _inputs.mass_out_of_range(mm),
+            f"mass is {plausible}; bare numbers are solMass{_inputs.mass_column_hint(mm)}",
+            _describe("mass", mm, "solMass"),
+        )
         meas = np.where(np.isfinite(mm) & (mm > 0), np.log10(mm), np.nan)
         if lm is not None:
-            state.reject(np.isinf(lm), "impossible log_mass (not finite)",
-                         _describe("log_mass", lm))
+            state.reject(
+                np.isinf(lm), "impossible log_mass (not finite)", _describe("log_mass", lm)
+            )
             use_lm = np.isnan(meas) & np.isfinite(lm)
-            state.reject(use_lm & _inputs.mass_out_of_range(10.0**lm),
-                         f"log_mass gives a mass {plausible}; log_mass is log10(M/solMass)",
-                         _describe("log_mass", lm))
+            state.reject(
+                use_lm & _inputs.mass_out_of_range(10.0**lm),
+                f"log_mass gives a mass {plausible}; log_mass is log10(M/solMass)",
+                _describe("log_mass", lm),
+            )
             meas = np.where(np.isnan(meas), lm, meas)
         err = np.full(n, np.nan)
         edex = column_values(table, colmap, resolved, "mass_err_dex")
@@ -320,8 +356,11 @@ def _measured_mass(table, colmap, resolved, d, state):
             err = np.where(np.isnan(err) & (elin >= 0), frac, err)
         dref = column_values(table, colmap, resolved, "mass_distance")
         if dref is not None:
-            state.reject(~np.isnan(dref) & ~(dref > 0), "impossible mass_distance (must be > 0)",
-                         _describe("mass_distance", dref, "Mpc"))
+            state.reject(
+                ~np.isnan(dref) & ~(dref > 0),
+                "impossible mass_distance (must be > 0)",
+                _describe("mass_distance", dref, "Mpc"),
+            )
             meas = meas + np.where(dref > 0, np.log10(d / dref), 0.0)
     return meas, err
 
@@ -339,16 +378,20 @@ def _relation_masses(table, colmap, resolved, relations, log_m, sig, source, inp
         if rel.form == "power_law" and rel.predictor not in noted:
             noted.add(rel.predictor)
             with np.errstate(invalid="ignore"):
-                state.rejections.note(f"{rel.predictor} <= 0 treated as missing",
-                                      np.count_nonzero(free & (x <= 0)))
+                state.rejections.note(
+                    f"{rel.predictor} <= 0 treated as missing", np.count_nonzero(free & (x <= 0))
+                )
         use = free & np.isfinite(est)
         s = np.full(log_m.size, rel.scatter_dex)
         xerr = column_values(table, colmap, resolved, rel.predictor + "_err")
         if xerr is not None:
             inputs[rel.predictor + "_err"] = xerr
             with np.errstate(invalid="ignore"):
-                state.reject(use & (xerr < 0), f"negative {rel.predictor}_err",
-                             _describe(rel.predictor + "_err", xerr))
+                state.reject(
+                    use & (xerr < 0),
+                    f"negative {rel.predictor}_err",
+                    _describe(rel.predictor + "_err", xerr),
+                )
                 ok = xerr >= 0
             prop = np.where(ok, rel.log_mass_error(x, np.where(ok, xerr, 0)), 0)
             s = np.hypot(s, np.nan_to_num(prop))
@@ -408,8 +451,10 @@ def prepare_chunk(table, colmap, resolved, relations, start_row, dz, rejections)
     meas, err = _measured_mass(table, colmap, resolved, d, state)
     if meas is not None:
         have_m = np.isfinite(meas) & ~state.bad
-        rejections.note("measured mass without an error: 0 dex assumed",
-                        np.count_nonzero(have_m & np.isnan(err)))
+        rejections.note(
+            "measured mass without an error: 0 dex assumed",
+            np.count_nonzero(have_m & np.isnan(err)),
+        )
         log_m[have_m] = meas[have_m]
         sig[have_m] = np.nan_to_num(err[have_m], nan=0.0)
         source[have_m] = "measured"
@@ -417,13 +462,23 @@ def prepare_chunk(table, colmap, resolved, relations, start_row, dz, rejections)
             inputs["mass_measured"] = np.where(np.isfinite(meas), 10.0**meas, np.nan)
         inputs["mass_err_dex"] = err
     _relation_masses(table, colmap, resolved, relations, log_m, sig, source, inputs, state)
-    state.reject(np.isnan(log_m),
-                 "no usable mass (no measured mass and no predictor for the chosen relations)")
+    state.reject(
+        np.isnan(log_m),
+        "no usable mass (no measured mass and no predictor for the chosen relations)",
+    )
 
     keep = ~state.bad
-    out = {"row": state.rows[keep], "name": names[keep], "ra": ra[keep], "dec": dec[keep],
-           "distance": d[keep], "redshift": z[keep], "log_mass": log_m[keep],
-           "log_mass_sigma": sig[keep], "mass_source": source[keep].astype(str)}
+    out = {
+        "row": state.rows[keep],
+        "name": names[keep],
+        "ra": ra[keep],
+        "dec": dec[keep],
+        "distance": d[keep],
+        "redshift": z[keep],
+        "log_mass": log_m[keep],
+        "log_mass_sigma": sig[keep],
+        "mass_source": source[keep].astype(str),
+    }
     for key, arr in inputs.items():
         out[key] = np.asarray(arr, dtype=float)[keep]
     return out

@@ -85,10 +85,12 @@ class ThresholdLookup(FromCurve):
         if not positional and not isinstance(sensitivity, StrainCurve):
             raise InputError(
                 f"sensitivity: a {type(sensitivity).__name__} is neither a StrainCurve nor a "
-                "positional sensitivity (pulsar array, limit map); load one of those")
+                "positional sensitivity (pulsar array, limit map); load one of those"
+            )
         if positional and span is not None:
-            raise InputError("span: a pulsar array or limit map carries its own observing "
-                             "span; drop the span")
+            raise InputError(
+                "span: a pulsar array or limit map carries its own observing span; drop the span"
+            )
         self.source = sensitivity
         self.snr = float(snr)
         self.curve = sensitivity.curve_at(None) if positional else sensitivity
@@ -98,10 +100,12 @@ class ThresholdLookup(FromCurve):
         if not positional or sky == "averaged":
             self.mode = "averaged" if positional else "curve"
             self._fixed = np.asarray(
-                self.curve.h0_threshold(self.frequency, snr=self.snr, span=span), dtype=float)
+                self.curve.h0_threshold(self.frequency, snr=self.snr, span=span), dtype=float
+            )
             return
-        table = sensitivity.threshold_table(self.frequency, snr=self.snr,
-                                            nside=sky_nside or DEFAULT_NSIDE)
+        table = sensitivity.threshold_table(
+            self.frequency, snr=self.snr, nside=sky_nside or DEFAULT_NSIDE
+        )
         self._table = _checked(table, self.frequency.size)
         self.mode = f"healpix nside={table.nside}"
 
@@ -140,8 +144,9 @@ class ThresholdLookup(FromCurve):
         else:
             from astropy.coordinates import SkyCoord
 
-            sph = SkyCoord(ra * u.deg, dec * u.deg, frame="icrs").transform_to(
-                table.frame).spherical
+            sph = (
+                SkyCoord(ra * u.deg, dec * u.deg, frame="icrs").transform_to(table.frame).spherical
+            )
             lon, lat = sph.lon.deg, sph.lat.deg
         pix = hp.ang2pix(table.nside, lon, lat, lonlat=True)
         used, index = np.unique(pix, return_inverse=True)
@@ -180,10 +185,10 @@ class ThresholdLookup(FromCurve):
 def _checked(table, n_f):
     """The sensitivity's answer, refused unless it keeps the Protocol's promise."""
     if not isinstance(table, HealpixThresholds):
-        raise TypeError(f"threshold_table returned a {type(table).__name__}, "
-                        "not HealpixThresholds")
+        raise TypeError(f"threshold_table returned a {type(table).__name__}, not HealpixThresholds")
     shape = (12 * int(table.nside) ** 2, n_f)
     if np.shape(table.values) != shape:
-        raise TypeError(f"threshold_table values have shape {np.shape(table.values)}, "
-                        f"expected {shape}")
+        raise TypeError(
+            f"threshold_table values have shape {np.shape(table.values)}, expected {shape}"
+        )
     return table

@@ -31,20 +31,24 @@ _NO_ARGS_IS_HELP = getattr(click.exceptions, "NoArgsIsHelpError", ())
 class OneLineErrors(click.Group):
     """A click group that reports errors on one line and soft assumptions as notes."""
 
-    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True,
-             **extra):
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
         from ..errors import PtaconstrainError, PtaconstrainWarning
 
         argv = sys.argv[1:] if args is None else list(args)
-        debug = "--debug" in argv[:_first_command(argv)]
+        debug = "--debug" in argv[: _first_command(argv)]
         line, status = None, 0
         with warnings.catch_warnings(record=True) as caught:
             # every warning is collected (none may end a command): ours and astropy's
             # become notes, numpy's RuntimeWarnings one note in all (_show_warnings)
             warnings.simplefilter("always")
             try:
-                rv = super().main(args=args, prog_name=prog_name, complete_var=complete_var,
-                                  standalone_mode=False, **extra)
+                rv = super().main(
+                    args=args,
+                    prog_name=prog_name,
+                    complete_var=complete_var,
+                    standalone_mode=False,
+                    **extra,
+                )
             except click.exceptions.Abort:
                 line, status = "Aborted.", 1
             except _NO_ARGS_IS_HELP as err:  # bare `ptaconstrain`: the help, as click shows it
@@ -64,8 +68,10 @@ class OneLineErrors(click.Group):
             except Exception as err:  # anything else is a bug, and says so
                 if debug:
                     raise
-                line = (f"internal error: {type(err).__name__}: {_one_line(err)} — please "
-                        "report it; rerun with --debug for the traceback")
+                line = (
+                    f"internal error: {type(err).__name__}: {_one_line(err)} — please "
+                    "report it; rerun with --debug for the traceback"
+                )
                 status = EXIT_INTERNAL
         # notes only after a success: a failed command's one line stays one line
         _show_warnings(caught, PtaconstrainWarning, notes=line is None)
@@ -99,8 +105,11 @@ def _show_warnings(caught, ours, notes=True):
         if not notes:
             continue
         if issubclass(w.category, ours) or w.category.__module__.startswith("astropy"):
-            text = _squeeze(str(w.message).strip().splitlines()[0] if str(w.message).strip()
-                            else w.category.__name__)
+            text = _squeeze(
+                str(w.message).strip().splitlines()[0]
+                if str(w.message).strip()
+                else w.category.__name__
+            )
         elif issubclass(w.category, RuntimeWarning):
             numeric += 1
             continue
@@ -114,8 +123,11 @@ def _show_warnings(caught, ours, notes=True):
             seen.add(text)
             click.echo(f"Note: {text}", err=True)
     if numeric:
-        click.echo("Note: the computation met numerical overflow or invalid values (at "
-                   "extreme inputs); check the results", err=True)
+        click.echo(
+            "Note: the computation met numerical overflow or invalid values (at "
+            "extreme inputs); check the results",
+            err=True,
+        )
 
 
 def _squeeze(text):
@@ -132,8 +144,9 @@ def _one_line(err):
 
 @click.group(cls=OneLineErrors, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="ptaconstrain")
-@click.option("--debug", is_flag=True,
-              help="Show the full traceback of an error instead of one line.")
+@click.option(
+    "--debug", is_flag=True, help="Show the full traceback of an error instead of one line."
+)
 def main(debug):
     """Bound black-hole companions in galaxies with pulsar-timing-array sensitivity.
 

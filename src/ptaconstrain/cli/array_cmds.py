@@ -24,8 +24,7 @@ def _nside(ctx, param, value):
     try:
         return check_nside(value)
     except ValueError as err:
-        raise click.BadParameter(str(err).removeprefix("nside: "), ctx=ctx,
-                                 param=param) from err
+        raise click.BadParameter(str(err).removeprefix("nside: "), ctx=ctx, param=param) from err
 
 
 def _progress(length, label):
@@ -36,35 +35,56 @@ def _progress(length, label):
 
 # options shared by the commands of this module
 _array_option = click.option(
-    "--array", "array_file", type=ARRAY_FILE, required=True,
+    "--array",
+    "array_file",
+    type=ARRAY_FILE,
+    required=True,
     help="Pulsar list: an ECSV file, or a shipped name such as demo_array "
-    "('ptaconstrain data' lists them).")
+    "('ptaconstrain data' lists them).",
+)
 _pulsar_term_option = click.option(
-    "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2).")
+    "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2)."
+)
 _background_option = click.option(
-    "--background", type=BackgroundType(), default=None, help=BACKGROUND_HELP)
+    "--background", type=BackgroundType(), default=None, help=BACKGROUND_HELP
+)
 
 
 @main.command()
 @_array_option
-@click.option("--out", type=click.Path(dir_okay=False), required=True,
-              help="Output curve file (.ecsv).")
-@click.option("--ra", default=None, help="Source RA (deg or e.g. '12h30m49s'); omit for "
-              "the sky average.")
+@click.option(
+    "--out", type=click.Path(dir_okay=False), required=True, help="Output curve file (.ecsv)."
+)
+@click.option(
+    "--ra", default=None, help="Source RA (deg or e.g. '12h30m49s'); omit for the sky average."
+)
 @click.option("--dec", default=None, help="Source Dec (deg or e.g. '+12d23m28s').")
-@click.option("--snr", type=SNR, default=5.0, show_default=True,
-              help="S/N threshold quoted in the summary (stored in the curve's meta).")
+@click.option(
+    "--snr",
+    type=SNR,
+    default=5.0,
+    show_default=True,
+    help="S/N threshold quoted in the summary (stored in the curve's meta).",
+)
 @_pulsar_term_option
 @_background_option
-@click.option("--years", type=YearList(), default=None,
-              help="Forecast over time: extend every pulsar's schedule by these years at its "
-              "own cadence, one curve per epoch (OUT_plus<Y>yr.ecsv), e.g. 5,10,20.")
-@click.option("--rms-factor", type=click.FloatRange(min=1), default=1.0, show_default=True,
-              help="With --years: divide every TOA rms by this (a better backend).")
+@click.option(
+    "--years",
+    type=YearList(),
+    default=None,
+    help="Forecast over time: extend every pulsar's schedule by these years at its "
+    "own cadence, one curve per epoch (OUT_plus<Y>yr.ecsv), e.g. 5,10,20.",
+)
+@click.option(
+    "--rms-factor",
+    type=click.FloatRange(min=1),
+    default=1.0,
+    show_default=True,
+    help="With --years: divide every TOA rms by this (a better backend).",
+)
 @click.option("--overwrite", is_flag=True, help="Replace an existing --out file.")
 @max_memory_option
-def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_factor,
-          overwrite):
+def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_factor, overwrite):
     """Noise-budget curve (strain PSD) of a pulsar array, at a position or sky-averaged.
 
     \b
@@ -87,9 +107,14 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_fac
     if years is None and rms_factor != 1.0:
         raise click.UsageError("--rms-factor applies to --years only")
     out_path = Path(out)
-    outs = [out_path] if years is None else [
-        out_path.with_name(f"{out_path.stem}_plus{y:g}yr{out_path.suffix or '.ecsv'}")
-        for y in years]
+    outs = (
+        [out_path]
+        if years is None
+        else [
+            out_path.with_name(f"{out_path.stem}_plus{y:g}yr{out_path.suffix or '.ecsv'}")
+            for y in years
+        ]
+    )
     check_new(outs, overwrite)
     coord = coord_from(ra=ra, dec=dec)
     base = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
@@ -101,9 +126,16 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_fac
             arr.weights(freq, callback=bar.update)
         result = arr.curve_at(coord, snr=snr, frequency=freq)
         result.meta["provenance"] = provenance(
-            {"ra": str(ra), "dec": str(dec), "snr": f"{snr:g}", "pulsar_term": str(pulsar_term),
-             "background": result.meta["background"], "array_epoch": arr.name},
-            files={"array": array_file})
+            {
+                "ra": str(ra),
+                "dec": str(dec),
+                "snr": f"{snr:g}",
+                "pulsar_term": str(pulsar_term),
+                "background": result.meta["background"],
+                "array_epoch": arr.name,
+            },
+            files={"array": array_file},
+        )
         results.append(result)
     with output_set(out_path.parent, safe_name(out_path.name), overwrite):
         for result, path in zip(results, outs, strict=True):
@@ -117,19 +149,37 @@ def curve(array_file, out, ra, dec, snr, pulsar_term, background, years, rms_fac
             f"{nhz_text(result.frequency[0])} - {nhz_text(result.frequency[-1])}; most "
             f"sensitive at {nhz_text(result.frequency[i])}: detectable (forecast) for h0 >= "
             f"{h0[i]:.3g} (dimensionless strain) at S/N >= {snr:g}, orientation-averaged; "
-            f"background: {result.meta['background']}")
+            f"background: {result.meta['background']}"
+        )
 
 
 @main.command()
 @_array_option
-@click.option("--frequency", "frequencies", type=FREQUENCY, multiple=True, required=True,
-              help="GW frequency of a map, e.g. '8 nHz' (bare numbers are Hz); repeatable.")
-@click.option("--nside", type=int, default=32, show_default=True, callback=_nside,
-              help="HEALPix resolution (a power of 2).")
-@click.option("--snr", type=SNR, default=5.0, show_default=True,
-              help="S/N threshold of the mapped h0.")
-@click.option("--out", type=click.Path(file_okay=False), required=True,
-              help="Output directory (FITS map + PNG figure per frequency).")
+@click.option(
+    "--frequency",
+    "frequencies",
+    type=FREQUENCY,
+    multiple=True,
+    required=True,
+    help="GW frequency of a map, e.g. '8 nHz' (bare numbers are Hz); repeatable.",
+)
+@click.option(
+    "--nside",
+    type=int,
+    default=32,
+    show_default=True,
+    callback=_nside,
+    help="HEALPix resolution (a power of 2).",
+)
+@click.option(
+    "--snr", type=SNR, default=5.0, show_default=True, help="S/N threshold of the mapped h0."
+)
+@click.option(
+    "--out",
+    type=click.Path(file_okay=False),
+    required=True,
+    help="Output directory (FITS map + PNG figure per frequency).",
+)
 @_pulsar_term_option
 @_background_option
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
@@ -157,8 +207,11 @@ def threshold_map(array_file, frequencies, nside, snr, out, pulsar_term, backgro
     stems = [out / f"{MAP_STEM}_{f.to_value(u.nHz):.4g}nHz" for f in freq]
     check_new([fits_path] + [f"{s}.png" for s in stems], overwrite)
     # a whole-sky map per figure, its temporaries and the figure's raster: ~4 float64 a pixel
-    check_memory(4 * 8.0 * 12 * nside**2, f"a sky map of nside {nside} "
-                 f"({12 * nside**2:,} pixels)", "lower --nside")
+    check_memory(
+        4 * 8.0 * 12 * nside**2,
+        f"a sky map of nside {nside} ({12 * nside**2:,} pixels)",
+        "lower --nside",
+    )
     arr = load_array(array_file, pulsar_term=pulsar_term).with_background(background)
     arr.check_band(freq)  # before the progress bar starts
     with _progress(len(arr), "timing-model fits") as bar:
@@ -182,24 +235,37 @@ def _write_maps(arr, freq, nside, snr, fits_path, stems, overwrite):
 
     npix = 12 * nside**2
     with _progress(npix, "FITS file") as bar:
+
         def rows():
             for pix, block in arr.threshold_map_blocks(freq, nside, snr, by="pixel"):
                 yield block
                 bar.update(pix.stop - pix.start)
 
-        write_threshold_maps(fits_path, rows(), freq, snr, arr.span,
-                             f"pulsar list {arr.name}", overwrite=overwrite, nside=nside,
-                             extra={**fits_cards(provenance()), **_background_cards(arr)})
-    lines = [f"wrote {fits_path} (HEALPix nside {nside}, RING, equatorial; "
-             f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"]
+        write_threshold_maps(
+            fits_path,
+            rows(),
+            freq,
+            snr,
+            arr.span,
+            f"pulsar list {arr.name}",
+            overwrite=overwrite,
+            nside=nside,
+            extra={**fits_cards(provenance()), **_background_cards(arr)},
+        )
+    lines = [
+        f"wrote {fits_path} (HEALPix nside {nside}, RING, equatorial; "
+        f"{freq.size} map(s) of h0 for S/N >= {snr:g}, forecast)"
+    ]
     with _progress(freq.size, "figures") as bar:
         for fs, maps in arr.threshold_map_blocks(freq, nside, snr, by="frequency"):
             for f, m, stem in zip(freq[fs], maps, stems[fs], strict=True):
                 fig = sky_map_figure(
-                    m, pulsars=arr.sky_markers(),
+                    m,
+                    pulsars=arr.sky_markers(),
                     title=f"{arr.name}: h0 detectable at S/N >= {snr:g} (forecast), "
-                          f"f = {nhz_text(f)}" + _background_title(arr),
-                    label=threshold_label(snr))
+                    f"f = {nhz_text(f)}" + _background_title(arr),
+                    label=threshold_label(snr),
+                )
                 save_figure(fig, stem, ("png",), overwrite)
                 lines.append(_map_summary(f, m, snr, nside) + f"; figure {stem}.png")
                 bar.update(1)
@@ -228,5 +294,7 @@ def _map_summary(f, m, snr, nside):
     for tag, pix in (("best", best), ("worst", worst)):
         ra, dec = hp.pix2ang(nside, pix, lonlat=True)
         text.append(f"{m[pix]:.3g} ({tag}, ra={ra:.0f}deg dec={dec:.0f}deg)")
-    return (f"f = {nhz_text(f)}: h0 for S/N >= {snr:g} (dimensionless strain) from {text[0]} "
-            f"to {text[1]}; sky-averaged {sky_avg:.3g}")
+    return (
+        f"f = {nhz_text(f)}: h0 for S/N >= {snr:g} (dimensionless strain) from {text[0]} "
+        f"to {text[1]}; sky-averaged {sky_avg:.3g}"
+    )

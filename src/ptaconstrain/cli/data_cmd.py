@@ -32,13 +32,15 @@ def data(name):
             click.echo(str(path(name)))
         except FileNotFoundError as err:
             raise click.BadParameter(
-                f"{name!r} is not shipped; 'ptaconstrain data' lists the names",
-                param_hint="'NAME'") from err
+                f"{name!r} is not shipped; 'ptaconstrain data' lists the names", param_hint="'NAME'"
+            ) from err
         return
     files = shipped()
     width = max(len(f.name) for f in files)
     kind_width = max(len(KINDS[f.kind]) for f in files)
-    click.echo("Shipped data (give the name wherever a file is asked for, e.g. "
-               "--curve synthetic_h0_limit):")
+    click.echo(
+        "Shipped data (give the name wherever a file is asked for, e.g. "
+        "--curve synthetic_h0_limit):"
+    )
     for f in files:
         click.echo(f"  {f.name:<{width}}  {KINDS[f.kind]:<{kind_width}}  {f.description}")

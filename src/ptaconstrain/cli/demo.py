@@ -9,8 +9,13 @@ __all__ = ["demo"]
 
 
 @main.command()
-@click.option("--out", type=click.Path(file_okay=False), default="ptaconstrain-demo",
-              show_default=True, help="Output directory; must be empty or new.")
+@click.option(
+    "--out",
+    type=click.Path(file_okay=False),
+    default="ptaconstrain-demo",
+    show_default=True,
+    help="Output directory; must be empty or new.",
+)
 @click.option("--overwrite", is_flag=True, help="Write into a non-empty --out, replacing files.")
 @max_memory_option
 def demo(out, overwrite):

@@ -18,8 +18,9 @@ def explicit_options(ctx=None):
     ctx = ctx or click.get_current_context(silent=True)
     if ctx is None:
         return frozenset()
-    return frozenset(name for name in ctx.params
-                     if ctx.get_parameter_source(name) == ParameterSource.COMMANDLINE)
+    return frozenset(
+        name for name in ctx.params if ctx.get_parameter_source(name) == ParameterSource.COMMANDLINE
+    )
 
 
 def _note(text):
@@ -43,19 +44,27 @@ def note_ignored_options(explicit, forecast, sampled, option=None):
         The sensitivity option used (``--curve``, ``--array``, ``--limit-map``).
     """
     if not forecast and "snr" in explicit:
-        _note("--snr is ignored: an upper limit is compared with h0 directly; the S/N "
-              "threshold applies to noise budgets and pulsar lists")
+        _note(
+            "--snr is ignored: an upper limit is compared with h0 directly; the S/N "
+            "threshold applies to noise budgets and pulsar lists"
+        )
     if not forecast and "inclination" in explicit:
-        _note("--inclination is ignored: an upper limit bounds h0 itself; the inclination "
-              "applies to forecasts from noise budgets and pulsar lists")
+        _note(
+            "--inclination is ignored: an upper limit bounds h0 itself; the inclination "
+            "applies to forecasts from noise budgets and pulsar lists"
+        )
     if option in ("--array", "--limit-map") and "confidence" in explicit:
-        _note(f"--confidence is ignored with {option}: it sets the confidence of a "
-              "--curve that states none")
+        _note(
+            f"--confidence is ignored with {option}: it sets the confidence of a "
+            "--curve that states none"
+        )
     if not sampled:
         for name in ("samples", "seed", "credibility"):
             if name in explicit:
-                _note(f"--{name} is ignored: no host has a mass, distance or velocity "
-                      "error, so nothing is sampled")
+                _note(
+                    f"--{name} is ignored: no host has a mass, distance or velocity "
+                    "error, so nothing is sampled"
+                )
 
 
 def note_assumed_span(curve, span):
@@ -66,5 +75,7 @@ def note_assumed_span(curve, span):
     """
     if curve.is_limit and curve.span is None and span is None:
         guess = curve.observing_span()
-        _note(f"span: the curve states no observing span, so {guess.to_value('yr'):.3g} yr "
-              "(1 / lowest frequency) is assumed for the chirping test; give --span")
+        _note(
+            f"span: the curve states no observing span, so {guess.to_value('yr'):.3g} yr "
+            "(1 / lowest frequency) is assumed for the chirping test; give --span"
+        )

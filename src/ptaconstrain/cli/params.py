@@ -5,11 +5,32 @@ astropy is imported only when a value is converted, never at start-up.
 
 import click
 
-__all__ = ["QuantityType", "RangeType", "FormatList", "MassError", "DistanceError",
-           "LevelList", "InputFile", "CURVE_FILE", "ARRAY_FILE", "LIMIT_MAP_FILE",
-           "CATALOGUE_FILE", "MASS_SAMPLES_FILE", "BackgroundType", "BACKGROUND_HELP",
-           "YearList", "MASS", "DISTANCE", "TIME", "FREQUENCY", "SPEED", "POSITIVE",
-           "SNR", "Checked", "max_memory_option"]
+__all__ = [
+    "QuantityType",
+    "RangeType",
+    "FormatList",
+    "MassError",
+    "DistanceError",
+    "LevelList",
+    "InputFile",
+    "CURVE_FILE",
+    "ARRAY_FILE",
+    "LIMIT_MAP_FILE",
+    "CATALOGUE_FILE",
+    "MASS_SAMPLES_FILE",
+    "BackgroundType",
+    "BACKGROUND_HELP",
+    "YearList",
+    "MASS",
+    "DISTANCE",
+    "TIME",
+    "FREQUENCY",
+    "SPEED",
+    "POSITIVE",
+    "SNR",
+    "Checked",
+    "max_memory_option",
+]
 
 
 class QuantityType(click.ParamType):
@@ -40,8 +61,7 @@ class QuantityType(click.ParamType):
         except InputError as err:
             text = str(err)
             # click names the option already: drop the library's field prefix
-            self.fail(text[len(field) + 2:] if text.startswith(f"{field}: ") else text,
-                      param, ctx)
+            self.fail(text[len(field) + 2 :] if text.startswith(f"{field}: ") else text, param, ctx)
         return q
 
 
@@ -114,8 +134,12 @@ class FormatList(click.ParamType):
         items = tuple(dict.fromkeys(v.strip().lower().lstrip(".") for v in str(value).split(",")))
         bad = [v for v in items if v not in self.choices]
         if bad or not items:
-            self.fail(f"unknown figure format {bad[0] if bad else value!r}: use "
-                      f"{', '.join(self.choices)}", param, ctx)
+            self.fail(
+                f"unknown figure format {bad[0] if bad else value!r}: use "
+                f"{', '.join(self.choices)}",
+                param,
+                ctx,
+            )
         return items
 
 
@@ -135,8 +159,12 @@ class MassError(click.ParamType):
             return {"mass_err_frac": _fraction(text, self, param, ctx)}
         parts = [_float(p, self, param, ctx) for p in text.split(",")]
         if len(parts) not in (1, 2) or min(parts) < 0:
-            self.fail(f"{text!r}: give dex >= 0 ('0.2'), lower,upper dex ('0.15,0.25') "
-                      "or a percentage ('30%')", param, ctx)
+            self.fail(
+                f"{text!r}: give dex >= 0 ('0.2'), lower,upper dex ('0.15,0.25') "
+                "or a percentage ('30%')",
+                param,
+                ctx,
+            )
         return {"mass_err_dex": tuple(parts) if len(parts) == 2 else parts[0]}
 
 
@@ -164,8 +192,7 @@ class LevelList(click.ParamType):
             return value
         levels = tuple(_float(p, self, param, ctx) for p in str(value).split(","))
         if not levels or not all(0 < v < 1 for v in levels):
-            self.fail(f"{value!r}: each level must be in (0, 1), e.g. 0.5,0.9,0.95",
-                      param, ctx)
+            self.fail(f"{value!r}: each level must be in (0, 1), e.g. 0.5,0.9,0.95", param, ctx)
         return tuple(sorted(set(levels)))
 
 
@@ -201,8 +228,11 @@ class InputFile(click.ParamType):
 
         from ..data import shipped
 
-        items = [CompletionItem(f.name) for f in shipped()
-                 if f.kind in self.kinds and f.name.startswith(incomplete)]
+        items = [
+            CompletionItem(f.name)
+            for f in shipped()
+            if f.kind in self.kinds and f.name.startswith(incomplete)
+        ]
         return items + [CompletionItem(incomplete, type="file")]
 
 
@@ -240,14 +270,19 @@ class YearList(click.ParamType):
             return value
         years = tuple(_float(p, self, param, ctx) for p in str(value).split(","))
         if not years or not all(0 <= y <= 100 for y in years):
-            self.fail(f"{value!r}: give years added to the schedules, each in [0, 100], "
-                      "e.g. 5,10,20", param, ctx)
+            self.fail(
+                f"{value!r}: give years added to the schedules, each in [0, 100], e.g. 5,10,20",
+                param,
+                ctx,
+            )
         return tuple(sorted(set(years)))
 
 
 #: Help text of every ``--background`` option.
-BACKGROUND_HELP = ("Background as common red noise in every pulsar: A or A,gamma (gamma "
-                   "13/3 by default), e.g. 2.4e-15; per pulsar, without cross-correlations.")
+BACKGROUND_HELP = (
+    "Background as common red noise in every pulsar: A or A,gamma (gamma "
+    "13/3 by default), e.g. 2.4e-15; per pulsar, without cross-correlations."
+)
 
 MASS = QuantityType("solMass")
 DISTANCE = QuantityType("Mpc")
@@ -292,13 +327,19 @@ def _set_max_memory(ctx, param, value):
     try:
         set_memory_limit(parse_bytes(value))
     except InputError as err:
-        raise click.BadParameter(str(err).removeprefix("max-memory: "), ctx=ctx,
-                                 param=param) from err
+        raise click.BadParameter(
+            str(err).removeprefix("max-memory: "), ctx=ctx, param=param
+        ) from err
     return value
 
 
 #: ``--max-memory``: raise (or lower) the memory limit of one command (default 4 GB)
 max_memory_option = click.option(
-    "--max-memory", default=None, expose_value=False, is_eager=True, callback=_set_max_memory,
+    "--max-memory",
+    default=None,
+    expose_value=False,
+    is_eager=True,
+    callback=_set_max_memory,
     help="Memory limit of the computation, e.g. 16GB (default 4 GB, or the environment "
-         "variable PTACONSTRAIN_MAX_MEMORY); larger estimates are refused before starting.")
+    "variable PTACONSTRAIN_MAX_MEMORY); larger estimates are refused before starting.",
+)

@@ -23,5 +23,6 @@ def progress_bar(length, label):
     -------
     click progress bar (a context manager with ``update(n)``)
     """
-    return click.progressbar(length=max(int(length), 1), label=label, file=sys.stderr,
-                             hidden=not sys.stderr.isatty())
+    return click.progressbar(
+        length=max(int(length), 1), label=label, file=sys.stderr, hidden=not sys.stderr.isatty()
+    )

@@ -28,8 +28,9 @@ def _column_options(pairs):
     for text in pairs:
         field, sep, col = str(text).partition("=")
         if not sep or not field.strip() or not col.strip():
-            raise click.BadParameter(f"{text!r}: write FIELD=COLUMN, e.g. distance=dist_mpc",
-                                     param_hint="'--column'")
+            raise click.BadParameter(
+                f"{text!r}: write FIELD=COLUMN, e.g. distance=dist_mpc", param_hint="'--column'"
+            )
         out[field.strip()] = col.strip()
     return out
 
@@ -66,68 +67,199 @@ def _stage_line(text):
 
 @main.command()
 @click.argument("catalog", type=CATALOGUE_FILE)
-@click.option("--curve", type=CURVE_FILE, default=None,
-              help="Sensitivity curve (ECSV, text with --kind, or a shipped name).")
-@click.option("--kind", type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
-              default=None, help="What a plain-text --curve holds.")
-@click.option("--array", "array_path", type=ARRAY_FILE, default=None,
-              help="Pulsar list (ECSV, or a shipped name): sky-dependent forecast.")
-@click.option("--background", type=BackgroundType(), default=None,
-              help=BACKGROUND_HELP + " With --array only.")
-@click.option("--limit-map", "limit_map_path", type=LIMIT_MAP_FILE, default=None,
-              help="HEALPix FITS map of h0 upper limits (or a shipped name).")
-@click.option("--out", type=click.Path(file_okay=False), required=True,
-              help="Output directory.")
-@click.option("--metric", type=click.Choice(METRIC_CHOICES), default="expected_number",
-              show_default=True, help="What the ranking sorts by.")
-@click.option("--relation", multiple=True,
-              help="Mass relation name or TOML file, in order of preference; repeat. "
-                   "Default: all shipped relations.")
-@click.option("--columns", "columns_file", type=click.Path(dir_okay=False), default=None,
-              help="TOML column mapping ([columns] FIELD = \"name\", [units] ...).")
-@click.option("--column", "column_pairs", multiple=True,
-              help="One mapping FIELD=COLUMN (repeatable; overrides --columns).")
-@click.option("--top", type=click.IntRange(1), default=20, show_default=True,
-              help="Targets to list, mark and write to ranking_top.ecsv.")
-@click.option("--full-ecsv", is_flag=True,
-              help="Also write the whole table as ranking.ecsv (slow; for small catalogues).")
-@click.option("--on-bad", type=click.Choice(["error", "skip"]), default="error",
-              show_default=True, help="Stop at a bad row, or skip bad rows and count them.")
-@click.option("--rate", type=QuantityType("1/yr"), default="1e-10", show_default=True,
-              help="Binary merger rate per galaxy; bare numbers are per yr.")
-@click.option("--q-min", type=click.FloatRange(0, 1, min_open=True, max_open=True),
-              default=0.01, show_default=True, help="Smallest mass ratio of the population.")
-@click.option("--q-index", type=Checked("q_index"), default=-1.0, show_default=True,
-              help="Power-law index of p(q) (-1: log-uniform).")
-@click.option("--snr", type=SNR, default=5.0, show_default=True,
-              help="S/N threshold for noise budgets.")
-@click.option("--span", type=TIME, default=None,
-              help="Observing span for a noise-budget --curve; bare numbers are yr.")
-@click.option("--sky-averaged", is_flag=True,
-              help="Ignore galaxy positions with --array/--limit-map.")
-@click.option("--nodes", type=click.IntRange(1, 64), default=16, show_default=True,
-              help="Quadrature nodes over the mass scatter.")
-@click.option("--chunk-size", type=click.IntRange(1000), default=100_000, show_default=True,
-              help="Rows read and computed at a time.")
-@click.option("--exclusion-figures", type=click.IntRange(0, 50), default=0,
-              show_default=True, help="Also draw the exclusion figure of this many top targets.")
-@click.option("--format", "formats", type=FormatList(), default="png", show_default=True,
-              help="Figure formats, e.g. png,pdf.")
-@click.option("--engine", type=click.Choice(["memory", "dask"]), default="memory",
-              show_default=True,
-              help="dask: rank a Parquet or HATS catalogue on a Dask cluster (needs the "
-                   "'scale' extra); writes ranking.parquet/ instead of ranking.fits.")
-@click.option("--workers", type=click.IntRange(1), default=2, show_default=True,
-              help="Local Dask cluster size (one process and thread each, 2 GB limit).")
-@click.option("--scheduler", default=None,
-              help="Address of an existing Dask scheduler, e.g. tcp://10.0.0.5:8786 "
-                   "(instead of a local cluster).")
+@click.option(
+    "--curve",
+    type=CURVE_FILE,
+    default=None,
+    help="Sensitivity curve (ECSV, text with --kind, or a shipped name).",
+)
+@click.option(
+    "--kind",
+    type=click.Choice(["h0_limit", "strain_psd", "characteristic_strain"]),
+    default=None,
+    help="What a plain-text --curve holds.",
+)
+@click.option(
+    "--array",
+    "array_path",
+    type=ARRAY_FILE,
+    default=None,
+    help="Pulsar list (ECSV, or a shipped name): sky-dependent forecast.",
+)
+@click.option(
+    "--background",
+    type=BackgroundType(),
+    default=None,
+    help=BACKGROUND_HELP + " With --array only.",
+)
+@click.option(
+    "--limit-map",
+    "limit_map_path",
+    type=LIMIT_MAP_FILE,
+    default=None,
+    help="HEALPix FITS map of h0 upper limits (or a shipped name).",
+)
+@click.option("--out", type=click.Path(file_okay=False), required=True, help="Output directory.")
+@click.option(
+    "--metric",
+    type=click.Choice(METRIC_CHOICES),
+    default="expected_number",
+    show_default=True,
+    help="What the ranking sorts by.",
+)
+@click.option(
+    "--relation",
+    multiple=True,
+    help="Mass relation name or TOML file, in order of preference; repeat. "
+    "Default: all shipped relations.",
+)
+@click.option(
+    "--columns",
+    "columns_file",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help='TOML column mapping ([columns] FIELD = "name", [units] ...).',
+)
+@click.option(
+    "--column",
+    "column_pairs",
+    multiple=True,
+    help="One mapping FIELD=COLUMN (repeatable; overrides --columns).",
+)
+@click.option(
+    "--top",
+    type=click.IntRange(1),
+    default=20,
+    show_default=True,
+    help="Targets to list, mark and write to ranking_top.ecsv.",
+)
+@click.option(
+    "--full-ecsv",
+    is_flag=True,
+    help="Also write the whole table as ranking.ecsv (slow; for small catalogues).",
+)
+@click.option(
+    "--on-bad",
+    type=click.Choice(["error", "skip"]),
+    default="error",
+    show_default=True,
+    help="Stop at a bad row, or skip bad rows and count them.",
+)
+@click.option(
+    "--rate",
+    type=QuantityType("1/yr"),
+    default="1e-10",
+    show_default=True,
+    help="Binary merger rate per galaxy; bare numbers are per yr.",
+)
+@click.option(
+    "--q-min",
+    type=click.FloatRange(0, 1, min_open=True, max_open=True),
+    default=0.01,
+    show_default=True,
+    help="Smallest mass ratio of the population.",
+)
+@click.option(
+    "--q-index",
+    type=Checked("q_index"),
+    default=-1.0,
+    show_default=True,
+    help="Power-law index of p(q) (-1: log-uniform).",
+)
+@click.option(
+    "--snr", type=SNR, default=5.0, show_default=True, help="S/N threshold for noise budgets."
+)
+@click.option(
+    "--span",
+    type=TIME,
+    default=None,
+    help="Observing span for a noise-budget --curve; bare numbers are yr.",
+)
+@click.option(
+    "--sky-averaged", is_flag=True, help="Ignore galaxy positions with --array/--limit-map."
+)
+@click.option(
+    "--nodes",
+    type=click.IntRange(1, 64),
+    default=16,
+    show_default=True,
+    help="Quadrature nodes over the mass scatter.",
+)
+@click.option(
+    "--chunk-size",
+    type=click.IntRange(1000),
+    default=100_000,
+    show_default=True,
+    help="Rows read and computed at a time.",
+)
+@click.option(
+    "--exclusion-figures",
+    type=click.IntRange(0, 50),
+    default=0,
+    show_default=True,
+    help="Also draw the exclusion figure of this many top targets.",
+)
+@click.option(
+    "--format",
+    "formats",
+    type=FormatList(),
+    default="png",
+    show_default=True,
+    help="Figure formats, e.g. png,pdf.",
+)
+@click.option(
+    "--engine",
+    type=click.Choice(["memory", "dask"]),
+    default="memory",
+    show_default=True,
+    help="dask: rank a Parquet or HATS catalogue on a Dask cluster (needs the "
+    "'scale' extra); writes ranking.parquet/ instead of ranking.fits.",
+)
+@click.option(
+    "--workers",
+    type=click.IntRange(1),
+    default=2,
+    show_default=True,
+    help="Local Dask cluster size (one process and thread each, 2 GB limit).",
+)
+@click.option(
+    "--scheduler",
+    default=None,
+    help="Address of an existing Dask scheduler, e.g. tcp://10.0.0.5:8786 "
+    "(instead of a local cluster).",
+)
 @click.option("--overwrite", is_flag=True, help="Replace existing output files.")
 @max_memory_option
-def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation, columns_file,
-         column_pairs, top, full_ecsv, on_bad, rate, q_min, q_index, snr, span, sky_averaged, nodes,
-         chunk_size, exclusion_figures, formats, engine, workers, scheduler, overwrite,
-         background):
+def rank(
+    catalog,
+    curve,
+    kind,
+    array_path,
+    limit_map_path,
+    out,
+    metric,
+    relation,
+    columns_file,
+    column_pairs,
+    top,
+    full_ecsv,
+    on_bad,
+    rate,
+    q_min,
+    q_index,
+    snr,
+    span,
+    sky_averaged,
+    nodes,
+    chunk_size,
+    exclusion_figures,
+    formats,
+    engine,
+    workers,
+    scheduler,
+    overwrite,
+    background,
+):
     """Rank a galaxy catalogue as continuous-wave targets.  Example:
 
     \b
@@ -175,8 +307,10 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path, background)
     population = PopulationModel(rate, MassRatioDistribution(q_min, q_index))
     if engine == "dask" and full_ecsv:
-        raise click.UsageError("--full-ecsv is for --engine memory; the Dask engine writes "
-                               "the whole ranking as ranking.parquet/")
+        raise click.UsageError(
+            "--full-ecsv is for --engine memory; the Dask engine writes "
+            "the whole ranking as ranking.parquet/"
+        )
     if scheduler and engine != "dask":
         raise click.UsageError("--scheduler applies to --engine dask only")
     check_new(ranking_output_paths(out, formats, full_ecsv, engine), overwrite)
@@ -192,22 +326,49 @@ def rank(catalog, curve, kind, array_path, limit_map_path, out, metric, relation
     if columns_file:
         files["columns"] = columns_file
     files.update({f"relation_{i}": r for i, r in enumerate(relation) if r.endswith(".toml")})
-    options = {"metric": metric, "relations": ",".join(relation) or "all shipped",
-               "on_bad": on_bad, "rate": str(rate), "q_min": q_min, "q_index": q_index,
-               "snr": snr, "span": str(span), "sky_averaged": sky_averaged, "nodes": nodes,
-               "background": "none" if background is None else background.describe()}
+    options = {
+        "metric": metric,
+        "relations": ",".join(relation) or "all shipped",
+        "on_bad": on_bad,
+        "rate": str(rate),
+        "q_min": q_min,
+        "q_index": q_index,
+        "snr": snr,
+        "span": str(span),
+        "sky_averaged": sky_averaged,
+        "nodes": nodes,
+        "background": "none" if background is None else background.describe(),
+    }
     if engine == "dask":
         options.update(engine="dask", workers=workers, scheduler=scheduler)
     with progress_bar(n_rows, "ranking") as bar:
         ranking, written = rank_to_files(
-            reader, sens, out, files=files, options=options, formats=formats, top=top,
-            exclusion_figures=exclusion_figures, overwrite=overwrite, progress=bar.update,
-            full_ecsv=full_ecsv, engine=engine, workers=workers, scheduler=scheduler,
+            reader,
+            sens,
+            out,
+            files=files,
+            options=options,
+            formats=formats,
+            top=top,
+            exclusion_figures=exclusion_figures,
+            overwrite=overwrite,
+            progress=bar.update,
+            full_ecsv=full_ecsv,
+            engine=engine,
+            workers=workers,
+            scheduler=scheduler,
             stage=_stage_line,
             columns=columns,
-            relations=list(relation) or None, population=population, metric=metric,
-            snr=snr, span=span, on_bad=on_bad, chunk_size=chunk_size, n_nodes=nodes,
-            sky="averaged" if sky_averaged else "auto")
+            relations=list(relation) or None,
+            population=population,
+            metric=metric,
+            snr=snr,
+            span=span,
+            on_bad=on_bad,
+            chunk_size=chunk_size,
+            n_nodes=nodes,
+            sky="averaged" if sky_averaged else "auto",
+        )
     for line in ranking.summary_lines(top):
         click.echo(line)
     click.echo(f"wrote {len(written)} files in {out}/: " + ", ".join(p.name for p in written))

@@ -2,8 +2,7 @@
 
 import click
 
-__all__ = ["Sensitivity", "load_sensitivity", "load_curves", "provenance_files",
-           "is_ecsv"]
+__all__ = ["Sensitivity", "load_sensitivity", "load_curves", "provenance_files", "is_ecsv"]
 
 
 def load_curves(paths, kind=None, confidence=None):
@@ -28,8 +27,9 @@ def load_curves(paths, kind=None, confidence=None):
         return load_curve(paths, kind=kind, confidence=confidence)
     from ..sensitivity.combined import tightest_limit
 
-    curves = [load_curve(p, kind=None if is_ecsv(p) else kind, confidence=confidence)
-              for p in paths]
+    curves = [
+        load_curve(p, kind=None if is_ecsv(p) else kind, confidence=confidence) for p in paths
+    ]
     names = [Path(p).name for p in paths]
     if len(set(names)) < len(names):
         names = [str(p) for p in paths]
@@ -84,8 +84,9 @@ class Sensitivity:
         return self.option.lstrip("-").replace("-", "_")
 
 
-def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0, confidence=None,
-                     background=None):
+def load_sensitivity(
+    curve_path, kind, array_path, limit_map_path, snr=5.0, confidence=None, background=None
+):
     """Load the one sensitivity given; an array's timing fits run behind a progress bar.
 
     Raises
@@ -100,11 +101,13 @@ def load_sensitivity(curve_path, kind, array_path, limit_map_path, snr=5.0, conf
     sources = {"--curve": curve_path, "--array": array_path, "--limit-map": limit_map_path}
     given = [k for k, v in sources.items() if v is not None]
     if len(given) != 1:
-        raise click.UsageError("give exactly one of --curve, --array or --limit-map"
-                               + (f" (got {', '.join(given)})" if given else ""))
+        raise click.UsageError(
+            "give exactly one of --curve, --array or --limit-map"
+            + (f" (got {', '.join(given)})" if given else "")
+        )
     option = given[0]
     path = sources[option]
-    for one in (path if isinstance(path, tuple) else (path,)):
+    for one in path if isinstance(path, tuple) else (path,):
         if not Path(one).is_file():
             raise click.UsageError(f"{option} {one}: file not found; check the path")
     if kind is not None and option != "--curve":

@@ -79,30 +79,70 @@ class ShippedFile:
 
 
 _SHIPPED = (
-    ShippedFile("synthetic_h0_limit", "synthetic_h0_limit.ecsv", "curve",
-                "INVENTED 95% upper limit on CW strain h0 of a fictional array, 15 yr "
-                "(an upper limit: gives exclusions)"),
-    ShippedFile("synthetic_future_psd", "synthetic_future_psd.ecsv", "curve",
-                "INVENTED strain-noise PSD of a fictional future array, 20 yr "
-                "(a noise budget: gives forecasts)"),
-    ShippedFile("synthetic_h0_limit_map", "synthetic_h0_limit_map.fits", "limit map",
-                "INVENTED HEALPix map of h0 upper limits, deeper towards RA 280, Dec -35 deg"),
-    ShippedFile("demo_array", "demo_array.ecsv", "pulsar list",
-                "INVENTED pulsar list of a fictional timing array (fictional pulsars)"),
-    ShippedFile("demo_hosts", "demo_hosts.ecsv", "hosts",
-                "INVENTED host galaxies of the demo (fictional names, masses, positions)"),
-    ShippedFile("example_hosts", "example_hosts.ecsv", "hosts",
-                "INVENTED table of 12 fictional hosts for 'exclude --hosts' (every kind of "
-                "row: errors, redshift only, mass from M-sigma)"),
-    ShippedFile("demo_catalogue", "demo_catalogue.ecsv", "catalogue",
-                "INVENTED catalogue of 400 fictional massive galaxies"),
-    ShippedFile("demo_mass_samples", "demo_mass_samples.ecsv", "mass samples",
-                "INVENTED weighted posterior samples of a black-hole mass and distance "
-                "(2e10 solMass at 100 Mpc, skewed)"),
-    ShippedFile("relations", "relations.toml", "relations",
-                "published black-hole mass scaling relations, each cited (not invented)"),
-    ShippedFile("planck18_distance", "planck18_distance.ecsv", "cosmology",
-                "luminosity distance of astropy's Planck18 cosmology (not invented)"),
+    ShippedFile(
+        "synthetic_h0_limit",
+        "synthetic_h0_limit.ecsv",
+        "curve",
+        "INVENTED 95% upper limit on CW strain h0 of a fictional array, 15 yr "
+        "(an upper limit: gives exclusions)",
+    ),
+    ShippedFile(
+        "synthetic_future_psd",
+        "synthetic_future_psd.ecsv",
+        "curve",
+        "INVENTED strain-noise PSD of a fictional future array, 20 yr "
+        "(a noise budget: gives forecasts)",
+    ),
+    ShippedFile(
+        "synthetic_h0_limit_map",
+        "synthetic_h0_limit_map.fits",
+        "limit map",
+        "INVENTED HEALPix map of h0 upper limits, deeper towards RA 280, Dec -35 deg",
+    ),
+    ShippedFile(
+        "demo_array",
+        "demo_array.ecsv",
+        "pulsar list",
+        "INVENTED pulsar list of a fictional timing array (fictional pulsars)",
+    ),
+    ShippedFile(
+        "demo_hosts",
+        "demo_hosts.ecsv",
+        "hosts",
+        "INVENTED host galaxies of the demo (fictional names, masses, positions)",
+    ),
+    ShippedFile(
+        "example_hosts",
+        "example_hosts.ecsv",
+        "hosts",
+        "INVENTED table of 12 fictional hosts for 'exclude --hosts' (every kind of "
+        "row: errors, redshift only, mass from M-sigma)",
+    ),
+    ShippedFile(
+        "demo_catalogue",
+        "demo_catalogue.ecsv",
+        "catalogue",
+        "INVENTED catalogue of 400 fictional massive galaxies",
+    ),
+    ShippedFile(
+        "demo_mass_samples",
+        "demo_mass_samples.ecsv",
+        "mass samples",
+        "INVENTED weighted posterior samples of a black-hole mass and distance "
+        "(2e10 solMass at 100 Mpc, skewed)",
+    ),
+    ShippedFile(
+        "relations",
+        "relations.toml",
+        "relations",
+        "published black-hole mass scaling relations, each cited (not invented)",
+    ),
+    ShippedFile(
+        "planck18_distance",
+        "planck18_distance.ecsv",
+        "cosmology",
+        "luminosity distance of astropy's Planck18 cosmology (not invented)",
+    ),
 )
 _BY_NAME = {f.name: f for f in _SHIPPED} | {f.filename: f for f in _SHIPPED}
 
@@ -137,8 +177,11 @@ def names():
     True
     """
     root = resources.files(__name__)
-    return sorted(p.name for p in root.iterdir()
-                  if p.is_file() and not p.name.endswith(".py") and not p.name.startswith("."))
+    return sorted(
+        p.name
+        for p in root.iterdir()
+        if p.is_file() and not p.name.endswith(".py") and not p.name.startswith(".")
+    )
 
 
 def path(name):
@@ -170,8 +213,7 @@ def path(name):
     entry = _BY_NAME.get(str(name))
     target = resources.files(__name__).joinpath(entry.filename if entry else str(name))
     if not target.is_file():
-        raise FileNotFoundError(
-            f"no shipped data file {name!r}; shipped: {', '.join(names())}")
+        raise FileNotFoundError(f"no shipped data file {name!r}; shipped: {', '.join(names())}")
     return Path(str(target))
 
 
@@ -217,11 +259,15 @@ def resolve(text, kinds):
     if entry is not None and entry.kind in kinds:
         return entry.path
     if entry is not None:
-        raise InputError(f"{text}: the shipped {entry.name!r} is a {KINDS[entry.kind]}, "
-                         f"not a {what}; shipped: {', '.join(fits) or 'none'}")
+        raise InputError(
+            f"{text}: the shipped {entry.name!r} is a {KINDS[entry.kind]}, "
+            f"not a {what}; shipped: {', '.join(fits) or 'none'}"
+        )
     problem = "is a directory, not a file" if given.is_dir() else "file not found"
-    raise InputError(f"{text}: {problem}, and no shipped {what} has that name "
-                     f"(shipped: {', '.join(fits) or 'none'}; 'ptaconstrain data' lists all)")
+    raise InputError(
+        f"{text}: {problem}, and no shipped {what} has that name "
+        f"(shipped: {', '.join(fits) or 'none'}; 'ptaconstrain data' lists all)"
+    )
 
 
 def shipped_name(file):

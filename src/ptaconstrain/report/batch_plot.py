@@ -38,14 +38,22 @@ def batch_overview_figure(bounds, title=None):
     height = rows_in + 2.3  # title 0.75 in, axis label and a 3-line legend 1.55 in
     fig = Figure(figsize=(7.2, height))
     ax = fig.subplots()
-    fig.subplots_adjust(left=0.3 if named else 0.12, right=0.96,
-                        top=1 - 0.75 / height, bottom=1.55 / height)
+    fig.subplots_adjust(
+        left=0.3 if named else 0.12, right=0.96, top=1 - 0.75 / height, bottom=1.55 / height
+    )
     y = np.arange(n)[::-1]  # the tightest bound at the top
     verb = "excluded" if bounds.is_limit else "detectable"
     qs = q[order]
     ok = np.isfinite(qs)
-    ax.plot(qs[ok], y[ok], ls="none", marker="v", color="#D55E00", ms=6 if named else 3,
-            label=f"best-fit host: q larger than the marker (to its right) {verb}")
+    ax.plot(
+        qs[ok],
+        y[ok],
+        ls="none",
+        marker="v",
+        color="#D55E00",
+        ms=6 if named else 3,
+        label=f"best-fit host: q larger than the marker (to its right) {verb}",
+    )
     top = max(bounds.credibility) if bounds.credibility else None
     if top is not None:
         _, cq = bounds.credible(top)
@@ -53,17 +61,31 @@ def batch_overview_figure(bounds, title=None):
         has = np.isfinite(cq) & ok
         if has.any():
             ax.hlines(y[has], qs[has], cq[has], color="0.5", lw=0.8)
-            ax.plot(cq[has], y[has], ls="none", marker="v", mfc="white", mec="black",
-                    ms=6 if named else 3,
-                    label=f"{verb} with probability ≥ {100 * top:g}% over the host's mass "
-                          "and distance errors (none: no errors, or no such bound)")
+            ax.plot(
+                cq[has],
+                y[has],
+                ls="none",
+                marker="v",
+                mfc="white",
+                mec="black",
+                ms=6 if named else 3,
+                label=f"{verb} with probability ≥ {100 * top:g}% over the host's mass "
+                "and distance errors (none: no errors, or no such bound)",
+            )
     finite = np.concatenate([qs[ok], cq[has] if top is not None and has.any() else []])
     lo = 0.5 * finite.min() if finite.size else 1e-3
     ax.set_xscale("log")
     ax.set_xlim(lo, 1.3)
     if (~ok).any():
-        ax.plot(np.full((~ok).sum(), 1.0), y[~ok], ls="none", marker="x", color="0.4",
-                ms=5 if named else 3, label=f"no companion {verb} on the grid")
+        ax.plot(
+            np.full((~ok).sum(), 1.0),
+            y[~ok],
+            ls="none",
+            marker="x",
+            color="0.4",
+            ms=5 if named else 3,
+            label=f"no companion {verb} on the grid",
+        )
     ax.set_ylim(-0.8, n - 0.2)
     if named:
         names = [bounds.maps[i].host.name for i in order]
@@ -71,15 +93,21 @@ def batch_overview_figure(bounds, title=None):
     else:
         ax.set_ylabel("host, ordered by its tightest bound (best at the top)")
         ax.set_yticks([])
-    ax.set_xlabel("tightest bound on the mass ratio q = m₂/m₁ (at the period where it is "
-                  "tightest)", fontsize=9)
+    ax.set_xlabel(
+        "tightest bound on the mass ratio q = m₂/m₁ (at the period where it is tightest)",
+        fontsize=9,
+    )
     unicode_log_ticks(ax.xaxis)
     ax.grid(True, axis="x", which="major", color="0.9")
-    fig.legend(loc="lower center", bbox_to_anchor=(0.5, 0.02 / height), fontsize=8,
-               frameon=False, ncol=1)
+    fig.legend(
+        loc="lower center", bbox_to_anchor=(0.5, 0.02 / height), fontsize=8, frameon=False, ncol=1
+    )
     first = bounds.maps[0]
-    what = ("Companions with q right of each marker are excluded" if bounds.is_limit else
-            "Companions with q right of each marker would be detectable (forecast)")
+    what = (
+        "Companions with q right of each marker are excluded"
+        if bounds.is_limit
+        else "Companions with q right of each marker would be detectable (forecast)"
+    )
     statement = figure_statement(first)
     skies = {sky_text(m.curve) for m in bounds.maps}
     if len(skies) > 1:  # a pulsar array or a limit map: each host at its own position

@@ -56,13 +56,14 @@ def summary_table(bounds, meta=None, files=None, rows=None, mass_source=None):
     t["tightest_q"] = q
     t["tightest_period"] = period
     m2 = [m.smallest_excluded_companion_mass for m in maps]
-    t["min_companion_mass"] = u.Quantity(
-        [np.nan * u.Msun if m is None else m for m in m2]).to(u.Msun)
+    t["min_companion_mass"] = u.Quantity([np.nan * u.Msun if m is None else m for m in m2]).to(
+        u.Msun
+    )
     descriptions = {
         "mass": "total black-hole mass at the adopted distance",
         "distance": "luminosity distance",
         "tightest_q": f"smallest max_mass_ratio of the best-fit host: q above it {verb} "
-                      "(NaN: none)",
+        "(NaN: none)",
         "tightest_period": "orbital period (observer frame) of tightest_q",
         "min_companion_mass": f"lightest companion {verb} at some period",
     }
@@ -72,7 +73,8 @@ def summary_table(bounds, meta=None, files=None, rows=None, mass_source=None):
         t[f"tightest_period_{c:g}"] = cp
         descriptions[f"tightest_q_{c:g}"] = (
             f"smallest mass ratio {verb} with probability >= {c:g} over the host's mass "
-            "and distance errors (NaN: host without errors, or none)")
+            "and distance errors (NaN: host without errors, or none)"
+        )
     t["sampled"] = [isinstance(r, ProbabilityMap) for r in bounds.results]
     t["sampled"].info.description = "the host's mass/distance errors were sampled"
     if files is not None:
@@ -82,8 +84,10 @@ def summary_table(bounds, meta=None, files=None, rows=None, mass_source=None):
         t[name].info.description = text
     first = maps[0]
     t.meta["statement"] = (
-        "EXCLUSION from an upper limit" if bounds.is_limit
-        else "FORECAST from a noise budget (detectable, not excluded)")
+        "EXCLUSION from an upper limit"
+        if bounds.is_limit
+        else "FORECAST from a noise budget (detectable, not excluded)"
+    )
     t.meta["sensitivity"] = first.label
     from ..cosmo import cosmology_name
 
@@ -112,8 +116,10 @@ def batch_summary_lines(bounds, names_shown=5):
     order = np.argsort(np.where(np.isfinite(q), q, np.inf), kind="stable")[:names_shown]
     for i in order:
         if np.isfinite(q[i]):
-            lines.append(f"  {maps[i].host.name}: q > {q[i]:.3g} {phrase} at P = "
-                         f"{period[i].to_value(u.yr):.3g} yr")
+            lines.append(
+                f"  {maps[i].host.name}: q > {q[i]:.3g} {phrase} at P = "
+                f"{period[i].to_value(u.yr):.3g} yr"
+            )
     return lines
 
 
@@ -135,8 +141,7 @@ def write_summary_latex(table, path, overwrite=False):
 
     from .._files import atomic_write
 
-    verb = "excluded" if str(table.meta.get("statement", "")).startswith("EXCL") else \
-        "detectable"
+    verb = "excluded" if str(table.meta.get("statement", "")).startswith("EXCL") else "detectable"
     out = Table()
     out["Host"] = table["name"]
     out["$M$"] = _tex_numbers(table["mass"].to_value(u.Msun), "sci")
@@ -150,9 +155,11 @@ def write_summary_latex(table, path, overwrite=False):
         out[f"$q_{{{level * 100:g}\\%}}$"] = _tex_numbers(table[cred[-1]], "%.3g")
     units = {"$M$": "M$_\\odot$", "$D_L$": "Mpc", "$P$": "yr"}
     sens = str(table.meta.get("sensitivity", "")).replace("%", "\\%").replace(">=", "$\\geq$")
-    caption = (f"Tightest bound per host: companions with $q > q_{{\\rm min}}$ at period $P$ "
-               f"are {verb} ({sens}; cosmology {table.meta.get('cosmology', '')}); "
-               "\\nodata: none.")
+    caption = (
+        f"Tightest bound per host: companions with $q > q_{{\\rm min}}$ at period $P$ "
+        f"are {verb} ({sens}; cosmology {table.meta.get('cosmology', '')}); "
+        "\\nodata: none."
+    )
     latexdict = {"units": units, "caption": caption, "tabletype": "deluxetable*"}
     with atomic_write(path, overwrite) as tmp:
         out.write(tmp, format="ascii.aastex", latexdict=latexdict, overwrite=True)

@@ -42,12 +42,17 @@ def curves_figure(curves, names, snr=5.0, span=None, title=None):
         if curve.is_limit:
             what = f"upper limit, {100 * curve.confidence:.3g}% confidence"
         else:
-            what = (f"forecast: S/N ≥ {snr:g} over "
-                    f"{curve.observing_span(span).to_value(u.yr):.3g} yr")
-        ax.plot(f.to_value(u.nHz), np.asarray(h, dtype=float),
-                color=OKABE_ITO[i % len(OKABE_ITO)], lw=1.6,
-                ls="-" if curve.is_limit else "--",
-                label=f"{name}: {what}; {sky_text(curve)}")
+            what = (
+                f"forecast: S/N ≥ {snr:g} over {curve.observing_span(span).to_value(u.yr):.3g} yr"
+            )
+        ax.plot(
+            f.to_value(u.nHz),
+            np.asarray(h, dtype=float),
+            color=OKABE_ITO[i % len(OKABE_ITO)],
+            lw=1.6,
+            ls="-" if curve.is_limit else "--",
+            label=f"{name}: {what}; {sky_text(curve)}",
+        )
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set_xlabel("GW frequency f [nHz]")
@@ -55,7 +60,10 @@ def curves_figure(curves, names, snr=5.0, span=None, title=None):
     unicode_log_ticks(ax.xaxis, ax.yaxis)
     ax.grid(True, which="major", color="0.9")
     ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.13), fontsize=8, frameon=False)
-    ax.set_title(title or "Sensitivity curves: a binary above a solid line is excluded, above "
-                 "a dashed line\nwould be detectable (forecast, orientation-averaged)",
-                 fontsize=9)
+    ax.set_title(
+        title
+        or "Sensitivity curves: a binary above a solid line is excluded, above "
+        "a dashed line\nwould be detectable (forecast, orientation-averaged)",
+        fontsize=9,
+    )
     return fig

@@ -48,8 +48,7 @@ def epoch_table(result, meta=None, target_q=None):
     t["companion_mass"] = (result.host.mass * q / (1 + q)).to(u.Msun)
     t["added_years"].info.description = "years added to every pulsar's schedule"
     t["span"].info.description = "total observing span of the array"
-    t["tightest_mass_ratio"].info.description = (
-        "smallest q detectable at some period (NaN: none)")
+    t["tightest_mass_ratio"].info.description = "smallest q detectable at some period (NaN: none)"
     t["tightest_period"].info.description = "orbital period of that bound"
     t["companion_mass"].info.description = "companion mass m2 = M q / (1 + q) at that q"
     t.meta["statement"] = "FORECAST from a noise budget (detectable, not excluded)"
@@ -62,7 +61,8 @@ def epoch_table(result, meta=None, target_q=None):
         first = result.first_epoch(target_q)
         t.meta["target_mass_ratio"] = f"{target_q:g}"
         t.meta["first_epoch_reaching_target"] = (
-            "not within these epochs" if first is None else f"+{first.to_value(u.yr):g} yr")
+            "not within these epochs" if first is None else f"+{first.to_value(u.yr):g} yr"
+        )
     if meta:
         t.meta.update(meta)
     return t
@@ -104,26 +104,36 @@ def epoch_figure(result, ax=None, target_q=None):
         fig = ax.figure
     span = result.span.to_value(u.yr)
     q = result.tightest_mass_ratio
-    ax.plot(span, q, "o-", color="#0072B2", lw=1.8,
-            label="smallest detectable q (best period)")
+    ax.plot(span, q, "o-", color="#0072B2", lw=1.8, label="smallest detectable q (best period)")
     for s, qq, y in zip(span, q, result.years.to_value(u.yr), strict=True):
         if np.isfinite(qq):
-            ax.annotate(f"+{y:g} yr", (s, qq), textcoords="offset points", xytext=(4, 4),
-                        fontsize=8)
+            ax.annotate(
+                f"+{y:g} yr", (s, qq), textcoords="offset points", xytext=(4, 4), fontsize=8
+            )
     if target_q is not None:
         ax.axhline(target_q, color="#D55E00", ls=":", lw=1.5, label=f"target q = {target_q:g}")
         first = result.first_epoch(target_q)
         if first is not None:
             i = int(np.flatnonzero(result.years == first)[0])
-            ax.plot(span[i], q[i], "s", ms=10, mfc="none", mec="#D55E00",
-                    label=f"reached after +{first.to_value(u.yr):g} yr")
+            ax.plot(
+                span[i],
+                q[i],
+                "s",
+                ms=10,
+                mfc="none",
+                mec="#D55E00",
+                label=f"reached after +{first.to_value(u.yr):g} yr",
+            )
     ax.set_yscale("log")
     unicode_log_ticks(ax.yaxis)
     ax.set_xlabel("observing span of the array [yr]")
     ax.set_ylabel("smallest detectable mass ratio q")
     host = result.host
     extra = "" if result.rms_factor == 1 else f", TOA rms / {result.rms_factor:g} after today"
-    ax.set_title(f"{host.name}: forecast over time (detectable, not an exclusion),\n"
-                 f"S/N ≥ {result.maps[0].snr:g}, {result.maps[0].orbit}{extra}", fontsize=10)
+    ax.set_title(
+        f"{host.name}: forecast over time (detectable, not an exclusion),\n"
+        f"S/N ≥ {result.maps[0].snr:g}, {result.maps[0].orbit}{extra}",
+        fontsize=10,
+    )
     ax.legend(fontsize=8, frameon=False)
     return fig

@@ -12,8 +12,14 @@ from ..analysis.regions import ABOVE_ISCO, ALLOWED, CHIRPING, EXCLUDED, UNCONSTR
 from .statements import figure_statement, probability_footer
 from .style import MSUN, minor_ticks_as_markers, sci_text, unicode_log_ticks
 
-__all__ = ["REGION_STYLE", "exclusion_figure", "save_figure", "unify_symbols", "SYMBOLS",
-           "shows_in"]
+__all__ = [
+    "REGION_STYLE",
+    "exclusion_figure",
+    "save_figure",
+    "unify_symbols",
+    "SYMBOLS",
+    "shows_in",
+]
 
 # code: (label for limits, label for forecasts, colour, hatch)
 REGION_STYLE = {
@@ -109,18 +115,28 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
     for code in (CHIRPING, ABOVE_ISCO):
         mask = (result.region == code).astype(float)
         if mask.any():
-            ax.contourf(p, q, mask, levels=[0.5, 1.5], colors="none",
-                        hatches=[REGION_STYLE[code][3]])
-    label = (f"max allowed q ({result.label})" if result.is_limit
-             else f"detection threshold ({result.label})")
+            ax.contourf(
+                p, q, mask, levels=[0.5, 1.5], colors="none", hatches=[REGION_STYLE[code][3]]
+            )
+    label = (
+        f"max allowed q ({result.label})"
+        if result.is_limit
+        else f"detection threshold ({result.label})"
+    )
     if prob_map is not None:
         label = f"best-fit host: {label}"
     qmax = result.max_mass_ratio
     chirps = ~result.bound_is_monochromatic & np.isfinite(qmax)
     ax.plot(p, np.where(chirps, np.nan, qmax), color="#0072B2", lw=1.8, label=label)
     if chirps.any():
-        ax.plot(p, np.where(chirps, qmax, np.nan), color="#0072B2", lw=1.4, ls="-.",
-                label="same, where the binary chirps (not a CW bound)")
+        ax.plot(
+            p,
+            np.where(chirps, qmax, np.nan),
+            color="#0072B2",
+            lw=1.4,
+            ls="-.",
+            label="same, where the binary chirps (not a CW bound)",
+        )
     if prob_map is not None:
         from .probability_plot import add_probability_contours
 
@@ -129,25 +145,35 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
         if np.any((part > 0.01) & (part < 1.0)):
             from matplotlib.lines import Line2D
 
-            ax.add_line(Line2D([], [], ls="none",
-                               label="(short P: some mass samples above ISCO)"))
+            ax.add_line(Line2D([], [], ls="none", label="(short P: some mass samples above ISCO)"))
         top_level = max(prob_map.credibility)
         cred = prob_map.tightest(top_level)
         if cred is not None:
             cp, cq = cred[0].to_value(u.yr), cred[1]
             ax.plot([cp], [cq], marker="^", color="black", ms=8, ls="none", zorder=5)
-            ax.annotate(f"q > {cq:.3g} at {100 * top_level:g}%\nprobability", (cp, cq),
-                        xytext=(-40, 34), textcoords="offset points", fontsize=9,
-                        ha="right", bbox={"boxstyle": "round", "fc": "white", "ec": "0.6",
-                                          "alpha": 0.9},
-                        arrowprops={"arrowstyle": "-", "color": "black"})
+            ax.annotate(
+                f"q > {cq:.3g} at {100 * top_level:g}%\nprobability",
+                (cp, cq),
+                xytext=(-40, 34),
+                textcoords="offset points",
+                fontsize=9,
+                ha="right",
+                bbox={"boxstyle": "round", "fc": "white", "ec": "0.6", "alpha": 0.9},
+                arrowprops={"arrowstyle": "-", "color": "black"},
+            )
     if merger_times is not None:
         _merger_lines(ax, result, None if merger_times is True else merger_times)
     if hasattr(result.curve, "source_at"):
         _mark_sources(ax, result)
     if result.hardening_period is not None:
-        ax.plot(result.hardening_period.to_value(u.yr), q, color="#009E73", ls="--", lw=1.4,
-                label="hardening radius aₕ = Gμ/4σ² (guide)")
+        ax.plot(
+            result.hardening_period.to_value(u.yr),
+            q,
+            color="#009E73",
+            ls="--",
+            lw=1.4,
+            label="hardening radius aₕ = Gμ/4σ² (guide)",
+        )
     best = result.tightest()
     if best is not None:
         bp, bq = best[0].to_value(u.yr), best[1]
@@ -155,11 +181,17 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
         phrase = "ruled out" if result.is_limit else "detectable"
         # keep the label inside the axes: to the left of a point in the right half
         right_half = np.log(bp / pe[0]) > 0.5 * np.log(pe[-1] / pe[0])
-        ax.annotate(f"q > {bq:.3g} {phrase}\nat P = {bp:.3g} yr", (bp, bq),
-                    xytext=(-12 if right_half else 12, -30), textcoords="offset points",
-                    ha="right" if right_half else "left", fontsize=9, color="#D55E00",
-                    bbox={"boxstyle": "round", "fc": "white", "ec": "none", "alpha": 0.8},
-                    arrowprops={"arrowstyle": "-", "color": "#D55E00"})
+        ax.annotate(
+            f"q > {bq:.3g} {phrase}\nat P = {bp:.3g} yr",
+            (bp, bq),
+            xytext=(-12 if right_half else 12, -30),
+            textcoords="offset points",
+            ha="right" if right_half else "left",
+            fontsize=9,
+            color="#D55E00",
+            bbox={"boxstyle": "round", "fc": "white", "ec": "none", "alpha": 0.8},
+            arrowprops={"arrowstyle": "-", "color": "#D55E00"},
+        )
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set_xlim(pe[0], pe[-1])
@@ -170,36 +202,61 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
     top.set_xlabel("GW frequency f = 2/P [nHz]")
     m_tot = result.host.mass.to_value(u.Msun)
     right = ax.secondary_yaxis(
-        "right", functions=(lambda x: _q_to_m2(x, m_tot), lambda m: _m2_to_q(m, m_tot)))
+        "right", functions=(lambda x: _q_to_m2(x, m_tot), lambda m: _m2_to_q(m, m_tot))
+    )
     right.set_ylabel(f"companion mass m₂ [{MSUN}]")
     unicode_log_ticks(ax.xaxis, ax.yaxis, top.xaxis, right.yaxis)
     p_lim, q_lim = ax.get_xlim(), ax.get_ylim()
     minor_ticks_as_markers(ax, ax.xaxis, p_lim, "bottom")
     minor_ticks_as_markers(ax, ax.yaxis, q_lim, "left")
     minor_ticks_as_markers(ax, top.xaxis, _period_to_nhz(p_lim), "top", _period_to_nhz)
-    minor_ticks_as_markers(ax, right.yaxis, _q_to_m2(q_lim, m_tot), "right",
-                           lambda m: _m2_to_q(m, m_tot))
+    minor_ticks_as_markers(
+        ax, right.yaxis, _q_to_m2(q_lim, m_tot), "right", lambda m: _m2_to_q(m, m_tot)
+    )
     lim = result.is_limit
-    handles = [Patch(facecolor=REGION_STYLE[c][2], edgecolor="0.4",
-                     hatch=REGION_STYLE[c][3], label=REGION_STYLE[c][0 if lim else 1])
-               for c in codes if np.any(result.region == c)]
+    handles = [
+        Patch(
+            facecolor=REGION_STYLE[c][2],
+            edgecolor="0.4",
+            hatch=REGION_STYLE[c][3],
+            label=REGION_STYLE[c][0 if lim else 1],
+        )
+        for c in codes
+        if np.any(result.region == c)
+    ]
     line_handles, _ = ax.get_legend_handles_labels()
     entries = handles + [h for h in line_handles if shows_in(ax, h)]
-    ax.legend(handles=entries, loc="upper center", bbox_to_anchor=(0.5, -0.11),
-              ncol=2, fontsize=8, frameon=False)
+    ax.legend(
+        handles=entries,
+        loc="upper center",
+        bbox_to_anchor=(0.5, -0.11),
+        ncol=2,
+        fontsize=8,
+        frameon=False,
+    )
     if own_figure:
         _fit_legend_rows(fig, (len(entries) + 1) // 2)
     kind = figure_statement(result)
     if prob_map is not None:
-        fig.text(0.01, 0.005, probability_footer(prob_map), fontsize=7, color="0.3",
-                 ha="left", va="bottom")
+        fig.text(
+            0.01,
+            0.005,
+            probability_footer(prob_map),
+            fontsize=7,
+            color="0.3",
+            ha="left",
+            va="bottom",
+        )
     host = result.host
     # A fixed offset above the top axis (its tick labels and label take ~31 pt): with
     # the automatic title position matplotlib lays the top axis out a second time.
     ax.set_title(
         f"{host.name}: M = {sci_text(m_tot)} {MSUN}, luminosity distance "
         f"{host.distance.to_value(u.Mpc):.3g} Mpc\n{_clauses(f'{kind}; {result.orbit}')}",
-        fontsize=10, y=1.0, pad=_TITLE_PAD)
+        fontsize=10,
+        y=1.0,
+        pad=_TITLE_PAD,
+    )
     return fig
 
 
@@ -226,16 +283,32 @@ def _mark_sources(ax, result):
     for i0, i1 in zip(edges[:-1], edges[1:], strict=True):
         if names[i0]:
             mid = np.sqrt(p[i0] * p[i1 - 1])
-            ax.text(mid, 0.985, names[i0], transform=ax.get_xaxis_transform(), fontsize=7,
-                    ha="center", va="top", color="0.15", clip_on=True,
-                    bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none",
-                          "alpha": 0.7})
+            ax.text(
+                mid,
+                0.985,
+                names[i0],
+                transform=ax.get_xaxis_transform(),
+                fontsize=7,
+                ha="center",
+                va="top",
+                color="0.15",
+                clip_on=True,
+                bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none", "alpha": 0.7},
+            )
     for i in change:
         if names[i] and names[i - 1]:
             ax.axvline(np.sqrt(p[i - 1] * p[i]), color="0.15", ls=":", lw=1.0)
     if change.size:
-        ax.add_line(Line2D([], [], color="0.15", ls=":", lw=1.0,
-                           label="the tightest limit changes (named at the top)"))
+        ax.add_line(
+            Line2D(
+                [],
+                [],
+                color="0.15",
+                ls=":",
+                lw=1.0,
+                label="the tightest limit changes (named at the top)",
+            )
+        )
 
 
 def _merger_lines(ax, result, times):
@@ -247,12 +320,23 @@ def _merger_lines(ax, result, times):
     styles = ("-", "--", ":", "-.")
     for i, (t, line) in enumerate(zip(times, q, strict=True)):
         years = t.to_value(u.yr)
-        text = (f"{years / 1e9:.3g} Gyr" if years >= 1e9 else f"{years / 1e6:.3g} Myr"
-                if years >= 1e6 else f"{years:.3g} yr")
+        text = (
+            f"{years / 1e9:.3g} Gyr"
+            if years >= 1e9
+            else f"{years / 1e6:.3g} Myr"
+            if years >= 1e6
+            else f"{years:.3g} yr"
+        )
         if i == len(times) - 1 and len(times) == 3:
             text += " (Hubble time)"
-        ax.plot(p, line, color="0.25", lw=0.9, ls=styles[i % len(styles)],
-                label=f"merges within {text} above (Peters 1964)")
+        ax.plot(
+            p,
+            line,
+            color="0.25",
+            lw=0.9,
+            ls=styles[i % len(styles)],
+            label=f"merges within {text} above (Peters 1964)",
+        )
 
 
 def shows_in(ax, artist):
@@ -295,8 +379,13 @@ def _draw_regions(ax, pe, qe, region, cmap, norm):
     q_top = min(qe[-1], 1.0)
     y_top = np.log(qe[-1] / qe[0]) / np.log(q_top / qe[0])
     # colours looked up once per cell (RGBA bytes): the drawing then only resamples
-    image = AxesImage(ax, interpolation="nearest", origin="lower",
-                      extent=(0.0, 1.0, 0.0, y_top), transform=ax.transAxes)
+    image = AxesImage(
+        ax,
+        interpolation="nearest",
+        origin="lower",
+        extent=(0.0, 1.0, 0.0, y_top),
+        transform=ax.transAxes,
+    )
     image.set_data(cmap(norm(region), bytes=True))
     ax.add_image(image)
 
@@ -359,8 +448,10 @@ def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
         # PNG: zlib level 3 instead of 6 halves the encoding time for ~10% more bytes
         extra = {"pil_kwargs": {"compress_level": 3}} if fmt == "png" else {}
         # TrueType (Type 42) fonts in PDF/PS: journals ask for them, and text stays editable
-        with atomic_write(path, overwrite) as tmp, rc_context(
-                {"pdf.fonttype": 42, "ps.fonttype": 42}):
+        with (
+            atomic_write(path, overwrite) as tmp,
+            rc_context({"pdf.fonttype": 42, "ps.fonttype": 42}),
+        ):
             fig.savefig(tmp, format=fmt, dpi=dpi, **extra)
         written.append(path)
     return written

@@ -55,26 +55,41 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
         if i < len(forecast_maps):
             chirped |= _plot_bound(ax, forecast_maps[i], colour, 1.2, "--")
     if names is None:
-        names = (f"exclusion: {limit_maps[0].label}",
-                 forecast_maps[0].label if forecast_maps else "")
+        names = (
+            f"exclusion: {limit_maps[0].label}",
+            forecast_maps[0].label if forecast_maps else "",
+        )
     styles = [Line2D([], [], color="0.3", lw=1.8, label=names[0])]
     if forecast_maps:
         styles.append(Line2D([], [], color="0.3", lw=1.2, ls="--", label=names[1]))
     if chirped:
-        styles.append(Line2D([], [], color="0.3", lw=0.9, ls=":",
-                             label="where the binary chirps (not a CW bound)"))
+        styles.append(
+            Line2D(
+                [],
+                [],
+                color="0.3",
+                lw=0.9,
+                ls=":",
+                label="where the binary chirps (not a CW bound)",
+            )
+        )
     ax.set_xscale("log")
     ax.set_yscale("log")
-    lowest = [np.nanmin(r.max_mass_ratio) for r in (*limit_maps, *forecast_maps)
-              if np.isfinite(r.max_mass_ratio).any()]
+    lowest = [
+        np.nanmin(r.max_mass_ratio)
+        for r in (*limit_maps, *forecast_maps)
+        if np.isfinite(r.max_mass_ratio).any()
+    ]
     qmin = min(np.nanmin(r.mass_ratio) for r in limit_maps)
     ax.set_ylim(max(qmin, 0.5 * min(lowest)) if lowest else qmin, 1.05)
     ax.set_xlabel("orbital period P [yr] (observer frame); each line starts at its host's ISCO")
     ax.set_ylabel("bound on the mass ratio q = m₂/m₁")
     # y=1.0 fixes the title where matplotlib would put it, without a layout pass
     if title is None:
-        title = ("Companions above each line are excluded (solid) or would be detectable "
-                 f"(dashed)\nsolid: {figure_statement(limit_maps[0])}")
+        title = (
+            "Companions above each line are excluded (solid) or would be detectable "
+            f"(dashed)\nsolid: {figure_statement(limit_maps[0])}"
+        )
         if forecast_maps:
             title += f"\ndashed: {figure_statement(forecast_maps[0])}"
     ax.set_title(title, fontsize=9, y=1.0)
@@ -82,8 +97,14 @@ def overview_figure(limit_maps, forecast_maps=(), title=None, names=None):
     minor_ticks_as_markers(ax, ax.xaxis, ax.get_xlim(), "bottom")
     minor_ticks_as_markers(ax, ax.yaxis, ax.get_ylim(), "left")
     handles, _ = ax.get_legend_handles_labels()
-    ax.legend(handles=handles + styles, fontsize=8, ncol=2, loc="upper center",
-              bbox_to_anchor=(0.5, -0.13), frameon=False)
+    ax.legend(
+        handles=handles + styles,
+        fontsize=8,
+        ncol=2,
+        loc="upper center",
+        bbox_to_anchor=(0.5, -0.13),
+        frameon=False,
+    )
     ax.grid(True, which="major", color="0.9")
     return fig
 

@@ -62,8 +62,11 @@ def apply_style(fig, style="page"):
             for which in ("major", "minor"):
                 ticks = axis.get_ticklines(minor=which == "minor")
                 if ticks:
-                    axis.set_tick_params(which=which, length=ticks[0].get_markersize(),
-                                         width=ticks[0].get_markeredgewidth())
+                    axis.set_tick_params(
+                        which=which,
+                        length=ticks[0].get_markersize(),
+                        width=ticks[0].get_markeredgewidth(),
+                    )
         for spine in ax.spines.values():
             spine.set_linewidth(spine.get_linewidth() * s)
     if s < 0.9:
@@ -83,6 +86,12 @@ def _one_entry_a_row(ax):
         return
     handles, labels = old.legend_handles, [t.get_text() for t in old.get_texts()]
     size = old.get_texts()[0].get_fontsize() if labels else None
-    ax.legend(handles=handles, labels=labels, loc="upper center", ncol=1, fontsize=size,
-              bbox_to_anchor=old.get_bbox_to_anchor().transformed(ax.transAxes.inverted())
-              .bounds[:2], frameon=old.get_frame_on())
+    ax.legend(
+        handles=handles,
+        labels=labels,
+        loc="upper center",
+        ncol=1,
+        fontsize=size,
+        bbox_to_anchor=old.get_bbox_to_anchor().transformed(ax.transAxes.inverted()).bounds[:2],
+        frameon=old.get_frame_on(),
+    )

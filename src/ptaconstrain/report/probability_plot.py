@@ -80,8 +80,13 @@ def add_probability_contours(ax, prob_map, levels=(0.5, 0.9, 0.95), best_fit=Fal
     z = np.ma.masked_invalid(prob_map.probability)
     if best_fit:
         det = prob_map.deterministic
-        ax.plot(p, det.max_mass_ratio, color=_BEST_FIT_COLOUR, lw=1.4,
-                label=f"best-fit bound ({det.label})")
+        ax.plot(
+            p,
+            det.max_mass_ratio,
+            color=_BEST_FIT_COLOUR,
+            lw=1.4,
+            label=f"best-fit bound ({det.label})",
+        )
     ax.set_xscale("log")
     ax.set_yscale("log")
     finite = prob_map.probability[np.isfinite(prob_map.probability)]
@@ -89,15 +94,20 @@ def add_probability_contours(ax, prob_map, levels=(0.5, 0.9, 0.95), best_fit=Fal
     if not drawn:
         return None
     styles = [_STYLES[levels.index(v) % len(_STYLES)] for v in drawn]
-    cs = ax.contour(p, q, z, levels=drawn, colors=_COLOUR, linestyles=styles,
-                    linewidths=1.3)
+    cs = ax.contour(p, q, z, levels=drawn, colors=_COLOUR, linestyles=styles, linewidths=1.3)
     places = _label_places(cs.allsegs)
-    ax.clabel(cs, fmt={v: _level_label(v) for v in drawn}, inline=True, fontsize=8,
-              manual=places if len(places) == len(drawn) else False)
+    ax.clabel(
+        cs,
+        fmt={v: _level_label(v) for v in drawn},
+        inline=True,
+        fontsize=8,
+        manual=places if len(places) == len(drawn) else False,
+    )
     what = "excluded" if prob_map.is_limit else "detectable"
     for v, ls in zip(drawn, styles, strict=True):
-        ax.add_line(Line2D([], [], color=_COLOUR, lw=1.3, ls=ls,
-                           label=f"P({what}) = {_level_label(v)}"))
+        ax.add_line(
+            Line2D([], [], color=_COLOUR, lw=1.3, ls=ls, label=f"P({what}) = {_level_label(v)}")
+        )
     return cs
 
 
@@ -150,8 +160,10 @@ def probability_columns(prob_map):
     >>> list(probability_columns(prob))
     ['max_mass_ratio_0.5', 'max_mass_ratio_0.9', 'max_mass_ratio_0.95']
     """
-    return {column_name(c): np.asarray(prob_map.max_mass_ratio[c], dtype=float)
-            for c in prob_map.credibility}
+    return {
+        column_name(c): np.asarray(prob_map.max_mass_ratio[c], dtype=float)
+        for c in prob_map.credibility
+    }
 
 
 def probability_descriptions(prob_map):

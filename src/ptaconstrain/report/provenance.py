@@ -68,8 +68,10 @@ def provenance(inputs=None, files=None):
     if files:
         out["files"] = {}
         for role, path in files.items():
-            entry = {"path": str(path),
-                     "sha256": "directory" if Path(path).is_dir() else sha256(path)}
+            entry = {
+                "path": str(path),
+                "sha256": "directory" if Path(path).is_dir() else sha256(path),
+            }
             name = shipped_name(path)
             if name is not None:
                 entry["shipped"] = name
@@ -126,8 +128,11 @@ def source_revision(package_dir=None):
     """
     pkg = Path(__file__).resolve().parent.parent if package_dir is None else Path(package_dir)
     root = pkg.parent.parent
-    if pkg.parent.name != "src" or not (root / ".git").exists() \
-            or not (root / "pyproject.toml").is_file():
+    if (
+        pkg.parent.name != "src"
+        or not (root / ".git").exists()
+        or not (root / "pyproject.toml").is_file()
+    ):
         return None
     try:
         commit = _git(root, "rev-parse", "HEAD")
@@ -135,13 +140,18 @@ def source_revision(package_dir=None):
     except (OSError, subprocess.SubprocessError) as err:
         return f"unknown (git failed in {root}: {type(err).__name__})"
     dirty = describe.endswith("+dirty")
-    return (f"{describe.removesuffix('+dirty')} (commit {commit}"
-            f"{', +dirty' if dirty else ''})")
+    return f"{describe.removesuffix('+dirty')} (commit {commit}{', +dirty' if dirty else ''})"
 
 
 def _git(root, *args):
-    res = subprocess.run(["git", "-C", str(root), *args], capture_output=True, text=True,
-                         timeout=GIT_TIMEOUT, check=True, stdin=subprocess.DEVNULL)
+    res = subprocess.run(
+        ["git", "-C", str(root), *args],
+        capture_output=True,
+        text=True,
+        timeout=GIT_TIMEOUT,
+        check=True,
+        stdin=subprocess.DEVNULL,
+    )
     return res.stdout.strip()
 
 

@@ -26,9 +26,19 @@ import numpy as np
 
 from ..catalogue.dask_engine import PARQUET_DIR
 
-__all__ = ["rank_to_files", "ranking_output_paths", "top_figure_stems", "top_figures",
-           "write_fits_blocks", "fits_meta", "TABLE_FILE", "TOP_FILE", "FULL_ECSV_FILE",
-           "REJECTED_FILE", "PARQUET_DIR"]
+__all__ = [
+    "rank_to_files",
+    "ranking_output_paths",
+    "top_figure_stems",
+    "top_figures",
+    "write_fits_blocks",
+    "fits_meta",
+    "TABLE_FILE",
+    "TOP_FILE",
+    "FULL_ECSV_FILE",
+    "REJECTED_FILE",
+    "PARQUET_DIR",
+]
 
 TABLE_FILE = "ranking.fits"
 TOP_FILE = "ranking_top.ecsv"
@@ -130,8 +140,16 @@ def write_fits_blocks(blocks, path, n_rows, meta=None, overwrite=False):
 
 
 #: FITS binary-table TFORM letter -> numpy big-endian type (FITS standard 4.0, table 18)
-_TFORM = {"L": "u1", "B": "u1", "I": ">i2", "J": ">i4", "K": ">i8", "E": ">f4", "D": ">f8",
-          "A": "S"}
+_TFORM = {
+    "L": "u1",
+    "B": "u1",
+    "I": ">i2",
+    "J": ">i4",
+    "K": ">i8",
+    "E": ">f4",
+    "D": ">f8",
+    "A": "S",
+}
 
 
 def _record_dtype(header):
@@ -171,8 +189,11 @@ def _block_bytes(block, layout, width):
     """
     import io
 
-    if (layout is not None and list(layout.names) == list(block.colnames)
-            and not any(getattr(block[k], "mask", np.False_).any() for k in layout.names)):
+    if (
+        layout is not None
+        and list(layout.names) == list(block.colnames)
+        and not any(getattr(block[k], "mask", np.False_).any() for k in layout.names)
+    ):
         rec = np.empty(len(block), dtype=layout)
         for key in layout.names:
             col = block[key]
@@ -185,8 +206,11 @@ def _block_bytes(block, layout, width):
                     raise ValueError("write_fits_blocks: blocks differ in row layout")
             elif values.dtype == bool:
                 values = np.where(values, np.uint8(ord("T")), np.uint8(ord("F")))
-            elif (values.dtype.kind != want.kind or values.dtype.itemsize != want.itemsize
-                  or values.ndim != 1):
+            elif (
+                values.dtype.kind != want.kind
+                or values.dtype.itemsize != want.itemsize
+                or values.ndim != 1
+            ):
                 raise ValueError("write_fits_blocks: blocks differ in row layout")
             rec[key] = values
         return rec.tobytes()
@@ -199,7 +223,7 @@ def _block_bytes(block, layout, width):
     hdu.writeto(buf)
     size = width * len(block)  # the data are the file's last padded blocks
     start = buf.getbuffer().nbytes - (size + (-size % _FITS_BLOCK))
-    return bytes(buf.getbuffer()[start:start + size])
+    return bytes(buf.getbuffer()[start : start + size])
 
 
 def _chain(first, rest):
@@ -232,8 +256,7 @@ def top_figure_stems(ranking, out_dir, n):
     return out
 
 
-def top_figures(ranking, sensitivity, stems, formats=("png",), overwrite=False, snr=5.0,
-                span=None):
+def top_figures(ranking, sensitivity, stems, formats=("png",), overwrite=False, snr=5.0, span=None):
     """Exclusion (or forecast) figures of the best targets, at their median mass.
 
     Parameters
@@ -253,18 +276,38 @@ def top_figures(ranking, sensitivity, stems, formats=("png",), overwrite=False, 
 
     written = []
     for row, stem in stems:
-        host = Host(str(row["name"]), row["mass"], row["distance"],
-                    redshift=float(row["redshift"]), ra=float(row["ra"].value),
-                    dec=float(row["dec"].value))
+        host = Host(
+            str(row["name"]),
+            row["mass"],
+            row["distance"],
+            redshift=float(row["redshift"]),
+            ra=float(row["ra"].value),
+            dec=float(row["dec"].value),
+        )
         result = exclusion_map(host, sensitivity, snr=snr, span=span)
         written += save_figure(exclusion_figure(result), stem, formats, overwrite)
     return written
 
 
-def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, formats=("png",),
-                  top=20, exclusion_figures=0, overwrite=False, progress=None,
-                  full_ecsv=False, engine="memory", workers=2, scheduler=None, stage=None,
-                  **kwargs):
+def rank_to_files(
+    catalog,
+    sensitivity,
+    out_dir,
+    *,
+    files=None,
+    options=None,
+    formats=("png",),
+    top=20,
+    exclusion_figures=0,
+    overwrite=False,
+    progress=None,
+    full_ecsv=False,
+    engine="memory",
+    workers=2,
+    scheduler=None,
+    stage=None,
+    **kwargs,
+):
     """Rank a catalogue, then write the tables, the rejected rows and the figures.
 
     Nothing is written unless every output can be (existing files are refused
@@ -312,21 +355,52 @@ def rank_to_files(catalog, sensitivity, out_dir, *, files=None, options=None, fo
     if engine == "dask" and full_ecsv:
         from ..errors import InputError
 
-        raise InputError("full_ecsv: the Dask engine writes the whole ranking as "
-                         f"{PARQUET_DIR}; drop --full-ecsv")
+        raise InputError(
+            "full_ecsv: the Dask engine writes the whole ranking as "
+            f"{PARQUET_DIR}; drop --full-ecsv"
+        )
     paths = ranking_output_paths(out_dir, formats, full_ecsv, engine)
     check_new(paths, overwrite)
     how = {"engine": engine, "workers": workers, "scheduler": scheduler, "stage": stage}
     # every file is staged and published with the rest, or none is (see output_set)
     # (a record lists them when the per-galaxy figures make the names vary)
     with output_set(out_dir, "ranking", overwrite, record=exclusion_figures > 0) as oset:
-        return _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files,
-                               options, formats, top, exclusion_figures, overwrite, progress,
-                               full_ecsv, how, kwargs)
+        return _rank_and_write(
+            catalog,
+            sensitivity,
+            out_dir,
+            paths,
+            oset,
+            files,
+            options,
+            formats,
+            top,
+            exclusion_figures,
+            overwrite,
+            progress,
+            full_ecsv,
+            how,
+            kwargs,
+        )
 
 
-def _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files, options, formats,
-                    top, exclusion_figures, overwrite, progress, full_ecsv, engine, kwargs):
+def _rank_and_write(
+    catalog,
+    sensitivity,
+    out_dir,
+    paths,
+    oset,
+    files,
+    options,
+    formats,
+    top,
+    exclusion_figures,
+    overwrite,
+    progress,
+    full_ecsv,
+    engine,
+    kwargs,
+):
     import contextlib
 
     import numpy as np
@@ -343,14 +417,30 @@ def _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files, options, 
 
             staged = stack.enter_context(oset.stage_directory(paths[0]))
             ranking = rank_catalog_dask(
-                getattr(catalog, "path", catalog), sensitivity, out_dir, files=files,
-                inputs=options, top_rows=top_rows, workers=engine["workers"],
-                scheduler=engine["scheduler"], progress=engine["stage"], parquet_path=staged,
-                work_dir=oset.scratch, **kwargs)
+                getattr(catalog, "path", catalog),
+                sensitivity,
+                out_dir,
+                files=files,
+                inputs=options,
+                top_rows=top_rows,
+                workers=engine["workers"],
+                scheduler=engine["scheduler"],
+                progress=engine["stage"],
+                parquet_path=staged,
+                work_dir=oset.scratch,
+                **kwargs,
+            )
         else:
-            ranking = rank_catalog(catalog, sensitivity, progress=progress, files=files,
-                                   inputs=options, stream_dir=oset.scratch, top_rows=top_rows,
-                                   **kwargs)
+            ranking = rank_catalog(
+                catalog,
+                sensitivity,
+                progress=progress,
+                files=files,
+                inputs=options,
+                stream_dir=oset.scratch,
+                top_rows=top_rows,
+                **kwargs,
+            )
         try:
             stems = top_figure_stems(ranking, out_dir, exclusion_figures)
             check_new([f"{stem}.{fmt}" for _, stem in stems for fmt in formats], overwrite)
@@ -359,8 +449,13 @@ def _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files, options, 
                 write_fits_blocks(ranking.blocks(), paths[0], ranking.n_ranked, meta, overwrite)
             write_table(ranking.table[: int(top)], paths[1], overwrite)
             rejected = ranking.rejections.table()
-            rejected.meta.update({"catalogue": ranking.meta["catalogue"], "on_bad":
-                                  ranking.meta["on_bad"], "provenance": meta["provenance"]})
+            rejected.meta.update(
+                {
+                    "catalogue": ranking.meta["catalogue"],
+                    "on_bad": ranking.meta["on_bad"],
+                    "provenance": meta["provenance"],
+                }
+            )
             write_table(rejected, paths[2], overwrite)
             written = paths[:3]
             if full_ecsv:
@@ -372,8 +467,15 @@ def _rank_and_write(catalog, sensitivity, out_dir, paths, oset, files, options, 
                 write_table(full, paths[3], overwrite)
                 written.append(paths[3])
             written += ranking_figures(ranking, out_dir, formats, top, overwrite)
-            written += top_figures(ranking, sensitivity, stems, formats, overwrite,
-                                   snr=kwargs.get("snr", 5.0), span=kwargs.get("span"))
+            written += top_figures(
+                ranking,
+                sensitivity,
+                stems,
+                formats,
+                overwrite,
+                snr=kwargs.get("snr", 5.0),
+                span=kwargs.get("span"),
+            )
         finally:
             ranking.close()
     return ranking, written

@@ -16,8 +16,7 @@ from astropy import units as u
 
 from .style import unicode_log_ticks
 
-__all__ = ["metric_label", "sky_figure", "cumulative_figure", "ranking_figures",
-           "FIGURE_STEMS"]
+__all__ = ["metric_label", "sky_figure", "cumulative_figure", "ranking_figures", "FIGURE_STEMS"]
 
 #: file stems of the figures written by :func:`ranking_figures`
 FIGURE_STEMS = ("ranking_sky", "ranking_cumulative")
@@ -57,8 +56,9 @@ def _x(ra_deg):
     return np.radians(180.0 - np.mod(np.asarray(ra_deg, float), 360.0))
 
 
-def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, ax=None,
-               n_total=None):
+def sky_figure(
+    table, metric, verb, label="", markers=None, top=20, rate=None, ax=None, n_total=None
+):
     """Mollweide map of the ranked galaxies coloured by ``metric``.
 
     Parameters
@@ -100,11 +100,18 @@ def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, a
     ax.grid(True, color="0.8", lw=0.5)
     ticks = np.radians(np.arange(-150, 181, 30))
     ax.set_xticks(ticks)
-    ax.set_xticklabels([f"{int(np.mod(180 - np.degrees(t), 360) / 15)}h" for t in ticks],
-                       fontsize=8)
+    ax.set_xticklabels(
+        [f"{int(np.mod(180 - np.degrees(t), 360) / 15)}h" for t in ticks], fontsize=8
+    )
     good = np.isfinite(val) & (val > 0)
-    ax.scatter(_x(ra[~good]), np.radians(dec[~good]), s=4, c="0.6", lw=0,
-               label=f"none {verb} ({np.count_nonzero(~good)})")
+    ax.scatter(
+        _x(ra[~good]),
+        np.radians(dec[~good]),
+        s=4,
+        c="0.6",
+        lw=0,
+        label=f"none {verb} ({np.count_nonzero(~good)})",
+    )
     if good.any():
         v = val[good]
         span = v.max() / v.min()
@@ -116,26 +123,52 @@ def sky_figure(table, metric, verb, label="", markers=None, top=20, rate=None, a
         extend = "min" if vmin > v.min() else "neither"
         cmap = "cividis_r" if metric == "min_mass_ratio" else "cividis"
         order = np.argsort(v) if metric != "min_mass_ratio" else np.argsort(-v)
-        sc = ax.scatter(_x(ra[good])[order], np.radians(dec[good])[order], c=v[order],
-                        s=np.where(v[order] < vmin, 6, 16), cmap=cmap, norm=norm,
-                        edgecolors="k", linewidths=0.2)
-        cb = fig.colorbar(sc, ax=ax, orientation="horizontal", pad=0.07, fraction=0.05,
-                          aspect=40, extend=extend)
+        sc = ax.scatter(
+            _x(ra[good])[order],
+            np.radians(dec[good])[order],
+            c=v[order],
+            s=np.where(v[order] < vmin, 6, 16),
+            cmap=cmap,
+            norm=norm,
+            edgecolors="k",
+            linewidths=0.2,
+        )
+        cb = fig.colorbar(
+            sc, ax=ax, orientation="horizontal", pad=0.07, fraction=0.05, aspect=40, extend=extend
+        )
         cb.set_label(metric_label(metric, verb, rate), fontsize=9)
         if isinstance(norm, LogNorm):
             unicode_log_ticks(cb.ax.xaxis)  # plain-text powers of ten, no mathtext
     n_lab = min(int(top), 20, len(table))
     for i in range(n_lab):  # a handful of labels, not a loop over the catalogue
-        ax.annotate(str(int(table["rank"][i])), (_x(ra[i]), np.radians(dec[i])),
-                    xytext=(3, 3), textcoords="offset points", fontsize=7)
+        ax.annotate(
+            str(int(table["rank"][i])),
+            (_x(ra[i]), np.radians(dec[i])),
+            xytext=(3, 3),
+            textcoords="offset points",
+            fontsize=7,
+        )
     if markers is not None:
         c = markers.icrs
-        ax.scatter(_x(c.ra.deg), np.radians(c.dec.deg), marker="*", s=60, c="white",
-                   edgecolors="k", linewidths=0.6, label=f"pulsars ({len(c)})", zorder=5)
+        ax.scatter(
+            _x(c.ra.deg),
+            np.radians(c.dec.deg),
+            marker="*",
+            s=60,
+            c="white",
+            edgecolors="k",
+            linewidths=0.6,
+            label=f"pulsars ({len(c)})",
+            zorder=5,
+        )
     ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=7, frameon=False)
-    ax.set_title(f"{n_all} galaxies by {metric} - {label} ({verb})\n"
-                 f"numbers: rank of the top {n_lab}; RA increases to the left{shown}",
-                 fontsize=10, pad=16, y=1.0)  # fixed: no layout pass
+    ax.set_title(
+        f"{n_all} galaxies by {metric} - {label} ({verb})\n"
+        f"numbers: rank of the top {n_lab}; RA increases to the left{shown}",
+        fontsize=10,
+        pad=16,
+        y=1.0,
+    )  # fixed: no layout pass
     return fig
 
 
@@ -150,8 +183,9 @@ def _sky_rows(n):
     head = MAX_SKY_POINTS // 10
     step = -(-(n - head) // (MAX_SKY_POINTS - head))
     rows = np.concatenate([np.arange(head), np.arange(head, n, step)])
-    return rows, (f"\nshown: the best {head:,}, then one in {step} of the rest "
-                  f"({rows.size:,} of {n:,})")
+    return rows, (
+        f"\nshown: the best {head:,}, then one in {step} of the rest ({rows.size:,} of {n:,})"
+    )
 
 
 def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None, n_total=None):
@@ -190,9 +224,14 @@ def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None, n_total
     if 0 < top < len(table):
         ax.axvline(top, color="#E69F00", ls="--", lw=1)
         share = cum[top - 1] / cum[-1] if cum[-1] > 0 else 0.0
-        ax.annotate(f"top {top}: {100 * share:.0f}% of the total", (top, cum[top - 1]),
-                    xytext=(6, -14), textcoords="offset points", color="#B36B00",
-                    fontsize=8)
+        ax.annotate(
+            f"top {top}: {100 * share:.0f}% of the total",
+            (top, cum[top - 1]),
+            xytext=(6, -14),
+            textcoords="offset points",
+            color="#B36B00",
+            fontsize=8,
+        )
     rate_txt = f"\nmerger rate {rate} per galaxy" if rate else ""
     ax.set_title(f"Expected {verb} binaries by rank - {label}{rate_txt}", fontsize=9, y=1.0)
     ax.grid(True, which="both", color="0.9")
@@ -231,8 +270,10 @@ def ranking_figures(ranking, out_dir, formats=("png",), top=20, overwrite=False)
     if ranking.streamed:  # every ranked row, from disk
         from astropy.table import Table
 
-        table = Table({"rank": ranking.column("rank"),
-                       "expected_number": ranking.column("expected_number")}, copy=False)
+        table = Table(
+            {"rank": ranking.column("rank"), "expected_number": ranking.column("expected_number")},
+            copy=False,
+        )
     fig = cumulative_figure(table, ranking.verb, ranking.label, top=top, rate=rate)
     written += save_figure(fig, out_dir / FIGURE_STEMS[1], formats, overwrite)
     return written
@@ -248,15 +289,22 @@ def _sampled_figures(ranking, out_dir, formats, top, overwrite, rate):
     from .figures import save_figure
 
     rows, _ = _sky_rows(ranking.n_ranked)
-    keys = list(dict.fromkeys(["rank", "ra", "dec", ranking.metric,
-                               "cumulative_expected_number"]))
+    keys = list(dict.fromkeys(["rank", "ra", "dec", ranking.metric, "cumulative_expected_number"]))
     sample = ranking.runs.take(rows, keys)
-    fig = sky_figure(sample, ranking.metric, ranking.verb, ranking.label,
-                     markers=ranking.sky_markers, top=top, rate=rate,
-                     n_total=ranking.n_ranked)
+    fig = sky_figure(
+        sample,
+        ranking.metric,
+        ranking.verb,
+        ranking.label,
+        markers=ranking.sky_markers,
+        top=top,
+        rate=rate,
+        n_total=ranking.n_ranked,
+    )
     written = save_figure(fig, out_dir / FIGURE_STEMS[0], formats, overwrite)
     cum = np.asarray(sample["cumulative_expected_number"], dtype=float)
     sample["expected_number"] = np.diff(np.r_[0.0, cum])
-    fig = cumulative_figure(sample, ranking.verb, ranking.label, top=top, rate=rate,
-                            n_total=ranking.n_ranked)
+    fig = cumulative_figure(
+        sample, ranking.verb, ranking.label, top=top, rate=rate, n_total=ranking.n_ranked
+    )
     return written + save_figure(fig, out_dir / FIGURE_STEMS[1], formats, overwrite)

@@ -28,8 +28,10 @@ _RASTER_WIDTH = 1024  # image pixels across the ellipse (~ its width at 150 dpi)
 
 def threshold_label(snr):
     """Colour-bar label of an h0-threshold map (a forecast at S/N >= ``snr``)."""
-    return (f"h0 for S/N >= {snr:g} (dimensionless strain, orientation-averaged; "
-            "lower = more sensitive)")
+    return (
+        f"h0 for S/N >= {snr:g} (dimensionless strain, orientation-averaged; "
+        "lower = more sensitive)"
+    )
 
 
 def nhz_text(frequency):
@@ -44,8 +46,15 @@ def _x(ra_deg):
     return np.radians(180.0 - np.mod(np.asarray(ra_deg, float), 360.0))
 
 
-def sky_map_figure(values, pulsars=None, hosts=(), title=None,
-                   label="h0 (dimensionless strain)", nest=False, cmap="cividis"):
+def sky_map_figure(
+    values,
+    pulsars=None,
+    hosts=(),
+    title=None,
+    label="h0 (dimensionless strain)",
+    nest=False,
+    cmap="cividis",
+):
     """Draw a HEALPix map (equatorial) in Mollweide projection.
 
     Parameters
@@ -87,8 +96,13 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
     mesh = ScalarMappable(norm=norm, cmap=cmap)
     rgba = mesh.to_rgba(grid, bytes=True)
     # axes coordinates span the projection's bounding box; the ellipse clips the image
-    image = AxesImage(ax, interpolation="nearest", origin="lower",
-                      extent=(0.0, 1.0, 0.0, 1.0), transform=ax.transAxes)
+    image = AxesImage(
+        ax,
+        interpolation="nearest",
+        origin="lower",
+        extent=(0.0, 1.0, 0.0, 1.0),
+        transform=ax.transAxes,
+    )
     image.set_data(rgba)
     ax.add_image(image)
     cb = fig.colorbar(mesh, ax=ax, orientation="horizontal", pad=0.06, shrink=0.75)
@@ -98,8 +112,7 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
 
     ticks = np.arange(-150, 181, 30)
     ax.set_xticks(np.radians(ticks))
-    labels = ax.set_xticklabels([f"{int(np.mod(180 - t, 360) / 15)}h" for t in ticks],
-                                fontsize=8)
+    labels = ax.set_xticklabels([f"{int(np.mod(180 - t, 360) / 15)}h" for t in ticks], fontsize=8)
     for text in labels:  # readable on dark and light pixels alike
         text.set_path_effects([pe.withStroke(linewidth=2.5, foreground="white")])
     ax.tick_params(axis="y", labelsize=8)
@@ -107,22 +120,50 @@ def sky_map_figure(values, pulsars=None, hosts=(), title=None,
 
     if pulsars is not None and len(np.atleast_1d(pulsars.icrs.ra)):
         icrs = pulsars.icrs
-        ax.plot(_x(icrs.ra.deg), icrs.dec.rad, "o", ms=4, mfc="white", mec="black", mew=0.7,
-                ls="none", label=f"pulsars ({len(np.atleast_1d(icrs.ra))})")
+        ax.plot(
+            _x(icrs.ra.deg),
+            icrs.dec.rad,
+            "o",
+            ms=4,
+            mfc="white",
+            mec="black",
+            mew=0.7,
+            ls="none",
+            label=f"pulsars ({len(np.atleast_1d(icrs.ra))})",
+        )
     placed = [h for h in hosts if getattr(h, "coord", None) is not None]
     for i, host in enumerate(placed):
         c = host.coord.icrs
-        ax.plot(_x(c.ra.deg), c.dec.rad, "*", ms=13, mfc=_HOST_COLOUR, mec="black", mew=0.8,
-                ls="none", label="host galaxies" if i == 0 else None)
-        ax.annotate(host.name, (_x(c.ra.deg), c.dec.rad), xytext=(6, 6),
-                    textcoords="offset points", fontsize=8,
-                    bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none",
-                          "alpha": 0.8})
+        ax.plot(
+            _x(c.ra.deg),
+            c.dec.rad,
+            "*",
+            ms=13,
+            mfc=_HOST_COLOUR,
+            mec="black",
+            mew=0.8,
+            ls="none",
+            label="host galaxies" if i == 0 else None,
+        )
+        ax.annotate(
+            host.name,
+            (_x(c.ra.deg), c.dec.rad),
+            xytext=(6, 6),
+            textcoords="offset points",
+            fontsize=8,
+            bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none", "alpha": 0.8},
+        )
     if ax.get_legend_handles_labels()[0]:
         ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=8, framealpha=0.9)
     ax.set_title(title or "", fontsize=10, pad=14, y=1.0)  # fixed: no layout pass
-    fig.text(0.99, 0.01, "equatorial (ICRS); RA increases to the left", ha="right",
-             fontsize=7, color="0.3")
+    fig.text(
+        0.99,
+        0.01,
+        "equatorial (ICRS); RA increases to the left",
+        ha="right",
+        fontsize=7,
+        color="0.3",
+    )
     return fig
 
 
@@ -147,6 +188,5 @@ def _mollweide_raster(values, nside, nest, width=_RASTER_WIDTH):
     lon = np.pi * x[None, :] / (2.0 * r2 * np.cos(theta)[:, None])
     inside = np.abs(lon) <= np.pi
     ra = np.mod(180.0 - np.degrees(np.where(inside, lon, 0.0)), 360.0)
-    pix = hp.ang2pix(nside, ra, np.broadcast_to(lat[:, None], ra.shape), lonlat=True,
-                     nest=nest)
+    pix = hp.ang2pix(nside, ra, np.broadcast_to(lat[:, None], ra.shape), lonlat=True, nest=nest)
     return np.where(inside, values[pix], np.nan)

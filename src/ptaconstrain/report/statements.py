@@ -63,14 +63,20 @@ def figure_statement(result):
     if result.is_limit:
         kind = f"exclusion, {result.label}"
     else:
-        kind = (f"forecast, not an exclusion: S/N ≥ {result.snr:g} over "
-                f"{result.span.to_value(u.yr):.3g} yr")
+        kind = (
+            f"forecast, not an exclusion: S/N ≥ {result.snr:g} over "
+            f"{result.span.to_value(u.yr):.3g} yr"
+        )
         inc = result.curve.meta.get("inclination")
-        kind += (f" at inclination {inc.replace(' deg', '°')} (polarisation-averaged)" if inc
-                 else " (orientation-averaged)")
+        kind += (
+            f" at inclination {inc.replace(' deg', '°')} (polarisation-averaged)"
+            if inc
+            else " (orientation-averaged)"
+        )
     sky = sky_text(result.curve)
-    where = f"at {sky}" if sky.startswith("RA ") else (
-        sky if sky == "sky-averaged" else f"sky: {sky}")
+    where = (
+        f"at {sky}" if sky.startswith("RA ") else (sky if sky == "sky-averaged" else f"sky: {sky}")
+    )
     return f"{kind}; {where}"
 
 
@@ -82,8 +88,10 @@ def probability_footer(prob_map):
     str
     """
     what = "the limit's own confidence" if prob_map.is_limit else "the S/N threshold"
-    return (f"Contours: probability over the host's mass and distance errors "
-            f"({prob_map.n_samples} samples), on top of {what}")
+    return (
+        f"Contours: probability over the host's mass and distance errors "
+        f"({prob_map.n_samples} samples), on top of {what}"
+    )
 
 
 def derived_meta(host):
@@ -95,15 +103,18 @@ def derived_meta(host):
     """
     from ..cosmo import cosmology_name
 
-    out = {"luminosity_distance": f"{host.distance.to_value(u.Mpc):.6g} Mpc",
-           "redshift": f"{host.redshift:.6g}",
-           "cosmology": cosmology_name(host.cosmology)}
+    out = {
+        "luminosity_distance": f"{host.distance.to_value(u.Mpc):.6g} Mpc",
+        "redshift": f"{host.redshift:.6g}",
+        "cosmology": cosmology_name(host.cosmology),
+    }
     if host.mass_distance is not None:
         out["mass_rescaled"] = (
             f"{host.mass_quoted.to_value(u.Msun):.6g} solMass at "
             f"{host.mass_distance.to_value(u.Mpc):.6g} Mpc -> "
             f"{host.mass.to_value(u.Msun):.6g} solMass at {host.distance.to_value(u.Mpc):.6g} "
-            "Mpc (dynamical masses scale linearly with distance)")
+            "Mpc (dynamical masses scale linearly with distance)"
+        )
     return out
 
 
@@ -125,8 +136,10 @@ def host_line(host, distance_from_redshift=False):
 
     mass = f"M = {host.mass.to_value(u.Msun):.4g} solMass"
     if host.mass_distance is not None:
-        mass += (f" (rescaled from {host.mass_quoted.to_value(u.Msun):.4g} solMass at "
-                 f"{host.mass_distance.to_value(u.Mpc):.4g} Mpc)")
+        mass += (
+            f" (rescaled from {host.mass_quoted.to_value(u.Msun):.4g} solMass at "
+            f"{host.mass_distance.to_value(u.Mpc):.4g} Mpc)"
+        )
     d = f"D_L = {host.distance.to_value(u.Mpc):.4g} Mpc"
     z = f"z = {host.redshift:.4g}"
     dz = f"{d} from {z}" if distance_from_redshift else f"{d}, {z}"

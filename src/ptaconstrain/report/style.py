@@ -19,7 +19,8 @@ MSUN = "M\u2609"
 
 _SUPERSCRIPT = str.maketrans("0123456789-+", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻⁺")
 _MATH_TICK = re.compile(
-    r"^\$\\mathdefault\{(-?)(?:([0-9.]+)\\times)?([0-9.]+)(?:\^\{(-?\d+)\})?\}\$$")
+    r"^\$\\mathdefault\{(-?)(?:([0-9.]+)\\times)?([0-9.]+)(?:\^\{(-?\d+)\})?\}\$$"
+)
 
 
 def sci_text(x, digits=2):
@@ -158,7 +159,16 @@ def minor_ticks_as_markers(ax, axis, limits, side, to_parent=None):
     else:
         xy, transform = (edge, where), ax.get_yaxis_transform()
     rc = mpl.rcParams
-    ax.add_artist(Line2D(
-        *xy, transform=transform, ls="none", marker=_TICK_MARKERS[side],
-        markersize=rc[f"{key}.minor.size"], markeredgewidth=rc[f"{key}.minor.width"],
-        color=rc[f"{key}.color"], clip_on=False, zorder=2.5))
+    ax.add_artist(
+        Line2D(
+            *xy,
+            transform=transform,
+            ls="none",
+            marker=_TICK_MARKERS[side],
+            markersize=rc[f"{key}.minor.size"],
+            markeredgewidth=rc[f"{key}.minor.width"],
+            color=rc[f"{key}.color"],
+            clip_on=False,
+            zorder=2.5,
+        )
+    )

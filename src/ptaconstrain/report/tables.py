@@ -111,7 +111,8 @@ def exclusion_table(result, meta=None, prob_map=None):
         if name in t.colnames:
             t[name].info.description = text
     t.meta["statement"] = (
-        "EXCLUSION from an upper limit" if result.is_limit
+        "EXCLUSION from an upper limit"
+        if result.is_limit
         else "FORECAST from a noise budget (detectable, not excluded)"
     )
     t.meta["sensitivity"] = result.label
@@ -124,15 +125,20 @@ def exclusion_table(result, meta=None, prob_map=None):
 
     t.meta.update(derived_meta(result.host))
     if "inclination" in result.curve.meta:
-        t.meta["inclination"] = (f"{result.curve.meta['inclination']} (polarisation-averaged; "
-                                 "S/N^2 factor "
-                                 f"{float(result.curve.meta['inclination_factor']):.4g} of "
-                                 "the orientation average)")
+        t.meta["inclination"] = (
+            f"{result.curve.meta['inclination']} (polarisation-averaged; "
+            "S/N^2 factor "
+            f"{float(result.curve.meta['inclination_factor']):.4g} of "
+            "the orientation average)"
+        )
     t.meta["eccentricity"] = f"{result.eccentricity:g}"
     if result.harmonics is not None:
-        t.meta["harmonics"] = (f"n = 1-{int(result.harmonics.max())} of the orbital frequency "
-                               "(99.9% of the power; Peters & Mathews 1963)"
-                               if result.eccentricity > 0 else "n = 2 (circular quadrupole)")
+        t.meta["harmonics"] = (
+            f"n = 1-{int(result.harmonics.max())} of the orbital frequency "
+            "(99.9% of the power; Peters & Mathews 1963)"
+            if result.eccentricity > 0
+            else "n = 2 (circular quadrupole)"
+        )
     if prob_map is not None:
         t.meta.update(prob_map.describe())
     if meta:
@@ -180,8 +186,10 @@ def summary_lines(result):
     if result.eccentricity > 0:
         tag += f"; {result.orbit}"
     if best is None:
-        return [f"{host}: no companion {phrase} at any period on the grid ({tag})",
-                _why_no_bound(result)]
+        return [
+            f"{host}: no companion {phrase} at any period on the grid ({tag})",
+            _why_no_bound(result),
+        ]
     period, qmax = best
     m2 = result.smallest_excluded_companion_mass
     cut = (result.max_mass_ratio < 1.0) & result.bound_is_monochromatic
@@ -200,8 +208,7 @@ def _why_no_bound(result):
 
     host = result.host
     f = result.frequency
-    threshold = np.asarray(getattr(result.h0_threshold, "value", result.h0_threshold),
-                           dtype=float)
+    threshold = np.asarray(getattr(result.h0_threshold, "value", result.h0_threshold), dtype=float)
     in_band = np.isfinite(threshold)
     below_isco = f <= result.isco_frequency
     constrained = in_band & below_isco
@@ -210,25 +217,33 @@ def _why_no_bound(result):
     if not constrained.any():
         if in_band.any():
             p_isco = orbital_period(result.isco_frequency).to(u.yr)
-            return (f"{host.name}: no circular binary of this mass has these periods: every "
-                    f"period of the grid in the curve's band lies above ISCO (P < "
-                    f"{format_quantity(p_isco)} for {mass}), so no bound is quoted")
+            return (
+                f"{host.name}: no circular binary of this mass has these periods: every "
+                f"period of the grid in the curve's band lies above ISCO (P < "
+                f"{format_quantity(p_isco)} for {mass}), so no bound is quoted"
+            )
         band = orbital_period(result.curve.frequency[[-1, 0]]).to_value(u.yr)
-        return (f"{host.name}: no period of the grid lies in the curve's band (P = "
-                f"{band[0]:.3g}-{band[1]:.3g} yr), so no bound is quoted")
+        return (
+            f"{host.name}: no period of the grid lies in the curve's band (P = "
+            f"{band[0]:.3g}-{band[1]:.3g} yr), so no bound is quoted"
+        )
     h0_equal = strain_amplitude(host.mass, 1.0, f[constrained], host.distance, host.redshift)
     ratio = h0_equal.to_value(u.dimensionless_unscaled) / threshold[constrained]
     top = float(ratio.max())
     if top > 1.0:
         # tightest() is None although q = 1 exceeds the curve: every such period chirps
-        return (f"{host.name}: h0 of an equal-mass binary exceeds {what} by up to a factor "
-                f"{top:.3g}, but every such period chirps within the "
-                f"{format_quantity(result.span.to(u.yr))} span (the monochromatic CW model "
-                "does not hold), so no CW bound is quoted")
+        return (
+            f"{host.name}: h0 of an equal-mass binary exceeds {what} by up to a factor "
+            f"{top:.3g}, but every such period chirps within the "
+            f"{format_quantity(result.span.to(u.yr))} span (the monochromatic CW model "
+            "does not hold), so no CW bound is quoted"
+        )
     f_nhz = f[constrained].to_value(u.nHz)
-    return (f"{host.name}: h0 of an equal-mass binary stays below {what} (at most "
-            f"{top:.3g} of it) over {f_nhz.min():.3g}-{f_nhz.max():.3g} nHz ({mass}, D_L = "
-            f"{format_quantity(host.distance.to(u.Mpc))})")
+    return (
+        f"{host.name}: h0 of an equal-mass binary stays below {what} (at most "
+        f"{top:.3g} of it) over {f_nhz.min():.3g}-{f_nhz.max():.3g} nHz ({mass}, D_L = "
+        f"{format_quantity(host.distance.to(u.Mpc))})"
+    )
 
 
 def credible_summary_lines(prob_map):
@@ -265,6 +280,7 @@ def credible_summary_lines(prob_map):
         if best is None:
             lines.append(f"{name}: no companion {phrase} {tail}")
         else:
-            lines.append(f"{name}: q > {best[1]:.3g} {phrase} at P = "
-                         f"{best[0].to_value(u.yr):.3g} yr {tail}")
+            lines.append(
+                f"{name}: q > {best[1]:.3g} {phrase} at P = {best[0].to_value(u.yr):.3g} yr {tail}"
+            )
     return lines

@@ -80,11 +80,15 @@ class Background:
     def __post_init__(self):
         a, g = float(self.amplitude), float(self.gamma)
         if not (np.isfinite(a) and 0 < a <= _AMP_MAX):
-            raise InputError(f"background amplitude: {a:g} is not in (0, {_AMP_MAX:g}]; give A "
-                             "itself (e.g. 2.4e-15), not log10 A")
+            raise InputError(
+                f"background amplitude: {a:g} is not in (0, {_AMP_MAX:g}]; give A "
+                "itself (e.g. 2.4e-15), not log10 A"
+            )
         if not (np.isfinite(g) and 0 <= g <= 10):
-            raise InputError(f"background gamma: {g:g} is not in [0, 10]; 13/3 is the "
-                             "value for GW-driven circular binaries")
+            raise InputError(
+                f"background gamma: {g:g} is not in [0, 10]; 13/3 is the "
+                "value for GW-driven circular binaries"
+            )
         object.__setattr__(self, "amplitude", a)
         object.__setattr__(self, "gamma", g)
 
@@ -103,8 +107,10 @@ class Background:
 
     def describe(self):
         """One line for provenance, e.g. 'A = 2.4e-15, gamma = 4.333 (...)'."""
-        return (f"A = {self.amplitude:.4g}, gamma = {self.gamma:.4g} (common red noise added "
-                "to every pulsar, cross-correlations dropped)")
+        return (
+            f"A = {self.amplitude:.4g}, gamma = {self.gamma:.4g} (common red noise added "
+            "to every pulsar, cross-correlations dropped)"
+        )
 
 
 def parse_background(text):
@@ -134,8 +140,9 @@ def parse_background(text):
     except ValueError:
         values = []
     if len(values) not in (1, 2):
-        raise InputError(f"background: cannot read {text!r}; give A or A,gamma, "
-                         "e.g. 2.4e-15 or 2.4e-15,4.333")
+        raise InputError(
+            f"background: cannot read {text!r}; give A or A,gamma, e.g. 2.4e-15 or 2.4e-15,4.333"
+        )
     return Background(*values)
 
 
@@ -223,20 +230,28 @@ def correlated_snr_squared(array, background, h0, frequency, coord, correlated=T
     f = np.atleast_1d(u.Quantity(frequency, u.Hz).value)
     n_toas = array.n_toas
     if n_toas.sum() > DENSE_MAX_TOAS:
-        raise InputError(f"array: {n_toas.sum()} TOAs in total; the dense check handles at "
-                         f"most {DENSE_MAX_TOAS} (use a few pulsars with a few hundred TOAs)")
+        raise InputError(
+            f"array: {n_toas.sum()} TOAs in total; the dense check handles at "
+            f"most {DENSE_MAX_TOAS} (use a few pulsars with a few hundred TOAs)"
+        )
     t = [array.epochs(i) * _DAY for i in range(len(array))]
     t0 = np.mean(np.concatenate(t))
     t = [ti - t0 for ti in t]
     sig = array.toa_rms.to_value(u.s)
-    cov = linalg.block_diag(*[np.full(ti.size, s**2) * np.eye(ti.size)
-                              for ti, s in zip(t, sig, strict=True)])
+    cov = linalg.block_diag(
+        *[np.full(ti.size, s**2) * np.eye(ti.size) for ti, s in zip(t, sig, strict=True)]
+    )
     edges = np.concatenate([[0], np.cumsum(n_toas)])
     # each pulsar's own red noise on its own basis, as the per-pulsar weights have it
     for i, ti in enumerate(t):
-        red = red_noise_basis((ti - 0.5 * (ti[0] + ti[-1])) * u.s, (ti[-1] - ti[0]) * u.s,
-                              array.toa_rms[i], array.cadence[i], array.red_amp[i],
-                              array.red_gamma[i])
+        red = red_noise_basis(
+            (ti - 0.5 * (ti[0] + ti[-1])) * u.s,
+            (ti[-1] - ti[0]) * u.s,
+            array.toa_rms[i],
+            array.cadence[i],
+            array.red_amp[i],
+            array.red_gamma[i],
+        )
         if red is not None:
             sl = slice(edges[i], edges[i + 1])
             cov[sl, sl] += (red[0] * red[1].to_value(u.s**2)) @ red[0].T
@@ -251,12 +266,14 @@ def correlated_snr_squared(array, background, h0, frequency, coord, correlated=T
         k = k[: np.flatnonzero(p_b >= 1e-4 * p_w).max(initial=-1) + 1]
         fb = _fourier(all_t, k) * np.sqrt(np.tile(p_b[: k.size] / span, 2))
         cos_ab = array.vectors @ array.vectors.T
-        gamma = (hellings_downs(cos_ab, same_pulsar=np.eye(len(array), dtype=bool))
-                 if correlated else np.eye(len(array)))
+        gamma = (
+            hellings_downs(cos_ab, same_pulsar=np.eye(len(array), dtype=bool))
+            if correlated
+            else np.eye(len(array))
+        )
         corr = np.repeat(np.repeat(gamma, n_toas, axis=0), n_toas, axis=1)
         cov += corr * (fb @ fb.T)
-    design = linalg.block_diag(*[timing_design_matrix(array.epochs(i))
-                                 for i in range(len(array))])
+    design = linalg.block_diag(*[timing_design_matrix(array.epochs(i)) for i in range(len(array))])
     fp, fx = antenna.antenna_pattern(array.vectors, antenna.coord_to_vectors(coord))
     arg = np.multiply.outer(np.concatenate(t), 2 * np.pi * f)
     out = np.zeros(f.size)
@@ -270,7 +287,8 @@ def correlated_snr_squared(array, background, h0, frequency, coord, correlated=T
             for basis in (np.cos(arg), np.sin(arg)):
                 v = per_toa * basis
                 g_v = linalg.cho_solve(chol, v) - cinv_m @ linalg.solve(
-                    fisher, cinv_m.T @ v, assume_a="pos")
+                    fisher, cinv_m.T @ v, assume_a="pos"
+                )
                 out += np.einsum("if,if->f", v, g_v)
     amp = np.asarray(h0, float) / (2 * np.pi * f)
     return 1.6 * amp**2 * out / 2.0

@@ -81,8 +81,10 @@ class CombinedLimit(StrainCurve):
         return np.vstack([np.atleast_1d(c.interpolate(frequency)) for c in self.limits])
 
     def __repr__(self):
-        return (f"CombinedLimit({len(self.limits)} limits: {', '.join(self.names)}; "
-                f"{self.frequency.size} points, {self.label()})")
+        return (
+            f"CombinedLimit({len(self.limits)} limits: {', '.join(self.names)}; "
+            f"{self.frequency.size} points, {self.label()})"
+        )
 
 
 def tightest_limit(curves, names):
@@ -122,18 +124,25 @@ def tightest_limit(curves, names):
         raise CurveError("give one name per curve, and at least one curve")
     budgets = [n for c, n in zip(curves, names, strict=True) if not c.is_limit]
     if budgets:
-        raise CurveError(f"{budgets[0]} is a noise budget: repeating --curve combines upper "
-                         "limits only; use one noise budget at a time")
+        raise CurveError(
+            f"{budgets[0]} is a noise budget: repeating --curve combines upper "
+            "limits only; use one noise budget at a time"
+        )
     levels = {round(c.confidence, 9) for c in curves}
     if len(levels) > 1:
-        raise CurveError(f"the limits have different confidences "
-                         f"({', '.join(f'{c.confidence:g}' for c in curves)}): the tightest "
-                         "of them would mix statements; combine limits of one confidence")
+        raise CurveError(
+            f"the limits have different confidences "
+            f"({', '.join(f'{c.confidence:g}' for c in curves)}): the tightest "
+            "of them would mix statements; combine limits of one confidence"
+        )
     spans = [c.span for c in curves if c.span is not None]
     skies = {c.sky for c in curves}
-    meta = {"confidence": curves[0].confidence, "sources": ", ".join(names),
-            "sky": skies.pop() if len(skies) == 1 else "averaged",
-            "source": "tightest of " + ", ".join(names)}
+    meta = {
+        "confidence": curves[0].confidence,
+        "sources": ", ".join(names),
+        "sky": skies.pop() if len(skies) == 1 else "averaged",
+        "source": "tightest of " + ", ".join(names),
+    }
     if spans:
         meta["span"] = f"{max(s.to_value(u.yr) for s in spans):.6g} yr"
     return CombinedLimit(curves, names, meta)

@@ -49,8 +49,12 @@ _VALUE_UNITS = {
 ORIENTATION_MEAN = 3.2
 
 #: schema of the meta keys a curve file may carry (others are kept, unchecked)
-CURVE_META_SCHEMA = {"confidence": (float, str), "span": (float, str, u.Quantity),
-                     "sky": str, "*": object}
+CURVE_META_SCHEMA = {
+    "confidence": (float, str),
+    "span": (float, str, u.Quantity),
+    "sky": str,
+    "*": object,
+}
 
 
 class CurveError(InputError):
@@ -337,9 +341,13 @@ class StrainCurve:
             return self.span
         guess = (1.0 / self.frequency[0]).to(u.yr)
         if not self.is_limit:
-            warnings.warn(f"span: the curve gives no observing span, so {guess:.3g} "
-                          "(1 / lowest frequency) is assumed; give span or set the "
-                          "curve's 'span' meta", PtaconstrainWarning, stacklevel=3)
+            warnings.warn(
+                f"span: the curve gives no observing span, so {guess:.3g} "
+                "(1 / lowest frequency) is assumed; give span or set the "
+                "curve's 'span' meta",
+                PtaconstrainWarning,
+                stacklevel=3,
+            )
         return guess
 
     def __repr__(self):
@@ -375,8 +383,9 @@ def _span_from_meta(meta):
     if span is None:
         return None
     if not isinstance(span, (str, int, float, u.Quantity)) or isinstance(span, bool):
-        raise CurveError(f"curve meta 'span' is a {type(span).__name__}: write one time, "
-                         "e.g. '15 yr'")
+        raise CurveError(
+            f"curve meta 'span' is a {type(span).__name__}: write one time, e.g. '15 yr'"
+        )
     try:
         q = quantity(span, u.yr, "span")
     except InputError as err:
@@ -393,8 +402,10 @@ def _confidence_from_meta(meta):
     """The meta 'confidence' of a limit (default 0.95), refused outside (0, 1)."""
     conf = meta.get("confidence", 0.95)
     if isinstance(conf, bool) or not isinstance(conf, (int, float, str, np.floating)):
-        raise CurveError(f"curve meta 'confidence' is a {type(conf).__name__}: write one "
-                         "number in (0, 1), e.g. 0.95")
+        raise CurveError(
+            f"curve meta 'confidence' is a {type(conf).__name__}: write one "
+            "number in (0, 1), e.g. 0.95"
+        )
     try:
         return check_field(conf, "confidence", "curve meta 'confidence'")
     except InputError as err:
@@ -463,9 +474,12 @@ def load_curve(path, kind=None, confidence=None):
         )
     else:
         curve = _load_text(path, kind)
-        warnings.warn(f"sky: {path.name} is plain text and states no sky, so it is taken "
-                      "as sky-averaged; write it as ECSV with meta 'sky' to say otherwise",
-                      PtaconstrainWarning, stacklevel=2)
+        warnings.warn(
+            f"sky: {path.name} is plain text and states no sky, so it is taken "
+            "as sky-averaged; write it as ECSV with meta 'sky' to say otherwise",
+            PtaconstrainWarning,
+            stacklevel=2,
+        )
         hint = frequency_unit_hint(curve.frequency)
         if hint:
             warnings.warn(f"{path.name}: {hint}", PtaconstrainWarning, stacklevel=2)
@@ -505,8 +519,10 @@ def frequency_unit_hint(frequency):
         unit, factor = "mHz", "1e-3"
     else:
         return ""
-    return (f"frequencies {lo:.3g}-{hi:.3g} Hz look like {unit}: the first column must be "
-            f"in Hz; multiply it by {factor} (or write the curve as ECSV with unit {unit})")
+    return (
+        f"frequencies {lo:.3g}-{hi:.3g} Hz look like {unit}: the first column must be "
+        f"in Hz; multiply it by {factor} (or write the curve as ECSV with unit {unit})"
+    )
 
 
 def _settle_confidence(curve, name, confidence, note=True):
@@ -517,25 +533,34 @@ def _settle_confidence(curve, name, confidence, note=True):
     """
     if not curve.is_limit:
         if confidence is not None:
-            warnings.warn(f"confidence: {name} is a noise budget (a forecast), so the "
-                          f"confidence {confidence:g} is ignored", PtaconstrainWarning,
-                          stacklevel=3)
+            warnings.warn(
+                f"confidence: {name} is a noise budget (a forecast), so the "
+                f"confidence {confidence:g} is ignored",
+                PtaconstrainWarning,
+                stacklevel=3,
+            )
         return
     stated = curve.meta.get("confidence")
     if stated is None and confidence is None:
         if not note:
             return
-        warnings.warn(f"confidence: {name} states no confidence, so a 95% upper limit is "
-                      "assumed; give --confidence (or the curve's 'confidence' meta)",
-                      PtaconstrainWarning, stacklevel=3)
+        warnings.warn(
+            f"confidence: {name} states no confidence, so a 95% upper limit is "
+            "assumed; give --confidence (or the curve's 'confidence' meta)",
+            PtaconstrainWarning,
+            stacklevel=3,
+        )
         curve.meta["confidence"] = 0.95
         curve.meta["confidence_assumed"] = True
     elif stated is None:
         curve.meta["confidence"] = float(confidence)
     elif confidence is not None and abs(float(stated) - float(confidence)) > 1e-12:
-        warnings.warn(f"confidence: {name} states {float(stated):g}, which is used; the "
-                      f"confidence {confidence:g} given is ignored", PtaconstrainWarning,
-                      stacklevel=3)
+        warnings.warn(
+            f"confidence: {name} states {float(stated):g}, which is used; the "
+            f"confidence {confidence:g} given is ignored",
+            PtaconstrainWarning,
+            stacklevel=3,
+        )
 
 
 def _load_ecsv(path, kind):
@@ -585,13 +610,11 @@ def _load_text(path, kind):
             ) from err
     if data.shape[1] != 2 or data.shape[0] == 0:
         raise CurveError(
-            f"{path.name}: expected two columns (frequency in Hz, {kind}), "
-            f"found {data.shape[1]}"
+            f"{path.name}: expected two columns (frequency in Hz, {kind}), found {data.shape[1]}"
         )
     unit = _VALUE_UNITS[kind]
     try:
-        return StrainCurve(data[:, 0] * u.Hz, data[:, 1] * unit, kind,
-                                meta={"source": path.name})
+        return StrainCurve(data[:, 0] * u.Hz, data[:, 1] * unit, kind, meta={"source": path.name})
     except CurveError as err:
         raise CurveError(f"{path.name}: {err}") from err
 

@@ -35,13 +35,20 @@ from .._inputs import check_memory, positive, quantity
 from ..errors import InputError
 from .positional import HealpixThresholds, check_nside
 
-__all__ = ["LimitMapError", "LimitMap", "load_limit_map", "write_threshold_maps",
-           "FRAMES"]
+__all__ = ["LimitMapError", "LimitMap", "load_limit_map", "write_threshold_maps", "FRAMES"]
 
 #: COORDSYS letter -> astropy frame name.
 FRAMES = {"C": "icrs", "E": "barycentricmeanecliptic", "G": "galactic"}
-_COORD_WORDS = {"C": "C", "Q": "C", "CELESTIAL": "C", "EQUATORIAL": "C", "E": "E",
-                "ECLIPTIC": "E", "G": "G", "GALACTIC": "G"}
+_COORD_WORDS = {
+    "C": "C",
+    "Q": "C",
+    "CELESTIAL": "C",
+    "EQUATORIAL": "C",
+    "E": "E",
+    "ECLIPTIC": "E",
+    "G": "G",
+    "GALACTIC": "G",
+}
 _STRAIN_UNITS = {"", "1", "STRAIN", "DIMENSIONLESS", "H0"}
 _UNSEEN = -1.6375e30  # healpy.UNSEEN
 
@@ -65,8 +72,9 @@ class LimitMapError(InputError):
     """
 
 
-def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=False,
-                         extra=None, nside=None):
+def write_threshold_maps(
+    path, maps, frequencies, snr, span, source, overwrite=False, extra=None, nside=None
+):
     """Write h0-threshold maps (one per frequency) as a HEALPix FITS file, atomically.
 
     The file is the one ``healpy.write_map`` writes (columns of 1024 pixels
@@ -123,13 +131,14 @@ def write_threshold_maps(path, maps, frequencies, snr, span, source, overwrite=F
         if nside is None:
             raise InputError("nside: give the maps' nside when they come in blocks")
         blocks, npix = maps, 12 * check_nside(nside) ** 2
-    header = [("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
-              ("SNR", float(snr), "S/N threshold"),
-              ("SPAN", span_yr, "observing span [yr]"),
-              ("SOURCE", str(source)[:68], ""),
-              ("ORIENT", "mean rho^2 over incl. and polarisation", "")]
-    header += [(f"FREQ{i + 1}", float(fi), "GW frequency of column [Hz]")
-               for i, fi in enumerate(f)]
+    header = [
+        ("MAPKIND", "h0_threshold", "forecast h0 for S/N >= SNR, not a limit"),
+        ("SNR", float(snr), "S/N threshold"),
+        ("SPAN", span_yr, "observing span [yr]"),
+        ("SOURCE", str(source)[:68], ""),
+        ("ORIENT", "mean rho^2 over incl. and polarisation", ""),
+    ]
+    header += [(f"FREQ{i + 1}", float(fi), "GW frequency of column [Hz]") for i, fi in enumerate(f)]
     header += [(k.upper()[:8], v, "") for k, v in (extra or {}).items()]
     names = [f"H0_{fi * 1e9:.4g}NHZ" for fi in f]
     with atomic_write(path, overwrite) as tmp, open(tmp, "wb") as fh:
@@ -181,8 +190,10 @@ def _stream_healpix_table(fh, blocks, names, npix, extra_header):
             fh.write(np.ascontiguousarray(rows, dtype=">f8").data)
             done += whole
     if carry.shape[1] or done != npix:
-        raise LimitMapError(f"sky map: blocks held {done + carry.shape[1]} pixels, "
-                            f"the header {npix}: give whole maps of 12 nside^2 pixels")
+        raise LimitMapError(
+            f"sky map: blocks held {done + carry.shape[1]} pixels, "
+            f"the header {npix}: give whole maps of 12 nside^2 pixels"
+        )
     size = npix * n_f * 8
     fh.write(b"\0" * (-size % 2880))
 
@@ -236,8 +247,7 @@ class LimitMap:
 
         try:
             f = np.atleast_1d(quantity(frequency, u.Hz, "sky map frequency"))
-            self.span = None if span is None else positive(quantity(span, u.yr, "span"),
-                                                           "span")
+            self.span = None if span is None else positive(quantity(span, u.yr, "span"), "span")
         except InputError as err:
             raise LimitMapError(str(err)) from err
         maps = np.atleast_2d(np.asarray(maps, float))
@@ -306,14 +316,22 @@ class LimitMap:
         else:
             icrs = coord.icrs
             sky = f"ra={icrs.ra.deg:.4f}deg dec={icrs.dec.deg:.4f}deg"
-            note = f"value of HEALPix pixel {self.pixel(coord)} (nside {self.nside}, " \
-                   f"frame {self.frame})"
+            note = (
+                f"value of HEALPix pixel {self.pixel(coord)} (nside {self.nside}, "
+                f"frame {self.frame})"
+            )
         ok = np.isfinite(v)
         if ok.sum() < 2:
-            raise LimitMapError(f"sky map {self.name} has no value at {sky} "
-                                "(blank pixel): use a full-sky map or drop the position")
-        meta = {"sky": sky, "sky_note": note, "confidence": self.confidence,
-                "source": f"HEALPix upper-limit map {self.name}"}
+            raise LimitMapError(
+                f"sky map {self.name} has no value at {sky} "
+                "(blank pixel): use a full-sky map or drop the position"
+            )
+        meta = {
+            "sky": sky,
+            "sky_note": note,
+            "confidence": self.confidence,
+            "source": f"HEALPix upper-limit map {self.name}",
+        }
         if self.span is not None:
             meta["span"] = f"{self.span.to_value(u.yr):.6g} yr"
         return StrainCurve(self.frequency[ok], v[ok], "h0_limit", meta=meta)
@@ -355,17 +373,21 @@ class LimitMap:
             raise LimitMapError(
                 f"frequency: {f[bad[0]]:.6g} Hz is not one of the {own.size} frequencies of "
                 f"sky map {self.name} ({own[0]:.4g}-{own[-1]:.4g} Hz): use the map's own "
-                "frequencies (its curve_at(None).frequency)")
-        return HealpixThresholds(self.nside, self.frame_name,
-                                 np.ascontiguousarray(self.maps[col].T))
+                "frequencies (its curve_at(None).frequency)"
+            )
+        return HealpixThresholds(
+            self.nside, self.frame_name, np.ascontiguousarray(self.maps[col].T)
+        )
 
     def sky_markers(self):
         """None: a limit map has no positions worth marking."""
         return None
 
     def __repr__(self):
-        return (f"LimitMap({self.name!r}, nside={self.nside}, frame={self.frame}, "
-                f"{self.frequency.size} frequencies)")
+        return (
+            f"LimitMap({self.name!r}, nside={self.nside}, frame={self.frame}, "
+            f"{self.frequency.size} frequencies)"
+        )
 
 
 def load_limit_map(path):
@@ -404,39 +426,53 @@ def load_limit_map(path):
     try:
         with fits.open(path) as hdul:
             if len(hdul) < 2 or not isinstance(hdul[1], fits.BinTableHDU):
-                raise LimitMapError(f"{name}: HDU 1 is not a binary table: write the map with "
-                                    "healpy.write_map")
+                raise LimitMapError(
+                    f"{name}: HDU 1 is not a binary table: write the map with healpy.write_map"
+                )
             hdr = hdul[1].header
             ncol = len(hdul[1].columns)
     except OSError as err:
-        raise LimitMapError(f"{name} is not a readable FITS file: give a HEALPix map written "
-                            "by healpy.write_map (layout in the README)") from err
+        raise LimitMapError(
+            f"{name} is not a readable FITS file: give a HEALPix map written "
+            "by healpy.write_map (layout in the README)"
+        ) from err
 
     order = str(hdr.get("ORDERING", "")).strip().upper()
     if order not in ("RING", "NESTED", "NEST"):
-        raise LimitMapError(f"{name}: header keyword ORDERING is {order or 'missing'}: set it "
-                            "to 'RING' or 'NESTED'")
+        raise LimitMapError(
+            f"{name}: header keyword ORDERING is {order or 'missing'}: set it to 'RING' or 'NESTED'"
+        )
     if str(hdr.get("INDXSCHM", "IMPLICIT")).strip().upper() != "IMPLICIT":
-        raise LimitMapError(f"{name}: partial-sky (explicit-index) maps are not supported: "
-                            "write a full-sky map with UNSEEN pixels")
+        raise LimitMapError(
+            f"{name}: partial-sky (explicit-index) maps are not supported: "
+            "write a full-sky map with UNSEEN pixels"
+        )
     csys = str(hdr.get("COORDSYS", "")).strip().upper()
     if csys not in _COORD_WORDS:
-        raise LimitMapError(f"{name}: header keyword COORDSYS is {csys or 'missing'}: set it "
-                            "to 'C' (equatorial), 'E' (ecliptic) or 'G' (galactic)")
+        raise LimitMapError(
+            f"{name}: header keyword COORDSYS is {csys or 'missing'}: set it "
+            "to 'C' (equatorial), 'E' (ecliptic) or 'G' (galactic)"
+        )
     kind = str(hdr.get("MAPKIND", "h0_limit")).strip().lower()
     if kind != "h0_limit":
-        raise LimitMapError(f"{name} holds {kind} (a forecast), not h0 upper limits: for a "
-                            "forecast pass the pulsar list itself with --array, or give an "
-                            "upper-limit map")
+        raise LimitMapError(
+            f"{name} holds {kind} (a forecast), not h0 upper limits: for a "
+            "forecast pass the pulsar list itself with --array, or give an "
+            "upper-limit map"
+        )
     freqs = []
     for i in range(1, ncol + 1):
         unit = str(hdr.get(f"TUNIT{i}", "")).strip().upper()
         if unit not in _STRAIN_UNITS:
-            raise LimitMapError(f"{name}: column {i} has unit {hdr[f'TUNIT{i}']!r}: a map of "
-                                "h0 is dimensionless strain (TUNIT empty or 'strain')")
+            raise LimitMapError(
+                f"{name}: column {i} has unit {hdr[f'TUNIT{i}']!r}: a map of "
+                "h0 is dimensionless strain (TUNIT empty or 'strain')"
+            )
         if f"FREQ{i}" not in hdr:
-            raise LimitMapError(f"{name}: column {i} has no frequency: add the header keyword "
-                                f"FREQ{i} = <GW frequency in Hz>")
+            raise LimitMapError(
+                f"{name}: column {i} has no frequency: add the header keyword "
+                f"FREQ{i} = <GW frequency in Hz>"
+            )
         try:
             freqs.append(float(hdr[f"FREQ{i}"]))
         except (TypeError, ValueError) as err:
@@ -454,20 +490,28 @@ def load_limit_map(path):
     try:  # before healpy reads (or prints) anything
         nside = check_nside(hdr.get("NSIDE"))
     except InputError as err:
-        raise LimitMapError(f"{name}: header keyword NSIDE = {hdr.get('NSIDE')!r} is not a "
-                            "HEALPix resolution (a power of 2 up to 8192)") from err
+        raise LimitMapError(
+            f"{name}: header keyword NSIDE = {hdr.get('NSIDE')!r} is not a "
+            "HEALPix resolution (a power of 2 up to 8192)"
+        ) from err
     # the maps as read, and healpy's copy of them: two float64 per pixel and column
-    check_memory(2 * 8.0 * 12 * nside**2 * ncol, f"{name} ({ncol} map(s) of nside {nside})",
-                 "give a map of lower nside")
+    check_memory(
+        2 * 8.0 * 12 * nside**2 * ncol,
+        f"{name} ({ncol} map(s) of nside {nside})",
+        "give a map of lower nside",
+    )
     try:
         maps = hp.read_map(str(path), field=tuple(range(ncol)), nest=False, dtype=np.float64)
     except (ValueError, TypeError, OSError, KeyError, IndexError) as err:
-        raise LimitMapError(f"{name}: the map data cannot be read ({first_line(err)}); the "
-                            "file may be truncated: write it again with healpy.write_map") from err
+        raise LimitMapError(
+            f"{name}: the map data cannot be read ({first_line(err)}); the "
+            "file may be truncated: write it again with healpy.write_map"
+        ) from err
     maps = np.atleast_2d(maps)
     try:
         span = None if span is None else positive(quantity(span, u.yr, "SPAN"), "SPAN")
     except InputError as err:
         raise LimitMapError(f"{name}: header keyword {err}; give the span in yr") from err
-    return LimitMap(freqs * u.Hz, maps, frame=_COORD_WORDS[csys], confidence=conf,
-                    span=span, name=name)
+    return LimitMap(
+        freqs * u.Hz, maps, frame=_COORD_WORDS[csys], confidence=conf, span=span, name=name
+    )

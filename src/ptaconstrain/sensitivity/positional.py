@@ -46,8 +46,10 @@ class HealpixThresholds:
     values: np.ndarray
 
     def __repr__(self):
-        return (f"HealpixThresholds(nside={self.nside}, frame={self.frame!r}, "
-                f"values: {self.values.shape[0]} pixels x {self.values.shape[1]} frequencies)")
+        return (
+            f"HealpixThresholds(nside={self.nside}, frame={self.frame!r}, "
+            f"values: {self.values.shape[0]} pixels x {self.values.shape[1]} frequencies)"
+        )
 
 
 @runtime_checkable

@@ -37,8 +37,7 @@ from .timing import (
     white_noise_psd,
 )
 
-__all__ = ["ArrayError", "PulsarArray", "DEFAULT_NSIDE", "PARALLEL_MIN_PULSARS",
-           "MAP_BLOCK_BYTES"]
+__all__ = ["ArrayError", "PulsarArray", "DEFAULT_NSIDE", "PARALLEL_MIN_PULSARS", "MAP_BLOCK_BYTES"]
 
 #: HEALPix resolution of :meth:`PulsarArray.threshold_table` when none is asked for.
 DEFAULT_NSIDE = 64
@@ -116,9 +115,21 @@ class PulsarArray:
     'strain_psd'
     """
 
-    def __init__(self, names, coord, toa_rms, cadence, start_mjd, end_mjd, red_amp=None,
-                 red_gamma=None, distance=None, name="pulsar array", pulsar_term=False,
-                 background=None):
+    def __init__(
+        self,
+        names,
+        coord,
+        toa_rms,
+        cadence,
+        start_mjd,
+        end_mjd,
+        red_amp=None,
+        red_gamma=None,
+        distance=None,
+        name="pulsar array",
+        pulsar_term=False,
+        background=None,
+    ):
         self.names = [str(n) for n in names]
         n = len(self.names)
         self.name = str(name)
@@ -179,15 +190,24 @@ class PulsarArray:
             raise InputError(f"years: give one non-negative time, got {years!r}")
         rms_factor = float(rms_factor)
         if not (np.isfinite(rms_factor) and rms_factor >= 1.0):
-            raise InputError(f"rms_factor: {rms_factor:g} must be >= 1 (toa_rms is divided "
-                             "by it)")
+            raise InputError(f"rms_factor: {rms_factor:g} must be >= 1 (toa_rms is divided by it)")
         label = f"{self.name} +{extra.to_value(u.yr):g} yr"
         if rms_factor != 1.0:
             label += f", rms / {rms_factor:g}"
-        return PulsarArray(self.names, self.coord, self.toa_rms / rms_factor, self.cadence,
-                           self.start_mjd, self.end_mjd + extra.to_value(u.d),
-                           self.red_amp, self.red_gamma, self.distance, name=label,
-                           pulsar_term=self.pulsar_term, background=self.background)
+        return PulsarArray(
+            self.names,
+            self.coord,
+            self.toa_rms / rms_factor,
+            self.cadence,
+            self.start_mjd,
+            self.end_mjd + extra.to_value(u.d),
+            self.red_amp,
+            self.red_gamma,
+            self.distance,
+            name=label,
+            pulsar_term=self.pulsar_term,
+            background=self.background,
+        )
 
     # ------------------------------------------------------------ schedule
     def __len__(self):
@@ -209,8 +229,12 @@ class PulsarArray:
     @property
     def n_toas(self):
         """Number of TOAs of each pulsar (ndarray of int)."""
-        return np.floor((self.end_mjd - self.start_mjd) / self.cadence.to_value(u.d)
-                        + 1e-9).astype(int) + 1
+        return (
+            np.floor((self.end_mjd - self.start_mjd) / self.cadence.to_value(u.d) + 1e-9).astype(
+                int
+            )
+            + 1
+        )
 
     def epochs(self, index):
         """TOA epochs (MJD) of pulsar ``index``: start, start + dt, ..."""
@@ -236,8 +260,7 @@ class PulsarArray:
             pr = pr + self.background.psd(f)[None, :]
         return pw + pr
 
-    def weights(self, frequency, method="exact", callback=None, *, workers=None,
-                blas_threads=1):
+    def weights(self, frequency, method="exact", callback=None, *, workers=None, blas_threads=1):
         """Post-fit sensitivity weights w[p, f] (phase-averaged rho^2 per unit residual^2).
 
         Each pulsar has its own epochs and noise, so the exact weights are one
@@ -271,12 +294,21 @@ class PulsarArray:
         if key in self._cache:
             return self._cache[key]
         if method == "analytic":
-            w = approximate_weights(self.n_toas[:, None], self.cadence[:, None],
-                                    self.noise_psd(f))
+            w = approximate_weights(self.n_toas[:, None], self.cadence[:, None], self.noise_psd(f))
         else:
             self.check_memory(f.size, workers)
-            jobs = [(self.epochs(i), self.toa_rms[i], f, self.red_amp[i], self.red_gamma[i],
-                     blas_threads, self.background) for i in range(len(self))]
+            jobs = [
+                (
+                    self.epochs(i),
+                    self.toa_rms[i],
+                    f,
+                    self.red_amp[i],
+                    self.red_gamma[i],
+                    blas_threads,
+                    self.background,
+                )
+                for i in range(len(self))
+            ]
             rows = []
             for row in _map_jobs(jobs, self._workers(workers)):
                 rows.append(row)
@@ -299,9 +331,12 @@ class PulsarArray:
         """
         n = int(self.n_toas.max())
         per_pulsar = 4 * 8.0 * n * (12 + 2 * int(n_frequencies))
-        check_memory(per_pulsar * self._workers(workers) + 8.0 * self.n_toas.sum(),
-                     f"the timing fits ({n:,} TOAs x {int(n_frequencies)} frequencies in the "
-                     "largest pulsar)", "lengthen the pulsars' cadence or shorten their span")
+        check_memory(
+            per_pulsar * self._workers(workers) + 8.0 * self.n_toas.sum(),
+            f"the timing fits ({n:,} TOAs x {int(n_frequencies)} frequencies in the "
+            "largest pulsar)",
+            "lengthen the pulsars' cadence or shorten their span",
+        )
 
     def _workers(self, workers):
         if workers is None:
@@ -333,7 +368,8 @@ class PulsarArray:
             raise ArrayError(
                 f"frequency: {f[bad][0].to_value(u.Hz):.4g} Hz is outside the array's band "
                 f"{lo.to_value(u.nHz):.4g}-{hi.to_value(u.nHz):.4g} nHz (1/T to the "
-                "Nyquist frequency of the median cadence); bare numbers are Hz, e.g. '8 nHz'")
+                "Nyquist frequency of the median cadence); bare numbers are Hz, e.g. '8 nHz'"
+            )
 
     def default_frequencies(self, n=300):
         """Log-spaced GW frequencies from 1 / T to 1 / (2 dt), dt the median cadence.
@@ -355,8 +391,16 @@ class PulsarArray:
     def _term(self, pulsar_term):
         return self.pulsar_term if pulsar_term is None else bool(pulsar_term)
 
-    def snr_squared(self, h0, frequency, coord=None, inclination=None, psi=None,
-                    pulsar_term=None, method="exact"):
+    def snr_squared(
+        self,
+        h0,
+        frequency,
+        coord=None,
+        inclination=None,
+        psi=None,
+        pulsar_term=None,
+        method="exact",
+    ):
         """S/N^2 of a circular binary summed over the pulsars (phase-averaged).
 
         Parameters
@@ -383,8 +427,10 @@ class PulsarArray:
         if inclination is None and psi is None:
             return antenna.orientation_averaged_snr_squared(h0, f, w, self._power(coord), term)
         if coord is None or inclination is None or psi is None:
-            raise InputError("orientation: give coord, inclination and psi together, "
-                             "or omit inclination and psi for the orientation average")
+            raise InputError(
+                "orientation: give coord, inclination and psi together, "
+                "or omit inclination and psi for the orientation average"
+            )
         fp, fx = antenna.antenna_pattern(self.vectors, _coord_vector(coord))
         return antenna.snr_squared(h0, f, w, fp, fx, inclination, psi, term)
 
@@ -404,8 +450,7 @@ class PulsarArray:
         -------
         Quantity (n_f,) [1 / Hz]
         """
-        rho2 = self.snr_squared(1.0, frequency, coord=coord, pulsar_term=pulsar_term,
-                                method=method)
+        rho2 = self.snr_squared(1.0, frequency, coord=coord, pulsar_term=pulsar_term, method=method)
         return noise_psd_for_threshold(1.0, self.span, np.sqrt(rho2))
 
     def curve_at(self, coord, snr=5.0, frequency=None, pulsar_term=None, method="exact"):
@@ -442,8 +487,7 @@ class PulsarArray:
             "orientation": "mean rho^2 over inclination and polarisation"
             + (" and sky" if coord is None else ""),
             "method": method,
-            "background": ("none" if self.background is None
-                           else self.background.describe()),
+            "background": ("none" if self.background is None else self.background.describe()),
         }
         return StrainCurve(f, psd, "strain_psd", meta=meta)
 
@@ -451,8 +495,9 @@ class PulsarArray:
         """:meth:`curve_at` with ``coord=None``."""
         return self.curve_at(None, snr, frequency, pulsar_term, method)
 
-    def h0_threshold_map(self, frequencies, nside=32, snr=5.0, pulsar_term=None,
-                         callback=None, chunk=65536):
+    def h0_threshold_map(
+        self, frequencies, nside=32, snr=5.0, pulsar_term=None, callback=None, chunk=65536
+    ):
         """HEALPix maps (RING, ICRS) of the h0 reaching S/N ``snr`` (orientation-averaged).
 
         One matrix product per pixel chunk: pattern[pix, p] @ w[p, f] (see
@@ -476,8 +521,9 @@ class PulsarArray:
         ndarray (n_f, 12 nside^2), dimensionless h0.
         """
         nside = check_nside(nside)
-        blocks = self.threshold_map_blocks(frequencies, nside, snr, pulsar_term,
-                                           by="pixel", pixels=chunk, callback=callback)
+        blocks = self.threshold_map_blocks(
+            frequencies, nside, snr, pulsar_term, by="pixel", pixels=chunk, callback=callback
+        )
         parts = []
         for _, block in blocks:
             parts.append(block)
@@ -485,9 +531,18 @@ class PulsarArray:
                 callback(1)
         return np.concatenate(parts, axis=1)
 
-    def threshold_map_blocks(self, frequencies, nside=32, snr=5.0, pulsar_term=None, *,
-                             by="pixel", pixels=None, block_bytes=MAP_BLOCK_BYTES,
-                             callback=None):
+    def threshold_map_blocks(
+        self,
+        frequencies,
+        nside=32,
+        snr=5.0,
+        pulsar_term=None,
+        *,
+        by="pixel",
+        pixels=None,
+        block_bytes=MAP_BLOCK_BYTES,
+        callback=None,
+    ):
         """:meth:`h0_threshold_map` in blocks, so that no more than a block is held.
 
         ``by="pixel"``: every frequency for a run of pixels (the rows of a HEALPix
@@ -543,8 +598,7 @@ class PulsarArray:
             pixels = max(1, block_bytes // (32 * (per + len(self)) * 1024)) * 1024
         return _frequency_blocks(scale_t, self.vectors, nside, snr, per, int(pixels))
 
-    def threshold_table(self, frequency, snr=5.0, nside=None, *, pulsar_term=None,
-                        callback=None):
+    def threshold_table(self, frequency, snr=5.0, nside=None, *, pulsar_term=None, callback=None):
         """h0 reaching S/N ``snr`` on every HEALPix pixel (ICRS, RING), per frequency.
 
         :meth:`h0_threshold_map` in the layout of the
@@ -567,8 +621,9 @@ class PulsarArray:
             ``values`` of shape (12 nside^2, n_f), dimensionless h0.
         """
         nside = DEFAULT_NSIDE if nside is None else check_nside(nside)
-        m = self.h0_threshold_map(frequency, nside=nside, snr=snr, pulsar_term=pulsar_term,
-                                  callback=callback)
+        m = self.h0_threshold_map(
+            frequency, nside=nside, snr=snr, pulsar_term=pulsar_term, callback=callback
+        )
         return HealpixThresholds(nside, "icrs", np.ascontiguousarray(m.T))
 
     def sky_markers(self):
@@ -606,7 +661,7 @@ def _h0_block(scale_t, vectors, nside, pix, snr):
     for lo in range(0, n, _ROW_TILE):
         hi = min(lo + _ROW_TILE, n)
         tile[: hi - lo] = scale_t[lo:hi]
-        tile[hi - lo:] = 0.0
+        tile[hi - lo :] = 0.0
         out[lo:hi] = (tile @ pattern_t)[: hi - lo]
     np.sqrt(out, out=out)
     np.divide(snr, out, out=out)
@@ -712,17 +767,26 @@ def _validate_array(arr):
     span = arr.end_mjd - arr.start_mjd
     bad = np.flatnonzero(span < 365.25)
     if bad.size:
-        fail(bad[0], f"span is {span[bad[0]] / 365.25:.3g} yr: the astrometric fit needs at "
-                     "least 1 yr of timing (end_mjd > start_mjd + 365.25)")
+        fail(
+            bad[0],
+            f"span is {span[bad[0]] / 365.25:.3g} yr: the astrometric fit needs at "
+            "least 1 yr of timing (end_mjd > start_mjd + 365.25)",
+        )
     ntoa = np.floor(span / arr.cadence.value + 1e-9) + 1
     bad = np.flatnonzero(ntoa < _MIN_TOAS)
     if bad.size:
-        fail(bad[0], f"cadence gives only {int(ntoa[bad[0]])} TOAs over the span; the fit "
-                     f"needs at least {_MIN_TOAS}: shorten the cadence")
+        fail(
+            bad[0],
+            f"cadence gives only {int(ntoa[bad[0]])} TOAs over the span; the fit "
+            f"needs at least {_MIN_TOAS}: shorten the cadence",
+        )
     bad = np.flatnonzero(arr.red_amp < 0)
     if bad.size:
-        fail(bad[0], f"red_amp = {arr.red_amp[bad[0]]:g} is negative: give the amplitude A "
-                     "(not log10 A; use 10**value), or 0 for no red noise")
+        fail(
+            bad[0],
+            f"red_amp = {arr.red_amp[bad[0]]:g} is negative: give the amplitude A "
+            "(not log10 A; use 10**value), or 0 for no red noise",
+        )
     bad = np.flatnonzero((arr.red_amp > 0) & ~np.isfinite(arr.red_gamma))
     if bad.size:
         fail(bad[0], "red_amp is set but red_gamma is missing: give the spectral index gamma")
@@ -733,8 +797,11 @@ def _validate_array(arr):
         check_field(arr.cadence, "cadence", rows=rows)
         check_field(span * u.d, "span", "span (end_mjd - start_mjd)", rows=rows)
         check_field(arr.red_amp, "red_amp", rows=rows)
-        check_field(arr.red_gamma[red], "red_gamma",
-                    rows=[r for r, keep in zip(rows, red, strict=True) if keep])
+        check_field(
+            arr.red_gamma[red],
+            "red_gamma",
+            rows=[r for r, keep in zip(rows, red, strict=True) if keep],
+        )
     except InputError as err:
         raise ArrayError(str(err)) from err
     if arr.distance is not None:

@@ -132,9 +132,11 @@ def array_from_table(table, name="pulsar array", pulsar_term=False):
     cols = set(table.colnames)
     missing = [c for c in _REQUIRED if c not in cols]
     if missing:
-        raise ArrayError(f"column '{missing[0]}' is missing: the pulsar list needs name, "
-                         "ra/dec (or elon/elat), toa_rms, cadence and span (or "
-                         "start_mjd/end_mjd)")
+        raise ArrayError(
+            f"column '{missing[0]}' is missing: the pulsar list needs name, "
+            "ra/dec (or elon/elat), toa_rms, cadence and span (or "
+            "start_mjd/end_mjd)"
+        )
     names = [str(x).strip() for x in table["name"]]
     empty = [i for i, x in enumerate(names) if not x or x == "--"]
     if empty:
@@ -145,10 +147,12 @@ def array_from_table(table, name="pulsar array", pulsar_term=False):
     start, end = _read_epochs(table, names)
     amp = _plain(table, "red_amp") if "red_amp" in cols else None
     gam = _plain(table, "red_gamma") if "red_gamma" in cols else None
-    dist = _quantity(table, "distance", u.kpc, names, allow_nan=True) \
-        if "distance" in cols else None
-    return PulsarArray(names, coord, toa, cad, start, end, amp, gam, dist, name=name,
-                       pulsar_term=pulsar_term)
+    dist = (
+        _quantity(table, "distance", u.kpc, names, allow_nan=True) if "distance" in cols else None
+    )
+    return PulsarArray(
+        names, coord, toa, cad, start, end, amp, gam, dist, name=name, pulsar_term=pulsar_term
+    )
 
 
 def _numbers(table, col, unit_text):
@@ -166,16 +170,16 @@ def _numbers(table, col, unit_text):
 def _quantity(table, col, unit, names, allow_nan=False):
     values, cunit = _numbers(table, col, f" in {unit}")
     try:
-        q = quantity(values if cunit is None else values * cunit, unit, col,
-                     allow_nonfinite=True)
+        q = quantity(values if cunit is None else values * cunit, unit, col, allow_nonfinite=True)
     except InputError as err:
         raise ArrayError(f"column '{col}' has unit {cunit}: give it in {unit}") from err
     if not allow_nan:
         bad = np.flatnonzero(~np.isfinite(q.value))
         if bad.size:
             i = bad[0]
-            raise ArrayError(f"row {i + 1} ({names[i]}): {col} is NaN or missing: give a "
-                             f"value in {unit}")
+            raise ArrayError(
+                f"row {i + 1} ({names[i]}): {col} is NaN or missing: give a value in {unit}"
+            )
     return q
 
 
@@ -212,13 +216,17 @@ def _position_columns(table):
     if eq and ecl:
         raise ArrayError("give either ra/dec or elon/elat columns, not both")
     if not eq and not ecl:
-        raise ArrayError("position columns are missing: give ra and dec (ICRS, deg or "
-                         "sexagesimal) or elon and elat (ecliptic, deg)")
+        raise ArrayError(
+            "position columns are missing: give ra and dec (ICRS, deg or "
+            "sexagesimal) or elon and elat (ecliptic, deg)"
+        )
     pair = ("ra", "dec") if eq else ("elon", "elat")
     for c in pair:
         if c not in cols:
-            raise ArrayError(f"column '{c}' is missing: give positions as ra/dec (ICRS) or "
-                             "elon/elat (ecliptic), in deg")
+            raise ArrayError(
+                f"column '{c}' is missing: give positions as ra/dec (ICRS) or "
+                "elon/elat (ecliptic), in deg"
+            )
     return pair
 
 
@@ -237,18 +245,22 @@ def _read_position(table, names):
         raise ArrayError(
             f"row {i + 1} ({names[i]}): cannot read position {pair[0]}="
             f"{table[pair[0]][i]!r}, {pair[1]}={table[pair[1]][i]!r} (use deg or e.g. "
-            "'18h55m12s' '-37d12m00s')")
+            "'18h55m12s' '-37d12m00s')"
+        )
     bad = np.flatnonzero(~(np.isfinite(lon) & np.isfinite(lat)))
     if bad.size:
         i = bad[0]
-        raise ArrayError(f"row {i + 1} ({names[i]}): position is NaN or missing: give "
-                         f"{pair[0]} and {pair[1]}")
+        raise ArrayError(
+            f"row {i + 1} ({names[i]}): position is NaN or missing: give {pair[0]} and {pair[1]}"
+        )
     bad = np.flatnonzero(sky_out_of_range(lon, lat))
     if bad.size:
         i = bad[0]
-        raise ArrayError(f"row {i + 1} ({names[i]}): position {pair[0]}={lon[i]:.6g} deg, "
-                         f"{pair[1]}={lat[i]:.6g} deg is out of range ({SKY_RANGE_TEXT}, "
-                         "read as longitude/latitude)")
+        raise ArrayError(
+            f"row {i + 1} ({names[i]}): position {pair[0]}={lon[i]:.6g} deg, "
+            f"{pair[1]}={lat[i]:.6g} deg is out of range ({SKY_RANGE_TEXT}, "
+            "read as longitude/latitude)"
+        )
     if pair[0] == "elon":
         return SkyCoord(lon * u.deg, lat * u.deg, frame=BarycentricMeanEcliptic).icrs
     return SkyCoord(lon * u.deg, lat * u.deg, frame="icrs")

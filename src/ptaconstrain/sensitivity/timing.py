@@ -193,8 +193,9 @@ def timing_design_matrix(mjd):
     x = (mjd - 0.5 * (mjd[0] + mjd[-1])) / span
     a = 2.0 * np.pi * (mjd - _MJD_J2000) / SIDEREAL_YEAR.to_value(u.d)
     ca, sa = np.cos(a), np.sin(a)
-    m = np.stack([np.ones_like(x), x, x**2, ca, sa, x * ca, x * sa, np.cos(2 * a),
-                  np.sin(2 * a)], axis=1)
+    m = np.stack(
+        [np.ones_like(x), x, x**2, ca, sa, x * ca, x * sa, np.cos(2 * a), np.sin(2 * a)], axis=1
+    )
     return m / np.sqrt(np.mean(m**2, axis=0))
 
 
@@ -257,8 +258,9 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma, background=No
     return basis, np.tile(pr / span, 2) * u.s**2
 
 
-def post_fit_weights(mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_threads=1,
-                     background=None):
+def post_fit_weights(
+    mjd, toa_rms, frequency, red_amp=0.0, red_gamma=0.0, blas_threads=1, background=None
+):
     """Exact phase-averaged post-fit S/N^2 of a unit-amplitude sinusoid, per frequency.
 
     w(f) = (c^T G c + s^T G s) / 2 with G the inverse noise covariance
@@ -315,8 +317,8 @@ def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background=No
     b = np.empty((t.size, nm + 2 * f.size))
     b[:, :nm] = m
     arg = np.multiply.outer(t, 2.0 * np.pi * f)
-    np.cos(arg, out=b[:, nm:nm + f.size])
-    np.sin(arg, out=b[:, nm + f.size:])
+    np.cos(arg, out=b[:, nm : nm + f.size])
+    np.sin(arg, out=b[:, nm + f.size :])
     del arg
 
     a_mb = m.T @ b  # sig^2 M^T C^-1 B, white part
@@ -336,7 +338,7 @@ def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background=No
     proj = vec[:, ok] / np.sqrt(lam[ok])
     fit = np.sum((proj.T @ a_mb[:, nm:]) ** 2, axis=0)
     post = d_bb - fit
-    w = (post[: f.size] + post[f.size:]) / (2.0 * sig**2)
+    w = (post[: f.size] + post[f.size :]) / (2.0 * sig**2)
     return np.clip(w, 0.0, None) * u.s**-2
 
 
