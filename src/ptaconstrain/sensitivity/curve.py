@@ -483,7 +483,7 @@ def load_curve(path, kind=None, confidence=None):
         hint = frequency_unit_hint(curve.frequency)
         if hint:
             warnings.warn(f"{path.name}: {hint}", PtaconstrainWarning, stacklevel=2)
-    _settle_confidence(curve, path.name, confidence, note=not first.startswith("# %ECSV"))
+    _settle_confidence(curve, path.name, confidence)
     return curve
 
 
@@ -528,8 +528,8 @@ def frequency_unit_hint(frequency):
 def _settle_confidence(curve, name, confidence, note=True):
     """Set or check a limit's confidence; warn whenever one is assumed or ignored.
 
-    An ECSV limit without a ``confidence`` meta takes the documented default 0.95
-    silently (``note=False``); plain text, which cannot state one, gets a note.
+    A limit that states no confidence (plain text, or an ECSV file without the
+    ``confidence`` meta) takes the documented default 0.95 with a note.
     """
     if not curve.is_limit:
         if confidence is not None:
@@ -638,7 +638,8 @@ def save_curve(curve, path, overwrite=False):
     >>> import tempfile
     >>> from pathlib import Path
     >>> from astropy import units as u
-    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit")
+    >>> curve = StrainCurve([2, 10, 50] * u.nHz, [3e-14, 1e-14, 4e-14], "h0_limit",
+    ...                     meta={"confidence": 0.95})  # invented
     >>> with tempfile.TemporaryDirectory() as tmp:
     ...     save_curve(curve, Path(tmp) / "limit.ecsv")
     ...     print(load_curve(Path(tmp) / "limit.ecsv").kind)
