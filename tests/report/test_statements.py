@@ -17,7 +17,8 @@ from ptaconstrain.sensitivity.curve import StrainCurve
 def _texts(fig):
     from matplotlib.text import Text
 
-    return "\n".join(t.get_text() for t in fig.findobj(Text))
+    # a title's line breaks fall between the statement's clauses ('; ')
+    return "\n".join(t.get_text().replace("\n", "; ") for t in fig.findobj(Text))
 
 
 def _psd(sky="averaged"):
