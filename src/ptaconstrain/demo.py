@@ -56,6 +56,17 @@ def run_demo(out, overwrite=False, progress=None):
     ------
     InputError
         If ``out`` is a non-empty directory and ``overwrite`` is false.
+
+    Examples
+    --------
+    >>> import tempfile, warnings
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp, warnings.catch_warnings():
+    ...     warnings.simplefilter("ignore")  # the demo's notes (assumed errors, sky)
+    ...     lines = run_demo(Path(tmp) / "demo")
+    ...     figures = sorted(p.name for p in (Path(tmp) / "demo").glob("*.png"))
+    >>> "Velmora_Central_probability.png" in figures, "ranking_sky.png" in figures
+    (True, True)
     """
     from ._files import output_set
     from .errors import InputError
@@ -144,6 +155,23 @@ def draw_in_parallel(jobs, processes=2):
     jobs : list of callable
         Each draws and writes one figure; their return values are ignored.
     processes : int
+        Largest number of worker processes.
+
+    Returns
+    -------
+    None
+        Returns when every job has run.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     jobs = [lambda n=n: (Path(tmp) / f"figure{n}.txt").write_text("drawn")
+    ...             for n in range(3)]
+    ...     draw_in_parallel(jobs)
+    ...     sorted(p.name for p in Path(tmp).iterdir())
+    ['figure0.txt', 'figure1.txt', 'figure2.txt']
     """
     import multiprocessing
     import os
@@ -431,6 +459,12 @@ def demo_array():
     Returns
     -------
     ptaconstrain.sensitivity.PulsarArray
+
+    Examples
+    --------
+    >>> array = demo_array()
+    >>> len(array), array is demo_array()  # 40 invented pulsars, loaded once
+    (40, True)
     """
     if "array" not in _DEMO:
         from .data import path as data_file
@@ -461,6 +495,20 @@ def array_part(out_dir, hosts, overwrite=False, progress=None, figures=None):
     Returns
     -------
     list of str
+        Summary lines.
+
+    Examples
+    --------
+    >>> import tempfile, warnings
+    >>> from pathlib import Path
+    >>> from ptaconstrain import Host
+    >>> host = Host("Invented galaxy", 2e10, 100, ra=150, dec=20)
+    >>> with tempfile.TemporaryDirectory() as tmp, warnings.catch_warnings():
+    ...     warnings.simplefilter("ignore")
+    ...     lines = array_part(Path(tmp), [host])
+    ...     written = sorted(p.suffix for p in Path(tmp).iterdir())
+    >>> written.count(".fits"), written.count(".png")   # the sky map and its figure
+    (1, 1)
     """
     from pathlib import Path
 
@@ -571,6 +619,17 @@ def ranking_part(out_dir, curve, overwrite=False):
     -------
     list of str
         Summary lines.
+
+    Examples
+    --------
+    >>> import tempfile, warnings
+    >>> from pathlib import Path
+    >>> from ptaconstrain import data, load_curve
+    >>> with tempfile.TemporaryDirectory() as tmp, warnings.catch_warnings():
+    ...     warnings.simplefilter("ignore")
+    ...     lines = ranking_part(Path(tmp), load_curve(data.path("synthetic_h0_limit")))
+    >>> lines[0].startswith("catalogue ranking (INVENTED galaxies): ranked 400 of 400")
+    True
     """
     from .data import path as data_file
     from .report.ranking_files import rank_to_files
