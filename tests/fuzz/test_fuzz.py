@@ -167,7 +167,7 @@ HOSTILE_TEXT = st.text(min_size=0, max_size=400) | st.sampled_from(
         "a/b",
         "\0",
         "\n",
-        "NGC 1.2+3",
+        "Fictus 1.2+3",
         ".",
         "..",
         "-",
