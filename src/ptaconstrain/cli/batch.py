@@ -9,7 +9,7 @@ each host's ``<name>_exclusion.ecsv`` (or ``_forecast``) and figures, the summar
 
 import click
 
-__all__ = ["run_batch", "SINGLE_HOST_OPTIONS", "column_map"]
+__all__ = ["run_batch", "SINGLE_HOST_OPTIONS"]
 
 #: options that describe one host; with --hosts the table gives them per row
 SINGLE_HOST_OPTIONS = (
@@ -28,22 +28,6 @@ SINGLE_HOST_OPTIONS = (
     "target_q",
 )
 _OPTION_NAMES = {"velocity_dispersion": "--sigma", "mass_samples_path": "--mass-samples"}
-
-
-def column_map(columns_file, column_pairs):
-    """The column mapping of ``--columns FILE`` and repeated ``--column FIELD=COLUMN``."""
-    from ..catalogue import ColumnMap, load_column_map
-
-    columns = load_column_map(columns_file) if columns_file else ColumnMap()
-    extra = {}
-    for text in column_pairs:
-        field, sep, col = str(text).partition("=")
-        if not sep or not field.strip() or not col.strip():
-            raise click.BadParameter(
-                f"{text!r}: write FIELD=COLUMN, e.g. distance=dist_mpc", param_hint="'--column'"
-            )
-        extra[field.strip()] = col.strip()
-    return ColumnMap({**columns.columns, **extra}, columns.units) if extra else columns
 
 
 def run_batch(opts, explicit=frozenset()):
@@ -65,7 +49,7 @@ def run_batch(opts, explicit=frozenset()):
     from ..catalogue.hosts import read_hosts
     from .notes import note_assumed_span, note_ignored_options
     from .progress import progress_bar
-    from .sources import load_sensitivity
+    from .sources import column_map, load_sensitivity
 
     given = [k for k in SINGLE_HOST_OPTIONS if opts.get(k) is not None]
     if given:

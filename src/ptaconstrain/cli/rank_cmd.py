@@ -23,18 +23,6 @@ __all__ = ["rank"]
 METRIC_CHOICES = ("expected_number", "h0_ratio", "prob_equal_mass", "min_mass_ratio")
 
 
-def _column_options(pairs):
-    out = {}
-    for text in pairs:
-        field, sep, col = str(text).partition("=")
-        if not sep or not field.strip() or not col.strip():
-            raise click.BadParameter(
-                f"{text!r}: write FIELD=COLUMN, e.g. distance=dist_mpc", param_hint="'--column'"
-            )
-        out[field.strip()] = col.strip()
-    return out
-
-
 def _sensitivity(curve, kind, array_path, limit_map_path, background=None):
     """Load the one sensitivity given; returns (object, role, path)."""
     given = [p for p in (curve, array_path, limit_map_path) if p is not None]
@@ -289,21 +277,17 @@ def rank(
     from .._inputs import check_field
     from ..catalogue import (
         CatalogReader,
-        ColumnMap,
         MassRatioDistribution,
         PopulationModel,
-        load_column_map,
         select_relations,
     )
     from ..report.ranking_files import rank_to_files, ranking_output_paths
     from .progress import progress_bar
+    from .sources import column_map
 
     if span is not None:
         check_field(span, "span", "--span")
-    columns = load_column_map(columns_file) if columns_file else ColumnMap()
-    extra = _column_options(column_pairs)
-    if extra:
-        columns = ColumnMap({**columns.columns, **extra}, columns.units)
+    columns = column_map(columns_file, column_pairs)
     sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path, background)
     population = PopulationModel(rate, MassRatioDistribution(q_min, q_index))
     if engine == "dask" and full_ecsv:

@@ -2,7 +2,14 @@
 
 import click
 
-__all__ = ["Sensitivity", "load_sensitivity", "load_curves", "provenance_files", "is_ecsv"]
+__all__ = [
+    "Sensitivity",
+    "load_sensitivity",
+    "load_curves",
+    "provenance_files",
+    "is_ecsv",
+    "column_map",
+]
 
 
 def load_curves(paths, kind=None, confidence=None):
@@ -125,3 +132,19 @@ def load_sensitivity(
 
         source = load_limit_map(path)
     return Sensitivity(source, option, path, snr)
+
+
+def column_map(columns_file, column_pairs):
+    """The column mapping of ``--columns FILE`` and repeated ``--column FIELD=COLUMN``."""
+    from ..catalogue import ColumnMap, load_column_map
+
+    columns = load_column_map(columns_file) if columns_file else ColumnMap()
+    extra = {}
+    for text in column_pairs:
+        field, sep, col = str(text).partition("=")
+        if not sep or not field.strip() or not col.strip():
+            raise click.BadParameter(
+                f"{text!r}: write FIELD=COLUMN, e.g. distance=dist_mpc", param_hint="'--column'"
+            )
+        extra[field.strip()] = col.strip()
+    return ColumnMap({**columns.columns, **extra}, columns.units) if extra else columns
