@@ -89,7 +89,9 @@ def test_array_without_position_says_sky_averaged(tmp_path):
     assert "sky-averaged" in r.output and "would be detectable" in r.output
     # the assumption is a note on stderr, once
     notes = [ln for ln in r.stderr.splitlines() if ln.startswith("Note:")]
-    assert notes[0] == "Note: no sky position (--ra/--dec): the sky-averaged sensitivity is used"
+    assert notes[0] == (
+        "Note: no sky position for 'host' (give its RA/Dec): the sky-averaged sensitivity is used"
+    )
     t = QTable.read(tmp_path / "o" / "host_forecast.ecsv")
     assert t.meta["sky"] == "averaged" and "FORECAST" in t.meta["statement"]
 

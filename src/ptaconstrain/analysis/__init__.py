@@ -14,6 +14,7 @@ from .exclusion import (
     default_periods,
     exclusion_map,
     sensitivity_for,
+    warn_sky_averaged,
 )
 from .probability import DEFAULT_CREDIBILITY, ProbabilityMap, exclusion_probability
 from .readouts import (
@@ -55,6 +56,7 @@ __all__ = [
     "default_mass_ratios",
     "band_periods",
     "sensitivity_for",
+    "warn_sky_averaged",
     "HostSamples",
     "sample_host",
     "resample_host",

@@ -53,6 +53,7 @@ __all__ = [
     "default_mass_ratios",
     "band_periods",
     "sensitivity_for",
+    "warn_sky_averaged",
 ]
 
 
@@ -356,12 +357,41 @@ def sensitivity_for(host, curve, warn=True):
     if not isinstance(curve, PositionalSensitivity):
         return curve
     if host.coord is None and warn:
-        warnings.warn(
-            f"host {host.name!r} has no sky position, so the sky-averaged sensitivity is used",
-            PtaconstrainWarning,
-            stacklevel=3,
-        )
+        warn_sky_averaged(host, stacklevel=4)
     return curve.curve_at(host.coord)
+
+
+def warn_sky_averaged(host, stacklevel=2):
+    """Warn that ``host`` has no sky position, so a sky average stands in.
+
+    The one wording of this soft assumption, for the library and the commands.
+
+    Parameters
+    ----------
+    host : Host
+    stacklevel : int
+        As :func:`warnings.warn`.
+
+    Returns
+    -------
+    None
+
+    Examples
+    --------
+    >>> import warnings
+    >>> from ptaconstrain import Host
+    >>> with warnings.catch_warnings(record=True) as caught:
+    ...     warnings.simplefilter("always")
+    ...     warn_sky_averaged(Host("Invented galaxy", 2e10, 100))
+    >>> str(caught[0].message)
+    "no sky position for 'Invented galaxy' (give its RA/Dec): the sky-averaged sensitivity is used"
+    """
+    warnings.warn(
+        f"no sky position for {host.name!r} (give its RA/Dec): "
+        "the sky-averaged sensitivity is used",
+        PtaconstrainWarning,
+        stacklevel=stacklevel,
+    )
 
 
 def exclusion_map(

@@ -71,11 +71,6 @@ def run_batch(opts, explicit=frozenset()):
     from .._inputs import check_eccentricity
 
     ecc = check_eccentricity(opts["eccentricity"], "--eccentricity")
-    if opts["background"] is not None and opts["array_path"] is None:
-        raise click.UsageError(
-            "--background: the background enters a forecast from a pulsar "
-            "list; give --array (or drop --background)"
-        )
     sens = load_sensitivity(
         opts["curve_path"],
         opts["kind"],

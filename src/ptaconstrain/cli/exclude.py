@@ -418,7 +418,7 @@ def run_exclusion(
     from ..report.figures import exclusion_figure, save_figure
     from ..report.provenance import provenance, safe_name
     from ..report.tables import credible_summary_lines, exclusion_table, summary_lines
-    from .sources import load_curves, provenance_files
+    from .sources import chosen_source, load_curves, open_source, provenance_files
 
     nq, n_p = _grid(grid)
     from ..cosmo import cosmology_by_name
@@ -446,19 +446,7 @@ def run_exclusion(
         **(mass_err or {}),
         **(distance_err or {}),
     )
-    sources = {"--curve": curve_path, "--array": array_path, "--limit-map": limit_map_path}
-    given = [k for k, v in sources.items() if v is not None]
-    if len(given) != 1:
-        raise click.UsageError(
-            "give exactly one of --curve, --array or --limit-map"
-            + (f" (got {', '.join(given)})" if given else "")
-        )
-    source_path = sources[given[0]]  # existing files (InputFile checked them)
-    if background is not None and array_path is None:
-        raise click.UsageError(
-            "--background: the background enters a forecast from a pulsar "
-            "list; give --array (or drop --background)"
-        )
+    option, source_path = chosen_source(curve_path, array_path, limit_map_path, kind, background)
     posterior = _mass_samples(mass_samples_path, mass_err, distance_err, velocity_err)
     if years is None and (rms_factor != 1.0 or target_q is not None):
         raise click.UsageError("--rms-factor and --target-q apply to --years only")
@@ -471,16 +459,14 @@ def run_exclusion(
             "--span: an --array forecast uses the pulsars' own spans; drop --span"
         )
     curve = (
-        load_curves(curve_path, kind=kind, confidence=confidence)
-        if curve_path is not None
-        else None
+        load_curves(source_path, kind=kind, confidence=confidence) if option == "--curve" else None
     )
     # an upper limit gives an exclusion, a noise budget (or a pulsar list) a forecast
     forecast = array_path is not None or (curve is not None and not curve.is_limit)
     sampled = bool(
         mass_err or distance_err or velocity_err is not None or mass_samples_path is not None
     )
-    note_ignored_options(explicit, forecast, sampled, given[0])
+    note_ignored_options(explicit, forecast, sampled, option)
     stem = Path(out) / f"{safe_name(name)}_{'forecast' if forecast else 'exclusion'}"
     targets = [Path(f"{stem}.ecsv")] + [Path(f"{stem}.{f}") for f in formats]
     time_stem = Path(out) / f"{safe_name(name)}_over_time"
@@ -489,7 +475,9 @@ def run_exclusion(
     check_new(targets, overwrite)  # before the slow part, so a refusal costs nothing
     sky_note = ""
     if curve is None:
-        curve, sky_note = _sensitivity_at(host, array_path, limit_map_path, snr, background)
+        sens = open_source(option, source_path, kind, snr, confidence, background)
+        curve = sens.curve_for(host)
+        sky_note = sens.sky_note(host, curve)
     q = np.logspace(np.log10(mass_ratio_range[0]), np.log10(mass_ratio_range[1]), nq)
     if period_range is None:
         from ..analysis.exclusion import default_periods
@@ -556,7 +544,7 @@ def run_exclusion(
         inputs.update(posterior.describe())
     if array_path is not None:
         inputs["background"] = curve.meta["background"]
-    files = provenance_files(given[0], source_path)
+    files = provenance_files(option, source_path)
     if posterior is not None:
         files["mass_samples"] = mass_samples_path
     meta = provenance(inputs, files=files)
@@ -685,33 +673,3 @@ def _over_time(
             )
         )
     return lines
-
-
-def _sensitivity_at(host, array_path, limit_map_path, snr, background=None):
-    """The curve at ``host`` from a pulsar list or a limit map, and a note on its sky."""
-    if array_path is not None:
-        from ..sensitivity.pulsar_list import load_array
-        from .progress import progress_bar
-
-        sens = load_array(array_path).with_background(background)
-        with progress_bar(len(sens), "timing-model fits per pulsar") as bar:
-            sens.weights(sens.default_frequencies(), callback=bar.update)  # cached
-    else:
-        from ..sensitivity.limit_map import load_limit_map
-
-        sens = load_limit_map(limit_map_path)
-    curve = sens.curve_at(host.coord, snr=snr) if array_path else sens.curve_at(host.coord)
-    if host.coord is None:
-        import warnings
-
-        from ..errors import PtaconstrainWarning
-
-        warnings.warn(
-            "no sky position (--ra/--dec): the sky-averaged sensitivity is used",
-            PtaconstrainWarning,
-            stacklevel=2,
-        )
-        note = "sky-averaged: the host has no --ra/--dec"
-    else:
-        note = f"at the host's position ({curve.sky})"
-    return curve, note

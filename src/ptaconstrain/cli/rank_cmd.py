@@ -23,28 +23,6 @@ __all__ = ["rank"]
 METRIC_CHOICES = ("expected_number", "h0_ratio", "prob_equal_mass", "min_mass_ratio")
 
 
-def _sensitivity(curve, kind, array_path, limit_map_path, background=None):
-    """Load the one sensitivity given; returns (object, role, path)."""
-    given = [p for p in (curve, array_path, limit_map_path) if p is not None]
-    if len(given) != 1:
-        raise click.UsageError("give exactly one of --curve, --array or --limit-map")
-    if curve is not None:
-        from ..sensitivity.curve import load_curve
-
-        return load_curve(curve, kind=kind), "curve", curve
-    if kind is not None:
-        raise click.UsageError("--kind applies to --curve only")
-    if background is not None and array_path is None:
-        raise click.UsageError("--background applies to --array only")
-    if array_path is not None:
-        from ..sensitivity.pulsar_list import load_array
-
-        return load_array(array_path).with_background(background), "array", array_path
-    from ..sensitivity.limit_map import load_limit_map
-
-    return load_limit_map(limit_map_path), "limit_map", limit_map_path
-
-
 def _stage_line(text):
     """One stderr line per stage of the Dask engine (on a terminal only, like the bar)."""
     import sys
@@ -283,12 +261,12 @@ def rank(
     )
     from ..report.ranking_files import rank_to_files, ranking_output_paths
     from .progress import progress_bar
-    from .sources import column_map
+    from .sources import chosen_source, column_map, open_source
 
     if span is not None:
         check_field(span, "span", "--span")
     columns = column_map(columns_file, column_pairs)
-    sens, role, sens_path = _sensitivity(curve, kind, array_path, limit_map_path, background)
+    option, sens_path = chosen_source(curve, array_path, limit_map_path, kind, background)
     population = PopulationModel(rate, MassRatioDistribution(q_min, q_index))
     if engine == "dask" and full_ecsv:
         raise click.UsageError(
@@ -299,6 +277,8 @@ def rank(
         raise click.UsageError("--scheduler applies to --engine dask only")
     check_new(ranking_output_paths(out, formats, full_ecsv, engine), overwrite)
     select_relations(list(relation) or None)
+    loaded = open_source(option, sens_path, kind, snr, background=background)  # after check_new
+    sens, role = loaded.source, loaded.role
     if engine == "dask":
         reader, n_rows = catalog, 0  # the engine checks the columns before any cluster starts
     else:

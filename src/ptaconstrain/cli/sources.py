@@ -5,6 +5,8 @@ import click
 __all__ = [
     "Sensitivity",
     "load_sensitivity",
+    "chosen_source",
+    "open_source",
     "load_curves",
     "provenance_files",
     "is_ecsv",
@@ -78,12 +80,28 @@ class Sensitivity:
         self.forecast = option == "--array" or (option == "--curve" and not source.is_limit)
 
     def curve_for(self, host):
-        """The curve at ``host`` (the plain curve itself for ``--curve``)."""
+        """The curve at ``host`` (the plain curve itself for ``--curve``).
+
+        A host without a sky position gets the sky average, with the one warning
+        :func:`ptaconstrain.analysis.exclusion.warn_sky_averaged` gives.
+        """
         if self.option == "--curve":
             return self.source
+        if host.coord is None:
+            from ..analysis.exclusion import warn_sky_averaged
+
+            warn_sky_averaged(host, stacklevel=3)
         if self.option == "--array":
             return self.source.curve_at(host.coord, snr=self.snr)
         return self.source.curve_at(host.coord)
+
+    def sky_note(self, host, curve):
+        """Where ``curve`` (from :meth:`curve_for`) looks: '' for a plain curve."""
+        if self.option == "--curve":
+            return ""
+        if host.coord is None:
+            return "sky-averaged: the host has no --ra/--dec"
+        return f"at the host's position ({curve.sky})"
 
     @property
     def role(self):
@@ -91,19 +109,29 @@ class Sensitivity:
         return self.option.lstrip("-").replace("-", "_")
 
 
-def load_sensitivity(
-    curve_path, kind, array_path, limit_map_path, snr=5.0, confidence=None, background=None
-):
-    """Load the one sensitivity given; an array's timing fits run behind a progress bar.
+def chosen_source(curve_path, array_path, limit_map_path, kind=None, background=None):
+    """The one sensitivity option given, after the rules every command shares.
+
+    Parameters
+    ----------
+    curve_path, array_path, limit_map_path : str, tuple of str or None
+        The values of ``--curve``, ``--array`` and ``--limit-map``.
+    kind, background
+        ``--kind`` (plain-text curves only) and ``--background`` (pulsar lists only).
+
+    Returns
+    -------
+    option : str
+        ``"--curve"``, ``"--array"`` or ``"--limit-map"``.
+    path : str or tuple of str
 
     Raises
     ------
     click.UsageError
-        Unless exactly one of the three is given, or if its file is missing.
+        Unless exactly one of the three is given, if its file is missing, or if
+        ``kind`` or ``background`` do not apply to it.
     """
     from pathlib import Path
-
-    from .progress import progress_bar
 
     sources = {"--curve": curve_path, "--array": array_path, "--limit-map": limit_map_path}
     given = [k for k, v in sources.items() if v is not None]
@@ -119,6 +147,18 @@ def load_sensitivity(
             raise click.UsageError(f"{option} {one}: file not found; check the path")
     if kind is not None and option != "--curve":
         raise click.UsageError("--kind applies to --curve only")
+    if background is not None and option != "--array":
+        raise click.UsageError(
+            "--background: the background enters a forecast from a pulsar "
+            "list; give --array (or drop --background)"
+        )
+    return option, path
+
+
+def open_source(option, path, kind=None, snr=5.0, confidence=None, background=None):
+    """Load the sensitivity :func:`chosen_source` picked; an array's fits run behind a bar."""
+    from .progress import progress_bar
+
     if option == "--curve":
         source = load_curves(path, kind=kind, confidence=confidence)
     elif option == "--array":
@@ -132,6 +172,20 @@ def load_sensitivity(
 
         source = load_limit_map(path)
     return Sensitivity(source, option, path, snr)
+
+
+def load_sensitivity(
+    curve_path, kind, array_path, limit_map_path, snr=5.0, confidence=None, background=None
+):
+    """Pick (:func:`chosen_source`) and load (:func:`open_source`) the one sensitivity given.
+
+    Raises
+    ------
+    click.UsageError
+        As :func:`chosen_source`.
+    """
+    option, path = chosen_source(curve_path, array_path, limit_map_path, kind, background)
+    return open_source(option, path, kind, snr, confidence, background)
 
 
 def column_map(columns_file, column_pairs):
