@@ -5,11 +5,10 @@ import click
 from . import main
 from .params import (
     ARRAY_FILE,
-    BACKGROUND_HELP,
     FREQUENCY,
     SNR,
-    BackgroundType,
     YearList,
+    background_option,
     max_memory_option,
 )
 
@@ -45,9 +44,7 @@ _array_option = click.option(
 _pulsar_term_option = click.option(
     "--pulsar-term", is_flag=True, help="Add the pulsar term incoherently (doubles S/N^2)."
 )
-_background_option = click.option(
-    "--background", type=BackgroundType(), default=None, help=BACKGROUND_HELP
-)
+_background_option = background_option()
 
 
 @main.command()

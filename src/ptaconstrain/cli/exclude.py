@@ -6,7 +6,6 @@ from . import main
 from .notes import explicit_options, note_assumed_span, note_ignored_options
 from .params import (
     ARRAY_FILE,
-    BACKGROUND_HELP,
     CATALOGUE_FILE,
     CURVE_FILE,
     DISTANCE,
@@ -16,7 +15,6 @@ from .params import (
     SNR,
     SPEED,
     TIME,
-    BackgroundType,
     DistanceError,
     FormatList,
     LevelList,
@@ -24,6 +22,8 @@ from .params import (
     QuantityType,
     RangeType,
     YearList,
+    background_option,
+    column_options,
     max_memory_option,
 )
 
@@ -60,26 +60,7 @@ def _grid(text):
     "example_hosts; columns as for 'rank'): "
     "bound every host, write a summary table and an overview figure.",
 )
-@click.option(
-    "--columns",
-    "columns_file",
-    type=click.Path(dir_okay=False),
-    default=None,
-    help='With --hosts: TOML column mapping ([columns] FIELD = "name", [units]).',
-)
-@click.option(
-    "--column",
-    "column_pairs",
-    multiple=True,
-    help="With --hosts: one mapping FIELD=COLUMN (repeatable).",
-)
-@click.option(
-    "--on-bad",
-    type=click.Choice(["error", "skip"]),
-    default="error",
-    show_default=True,
-    help="With --hosts: stop at a bad row or host, or skip and count them.",
-)
+@column_options("With --hosts: ")
 @click.option(
     "--distance", type=DISTANCE, default=None, help="Luminosity distance; bare numbers are Mpc."
 )
@@ -178,12 +159,7 @@ def _grid(text):
     help="Pulsar list (ECSV, or a shipped name such as demo_array) instead of "
     "--curve: a forecast at the host's position.",
 )
-@click.option(
-    "--background",
-    type=BackgroundType(),
-    default=None,
-    help=BACKGROUND_HELP + " With --array only.",
-)
+@background_option("With --array only.")
 @click.option(
     "--years",
     type=YearList(),

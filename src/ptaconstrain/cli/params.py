@@ -30,6 +30,8 @@ __all__ = [
     "SNR",
     "Checked",
     "max_memory_option",
+    "background_option",
+    "column_options",
 ]
 
 
@@ -343,3 +345,58 @@ max_memory_option = click.option(
     help="Memory limit of the computation, e.g. 16GB (default 4 GB, or the environment "
     "variable PTACONSTRAIN_MAX_MEMORY); larger estimates are refused before starting.",
 )
+
+
+def background_option(scope=""):
+    """``--background`` (a :class:`BackgroundType`); ``scope`` ends its help text."""
+    return click.option(
+        "--background",
+        type=BackgroundType(),
+        default=None,
+        help=BACKGROUND_HELP + (f" {scope}" if scope else ""),
+    )
+
+
+def _scoped(scope, text):
+    """``scope`` + ``text``, the text's first letter lowered after a scope."""
+    if not scope or text[:2].isupper():  # an acronym keeps its capitals
+        return f"{scope}{text}"
+    return f"{scope}{text[0].lower()}{text[1:]}"
+
+
+def column_options(scope=""):
+    """``--columns``, ``--column`` and ``--on-bad``: how a table's columns map to fields.
+
+    ``scope`` starts each help text, e.g. ``"With --hosts: "``; the values arrive
+    as ``columns_file``, ``column_pairs`` and ``on_bad``
+    (read by :func:`ptaconstrain.cli.sources.column_map`).
+    """
+    options = (
+        click.option(
+            "--columns",
+            "columns_file",
+            type=click.Path(dir_okay=False),
+            default=None,
+            help=_scoped(scope, 'TOML column mapping ([columns] FIELD = "name", [units] ...).'),
+        ),
+        click.option(
+            "--column",
+            "column_pairs",
+            multiple=True,
+            help=_scoped(scope, "One mapping FIELD=COLUMN (repeatable; overrides --columns)."),
+        ),
+        click.option(
+            "--on-bad",
+            type=click.Choice(["error", "skip"]),
+            default="error",
+            show_default=True,
+            help=_scoped(scope, "Stop at a bad row, or skip bad rows and count them."),
+        ),
+    )
+
+    def apply(command):
+        for option in reversed(options):
+            command = option(command)
+        return command
+
+    return apply

@@ -5,16 +5,16 @@ import click
 from . import main
 from .params import (
     ARRAY_FILE,
-    BACKGROUND_HELP,
     CATALOGUE_FILE,
     CURVE_FILE,
     LIMIT_MAP_FILE,
     SNR,
     TIME,
-    BackgroundType,
     Checked,
     FormatList,
     QuantityType,
+    background_option,
+    column_options,
     max_memory_option,
 )
 
@@ -52,12 +52,7 @@ def _stage_line(text):
     default=None,
     help="Pulsar list (ECSV, or a shipped name): sky-dependent forecast.",
 )
-@click.option(
-    "--background",
-    type=BackgroundType(),
-    default=None,
-    help=BACKGROUND_HELP + " With --array only.",
-)
+@background_option("With --array only.")
 @click.option(
     "--limit-map",
     "limit_map_path",
@@ -79,19 +74,7 @@ def _stage_line(text):
     help="Mass relation name or TOML file, in order of preference; repeat. "
     "Default: all shipped relations.",
 )
-@click.option(
-    "--columns",
-    "columns_file",
-    type=click.Path(dir_okay=False),
-    default=None,
-    help='TOML column mapping ([columns] FIELD = "name", [units] ...).',
-)
-@click.option(
-    "--column",
-    "column_pairs",
-    multiple=True,
-    help="One mapping FIELD=COLUMN (repeatable; overrides --columns).",
-)
+@column_options()
 @click.option(
     "--top",
     type=click.IntRange(1),
@@ -103,13 +86,6 @@ def _stage_line(text):
     "--full-ecsv",
     is_flag=True,
     help="Also write the whole table as ranking.ecsv (slow; for small catalogues).",
-)
-@click.option(
-    "--on-bad",
-    type=click.Choice(["error", "skip"]),
-    default="error",
-    show_default=True,
-    help="Stop at a bad row, or skip bad rows and count them.",
 )
 @click.option(
     "--rate",
