@@ -161,7 +161,8 @@ def sky_figure(
             label=f"pulsars ({len(c)})",
             zorder=5,
         )
-    ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=7, frameon=False)
+    # lower right: the declination labels sit on the left edge of the ellipse
+    ax.legend(loc="lower right", bbox_to_anchor=(1.0, -0.02), fontsize=7, frameon=False)
     ax.set_title(
         f"{n_all} galaxies by {metric} - {label} ({verb})\n"
         f"numbers: rank of the top {n_lab}; RA increases to the left{shown}",

@@ -154,7 +154,8 @@ def sky_map_figure(
             bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none", "alpha": 0.8},
         )
     if ax.get_legend_handles_labels()[0]:
-        ax.legend(loc="lower left", bbox_to_anchor=(0.0, -0.02), fontsize=8, framealpha=0.9)
+        # lower right: the declination labels sit on the left edge of the ellipse
+        ax.legend(loc="lower right", bbox_to_anchor=(1.0, -0.02), fontsize=8, framealpha=0.9)
     ax.set_title(title or "", fontsize=10, pad=14, y=1.0)  # fixed: no layout pass
     fig.text(
         0.99,
