@@ -34,6 +34,7 @@ from .timing import (
     approximate_weights,
     post_fit_weights,
     red_noise_psd,
+    single_blas_thread,
     white_noise_psd,
 )
 
@@ -47,6 +48,7 @@ PARALLEL_MIN_PULSARS = 400
 #: Default size of one block of :meth:`PulsarArray.threshold_map_blocks` (bytes of output).
 MAP_BLOCK_BYTES = 2**28
 _ROW_TILE = 32  # frequencies per matrix product (see _h0_block)
+_N_FEATURES = 10  # columns of antenna.pattern_power_features
 _MIN_TOAS = 3 * N_TIMING_PARAMETERS
 _METHODS = ("exact", "analytic")
 
@@ -529,7 +531,7 @@ class PulsarArray:
             parts.append(block)
             if callback is not None:
                 callback(1)
-        return np.concatenate(parts, axis=1)
+        return parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)
 
     def threshold_map_blocks(
         self,
@@ -585,18 +587,22 @@ class PulsarArray:
         self.check_band(f)
         w = self.weights(f, callback=callback)
         term = self._term(pulsar_term)
-        # rho^2 per unit h0^2 = pattern @ (0.4 w / (2 pi f)^2 [x 2 with pulsar term])
-        scale = antenna.orientation_averaged_snr_squared(1.0, f, w, np.eye(len(self)), term)
-        scale_t = np.ascontiguousarray(scale.T)  # (n_f, n_p)
+        # rho^2 per unit h0^2 = pattern @ (0.4 w / (2 pi f)^2 [x 2 with pulsar term]): the
+        # factor of one pulsar of unit weight and pattern, times every pulsar's weight
+        one = np.ones((1, f.size)) * u.s**-2
+        unit = antenna.orientation_averaged_snr_squared(1.0, f, one, np.ones(1), term)
+        scale_t = unit[:, None] * w.to_value(u.s**-2).T  # (n_f, n_p)
+        # sum_p pattern[pix, p] scale[p, f] = phi[pix, :] @ coef[:, f] (antenna features)
+        coef_t = scale_t @ antenna.pattern_power_features(self.vectors)  # (n_f, 10)
         npix = hp.nside2npix(nside)
         if by == "pixel":
-            if pixels is None:  # block and pattern chunk together within block_bytes
-                pixels = max(1, block_bytes // (8 * (f.size + len(self)) * 1024)) * 1024
-            return _pixel_blocks(scale_t, self.vectors, nside, snr, int(pixels))
+            if pixels is None:  # block and feature chunk together within block_bytes
+                pixels = max(1, block_bytes // (8 * (f.size + _N_FEATURES) * 1024)) * 1024
+            return _pixel_blocks(coef_t, nside, snr, int(pixels))
         per = max(1, int(block_bytes // (8 * npix * _ROW_TILE))) * _ROW_TILE
-        if pixels is None:  # the pattern chunk and its product within a quarter block
-            pixels = max(1, block_bytes // (32 * (per + len(self)) * 1024)) * 1024
-        return _frequency_blocks(scale_t, self.vectors, nside, snr, per, int(pixels))
+        if pixels is None:  # the feature chunk and its product within a quarter block
+            pixels = max(1, block_bytes // (32 * (per + _N_FEATURES) * 1024)) * 1024
+        return _frequency_blocks(coef_t, nside, snr, per, int(pixels))
 
     def threshold_table(self, frequency, snr=5.0, nside=None, *, pulsar_term=None, callback=None):
         """h0 reaching S/N ``snr`` on every HEALPix pixel (ICRS, RING), per frequency.
@@ -643,51 +649,58 @@ class PulsarArray:
 
 
 # ------------------------------------------------------------------ helpers
-def _h0_block(scale_t, vectors, nside, pix, snr):
-    """h0 for S/N ``snr`` on the pixels ``pix`` (a slice) for the rows of ``scale_t``.
+def _h0_block(coef_t, nside, pix, snr):
+    """h0 for S/N ``snr`` on the pixels ``pix`` (a slice) for the rows of ``coef_t``.
 
-    A BLAS product's rounding can depend on the matrix shape (its edge
-    kernels), so the rows go through the product in fixed tiles of
-    ``_ROW_TILE`` (the last one zero-padded); blocks of frequencies start on a
-    tile boundary, hence every value is bit for bit that of the whole map.
+    rho^2 per unit h0^2 = coef_t @ phi(pixels).T, phi the ten pattern features
+    (:func:`~.antenna.pattern_power_features`).  A BLAS product's rounding can
+    depend on the matrix shape (its edge kernels), so the rows go through the
+    product in fixed tiles of ``_ROW_TILE`` (the last one zero-padded); blocks
+    of frequencies start on a tile boundary, hence every value is bit for bit
+    that of the whole map.
     """
     import healpy as hp
 
-    vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=1)
-    pattern_t = antenna.pattern_power_grid(vectors, vec).T  # (n_p, n_pix)
-    n = scale_t.shape[0]
-    out = np.empty((n, pattern_t.shape[1]))
-    tile = np.zeros((_ROW_TILE, scale_t.shape[1]))
-    for lo in range(0, n, _ROW_TILE):
-        hi = min(lo + _ROW_TILE, n)
-        tile[: hi - lo] = scale_t[lo:hi]
-        tile[hi - lo :] = 0.0
-        out[lo:hi] = (tile @ pattern_t)[: hi - lo]
+    vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=-1)
+    feat_t = antenna.pattern_power_features(vec).T  # (10, n_pix)
+    n = coef_t.shape[0]
+    out = np.empty((n, feat_t.shape[1]))
+    tile = np.zeros((_ROW_TILE, coef_t.shape[1]))
+    with single_blas_thread():  # threads only wait on memory here (benchmarks/bench_array.py)
+        for lo in range(0, n, _ROW_TILE):
+            hi = min(lo + _ROW_TILE, n)
+            tile[: hi - lo] = coef_t[lo:hi]
+            tile[hi - lo :] = 0.0
+            if hi - lo == _ROW_TILE:
+                np.matmul(tile, feat_t, out=out[lo:hi])
+            else:
+                out[lo:hi] = (tile @ feat_t)[: hi - lo]
+    np.maximum(out, 0.0, out=out)  # a rounding below zero where the array is blind
     np.sqrt(out, out=out)
     np.divide(snr, out, out=out)
     return out
 
 
-def _pixel_blocks(scale_t, vectors, nside, snr, pixels):
+def _pixel_blocks(coef_t, nside, snr, pixels):
     import healpy as hp
 
     npix = hp.nside2npix(nside)
     for lo in range(0, npix, pixels):
         pix = slice(lo, min(lo + pixels, npix))
-        yield pix, _h0_block(scale_t, vectors, nside, pix, snr)
+        yield pix, _h0_block(coef_t, nside, pix, snr)
 
 
-def _frequency_blocks(scale_t, vectors, nside, snr, per, pixels):
+def _frequency_blocks(coef_t, nside, snr, per, pixels):
     import healpy as hp
 
     npix = hp.nside2npix(nside)
-    n_f = scale_t.shape[0]
+    n_f = coef_t.shape[0]
     for flo in range(0, n_f, per):
         fs = slice(flo, min(flo + per, n_f))
         out = np.empty((fs.stop - fs.start, npix))
         for lo in range(0, npix, pixels):
             pix = slice(lo, min(lo + pixels, npix))
-            out[:, pix] = _h0_block(scale_t[fs], vectors, nside, pix, snr)
+            out[:, pix] = _h0_block(coef_t[fs], nside, pix, snr)
         yield fs, out
 
 
