@@ -49,6 +49,7 @@ PARALLEL_MIN_PULSARS = 400
 MAP_BLOCK_BYTES = 2**28
 _ROW_TILE = 32  # frequencies per matrix product (see _h0_block)
 _N_FEATURES = 10  # columns of antenna.pattern_power_features
+_PIXEL_TILE = 8192  # pixels per product in _h0_block (a tile of h0 stays in cache)
 _MIN_TOAS = 3 * N_TIMING_PARAMETERS
 _METHODS = ("exact", "analytic")
 
@@ -653,31 +654,35 @@ def _h0_block(coef_t, nside, pix, snr):
     """h0 for S/N ``snr`` on the pixels ``pix`` (a slice) for the rows of ``coef_t``.
 
     rho^2 per unit h0^2 = coef_t @ phi(pixels).T, phi the ten pattern features
-    (:func:`~.antenna.pattern_power_features`).  A BLAS product's rounding can
-    depend on the matrix shape (its edge kernels), so the rows go through the
-    product in fixed tiles of ``_ROW_TILE`` (the last one zero-padded); blocks
-    of frequencies start on a tile boundary, hence every value is bit for bit
+    (:func:`~.antenna.pattern_power_features`), then h0 = snr / sqrt(rho^2),
+    a cache-sized piece at a time.  A BLAS product's rounding can depend on
+    the matrix shape (its edge kernels), so the rows go through the product in
+    fixed tiles of ``_ROW_TILE`` (the last one zero-padded); blocks of
+    frequencies start on a tile boundary, hence every value is bit for bit
     that of the whole map.
     """
     import healpy as hp
 
     vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=-1)
     feat_t = antenna.pattern_power_features(vec).T  # (10, n_pix)
-    n = coef_t.shape[0]
-    out = np.empty((n, feat_t.shape[1]))
-    tile = np.zeros((_ROW_TILE, coef_t.shape[1]))
+    n, n_pix = coef_t.shape[0], feat_t.shape[1]
+    out = np.empty((n, n_pix))
+    tiles = []
+    for lo in range(0, n, _ROW_TILE):
+        tile = np.zeros((_ROW_TILE, coef_t.shape[1]))
+        tile[: min(n - lo, _ROW_TILE)] = coef_t[lo : lo + _ROW_TILE]
+        tiles.append(tile)
+    buf = np.empty((_ROW_TILE, min(n_pix, _PIXEL_TILE)))
     with single_blas_thread():  # threads only wait on memory here (benchmarks/bench_array.py)
-        for lo in range(0, n, _ROW_TILE):
-            hi = min(lo + _ROW_TILE, n)
-            tile[: hi - lo] = coef_t[lo:hi]
-            tile[hi - lo :] = 0.0
-            if hi - lo == _ROW_TILE:
-                np.matmul(tile, feat_t, out=out[lo:hi])
-            else:
-                out[lo:hi] = (tile @ feat_t)[: hi - lo]
-    np.maximum(out, 0.0, out=out)  # a rounding below zero where the array is blind
-    np.sqrt(out, out=out)
-    np.divide(snr, out, out=out)
+        for plo in range(0, n_pix, _PIXEL_TILE):
+            phi = feat_t[:, plo : plo + _PIXEL_TILE]
+            part = buf[:, : phi.shape[1]]
+            for lo, tile in zip(range(0, n, _ROW_TILE), tiles, strict=True):
+                np.matmul(tile, phi, out=part)
+                rho2 = part[: min(n - lo, _ROW_TILE)]  # without the padding rows
+                np.maximum(rho2, 0.0, out=rho2)  # a rounding below zero where the array is blind
+                np.sqrt(rho2, out=rho2)
+                np.divide(snr, rho2, out=out[lo : lo + _ROW_TILE, plo : plo + _PIXEL_TILE])
     return out
 
 
@@ -704,14 +709,20 @@ def _frequency_blocks(coef_t, nside, snr, per, pixels):
         yield fs, out
 
 
-def _post_fit_row(job):
-    return post_fit_weights(*job[:5], blas_threads=job[5], background=job[6]).value
+def _post_fit_rows(jobs):
+    """post_fit_weights of every job in order, under one BLAS thread setting (the first's)."""
+    with single_blas_thread(jobs[0][5]):
+        return [
+            post_fit_weights(*job[:5], blas_threads=None, background=job[6]).value for job in jobs
+        ]
 
 
 def _map_jobs(jobs, workers):
     """post_fit_weights over ``jobs`` in order, in this process or in ``workers`` processes."""
     if workers <= 1 or len(jobs) < 2:
-        yield from map(_post_fit_row, jobs)
+        with single_blas_thread(jobs[0][5]):
+            for job in jobs:
+                yield post_fit_weights(*job[:5], blas_threads=None, background=job[6]).value
         return
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
@@ -719,9 +730,11 @@ def _map_jobs(jobs, workers):
     # fork shares the loaded modules (no re-import); elsewhere the platform default
     methods = multiprocessing.get_all_start_methods()
     ctx = multiprocessing.get_context("fork" if "fork" in methods else None)
-    chunk = max(1, len(jobs) // (8 * workers))
+    size = max(1, len(jobs) // (8 * workers))
+    chunks = [jobs[i : i + size] for i in range(0, len(jobs), size)]
     with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
-        yield from pool.map(_post_fit_row, jobs, chunksize=chunk)
+        for rows in pool.map(_post_fit_rows, chunks):
+            yield from rows
 
 
 # -------------------------------------------------------------- validation

@@ -77,6 +77,9 @@ _MJD_J2000 = 51544.5
 #: Columns of :func:`timing_design_matrix`.
 N_TIMING_PARAMETERS = 9
 _DAY = 86400.0
+_F_YR_HZ = F_YR.value
+_PSD_UNIT = u.s**2 / u.Hz
+_PER_S2 = u.s**-2
 _PHASOR_MIN_TOAS = 16  # fewer TOAs: every phasor directly (see _phasors)
 _PHASOR_MAX_CORRECTION = 1e-8  # rad; largest phase offset applied to first order
 _CONTROLLER = []  # the threadpoolctl controller, made on first use (after scipy.linalg loads)
@@ -160,11 +163,14 @@ def red_noise_psd(frequency, amplitude, gamma):
     >>> red_noise_psd(f_yr, 1e-14, 13 / 3).to(u.s**2 / u.Hz)   # A^2 / (12 pi^2) f_yr^-3
     <Quantity 2.654e-08 s2 / Hz>
     """
-    x = (frequency / F_YR).to_value(u.dimensionless_unscaled)
+    return _red_psd(u.Quantity(frequency, u.Hz).value, amplitude, gamma) * _PSD_UNIT
+
+
+def _red_psd(f, amplitude, gamma):
+    """:func:`red_noise_psd` on plain numbers: f in Hz, the PSD in s^2 / Hz."""
     amp = np.asarray(amplitude, float)
     gamma = np.where(amp > 0, np.asarray(gamma, float), 0.0)
-    p = amp**2 / (12.0 * np.pi**2) * F_YR.value**-3 * x ** (-gamma)
-    return p * u.s**2 / u.Hz
+    return amp**2 / (12.0 * np.pi**2) * _F_YR_HZ**-3 * (np.asarray(f) / _F_YR_HZ) ** (-gamma)
 
 
 # --------------------------------------------------------------- timing fit
@@ -246,18 +252,26 @@ def red_noise_basis(t, span, toa_rms, cadence, red_amp, red_gamma, background=No
     t = u.Quantity(t, u.s).value
     span = u.Quantity(span, u.s).value
     pw = white_noise_psd(u.Quantity(toa_rms, u.s), u.Quantity(cadence, u.s)).value
+    red = _red_modes(t, span, pw, red_amp, red_gamma, background)
+    return None if red is None else (red[0], red[1] * u.s**2)
+
+
+def _red_modes(t, span, pw, red_amp, red_gamma, background):
+    """:func:`red_noise_basis` on plain numbers (t, span in s; pw in s^2 / Hz; Phi in s^2)."""
+    if not (red_amp > 0 or background is not None):
+        return None
     kmax = int(min(100, t.size // 4))
     fk = np.arange(1, kmax + 1) / span
-    pr = red_noise_psd(fk * u.Hz, red_amp, red_gamma).value
+    pr = _red_psd(fk, red_amp, red_gamma)
     if background is not None:
-        pr = pr + red_noise_psd(fk * u.Hz, background.amplitude, background.gamma).value
+        pr = pr + _red_psd(fk, background.amplitude, background.gamma)
     keep = np.flatnonzero(pr >= 1e-4 * pw)
     if keep.size == 0:
         return None
     fk, pr = fk[: keep[-1] + 1], pr[: keep[-1] + 1]
     modes = _phasors(t, 2.0 * np.pi * fk)
     basis = np.concatenate([modes.real, modes.imag], axis=1)
-    return basis, np.tile(pr / span, 2) * u.s**2
+    return basis, np.tile(pr / span, 2)
 
 
 def _phasors(t, omega):
@@ -364,7 +378,7 @@ def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background=No
     sig = toa_rms.to_value(u.s)
     cadence = (mjd[-1] - mjd[0]) * _DAY / max(mjd.size - 1, 1)
     span = (mjd[-1] - mjd[0]) * _DAY
-    f = np.atleast_1d(frequency.to_value(u.Hz))
+    f = np.atleast_1d(u.Quantity(frequency, u.Hz).value)
     m = timing_design_matrix(mjd)
     nm = m.shape[1]
     # b = [M | cos | sin]: every product below is one matrix product over all columns.
@@ -377,9 +391,10 @@ def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background=No
 
     a_mb = m.T @ b  # sig^2 M^T C^-1 B, white part
     d_bb = np.einsum("ij,ij->j", b[:, nm:], b[:, nm:])  # diagonal of sig^2 Q^T C^-1 Q
-    red = red_noise_basis(t, span, sig, cadence, red_amp, red_gamma, background)
+    pw = 2.0 * sig**2 * cadence  # white_noise_psd, s^2 / Hz
+    red = _red_modes(t, span, pw, red_amp, red_gamma, background)
     if red is not None:
-        basis, phi = red[0], red[1].to_value(u.s**2)
+        basis, phi = red
         # Woodbury: C = sig^2 (I + F D F^T), C^-1 = sig^-2 (I - F K^-1 F^T), K = D^-1 + F^T F
         kmat = np.diag(sig**2 / phi) + basis.T @ basis
         chol = linalg.cholesky(kmat, lower=True, check_finite=False)
@@ -393,7 +408,7 @@ def _post_fit_weights(mjd, toa_rms, frequency, red_amp, red_gamma, background=No
     fit = np.sum((proj.T @ a_mb[:, nm:]) ** 2, axis=0)
     post = d_bb - fit
     w = (post[: f.size] + post[f.size :]) / (2.0 * sig**2)
-    return np.clip(w, 0.0, None) * u.s**-2
+    return np.clip(w, 0.0, None) * _PER_S2
 
 
 def approximate_weights(n_toas, cadence, noise_psd):
