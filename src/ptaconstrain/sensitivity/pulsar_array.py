@@ -15,7 +15,11 @@ pulsar and frequency; the sky enters only through F+^2 + Fx^2 =
 (pattern[pix, p]) @ (w[p, f]).  This is exact, not an approximation: averaging
 over the source phase removes the cross terms between the sine and cosine
 quadratures (c^T G s) and the difference c^T G c - s^T G s, whatever the fit
-does to them; only an S/N at a fixed, known phase would need them.
+does to them; only an S/N at a fixed, known phase would need them.  As
+(1 + n.p)^2 / 4 is a quadratic form in n, pattern = phi(n) . phi(p) with ten
+features (:func:`~ptaconstrain.sensitivity.antenna.pattern_power_features`),
+and the product is computed as phi[pix, 10] @ (phi[p, 10].T @ w[p, f]): ten
+terms per pixel and frequency whatever the number of pulsars.
 
 :class:`PulsarArray` implements
 :class:`~ptaconstrain.sensitivity.positional.PositionalSensitivity`.
@@ -269,7 +273,7 @@ class PulsarArray:
         Each pulsar has its own epochs and noise, so the exact weights are one
         :func:`~.timing.post_fit_weights` call per pulsar (vectorised over
         frequency; a few matrix products of N x (9 + 2K) by N x n_f), with one
-        BLAS thread each; many pulsars are spread over processes.  The result
+        BLAS thread; many pulsars may be spread over processes.  The result
         does not depend on ``workers``.  Results are cached per frequency grid.
 
         Parameters
