@@ -46,9 +46,11 @@ __all__ = ["ArrayError", "PulsarArray", "DEFAULT_NSIDE", "PARALLEL_MIN_PULSARS",
 
 #: HEALPix resolution of :meth:`PulsarArray.threshold_table` when none is asked for.
 DEFAULT_NSIDE = 64
-#: From this many pulsars on, :meth:`PulsarArray.weights` uses two processes by default
-#: (measured in benchmarks/bench_array.py).
-PARALLEL_MIN_PULSARS = 400
+#: From this many pulsars on, :meth:`PulsarArray.weights` uses two processes by default.
+#: A pulsar's weights take about 0.6 ms, so starting and feeding a process pool pays
+#: only for very large arrays: with 400-2000 pulsars two processes were slower than one
+#: on the shared 2-core machine (benchmarks/bench_array.py; larger arrays not measured).
+PARALLEL_MIN_PULSARS = 5000
 #: Default size of one block of :meth:`PulsarArray.threshold_map_blocks` (bytes of output).
 MAP_BLOCK_BYTES = 2**28
 _ROW_TILE = 32  # frequencies per matrix product (see _h0_block)
