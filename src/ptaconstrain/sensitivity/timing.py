@@ -311,7 +311,10 @@ def _phasors(t, omega):
         off = (t - starts[j]) - offsets[i]
         if np.max(np.abs(off)) * np.max(np.abs(omega), initial=0.0) <= _PHASOR_MAX_CORRECTION:
             coarse = _direct_phasors(starts, omega)
-            fine = _direct_phasors(offsets, omega)
+            fine = np.empty((block, omega.size), complex)  # exp(i omega h)^i: i < B products
+            fine[0] = 1.0
+            fine[1:] = _direct_phasors(offsets[1:2], omega)
+            np.multiply.accumulate(fine, axis=0, out=fine)
             out = np.empty((rows * block, omega.size), complex)
             np.multiply(coarse[:, None, :], fine[None, :, :], out=out.reshape(rows, block, -1))
             out = out[:n]
