@@ -31,7 +31,7 @@ through the Woodbury identity, so the cost is O(N (9 + 2K) n_f) per pulsar
 with no N x N matrix: one Cholesky factor of the 2K x 2K matrix and one
 triangular solve serve every frequency at once.  The N x n_f cosines and
 sines are built by angle addition on the pulsar's regular TOA schedule
-(about 2 sqrt(N) sines per frequency, corrected to first order for each
+(about sqrt(N) sines per frequency, corrected to first order for each
 epoch's rounding offset from the grid, so as exact as taking each sine
 directly; irregular epochs take each sine directly).  The weights far below
 the white-noise level (a signal the fit absorbs almost wholly, e.g. 5e-7 of
@@ -287,9 +287,10 @@ def _phasors(t, omega):
 
     The direct route takes a cosine and a sine of every N x n phase.  TOAs on a
     regular schedule t_k = t_0 + k h (up to rounding, as every pulsar of a
-    :class:`~.pulsar_array.PulsarArray`) need only about 2 sqrt(N) n of them:
+    :class:`~.pulsar_array.PulsarArray`) need only about sqrt(N) n of them:
     with k = j B + i (B ~ sqrt(N)),
-    exp(i omega t_k) = exp(i omega T_j) exp(i omega i h) exp(i omega e_k),
+    exp(i omega t_k) = exp(i omega T_j) exp(i omega h)^i exp(i omega e_k)
+    (the powers by repeated products, i < B: a few 1e-16 of rounding),
     T_j = t_0 + j B h and e_k = (t_k - T_j) - i h the (tiny) offset of the
     actual epoch from the regular one, applied to first order,
     exp(i d) = 1 + i d, when every |d| = |omega e_k| <= 1e-8 rad (the
