@@ -686,7 +686,8 @@ def _h0_block(coef_t, nside, pix, snr):
             for lo, tile in zip(range(0, n, _ROW_TILE), tiles, strict=True):
                 np.matmul(tile, phi, out=part)
                 rho2 = part[: min(n - lo, _ROW_TILE)]  # without the padding rows
-                np.maximum(rho2, 0.0, out=rho2)  # a rounding below zero where the array is blind
+                if rho2.min() < 0.0:  # a rounding below zero where the array is blind
+                    np.maximum(rho2, 0.0, out=rho2)
                 np.sqrt(rho2, out=rho2)
                 np.divide(snr, rho2, out=out[lo : lo + _ROW_TILE, plo : plo + _PIXEL_TILE])
     return out
