@@ -36,7 +36,9 @@ epoch's rounding offset from the grid, so as exact as taking each sine
 directly; irregular epochs take each sine directly).  The weights far below
 the white-noise level (a signal the fit absorbs almost wholly, e.g. 5e-7 of
 it at f ~ 1/T) are a difference of two nearly equal sums and carry a relative
-rounding error of order 1e-16 / 5e-7 ~ 1e-10 whichever way they are summed.
+rounding error of order 1e-16 / 5e-7 whichever way they are summed: up to a
+few 1e-9 against an 80-bit reference, for this code and the code before the
+batched sines alike (benchmarks/bench_array.py).
 
 Analytic approximation
 ----------------------
@@ -290,7 +292,7 @@ def _phasors(t, omega):
     :class:`~.pulsar_array.PulsarArray`) need only about sqrt(N) n of them:
     with k = j B + i (B ~ sqrt(N)),
     exp(i omega t_k) = exp(i omega T_j) exp(i omega h)^i exp(i omega e_k)
-    (the powers by repeated products, i < B: a few 1e-16 of rounding),
+    (the powers by repeated products, i < B: at most ~B 1e-16 of rounding),
     T_j = t_0 + j B h and e_k = (t_k - T_j) - i h the (tiny) offset of the
     actual epoch from the regular one, applied to first order,
     exp(i d) = 1 + i d, when every |d| = |omega e_k| <= 1e-8 rad (the
