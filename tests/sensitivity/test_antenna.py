@@ -200,3 +200,17 @@ def test_residual_amplitude_matches_the_quadrupole_formula():
         assert np.min(np.abs(code / true - 1)) < 2e-3
         if inc == 0.0:
             assert np.ptp(code) / true < 1e-9
+
+
+def test_pattern_power_features_reproduce_the_closed_form():
+    # F+^2 + Fx^2 = (1 + cos theta_p)^2 / 4 (module docstring; pattern_power, itself
+    # checked above against the Anholm et al. 2009 patterns) as phi(n) . phi(p):
+    # exact algebra, so equal to rounding (a few 1e-16 of the largest term, 1).
+    rng = np.random.default_rng(11)
+    pulsars = rng.normal(size=(50, 3))
+    pulsars /= np.linalg.norm(pulsars, axis=1, keepdims=True)
+    sky = _pixel_vectors(8)
+    direct = antenna.pattern_power(pulsars[None, :, :], sky[:, None, :])
+    features = antenna.pattern_power_features(sky) @ antenna.pattern_power_features(pulsars).T
+    assert np.max(np.abs(features - direct)) < 2e-15
+    assert np.array_equal(antenna.pattern_power_grid(pulsars, sky).shape, features.shape)

@@ -97,7 +97,7 @@ def test_map_matrix_product_equals_exact_per_direction_computation():
                             cw_residuals(grid, arr.vectors[k], n, h0, fj, np.arccos(ci_), psi, ph),
                         )
                         acc += wi / 2 / psis.size / 2 * r @ gs[k] @ r
-        assert m[j, pix] == pytest.approx(5.0 * h0 / np.sqrt(acc), rel=1e-3)
+        assert m[j, pix] == pytest.approx(5.0 * h0 / np.sqrt(acc), rel=1e-3, abs=0)
 
 
 def test_sky_averaged_curve_is_mean_rho2_over_map():
@@ -109,7 +109,7 @@ def test_sky_averaged_curve_is_mean_rho2_over_map():
     h_map = 5.0 / np.sqrt(np.mean((5.0 / m) ** 2, axis=1))
     c = arr.sky_averaged_curve(snr=5.0, frequency=f)
     assert c.sky == "averaged"
-    assert c.h0_threshold(f, snr=5.0) == pytest.approx(h_map, rel=1e-3)
+    assert c.h0_threshold(f, snr=5.0) == pytest.approx(h_map, rel=1e-3, abs=0)
 
 
 def test_pulsar_term_doubles_snr_squared():
@@ -139,8 +139,10 @@ def test_array_is_a_positional_sensitivity_with_pulsars_as_markers():
 
 
 def test_threshold_table_pixel_equals_curve_at_the_pixel_centre():
-    # The vectorised table (pattern @ w) against the per-position route,
+    # The vectorised table (features @ coefficients) against the per-position route,
     # curve_at(pixel centre).h0_threshold(f), with the centre from healpy.pix2ang.
+    # The array's own span is passed: the curve's meta records it to 6 digits.
+    # (abs=0: pytest.approx's default 1e-12 absolute tolerance would pass any h0.)
     arr = small_array(red=True)
     f = np.array([6.1e-9, 2.7e-8]) * u.Hz
     table = arr.threshold_table(f, snr=5.0, nside=4)
@@ -148,13 +150,17 @@ def test_threshold_table_pixel_equals_curve_at_the_pixel_centre():
     for pix in (0, 77, 191):
         lon, lat = hp.pix2ang(4, pix, lonlat=True)
         c = arr.curve_at(SkyCoord(lon * u.deg, lat * u.deg), frequency=f)
-        assert table.values[pix] == pytest.approx(c.h0_threshold(f, snr=5.0), rel=1e-10)
+        assert table.values[pix] == pytest.approx(
+            c.h0_threshold(f, snr=5.0, span=arr.span), rel=1e-10, abs=0
+        )
 
 
 def test_threshold_table_reads_bare_numbers_as_hz():
     arr = small_array()
     bare = arr.threshold_table(1e-8, nside=2)
-    assert bare.values == pytest.approx(arr.threshold_table(10 * u.nHz, nside=2).values, rel=1e-12)
+    assert bare.values == pytest.approx(
+        arr.threshold_table(10 * u.nHz, nside=2).values, rel=1e-12, abs=0
+    )
     with pytest.raises(PtaconstrainError, match="outside the array's band"):
         arr.threshold_table(8.0, nside=2)  # 8 Hz: a unit slip
     with pytest.raises(PtaconstrainError, match="power of 2"):
@@ -195,6 +201,35 @@ def test_map_blocks_equal_whole_map_bit_for_bit(by, kwargs):
         else:
             got[part] = block
     assert np.array_equal(got, whole)
+
+
+def test_feature_map_equals_the_direct_pattern_product():
+    # Reference: the straightforward map, pattern[pix, p] from the closed form
+    # (1 + n.p)^2 / 4 (antenna.pattern_power_grid) times the orientation-averaged
+    # rho^2 per pulsar (antenna.orientation_averaged_snr_squared), one direction
+    # at a time; the map takes it through ten quadratic features instead.  Exact
+    # algebra: equal to rounding, including a pulsar-term map and a red pulsar.
+    base = small_array(red=True)
+    rng = np.random.default_rng(8)
+    n = 25
+    arr = type(base)(
+        [f"P{i}" for i in range(n)],
+        SkyCoord(rng.uniform(0, 360, n) * u.deg, rng.uniform(-80, 80, n) * u.deg),
+        rng.uniform(0.2, 2.0, n) * u.us,
+        rng.choice([14.0, 28.0], n) * u.d,
+        np.full(n, 55000.0),
+        np.full(n, 58000.0),
+        red_amp=np.where(np.arange(n) % 3 == 0, 1e-14, 0.0),
+        red_gamma=np.full(n, 4.0),
+    )
+    f = np.geomspace(5e-9, 1e-7, 9) * u.Hz
+    nside = 8
+    pix = np.stack(hp.pix2vec(nside, np.arange(hp.nside2npix(nside))), axis=1)
+    for term in (False, True):
+        got = arr.h0_threshold_map(f, nside=nside, snr=5.0, pulsar_term=term)
+        pattern = antenna.pattern_power_grid(arr.vectors, pix)
+        rho2 = antenna.orientation_averaged_snr_squared(1.0, f, arr.weights(f), pattern, term)
+        assert got.T == pytest.approx(5.0 / np.sqrt(rho2), rel=1e-12, abs=0)
 
 
 def test_weights_same_in_worker_processes_and_with_library_blas_threads():

@@ -15,7 +15,11 @@ pulsar and frequency; the sky enters only through F+^2 + Fx^2 =
 (pattern[pix, p]) @ (w[p, f]).  This is exact, not an approximation: averaging
 over the source phase removes the cross terms between the sine and cosine
 quadratures (c^T G s) and the difference c^T G c - s^T G s, whatever the fit
-does to them; only an S/N at a fixed, known phase would need them.
+does to them; only an S/N at a fixed, known phase would need them.  As
+(1 + n.p)^2 / 4 is a quadratic form in n, pattern = phi(n) . phi(p) with ten
+features (:func:`~ptaconstrain.sensitivity.antenna.pattern_power_features`),
+and the product is computed as phi[pix, 10] @ (phi[p, 10].T @ w[p, f]): ten
+terms per pixel and frequency whatever the number of pulsars.
 
 :class:`PulsarArray` implements
 :class:`~ptaconstrain.sensitivity.positional.PositionalSensitivity`.
@@ -34,6 +38,7 @@ from .timing import (
     approximate_weights,
     post_fit_weights,
     red_noise_psd,
+    single_blas_thread,
     white_noise_psd,
 )
 
@@ -41,12 +46,16 @@ __all__ = ["ArrayError", "PulsarArray", "DEFAULT_NSIDE", "PARALLEL_MIN_PULSARS",
 
 #: HEALPix resolution of :meth:`PulsarArray.threshold_table` when none is asked for.
 DEFAULT_NSIDE = 64
-#: From this many pulsars on, :meth:`PulsarArray.weights` uses two processes by default
-#: (measured in benchmarks/bench_array.py).
-PARALLEL_MIN_PULSARS = 400
+#: From this many pulsars on, :meth:`PulsarArray.weights` uses two processes by default.
+#: A pulsar's weights take about 0.6 ms, so starting and feeding a process pool pays
+#: only for very large arrays: with 400-2000 pulsars two processes were slower than one
+#: on the shared 2-core machine (benchmarks/bench_array.py; larger arrays not measured).
+PARALLEL_MIN_PULSARS = 5000
 #: Default size of one block of :meth:`PulsarArray.threshold_map_blocks` (bytes of output).
 MAP_BLOCK_BYTES = 2**28
 _ROW_TILE = 32  # frequencies per matrix product (see _h0_block)
+_N_FEATURES = 10  # columns of antenna.pattern_power_features
+_PIXEL_TILE = 8192  # pixels per product in _h0_block (a tile of h0 stays in cache)
 _MIN_TOAS = 3 * N_TIMING_PARAMETERS
 _METHODS = ("exact", "analytic")
 
@@ -266,7 +275,7 @@ class PulsarArray:
         Each pulsar has its own epochs and noise, so the exact weights are one
         :func:`~.timing.post_fit_weights` call per pulsar (vectorised over
         frequency; a few matrix products of N x (9 + 2K) by N x n_f), with one
-        BLAS thread each; many pulsars are spread over processes.  The result
+        BLAS thread; many pulsars may be spread over processes.  The result
         does not depend on ``workers``.  Results are cached per frequency grid.
 
         Parameters
@@ -529,7 +538,7 @@ class PulsarArray:
             parts.append(block)
             if callback is not None:
                 callback(1)
-        return np.concatenate(parts, axis=1)
+        return parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)
 
     def threshold_map_blocks(
         self,
@@ -585,18 +594,22 @@ class PulsarArray:
         self.check_band(f)
         w = self.weights(f, callback=callback)
         term = self._term(pulsar_term)
-        # rho^2 per unit h0^2 = pattern @ (0.4 w / (2 pi f)^2 [x 2 with pulsar term])
-        scale = antenna.orientation_averaged_snr_squared(1.0, f, w, np.eye(len(self)), term)
-        scale_t = np.ascontiguousarray(scale.T)  # (n_f, n_p)
+        # rho^2 per unit h0^2 = pattern @ (0.4 w / (2 pi f)^2 [x 2 with pulsar term]): the
+        # factor of one pulsar of unit weight and pattern, times every pulsar's weight
+        one = np.ones((1, f.size)) * u.s**-2
+        unit = antenna.orientation_averaged_snr_squared(1.0, f, one, np.ones(1), term)
+        scale_t = unit[:, None] * w.to_value(u.s**-2).T  # (n_f, n_p)
+        # sum_p pattern[pix, p] scale[p, f] = phi[pix, :] @ coef[:, f] (antenna features)
+        coef_t = scale_t @ antenna.pattern_power_features(self.vectors)  # (n_f, 10)
         npix = hp.nside2npix(nside)
         if by == "pixel":
-            if pixels is None:  # block and pattern chunk together within block_bytes
-                pixels = max(1, block_bytes // (8 * (f.size + len(self)) * 1024)) * 1024
-            return _pixel_blocks(scale_t, self.vectors, nside, snr, int(pixels))
+            if pixels is None:  # block and feature chunk together within block_bytes
+                pixels = max(1, block_bytes // (8 * (f.size + _N_FEATURES) * 1024)) * 1024
+            return _pixel_blocks(coef_t, nside, snr, int(pixels))
         per = max(1, int(block_bytes // (8 * npix * _ROW_TILE))) * _ROW_TILE
-        if pixels is None:  # the pattern chunk and its product within a quarter block
-            pixels = max(1, block_bytes // (32 * (per + len(self)) * 1024)) * 1024
-        return _frequency_blocks(scale_t, self.vectors, nside, snr, per, int(pixels))
+        if pixels is None:  # the feature chunk and its product within a quarter block
+            pixels = max(1, block_bytes // (32 * (per + _N_FEATURES) * 1024)) * 1024
+        return _frequency_blocks(coef_t, nside, snr, per, int(pixels))
 
     def threshold_table(self, frequency, snr=5.0, nside=None, *, pulsar_term=None, callback=None):
         """h0 reaching S/N ``snr`` on every HEALPix pixel (ICRS, RING), per frequency.
@@ -643,62 +656,80 @@ class PulsarArray:
 
 
 # ------------------------------------------------------------------ helpers
-def _h0_block(scale_t, vectors, nside, pix, snr):
-    """h0 for S/N ``snr`` on the pixels ``pix`` (a slice) for the rows of ``scale_t``.
+def _h0_block(coef_t, nside, pix, snr):
+    """h0 for S/N ``snr`` on the pixels ``pix`` (a slice) for the rows of ``coef_t``.
 
-    A BLAS product's rounding can depend on the matrix shape (its edge
-    kernels), so the rows go through the product in fixed tiles of
-    ``_ROW_TILE`` (the last one zero-padded); blocks of frequencies start on a
-    tile boundary, hence every value is bit for bit that of the whole map.
+    rho^2 per unit h0^2 = coef_t @ phi(pixels).T, phi the ten pattern features
+    (:func:`~.antenna.pattern_power_features`), then h0 = snr / sqrt(rho^2),
+    a cache-sized piece at a time.  A BLAS product's rounding can depend on
+    the matrix shape (its edge kernels), so the rows go through the product in
+    fixed tiles of ``_ROW_TILE`` (the last one zero-padded); blocks of
+    frequencies start on a tile boundary, hence every value is bit for bit
+    that of the whole map.
     """
     import healpy as hp
 
-    vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=1)
-    pattern_t = antenna.pattern_power_grid(vectors, vec).T  # (n_p, n_pix)
-    n = scale_t.shape[0]
-    out = np.empty((n, pattern_t.shape[1]))
-    tile = np.zeros((_ROW_TILE, scale_t.shape[1]))
+    vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=-1)
+    feat_t = antenna.pattern_power_features(vec).T  # (10, n_pix)
+    n, n_pix = coef_t.shape[0], feat_t.shape[1]
+    out = np.empty((n, n_pix))
+    tiles = []
     for lo in range(0, n, _ROW_TILE):
-        hi = min(lo + _ROW_TILE, n)
-        tile[: hi - lo] = scale_t[lo:hi]
-        tile[hi - lo :] = 0.0
-        out[lo:hi] = (tile @ pattern_t)[: hi - lo]
-    np.sqrt(out, out=out)
-    np.divide(snr, out, out=out)
+        tile = np.zeros((_ROW_TILE, coef_t.shape[1]))
+        tile[: min(n - lo, _ROW_TILE)] = coef_t[lo : lo + _ROW_TILE]
+        tiles.append(tile)
+    buf = np.empty((_ROW_TILE, min(n_pix, _PIXEL_TILE)))
+    with single_blas_thread():  # threads only wait on memory here (benchmarks/bench_array.py)
+        for plo in range(0, n_pix, _PIXEL_TILE):
+            phi = feat_t[:, plo : plo + _PIXEL_TILE]
+            part = buf[:, : phi.shape[1]]
+            for lo, tile in zip(range(0, n, _ROW_TILE), tiles, strict=True):
+                np.matmul(tile, phi, out=part)
+                rho2 = part[: min(n - lo, _ROW_TILE)]  # without the padding rows
+                if rho2.min() < 0.0:  # a rounding below zero where the array is blind
+                    np.maximum(rho2, 0.0, out=rho2)
+                np.sqrt(rho2, out=rho2)
+                np.divide(snr, rho2, out=out[lo : lo + _ROW_TILE, plo : plo + _PIXEL_TILE])
     return out
 
 
-def _pixel_blocks(scale_t, vectors, nside, snr, pixels):
+def _pixel_blocks(coef_t, nside, snr, pixels):
     import healpy as hp
 
     npix = hp.nside2npix(nside)
     for lo in range(0, npix, pixels):
         pix = slice(lo, min(lo + pixels, npix))
-        yield pix, _h0_block(scale_t, vectors, nside, pix, snr)
+        yield pix, _h0_block(coef_t, nside, pix, snr)
 
 
-def _frequency_blocks(scale_t, vectors, nside, snr, per, pixels):
+def _frequency_blocks(coef_t, nside, snr, per, pixels):
     import healpy as hp
 
     npix = hp.nside2npix(nside)
-    n_f = scale_t.shape[0]
+    n_f = coef_t.shape[0]
     for flo in range(0, n_f, per):
         fs = slice(flo, min(flo + per, n_f))
         out = np.empty((fs.stop - fs.start, npix))
         for lo in range(0, npix, pixels):
             pix = slice(lo, min(lo + pixels, npix))
-            out[:, pix] = _h0_block(scale_t[fs], vectors, nside, pix, snr)
+            out[:, pix] = _h0_block(coef_t[fs], nside, pix, snr)
         yield fs, out
 
 
-def _post_fit_row(job):
-    return post_fit_weights(*job[:5], blas_threads=job[5], background=job[6]).value
+def _post_fit_rows(jobs):
+    """post_fit_weights of every job in order, under one BLAS thread setting (the first's)."""
+    with single_blas_thread(jobs[0][5]):
+        return [
+            post_fit_weights(*job[:5], blas_threads=None, background=job[6]).value for job in jobs
+        ]
 
 
 def _map_jobs(jobs, workers):
     """post_fit_weights over ``jobs`` in order, in this process or in ``workers`` processes."""
     if workers <= 1 or len(jobs) < 2:
-        yield from map(_post_fit_row, jobs)
+        with single_blas_thread(jobs[0][5]):
+            for job in jobs:
+                yield post_fit_weights(*job[:5], blas_threads=None, background=job[6]).value
         return
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
@@ -706,9 +737,11 @@ def _map_jobs(jobs, workers):
     # fork shares the loaded modules (no re-import); elsewhere the platform default
     methods = multiprocessing.get_all_start_methods()
     ctx = multiprocessing.get_context("fork" if "fork" in methods else None)
-    chunk = max(1, len(jobs) // (8 * workers))
+    size = max(1, len(jobs) // (8 * workers))
+    chunks = [jobs[i : i + size] for i in range(0, len(jobs), size)]
     with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
-        yield from pool.map(_post_fit_row, jobs, chunksize=chunk)
+        for rows in pool.map(_post_fit_rows, chunks):
+            yield from rows
 
 
 # -------------------------------------------------------------- validation
