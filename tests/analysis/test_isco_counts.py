@@ -4,7 +4,6 @@ from astropy import units as u
 from curves_for_tests import power_law_limit
 
 from ptaconstrain.analysis import isco_counts as isco_module
-from ptaconstrain.analysis import probability as prob_module
 from ptaconstrain.analysis.isco_counts import IscoCounts
 from ptaconstrain.analysis.probability import exclusion_probability
 from ptaconstrain.binary import waveform as wf
@@ -28,7 +27,7 @@ def direct_kth(f_grid, f_isco, rank, k):
     return np.array(out)
 
 
-@pytest.mark.parametrize("n", [1, 37, 64, 65, 500, 2049])
+@pytest.mark.parametrize("n", [1, 37, 64, 65, 256, 500, 512, 2049])
 def test_counts_and_kth_rank_equal_brute_force(n):
     rng = np.random.default_rng(n)
     f_grid = rng.permutation(np.geomspace(1e-9, 1e-6, 23))  # unsorted grid
@@ -37,7 +36,7 @@ def test_counts_and_kth_rank_equal_brute_force(n):
     order = rng.permutation(n)
     rank = np.empty(n, dtype=np.intp)
     rank[order] = np.arange(n)
-    c = IscoCounts(f_grid, f_isco, order)
+    c = IscoCounts(f_grid, f_isco, rank.astype(float))  # ln u values with these ranks
     x = np.arange(n + 1)
     cols = np.arange(f_grid.size)
     np.testing.assert_array_equal(
@@ -78,19 +77,29 @@ def test_grid_count_equals_searchsorted(grid):
     )
 
 
-def test_ascending_order_equals_argsort_exactly():
-    # reference: numpy's argsort; values that agree in all but the last bits, exact
-    # ties, signed zeros and both signs exercise the packed-key sort and its repair
+def test_buckets_in_value_order_equal_argsort_exactly():
+    # reference: numpy's argsort; values that agree in all but the last bits (runs
+    # of equal truncated keys with different buckets), exact ties, signed zeros and
+    # both signs exercise the packed-key sort and its repair
     rng = np.random.default_rng(3)
     v = rng.normal(size=5000)
     v[:1000] = 0.3 + np.arange(1000) * np.spacing(0.3)  # neighbours one ulp apart
     v[1000:1100] = -2.5
     v[1100:1110] = [0.0, -0.0] * 5
-    v = rng.permutation(v)
-    order, ordered = prob_module._ascending_order(v)
-    np.testing.assert_array_equal(ordered, np.sort(v))
-    np.testing.assert_array_equal(v[order], np.sort(v))
-    np.testing.assert_array_equal(np.sort(order), np.arange(v.size))
+    v[1110:1400] = -0.7 - np.arange(290) * np.spacing(0.7)
+    perm = rng.permutation(v.size)
+    v = v[perm]
+    buckets = rng.integers(0, 301, v.size)
+    out = np.empty(v.size, dtype=np.int32)
+    isco_module._buckets_in_value_order(v, buckets, out)
+    order = np.argsort(v, kind="stable")
+    # equal values may come in any order: compare the buckets within each run of equal values
+    sv = v[order]
+    run = np.r_[0, np.cumsum(sv[1:] != sv[:-1])]
+    key = run * 1000
+    np.testing.assert_array_equal(np.sort(key + out), np.sort(key + buckets[order]))
+    distinct = np.r_[sv[1:] != sv[:-1], True] & np.r_[True, sv[1:] != sv[:-1]]
+    np.testing.assert_array_equal(out[distinct], buckets[order][distinct])
 
 
 def brute_probability(r):
