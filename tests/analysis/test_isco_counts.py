@@ -1,3 +1,5 @@
+from dataclasses import replace
+
 import numpy as np
 import pytest
 from astropy import units as u
@@ -6,6 +8,7 @@ from curves_for_tests import power_law_limit
 from ptaconstrain.analysis import isco_counts as isco_module
 from ptaconstrain.analysis.isco_counts import IscoCounts
 from ptaconstrain.analysis.probability import exclusion_probability
+from ptaconstrain.analysis.sampling import sample_host
 from ptaconstrain.binary import waveform as wf
 from ptaconstrain.binary.host import Host
 
@@ -128,4 +131,113 @@ def test_probability_map_equals_brute_force_bit_for_bit(n):
     r = exclusion_probability(host, power_law_limit(), Q, period, samples=n, seed=5)
     partial = (r.above_isco_fraction > 0) & (r.above_isco_fraction < 1)
     assert partial.sum() >= 3
+    np.testing.assert_array_equal(r.probability, brute_probability(r))
+
+
+def suffix_counts(f_grid, f_isco, order):
+    """Brute force for every rank at once: above[j, x] = #{rank >= x above the ISCO in j}."""
+    above = f_grid[:, None] > f_isco[None, order]  # samples in rank order
+    out = np.zeros((f_grid.size, f_isco.size + 1), dtype=np.intp)
+    out[:, :-1] = np.cumsum(above[:, ::-1], axis=1)[:, ::-1]
+    return out
+
+
+def correlated_samples(n, rng):
+    """ln u rising with the mass and f_ISCO falling with it, as in a host's samples.
+
+    f_ISCO is proportional to 1 / M (Maggiore 2008, eq. 4.39) and ln u to (5/3) ln M
+    plus a distance scatter, so that G (the grid count of f_ISCO) falls, with
+    exceptions, as the ln u rank rises: whole blocks on one side of a column, and a
+    few straddling it, as in the probability map.
+    """
+    ln_m = rng.normal(0.0, 0.7, n)
+    scatter = np.where(rng.uniform(size=n) < 0.005, 1.0, 0.02)  # a few far outliers
+    values = 5.0 / 3.0 * ln_m + rng.normal(0.0, 1.0, n) * scatter
+    f_isco = 1e-7 * np.exp(-ln_m)
+    return values, f_isco
+
+
+def test_counts_decided_alone_and_by_block_equal_brute_force():
+    # every branch of `above`: ranks decided by the column's first/last rank alone,
+    # by a uniform block, and counted in a straddling block from its head or its
+    # tail; reference: the brute-force count over every sample
+    rng = np.random.default_rng(11)
+    n = 20000
+    values, f_isco = correlated_samples(n, rng)
+    f_grid = rng.permutation(np.geomspace(2e-8, 5e-7, 31))
+    c = IscoCounts(f_grid, f_isco, values)
+    order = np.argsort(values, kind="stable")
+    rank = np.empty(n, dtype=np.intp)
+    rank[order] = np.arange(n)
+    x = np.arange(n + 1)
+    cols = np.arange(f_grid.size)
+    expected = suffix_counts(f_grid, f_isco, order)
+    np.testing.assert_array_equal(c.above(cols[:, None], x[None, :]), expected)
+    # the cases were all met
+    rr = c._r[cols][:, None]
+    first, last = c._first[rr], c._last[rr]
+    alone = (x <= first) | (x > last)
+    blk = np.minimum(x // isco_module._BLOCK, c._n_blocks - 1)
+    uniform = (c._gmin[blk] > rr) | (c._gmax[blk] <= rr)
+    offset = x % isco_module._BLOCK
+    head = offset < isco_module._BLOCK // 2
+    assert alone.any() and (~alone & uniform).any()
+    assert (~alone & ~uniform & head).any() and (~alone & ~uniform & ~head).any()
+    for k in (1, 7, n // 3, n):
+        np.testing.assert_array_equal(
+            c.kth_largest_rank(cols, k), direct_kth(f_grid, f_isco, rank, k)
+        )
+
+
+@pytest.mark.parametrize("where", ["all below", "all above", "one sample", "equal values"])
+def test_counts_at_the_edges_equal_brute_force(where):
+    # all samples below the ISCO in every column (no count to remove), all above it
+    # (every rank removed), a single sample, and runs of equal ln u with different
+    # f_ISCO (ties: any order of equal values gives the same counts)
+    rng = np.random.default_rng(4)
+    f_grid = np.geomspace(1e-9, 1e-6, 17)
+    n = 1 if where == "one sample" else 700
+    values, f_isco = correlated_samples(n, rng)
+    if where == "all below":
+        f_isco = f_isco * 0 + 1e-5
+    elif where == "all above":
+        f_isco = f_isco * 0 + 1e-10
+    elif where == "equal values":
+        values = np.round(values, 1)  # ~40 distinct values, each shared by many samples
+    c = IscoCounts(f_grid, f_isco, values)
+    order = np.argsort(values, kind="stable")
+    rank = np.empty(n, dtype=np.intp)
+    rank[order] = np.arange(n)
+    sv = values[order]
+    # ranks a search of the sorted values can return (never inside a run of equal values)
+    x = np.unique(np.searchsorted(sv, np.r_[sv, -np.inf, np.inf], side="right"))
+    cols = np.arange(f_grid.size)
+    np.testing.assert_array_equal(
+        c.above(cols[:, None], x[None, :]), direct_counts(f_grid, f_isco, rank, x)
+    )
+    np.testing.assert_array_equal(c.n_above, (f_grid[:, None] > f_isco[None, :]).sum(axis=1))
+    for k in sorted({1, max(1, n // 2), n}):
+        got = c.kth_largest_rank(cols, k)
+        want = direct_kth(f_grid, f_isco, rank, k)
+        # a rank inside a run of equal values is as good as any other of that run
+        np.testing.assert_array_equal(got < 0, want < 0)
+        np.testing.assert_array_equal(sv[got[got >= 0]], sv[want[want >= 0]])
+
+
+def test_probability_map_with_repeated_samples_equals_brute_force_bit_for_bit():
+    # every sample drawn twice: equal ln u values (ties in the sort) with the same
+    # f_ISCO, plus the partly-above-ISCO columns of a wide mass error
+    host = Host("B", 3e10, 200, mass_err_dex=(0.2, 0.4), distance_err=20, mass_distance=190)
+    draws = sample_host(host, 400, seed=8)
+    twice = replace(
+        draws,
+        n=2 * draws.n,
+        mass=np.concatenate([draws.mass, draws.mass[::-1]]),
+        distance=np.concatenate([draws.distance, draws.distance[::-1]]),
+        strain_prefactor=np.concatenate([draws.strain_prefactor, draws.strain_prefactor[::-1]]),
+        isco_frequency=np.concatenate([draws.isco_frequency, draws.isco_frequency[::-1]]),
+    )
+    period = np.geomspace(0.05, 60, 45) * u.yr
+    r = exclusion_probability(host, power_law_limit(), Q, period, samples=twice)
+    assert ((r.above_isco_fraction > 0) & (r.above_isco_fraction < 1)).sum() >= 3
     np.testing.assert_array_equal(r.probability, brute_probability(r))

@@ -70,8 +70,7 @@ def _grid_count(grid, values):
     lut = np.searchsorted(grid, low, side="left").astype(np.int32)  # #{grid < bucket}
     key = values.view(np.int64) >> _LUT_SHIFT
     key -= k0
-    np.clip(key, 0, k1 - k0, out=key)  # below: 0 grid points; above: all (added below)
-    out = lut[key]
+    out = lut.take(key, mode="clip")  # below: 0 grid points; above: all (added below)
     ext = np.append(grid, np.inf)
     for _ in range(per_bucket):  # the grid points inside the value's bucket
         out += ext[out] <= values
@@ -99,18 +98,22 @@ def _buckets_in_value_order(values, buckets, out):
     out : ndarray of int32 (n,)
     """
     bits = max(1, int(buckets.max(initial=0)).bit_length())
-    key = np.ascontiguousarray(values, dtype=np.float64).view(np.int64)
-    key = key ^ ((key >> 63) & _SIGN_FLIP)
-    packed = key >> bits
-    packed <<= bits
+    low = np.int64((1 << bits) - 1)
+    bit_pattern = np.ascontiguousarray(values, dtype=np.float64).view(np.int64)
+    packed = bit_pattern >> 63
+    packed &= _SIGN_FLIP
+    packed ^= bit_pattern  # int64 keys in the order of the values
+    packed &= ~low
     packed |= buckets
     packed.sort()
-    np.bitwise_and(packed, np.int64((1 << bits) - 1), out=out, casting="unsafe")
-    packed >>= bits
-    tie = np.flatnonzero(packed[1:] == packed[:-1])
+    np.bitwise_and(packed, low, out=out, casting="unsafe")
+    # adjacent keys that agree above the low bits (as unsigned: across the sign too)
+    same = packed[1:] ^ packed[:-1]
+    tie = np.flatnonzero(same.view(np.uint64) <= np.uint64(low))
     if tie.size:
         pos = np.union1d(tie, tie + 1)  # whole runs of equal truncated keys, ascending
-        members = np.flatnonzero(np.isin(key >> bits, packed[pos]))
+        key = bit_pattern ^ ((bit_pattern >> 63) & _SIGN_FLIP)
+        members = np.flatnonzero(np.isin(key & ~low, packed[pos] & ~low))
         out[pos] = buckets[members[np.argsort(values[members], kind="stable")]]
 
 
@@ -149,9 +152,6 @@ class IscoCounts:
         if n:
             _buckets_in_value_order(values, b, g[:n])
         self.n = n
-        at_most = np.bincount(b, minlength=n_p + 1)[:n_p].cumsum()  # #(b <= r), by grid rank
-        self.n_above = at_most[r]
-        self._at_most = at_most
         self._g = g
         self._r = r
         self._n_blocks = n_blocks
@@ -165,6 +165,8 @@ class IscoCounts:
         suffix = table[n_blocks - 1 :: -1]
         np.add.accumulate(suffix, axis=0, out=suffix)  # blocks c .. last
         self._table = table
+        self._at_most = table[0]  # #(G <= r), by grid rank
+        self.n_above = table[0, r].astype(np.intp)
         # smallest and largest G per block (the padding of the last block excluded)
         self._gmin = blocks.min(axis=1)
         self._gmax = blocks.max(axis=1)

@@ -384,7 +384,9 @@ def exclusion_probability(
 
     f = det.frequency.to_value(u.Hz)
     # no binary whose pericentre lies inside the ISCO; a factor 1 at e = 0
-    f_isco = draws.isco_frequency.to_value(u.Hz) * ecc.pericentre_isco_factor(det.eccentricity)
+    f_isco = draws.isco_frequency.to_value(u.Hz)
+    if det.eccentricity:
+        f_isco = f_isco * ecc.pericentre_isco_factor(det.eccentricity)
     isco = IscoCounts(f, f_isco, log_u)
     log_eta = np.log(wf.symmetric_mass_ratio(det.mass_ratio))
     with np.errstate(invalid="ignore"):
