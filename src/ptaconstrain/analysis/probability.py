@@ -24,9 +24,12 @@ Above the ISCO.  f_ISCO depends on the sampled mass only, so whether a cell
 is above the ISCO in a sample depends on its period, not on q.  A cell above
 the ISCO in a sample counts as *not excluded* in that sample (no such binary
 exists, so the PTA rules nothing out there).  This is handled exactly: for
-each period the samples above the ISCO are a known subset, and their
-contribution is removed with a cumulative count over the (usually few)
-samples that are above the ISCO anywhere on the grid.  A column whose every
+each period the samples above the ISCO are a known subset, and the number of
+them above each cell's threshold is removed from the count, by the offline
+dominance count of :class:`~ptaconstrain.analysis.isco_counts.IscoCounts`
+(one integer sort with each sample's ISCO grid count in the low bits, a
+table per block of ranks; most cells are decided by a column's range of
+mixed ranks alone).  A column whose every
 sample is above the ISCO, or that lies outside the curve's band, has
 probability NaN, as in the deterministic map.  The chirping flag does not
 change ``excluded`` in the deterministic map and does not enter here either.
