@@ -6,6 +6,7 @@ from astropy import units as u
 from curves_for_tests import power_law_limit
 
 from ptaconstrain.analysis import isco_counts as isco_module
+from ptaconstrain.analysis import probability as prob_module
 from ptaconstrain.analysis.isco_counts import IscoCounts
 from ptaconstrain.analysis.probability import exclusion_probability
 from ptaconstrain.analysis.sampling import sample_host
@@ -241,3 +242,32 @@ def test_probability_map_with_repeated_samples_equals_brute_force_bit_for_bit():
     r = exclusion_probability(host, power_law_limit(), Q, period, samples=twice)
     assert ((r.above_isco_fraction > 0) & (r.above_isco_fraction < 1)).sum() >= 3
     np.testing.assert_array_equal(r.probability, brute_probability(r))
+
+
+@pytest.mark.parametrize("n", [1, 2, 255, 256, 257, 5000])
+def test_two_level_search_equals_searchsorted(n):
+    # reference: numpy's searchsorted(side="right") on the same sorted values; keys on,
+    # one ulp beside, below and above the values, runs of equal values, signed
+    # zeros, infinities and NaN
+    rng = np.random.default_rng(n)
+    values = np.round(rng.normal(size=n), 2 if n > 300 else 8)  # runs of equal values
+    values[: min(n, 3)] = 0.0
+    values = np.sort(np.r_[values[:-1], -0.0][:n]) if n > 1 else np.sort(values)
+    keys = np.r_[
+        values,
+        np.nextafter(values, -np.inf),
+        np.nextafter(values, np.inf),
+        rng.normal(size=2000) * 3,
+        0.0,
+        -0.0,
+        np.inf,
+        -np.inf,
+        np.nan,
+    ]
+    np.testing.assert_array_equal(
+        prob_module._search_right(values, keys), np.searchsorted(values, keys, side="right")
+    )
+    grid = keys[:1800].reshape(30, 60)  # a 2-D map of thresholds keeps its shape
+    np.testing.assert_array_equal(
+        prob_module._search_right(values, grid), np.searchsorted(values, grid, side="right")
+    )

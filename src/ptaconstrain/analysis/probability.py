@@ -282,6 +282,38 @@ def _min_count(c, n):
     return k
 
 
+_SEARCH_STEP = 256  # ranks per window of the two-level search
+
+
+def _search_right(values, keys):
+    """``np.searchsorted(values, keys, side="right")`` for sorted float ``values``, exactly.
+
+    Two levels: numpy's binary search in every 256th value (a table that stays in
+    the first-level cache) finds each key's window of 256 values, and eight
+    vectorised bisection steps find the rank inside it.  About twice as fast as
+    one binary search over 10^6 values, whose every step misses the cache.  Keys at
+    or above the largest value, and NaN keys (numpy sorts NaN last), get n; values
+    that hold NaN go to ``np.searchsorted``.
+    """
+    keys = np.asarray(keys, dtype=np.float64)
+    n = values.size
+    if n == 0 or np.isnan(values[-1]):
+        return np.searchsorted(values, keys, side="right")
+    step = _SEARCH_STEP
+    # window j: values[step (j-1)] <= key < values[step j]; the rank is in
+    # [step (j-1) + 1, step j] (0 for j = 0)
+    x = np.searchsorted(values[::step], keys, side="right")
+    x *= step
+    x -= step - 1
+    np.maximum(x, 0, out=x)
+    half = step // 2
+    while half:  # probes past the last value read it (clip): above every such key
+        x += (values.take(x + (half - 1), mode="clip") <= keys) * half
+        half //= 2
+    x[~(keys < values[-1])] = n
+    return x
+
+
 def exclusion_probability(
     host,
     curve,
@@ -395,7 +427,7 @@ def exclusion_probability(
     with np.errstate(invalid="ignore"):
         log_eta_min = np.log(det.eta_min)
         thr = log_eta_min[None, :] - log_eta[:, None]
-    x = np.searchsorted(sorted_u, thr, side="right")  # first rank with ln u > threshold
+    x = _search_right(sorted_u, thr)  # first rank with ln u > threshold
     count = n - x
     ks = {c: _min_count(c, n) for c in levels}
     # rank of the k-th largest ln u among the samples below the ISCO, per column; only
