@@ -1,8 +1,9 @@
 """Benchmark: exclusion probability by sort-and-search against its floor and brute force.
 
 * fast path: :func:`ptaconstrain.analysis.probability.exclusion_probability` (sort the
-  per-sample ln u once, one ``np.searchsorted`` for every cell, exact above-ISCO
-  counts from one block table), samples given;
+  per-sample ln u once, a two-level binary search for every cell, exact above-ISCO
+  counts from a second, integer sort carrying each sample's ISCO grid count and one
+  block table), samples given;
 * floor, on the same input: ``np.sort`` of the N values of ln u plus the
   ``np.searchsorted`` of every cell's threshold -- the least any sort-and-search
   method does;

@@ -1,3 +1,5 @@
+from dataclasses import replace
+
 import numpy as np
 import pytest
 from astropy import units as u
@@ -7,6 +9,7 @@ from ptaconstrain.analysis import isco_counts as isco_module
 from ptaconstrain.analysis import probability as prob_module
 from ptaconstrain.analysis.isco_counts import IscoCounts
 from ptaconstrain.analysis.probability import exclusion_probability
+from ptaconstrain.analysis.sampling import sample_host
 from ptaconstrain.binary import waveform as wf
 from ptaconstrain.binary.host import Host
 
@@ -28,7 +31,7 @@ def direct_kth(f_grid, f_isco, rank, k):
     return np.array(out)
 
 
-@pytest.mark.parametrize("n", [1, 37, 64, 65, 500, 2049])
+@pytest.mark.parametrize("n", [1, 37, 64, 65, 256, 500, 512, 2049])
 def test_counts_and_kth_rank_equal_brute_force(n):
     rng = np.random.default_rng(n)
     f_grid = rng.permutation(np.geomspace(1e-9, 1e-6, 23))  # unsorted grid
@@ -37,7 +40,7 @@ def test_counts_and_kth_rank_equal_brute_force(n):
     order = rng.permutation(n)
     rank = np.empty(n, dtype=np.intp)
     rank[order] = np.arange(n)
-    c = IscoCounts(f_grid, f_isco, order)
+    c = IscoCounts(f_grid, f_isco, rank.astype(float))  # ln u values with these ranks
     x = np.arange(n + 1)
     cols = np.arange(f_grid.size)
     np.testing.assert_array_equal(
@@ -78,19 +81,29 @@ def test_grid_count_equals_searchsorted(grid):
     )
 
 
-def test_ascending_order_equals_argsort_exactly():
-    # reference: numpy's argsort; values that agree in all but the last bits, exact
-    # ties, signed zeros and both signs exercise the packed-key sort and its repair
+def test_buckets_in_value_order_equal_argsort_exactly():
+    # reference: numpy's argsort; values that agree in all but the last bits (runs
+    # of equal truncated keys with different buckets), exact ties, signed zeros and
+    # both signs exercise the packed-key sort and its repair
     rng = np.random.default_rng(3)
     v = rng.normal(size=5000)
     v[:1000] = 0.3 + np.arange(1000) * np.spacing(0.3)  # neighbours one ulp apart
     v[1000:1100] = -2.5
     v[1100:1110] = [0.0, -0.0] * 5
-    v = rng.permutation(v)
-    order, ordered = prob_module._ascending_order(v)
-    np.testing.assert_array_equal(ordered, np.sort(v))
-    np.testing.assert_array_equal(v[order], np.sort(v))
-    np.testing.assert_array_equal(np.sort(order), np.arange(v.size))
+    v[1110:1400] = -0.7 - np.arange(290) * np.spacing(0.7)
+    perm = rng.permutation(v.size)
+    v = v[perm]
+    buckets = rng.integers(0, 301, v.size)
+    out = np.empty(v.size, dtype=np.int32)
+    isco_module._buckets_in_value_order(v, buckets, out)
+    order = np.argsort(v, kind="stable")
+    # equal values may come in any order: compare the buckets within each run of equal values
+    sv = v[order]
+    run = np.r_[0, np.cumsum(sv[1:] != sv[:-1])]
+    key = run * 1000
+    np.testing.assert_array_equal(np.sort(key + out), np.sort(key + buckets[order]))
+    distinct = np.r_[sv[1:] != sv[:-1], True] & np.r_[True, sv[1:] != sv[:-1]]
+    np.testing.assert_array_equal(out[distinct], buckets[order][distinct])
 
 
 def brute_probability(r):
@@ -120,3 +133,141 @@ def test_probability_map_equals_brute_force_bit_for_bit(n):
     partial = (r.above_isco_fraction > 0) & (r.above_isco_fraction < 1)
     assert partial.sum() >= 3
     np.testing.assert_array_equal(r.probability, brute_probability(r))
+
+
+def suffix_counts(f_grid, f_isco, order):
+    """Brute force for every rank at once: above[j, x] = #{rank >= x above the ISCO in j}."""
+    above = f_grid[:, None] > f_isco[None, order]  # samples in rank order
+    out = np.zeros((f_grid.size, f_isco.size + 1), dtype=np.intp)
+    out[:, :-1] = np.cumsum(above[:, ::-1], axis=1)[:, ::-1]
+    return out
+
+
+def correlated_samples(n, rng):
+    """ln u rising with the mass and f_ISCO falling with it, as in a host's samples.
+
+    f_ISCO is proportional to 1 / M (Maggiore 2008, eq. 4.39) and ln u to (5/3) ln M
+    plus a distance scatter, so that G (the grid count of f_ISCO) falls, with
+    exceptions, as the ln u rank rises: whole blocks on one side of a column, and a
+    few straddling it, as in the probability map.
+    """
+    ln_m = rng.normal(0.0, 0.7, n)
+    scatter = np.where(rng.uniform(size=n) < 0.005, 1.0, 0.02)  # a few far outliers
+    values = 5.0 / 3.0 * ln_m + rng.normal(0.0, 1.0, n) * scatter
+    f_isco = 1e-7 * np.exp(-ln_m)
+    return values, f_isco
+
+
+def test_counts_decided_alone_and_by_block_equal_brute_force():
+    # every branch of `above`: ranks decided by the column's first/last rank alone,
+    # by a uniform block, and counted in a straddling block from its head or its
+    # tail; reference: the brute-force count over every sample
+    rng = np.random.default_rng(11)
+    n = 20000
+    values, f_isco = correlated_samples(n, rng)
+    f_grid = rng.permutation(np.geomspace(2e-8, 5e-7, 31))
+    c = IscoCounts(f_grid, f_isco, values)
+    order = np.argsort(values, kind="stable")
+    rank = np.empty(n, dtype=np.intp)
+    rank[order] = np.arange(n)
+    x = np.arange(n + 1)
+    cols = np.arange(f_grid.size)
+    expected = suffix_counts(f_grid, f_isco, order)
+    np.testing.assert_array_equal(c.above(cols[:, None], x[None, :]), expected)
+    # the cases were all met
+    rr = c._r[cols][:, None]
+    first, last = c._first[rr], c._last[rr]
+    alone = (x <= first) | (x > last)
+    blk = np.minimum(x // isco_module._BLOCK, c._n_blocks - 1)
+    uniform = (c._gmin[blk] > rr) | (c._gmax[blk] <= rr)
+    offset = x % isco_module._BLOCK
+    head = offset < isco_module._BLOCK // 2
+    assert alone.any() and (~alone & uniform).any()
+    assert (~alone & ~uniform & head).any() and (~alone & ~uniform & ~head).any()
+    for k in (1, 7, n // 3, n):
+        np.testing.assert_array_equal(
+            c.kth_largest_rank(cols, k), direct_kth(f_grid, f_isco, rank, k)
+        )
+
+
+@pytest.mark.parametrize("where", ["all below", "all above", "one sample", "equal values"])
+def test_counts_at_the_edges_equal_brute_force(where):
+    # all samples below the ISCO in every column (no count to remove), all above it
+    # (every rank removed), a single sample, and runs of equal ln u with different
+    # f_ISCO (ties: any order of equal values gives the same counts)
+    rng = np.random.default_rng(4)
+    f_grid = np.geomspace(1e-9, 1e-6, 17)
+    n = 1 if where == "one sample" else 700
+    values, f_isco = correlated_samples(n, rng)
+    if where == "all below":
+        f_isco = f_isco * 0 + 1e-5
+    elif where == "all above":
+        f_isco = f_isco * 0 + 1e-10
+    elif where == "equal values":
+        values = np.round(values, 1)  # ~40 distinct values, each shared by many samples
+    c = IscoCounts(f_grid, f_isco, values)
+    order = np.argsort(values, kind="stable")
+    rank = np.empty(n, dtype=np.intp)
+    rank[order] = np.arange(n)
+    sv = values[order]
+    # ranks a search of the sorted values can return (never inside a run of equal values)
+    x = np.unique(np.searchsorted(sv, np.r_[sv, -np.inf, np.inf], side="right"))
+    cols = np.arange(f_grid.size)
+    np.testing.assert_array_equal(
+        c.above(cols[:, None], x[None, :]), direct_counts(f_grid, f_isco, rank, x)
+    )
+    np.testing.assert_array_equal(c.n_above, (f_grid[:, None] > f_isco[None, :]).sum(axis=1))
+    for k in sorted({1, max(1, n // 2), n}):
+        got = c.kth_largest_rank(cols, k)
+        want = direct_kth(f_grid, f_isco, rank, k)
+        # a rank inside a run of equal values is as good as any other of that run
+        np.testing.assert_array_equal(got < 0, want < 0)
+        np.testing.assert_array_equal(sv[got[got >= 0]], sv[want[want >= 0]])
+
+
+def test_probability_map_with_repeated_samples_equals_brute_force_bit_for_bit():
+    # every sample drawn twice: equal ln u values (ties in the sort) with the same
+    # f_ISCO, plus the partly-above-ISCO columns of a wide mass error
+    host = Host("B", 3e10, 200, mass_err_dex=(0.2, 0.4), distance_err=20, mass_distance=190)
+    draws = sample_host(host, 400, seed=8)
+    twice = replace(
+        draws,
+        n=2 * draws.n,
+        mass=np.concatenate([draws.mass, draws.mass[::-1]]),
+        distance=np.concatenate([draws.distance, draws.distance[::-1]]),
+        strain_prefactor=np.concatenate([draws.strain_prefactor, draws.strain_prefactor[::-1]]),
+        isco_frequency=np.concatenate([draws.isco_frequency, draws.isco_frequency[::-1]]),
+    )
+    period = np.geomspace(0.05, 60, 45) * u.yr
+    r = exclusion_probability(host, power_law_limit(), Q, period, samples=twice)
+    assert ((r.above_isco_fraction > 0) & (r.above_isco_fraction < 1)).sum() >= 3
+    np.testing.assert_array_equal(r.probability, brute_probability(r))
+
+
+@pytest.mark.parametrize("n", [1, 2, 255, 256, 257, 5000])
+def test_two_level_search_equals_searchsorted(n):
+    # reference: numpy's searchsorted(side="right") on the same sorted values; keys on,
+    # one ulp beside, below and above the values, runs of equal values, signed
+    # zeros, infinities and NaN
+    rng = np.random.default_rng(n)
+    values = np.round(rng.normal(size=n), 2 if n > 300 else 8)  # runs of equal values
+    values[: min(n, 3)] = 0.0
+    values = np.sort(np.r_[values[:-1], -0.0][:n]) if n > 1 else np.sort(values)
+    keys = np.r_[
+        values,
+        np.nextafter(values, -np.inf),
+        np.nextafter(values, np.inf),
+        rng.normal(size=2000) * 3,
+        0.0,
+        -0.0,
+        np.inf,
+        -np.inf,
+        np.nan,
+    ]
+    np.testing.assert_array_equal(
+        prob_module._search_right(values, keys), np.searchsorted(values, keys, side="right")
+    )
+    grid = keys[:1800].reshape(30, 60)  # a 2-D map of thresholds keeps its shape
+    np.testing.assert_array_equal(
+        prob_module._search_right(values, grid), np.searchsorted(values, grid, side="right")
+    )
