@@ -101,8 +101,11 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
     own_figure = ax is None
     if own_figure:
         # Fixed margins (place_panels below): constrained layout doubles the drawing time.
+        # These are the final ones for a two-line title and a four-row legend; they are
+        # set first because contour labels are placed in screen space when drawn in.
         fig = Figure(figsize=(7.4, 5.8))
         ax = fig.subplots()
+        fig.subplots_adjust(left=0.11, right=0.87, bottom=0.23, top=0.85)
     else:
         fig = ax.figure
     codes = sorted(REGION_STYLE)
@@ -441,10 +444,11 @@ def place_panels(fig, axes, suptitle=False):
         if legend is not None:
             rows = max(rows, -(-len(legend.texts) // legend._ncols))
         lines = max(lines, ax.get_title().count("\n") + 1)
-    below = _BELOW + max(0, rows - 4) * _ROW
-    above = _ABOVE + max(0, lines - 2) * _LINE + (_SUPTITLE if suptitle else 0.0)
+    more_below = max(0, rows - 4) * _ROW
+    more_above = max(0, lines - 2) * _LINE + (_SUPTITLE if suptitle else 0.0)
+    below, above = _BELOW + more_below, _ABOVE + more_above
     width = fig.get_figwidth()
-    height = below + _AXES_HEIGHT + above
+    height = 5.8 + more_below + more_above  # = below + _AXES_HEIGHT + above
     fig.set_figheight(height)
     n = len(axes)
     if n == 1:
