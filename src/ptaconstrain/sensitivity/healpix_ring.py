@@ -86,8 +86,8 @@ def ring_vectors(nside, pix):
     pole) has z = +-(1 - i^2 / (3 nside^2)) and 4 i pixels at
     phi = (j - 1/2) pi / (2 i); in the equatorial belt ring i has
     z = 4/3 - 2 i / (3 nside) and 4 nside pixels, shifted by half a pixel on
-    alternate rings.  Near the poles (|z| > 0.99) sin(theta) is taken from
-    1 - |z| directly, as the HEALPix library does.
+    alternate rings.  Near the poles (``abs(z) > 0.99``) sin(theta) is taken from
+    ``1 - abs(z)`` directly, as the HEALPix library does.
 
     Parameters
     ----------
@@ -155,7 +155,7 @@ def ring_pixel(nside, lon, lat):
     """RING pixel containing each direction (longitude, latitude in degrees).
 
     The inverse of :func:`ring_vectors`'s tiling (Górski et al. 2005, section 4):
-    in the belt (|z| <= 2/3) the pixel follows from the two families of edge
+    in the belt (``abs(z) <= 2/3``) the pixel follows from the two families of edge
     lines through the point, in the caps from the ring of the nearer pole.
 
     Parameters
