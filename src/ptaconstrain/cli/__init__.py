@@ -90,7 +90,7 @@ def no_cycle_collection():
 
     A command such as ``demo`` or ``exclude`` for one host imports astropy,
     matplotlib and scipy, whose long-lived objects every full collection walks
-    again: about 0.4 s of the demo's CPU and 0.1 s of an ``exclude`` (measured
+    again: 0.15-0.4 s of the demo's CPU and about 0.1 s of an ``exclude`` (measured
     with benchmarks/bench_commands.py).  Reference counting still frees almost
     everything at once; the few cycles the command leaves (figures) wait for the
     collector, which is switched back on afterwards (in a command-line run the
