@@ -56,21 +56,6 @@ def test_a_circular_exclusion_loads_no_scipy():
     assert "astropy" in loaded and "scipy" not in loaded
 
 
-def test_an_array_sky_map_is_written_and_drawn_without_healpy(tmp_path):
-    # healpy's import (which brings matplotlib.pyplot) costs ~0.3 s of CPU; the RING
-    # pixels of the demo's sky map come from sensitivity.healpix_ring instead
-    loaded = _loaded_after(
-        "import warnings\n"
-        "warnings.simplefilter('ignore')\n"
-        "from ptaconstrain import Host\n"
-        "from ptaconstrain.demo import array_part\n"
-        f"array_part({str(tmp_path)!r}, [Host('Lean', 2e10, 100, ra=150, dec=20)])"
-    )
-    assert "matplotlib" in loaded and "healpy" not in loaded
-    assert (tmp_path / "demo_array_h0_map.fits").is_file()
-    assert (tmp_path / "demo_array_h0_map.png").is_file()
-
-
 def test_the_demo_module_needs_no_click():
     assert _loaded_after("import ptaconstrain.demo; assert 'click' not in sys.modules") == "[]"
 

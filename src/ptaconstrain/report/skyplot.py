@@ -5,9 +5,7 @@ seen from inside, the astronomical convention) with 0h at the right edge and
 12h in the centre.  The map is drawn on matplotlib's Mollweide axes as one
 image: each image pixel is mapped back to the sky with the inverse Mollweide
 projection (Snyder 1987, Map Projections: A Working Manual, USGS PP 1395,
-p. 252) and given its HEALPix pixel's value (the RING pixel from
-:func:`ptaconstrain.sensitivity.healpix_ring.ring_pixel`, healpy's own numbers
-without healpy's import; ``healpy.ang2pix`` for NESTED maps), which is
+p. 252) and given its HEALPix pixel's value (``healpy.ang2pix``), which is
 much cheaper to draw than a mesh of sky cells; the colours use a
 logarithmic, perceptually uniform and colour-blind-safe colour map
 (cividis, Nunez et al. 2018, PLoS ONE 13, e0199239); pulsars are white dots,
@@ -20,7 +18,6 @@ or ``fig.savefig``.
 
 import numpy as np
 
-from ..sensitivity.healpix_ring import nside_of, ring_pixel
 from .style import unicode_log_ticks
 
 __all__ = ["sky_map_figure", "threshold_label", "nhz_text"]
@@ -79,6 +76,7 @@ def sky_map_figure(
     -------
     matplotlib.figure.Figure
     """
+    import healpy as hp
     import matplotlib.patheffects as pe
     from matplotlib.cm import ScalarMappable
     from matplotlib.colors import LogNorm
@@ -86,7 +84,7 @@ def sky_map_figure(
     from matplotlib.image import AxesImage
 
     values = np.asarray(values, float)
-    nside = nside_of(values.size)
+    nside = hp.npix2nside(values.size)
     grid = np.ma.masked_invalid(_mollweide_raster(values, nside, nest))
 
     fig = Figure(figsize=(9.0, 5.4))
@@ -179,6 +177,8 @@ def _mollweide_raster(values, nside, nest, width=_RASTER_WIDTH):
     longitude = pi x / (2 sqrt2 cos theta).  Longitude is 180 deg - RA (RA
     increasing to the left).  Pixels outside the ellipse are NaN.
     """
+    import healpy as hp
+
     height = width // 2
     r2 = np.sqrt(2.0)
     x = ((np.arange(width) + 0.5) / width * 2.0 - 1.0) * 2.0 * r2
@@ -188,11 +188,5 @@ def _mollweide_raster(values, nside, nest, width=_RASTER_WIDTH):
     lon = np.pi * x[None, :] / (2.0 * r2 * np.cos(theta)[:, None])
     inside = np.abs(lon) <= np.pi
     ra = np.mod(180.0 - np.degrees(np.where(inside, lon, 0.0)), 360.0)
-    lat = np.broadcast_to(lat[:, None], ra.shape)
-    if nest:
-        import healpy as hp
-
-        pix = hp.ang2pix(nside, ra, lat, lonlat=True, nest=True)
-    else:  # RING (the package's own maps): healpy's pixels without importing healpy
-        pix = ring_pixel(nside, ra, lat)
+    pix = hp.ang2pix(nside, ra, np.broadcast_to(lat[:, None], ra.shape), lonlat=True, nest=nest)
     return np.where(inside, values[pix], np.nan)

@@ -13,7 +13,6 @@ positional    the :class:`PositionalSensitivity` protocol, :class:`HealpixThresh
 pulsar_array  :class:`PulsarArray`: S/N, curves and sky maps of a list of pulsars
 pulsar_list   the pulsar-list file format (:func:`load_array`)
 limit_map     HEALPix maps: :class:`LimitMap` (upper limits), threshold maps written
-healpix_ring  HEALPix RING pixel centres and pixels of directions, without healpy's import
 """
 
 # Submodules import only downward (curve <- antenna, timing, positional <- pulsar_array
@@ -42,7 +41,6 @@ from .curve import (
     noise_psd_for_threshold,
     save_curve,
 )
-from .healpix_ring import nside_of, pixel_count, ring_pixel, ring_vectors
 from .limit_map import LimitMap, LimitMapError, load_limit_map, write_threshold_maps
 from .positional import HealpixThresholds, PositionalSensitivity, check_nside
 from .pulsar_array import MAP_BLOCK_BYTES, PARALLEL_MIN_PULSARS, ArrayError, PulsarArray
@@ -75,10 +73,6 @@ __all__ = [
     "PositionalSensitivity",
     "HealpixThresholds",
     "check_nside",
-    "pixel_count",
-    "nside_of",
-    "ring_vectors",
-    "ring_pixel",
     "PulsarArray",
     "PARALLEL_MIN_PULSARS",
     "MAP_BLOCK_BYTES",

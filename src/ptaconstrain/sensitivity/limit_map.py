@@ -147,9 +147,8 @@ def write_threshold_maps(
 
 def _healpix_table_header(names, npix, extra_header):
     """The BinTableHDU header healpy.write_map (fits_IDL=True, RING, 'C') writes."""
+    import healpy as hp
     from astropy.io import fits
-
-    from .healpix_ring import nside_of
 
     per_row = 1024 if npix > 1024 else 1
     fmt = "1024D" if per_row > 1 else "D"
@@ -160,7 +159,7 @@ def _healpix_table_header(names, npix, extra_header):
     hdr["ORDERING"] = ("RING", "Pixel ordering scheme, either RING or NESTED")
     hdr["COORDSYS"] = ("C", "Ecliptic, Galactic or Celestial (equatorial)")
     hdr["EXTNAME"] = ("xtension", "name of this binary table extension")
-    hdr["NSIDE"] = (nside_of(npix), "Resolution parameter of HEALPIX")
+    hdr["NSIDE"] = (hp.npix2nside(npix), "Resolution parameter of HEALPIX")
     hdr["FIRSTPIX"] = (0, "First pixel # (0 based)")
     hdr["LASTPIX"] = (npix - 1, "Last pixel # (0 based)")
     hdr["INDXSCHM"] = ("IMPLICIT", "Indexing: IMPLICIT or EXPLICIT")

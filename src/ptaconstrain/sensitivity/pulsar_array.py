@@ -28,7 +28,6 @@ from .._inputs import check_field, check_memory, quantity
 from ..errors import InputError
 from . import antenna
 from .curve import StrainCurve, noise_psd_for_threshold
-from .healpix_ring import pixel_count, ring_vectors
 from .positional import HealpixThresholds, check_nside
 from .timing import (
     N_TIMING_PARAMETERS,
@@ -576,6 +575,8 @@ class PulsarArray:
             By pixel: the pixel range and h0 (n_f, n_pixels); by frequency: the
             frequency range and h0 (n_block, 12 nside^2).
         """
+        import healpy as hp
+
         nside = check_nside(nside)
         snr = _check_snr(snr)
         f = _check_frequency(frequencies)
@@ -587,7 +588,7 @@ class PulsarArray:
         # rho^2 per unit h0^2 = pattern @ (0.4 w / (2 pi f)^2 [x 2 with pulsar term])
         scale = antenna.orientation_averaged_snr_squared(1.0, f, w, np.eye(len(self)), term)
         scale_t = np.ascontiguousarray(scale.T)  # (n_f, n_p)
-        npix = pixel_count(nside)
+        npix = hp.nside2npix(nside)
         if by == "pixel":
             if pixels is None:  # block and pattern chunk together within block_bytes
                 pixels = max(1, block_bytes // (8 * (f.size + len(self)) * 1024)) * 1024
@@ -650,7 +651,9 @@ def _h0_block(scale_t, vectors, nside, pix, snr):
     ``_ROW_TILE`` (the last one zero-padded); blocks of frequencies start on a
     tile boundary, hence every value is bit for bit that of the whole map.
     """
-    vec = np.stack(ring_vectors(nside, np.arange(pix.start, pix.stop)), axis=1)
+    import healpy as hp
+
+    vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=1)
     pattern_t = antenna.pattern_power_grid(vectors, vec).T  # (n_p, n_pix)
     n = scale_t.shape[0]
     out = np.empty((n, pattern_t.shape[1]))
@@ -666,14 +669,18 @@ def _h0_block(scale_t, vectors, nside, pix, snr):
 
 
 def _pixel_blocks(scale_t, vectors, nside, snr, pixels):
-    npix = pixel_count(nside)
+    import healpy as hp
+
+    npix = hp.nside2npix(nside)
     for lo in range(0, npix, pixels):
         pix = slice(lo, min(lo + pixels, npix))
         yield pix, _h0_block(scale_t, vectors, nside, pix, snr)
 
 
 def _frequency_blocks(scale_t, vectors, nside, snr, per, pixels):
-    npix = pixel_count(nside)
+    import healpy as hp
+
+    npix = hp.nside2npix(nside)
     n_f = scale_t.shape[0]
     for flo in range(0, n_f, per):
         fs = slice(flo, min(flo + per, n_f))
