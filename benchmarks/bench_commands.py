@@ -14,12 +14,22 @@ much less sensitive to the machine's load than wall time, which is printed as
 well (the demo's wall time is below its CPU time when the figures are drawn in
 parallel).
 
+The package is timed as installed: each source tree is copied to a temporary
+directory and compiled to bytecode there (``compileall``, as ``pip install``
+does), so that no process compiles the package's modules from source, which a
+checkout run with ``PYTHONDONTWRITEBYTECODE=1`` (as on the CI machines) does
+every time while the floor's libraries come compiled; ``--source`` times the
+source trees as they are instead.
+
 Run from the repository root:  python benchmarks/bench_commands.py [--repeat N]
-[--compare OTHER/src] (the latter times an older tree's commands in the same run).
+[--compare OTHER/src] [--source] (``--compare`` times an older tree's commands
+in the same run).
 """
 
 import argparse
+import compileall
 import os
+import shutil
 import sys
 import tempfile
 from pathlib import Path
@@ -39,15 +49,29 @@ def main():
         help="also time the commands of another source tree (e.g. an older "
         "checkout's src/), in the same interleaved rounds",
     )
+    parser.add_argument(
+        "--source",
+        action="store_true",
+        help="time the source trees as they are (modules compiled by each process "
+        "when bytecode is not written) instead of bytecode-compiled copies",
+    )
     args = parser.parse_args()
     py = sys.executable
     cli = [py, "-m", "ptaconstrain.cli"]
     curve = str(ROOT / "src" / "ptaconstrain" / "data" / "synthetic_h0_limit.ecsv")
-    print(f"bench_commands: {machine_line()}; best of {args.repeat} runs each")
     trees = {"": ROOT / "src"}
     if args.compare:
         trees[" (compared)"] = Path(args.compare).resolve()
     with tempfile.TemporaryDirectory() as tmp:
+        if not args.source:
+            trees = {
+                tag: _installed_copy(src, Path(tmp) / f"tree{i}")
+                for i, (tag, src) in enumerate(trees.items())
+            }
+        how = (
+            "source trees as they are" if args.source else "bytecode-compiled copies (as installed)"
+        )
+        print(f"bench_commands: {machine_line()}; best of {args.repeat} runs each; {how}")
         commands = {
             "import floor": (
                 [py, "-c", "import numpy, astropy.table, matplotlib.figure"],
@@ -100,6 +124,18 @@ def main():
             "" if target is None else (f"<= {target:g}: {'met' if ratio <= target else 'NOT met'}")
         )
         print(f"{name:<29} {wall:8.2f} {cpu:8.2f} {ratio:12.2f}  {verdict}")
+
+
+def _installed_copy(src, dest):
+    """``src``/ptaconstrain copied into ``dest`` and compiled to bytecode; returns ``dest``."""
+    shutil.copytree(
+        Path(src) / "ptaconstrain",
+        dest / "ptaconstrain",
+        ignore=shutil.ignore_patterns("__pycache__"),
+    )
+    if not compileall.compile_dir(dest / "ptaconstrain", quiet=1):
+        raise SystemExit(f"bench_commands: {src} does not compile")
+    return dest
 
 
 if __name__ == "__main__":

@@ -127,9 +127,14 @@ def _demo_outputs(out, overwrite, progress):
     lines += _probability_outputs(hosts[0], limit, limit_path, out, overwrite, figures)
     lines += array_part(out, hosts, overwrite, progress, figures)
     lines += ranking_part(out, limit, overwrite)
-    lines += _array_exclusions(out, hosts, overwrite, figures)
-    lines += _eccentric_outputs(hosts[0], limit, limit_path, out, overwrite, figures)
-    lines += _background_outputs(hosts, out, overwrite, figures)
+    # maps computed once: the eccentric and background figures reuse the circular
+    # limit map of the first host and the array forecasts at the hosts' positions
+    text, at_host = _array_exclusions(out, hosts, overwrite, figures)
+    lines += text
+    lines += _eccentric_outputs(
+        hosts[0], limit, limit_path, out, overwrite, figures, circular=results[0][0]
+    )
+    lines += _background_outputs(hosts, out, overwrite, figures, quiet=at_host)
     draw_in_parallel(figures)
     return lines
 
@@ -308,7 +313,8 @@ def _array_exclusions(out, hosts, overwrite, figures):
     """Forecasts from the demo pulsar array at each host's position vs the sky average.
 
     Every host gets its table; the first host with a sky position gets a figure
-    (the overview figure compares all hosts).
+    (the overview figure compares all hosts).  Returns the summary lines and the
+    maps at the hosts' positions (in the order of ``hosts``).
     """
     import numpy as np
 
@@ -371,15 +377,19 @@ def _array_exclusions(out, hosts, overwrite, figures):
         )
     )
     lines.append(f"  figure {out / 'demo_array_overview.png'}")
-    return lines
+    return lines, at_host
 
 
-def _eccentric_outputs(host, limit, limit_path, out, overwrite, figures, e=0.5):
-    """One host at eccentricity ``e`` beside the circular orbit, against the limit."""
+def _eccentric_outputs(host, limit, limit_path, out, overwrite, figures, e=0.5, circular=None):
+    """One host at eccentricity ``e`` beside the circular orbit, against the limit.
+
+    ``circular``: the host's circular map against ``limit``, if already computed.
+    """
     from .analysis.exclusion import exclusion_map
     from .report.provenance import provenance, safe_name
 
-    circular = exclusion_map(host, limit)
+    if circular is None:
+        circular = exclusion_map(host, limit)
     eccentric = exclusion_map(host, limit, eccentricity=e)
     stem = out / f"{safe_name(host.name)}_eccentric"
     meta = provenance({**host.describe(), "eccentricity": f"{e:g}"}, files={"curve": limit_path})
@@ -397,17 +407,21 @@ def _eccentric_outputs(host, limit, limit_path, out, overwrite, figures, e=0.5):
     )
 
 
-def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15):
-    """The demo array's forecast for one host, on a quiet sky and with the background."""
+def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15, quiet=None):
+    """The demo array's forecast for one host, on a quiet sky and with the background.
+
+    ``quiet``: the array's maps at each of ``hosts`` (no background), if already computed.
+    """
     from .analysis.exclusion import exclusion_map
     from .report.provenance import provenance, safe_name
     from .sensitivity.background import Background
 
-    host = next((h for h in hosts if h.coord is not None), hosts[0])
+    i = next((i for i, h in enumerate(hosts) if h.coord is not None), 0)
+    host = hosts[i]
     arr = demo_array()
     background = Background(amplitude)
     maps = (
-        exclusion_map(host, arr, warn=False),
+        exclusion_map(host, arr, warn=False) if quiet is None else quiet[i],
         exclusion_map(host, arr.with_background(background), warn=False),
     )
     stem = out / f"{safe_name(host.name)}_array_forecast_background"

@@ -82,3 +82,22 @@ def test_draw_in_parallel_runs_every_job(tmp_path):
     assert [p.read_text() for p in paths] == [p.name for p in paths]
     with pytest.raises(ZeroDivisionError):  # a failing job is not lost in a worker
         draw_in_parallel([lambda: None, lambda: 1 / 0])
+
+
+def test_the_demo_command_pauses_the_cycle_collector_and_restores_it(tmp_path, monkeypatch):
+    # a bounded command: Python's cyclic collector would walk the imported heap again
+    # and again (cli.no_cycle_collection); it is on again afterwards
+    import gc
+
+    import ptaconstrain.demo
+
+    seen = []
+
+    def fake_run_demo(out, overwrite=False, progress=None):
+        seen.append(gc.isenabled())
+        return ["ran"]
+
+    monkeypatch.setattr(ptaconstrain.demo, "run_demo", fake_run_demo)
+    r = CliRunner().invoke(main, ["demo", "--out", str(tmp_path / "d")])
+    assert r.exit_code == 0 and r.stdout == "ran\n"
+    assert seen == [False] and gc.isenabled()

@@ -317,3 +317,30 @@ def test_names_differing_only_in_unsafe_characters_keep_distinct_files(tmp_path,
         r = run(args + ["--format", "png"])
         assert r.exit_code == 0, r.output
     assert len(list(out.glob("*_exclusion.ecsv"))) == 2
+
+
+def test_one_host_runs_with_the_cycle_collector_paused_and_restored(tmp_path, monkeypatch):
+    # bounded commands pause Python's cyclic collector (cli.no_cycle_collection) and
+    # switch it back on; a run over many hosts keeps it
+    import gc
+
+    import ptaconstrain.cli.batch as batch
+    import ptaconstrain.cli.exclude as exclude
+
+    seen = []
+
+    def record(name):
+        def fake(*args, **kwargs):
+            seen.append((name, gc.isenabled()))
+            return []
+
+        return fake
+
+    monkeypatch.setattr(exclude, "run_exclusion", record("one"))
+    monkeypatch.setattr(batch, "run_batch", record("many"))
+    assert gc.isenabled()
+    one = ["exclude", "--mass", "2e10", "--distance", "100", "--curve", "synthetic_h0_limit"]
+    assert CliRunner().invoke(main, [*one, "--out", str(tmp_path / "a")]).exit_code == 0
+    many = ["exclude", "--hosts", "example_hosts", "--curve", "synthetic_h0_limit"]
+    assert CliRunner().invoke(main, [*many, "--out", str(tmp_path / "b")]).exit_code == 0
+    assert seen == [("one", False), ("many", True)] and gc.isenabled()

@@ -140,3 +140,52 @@ def test_a_huge_ranking_sky_map_draws_a_bounded_even_sample(monkeypatch):
     assert drawn == 100 + len(range(100, n, 28))
     assert "one in 28 of the rest" in fig.axes[0].get_title()
     assert str(n) in fig.axes[0].get_title()
+
+
+def _overrun(fig):
+    """Inches by which any axes (ticks, labels, title, legend) or figure text overruns
+    the figure's edges once drawn (negative: the smallest margin left)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    canvas = FigureCanvasAgg(fig)
+    canvas.draw()
+    renderer = canvas.get_renderer()
+    boxes = [ax.get_tightbbox(renderer) for ax in fig.axes]
+    boxes += [t.get_window_extent(renderer) for t in fig.texts if t.get_text()]
+    width, height = canvas.get_width_height()
+    return max(max(-b.x0, -b.y0, b.x1 - width, b.y1 - height) for b in boxes) / fig.dpi
+
+
+def test_fixed_layouts_keep_every_text_inside_the_figure():
+    # the layouts are fixed (no layout engine): a three-line title (an eccentric orbit's
+    # statement) grows the figure instead of being cut off, alone and side by side, and
+    # the two panels' labels do not run into each other
+    from curves_for_tests import bucket_limit
+
+    from ptaconstrain.report.comparison import comparison_figure
+
+    host = Host("Figure host", 2e10, 80)
+    q = np.geomspace(1e-4, 1, 30)
+    circular = exclusion_map(host, bucket_limit(), q)
+    eccentric = exclusion_map(host, bucket_limit(), q, eccentricity=0.5)
+    single = exclusion_figure(eccentric)
+    assert single.axes[0].get_title().count("\n") == 2
+    assert -0.3 < _overrun(single) < 0
+    pair = comparison_figure(circular, eccentric, "left circular, right eccentric")
+    assert -0.3 < _overrun(pair) < 0
+    left, right = (ax.get_tightbbox() for ax in pair.axes if ax.get_title())
+    assert left.x1 < right.x0
+
+
+@pytest.mark.parametrize("scale", [1e-5, 3e-3, 1.0, 2e4])
+def test_cumulative_ranking_figure_fits_labels_of_any_width(scale):
+    # its margins come from the widest y tick label, measured once (no tight_layout)
+    from astropy.table import Table
+
+    from ptaconstrain.report.rankplots import cumulative_figure
+
+    n = np.geomspace(1.0, 1e-3, 300) * scale
+    table = Table({"rank": np.arange(1, 301), "expected_number": n})
+    for rate in (None, "1e-10 / yr"):
+        fig = cumulative_figure(table, "excluded", "95% upper limit", top=20, rate=rate)
+        assert -0.3 < _overrun(fig) < 0

@@ -17,7 +17,6 @@ harmonic n lies at the GW frequency n f_orb = (n / 2) f.
 import numpy as np
 from astropy import constants as const
 from astropy import units as u
-from scipy import special
 
 from .._inputs import check_eccentricity
 from . import waveform as wf
@@ -67,6 +66,8 @@ def harmonic_power(n, eccentricity):
     >>> float(harmonic_power(2, 0.0))
     1.0
     """
+    from scipy import special  # here, not at import: ~0.15 s that circular orbits never need
+
     n = np.asarray(n, dtype=float)
     e = np.asarray(eccentricity, dtype=float)
     x = n * e
@@ -159,6 +160,8 @@ def harmonic_numbers(eccentricity, fraction=POWER_FRACTION):
     15
     """
     e = check_eccentricity(eccentricity)
+    if e == 0.0:  # J_m(0) = 0 for m != 0: g(n, 0) is 1 at n = 2 and 0 elsewhere
+        return np.array([2])
     target = fraction * float(enhancement_factor(e))
     # the peak harmonic is ~2 (1 + e)^1.1954 / (1 - e^2)^1.5 (Wen 2003, eq. 37, from
     # memory); 8 times it (at least 16) holds 99.9 % below e = 0.95, and the loop

@@ -2,7 +2,7 @@
 
 import click
 
-from . import main
+from . import main, no_cycle_collection
 from .params import max_memory_option
 
 __all__ = ["demo"]
@@ -32,7 +32,8 @@ def demo(out, overwrite):
 
     bars = _ProgressBars()
     try:
-        lines = run_demo(out, overwrite=overwrite, progress=bars)
+        with no_cycle_collection():
+            lines = run_demo(out, overwrite=overwrite, progress=bars)
     finally:
         bars.close()
     for line in lines:

@@ -2,7 +2,7 @@
 
 import click
 
-from . import main
+from . import main, no_cycle_collection
 from .notes import explicit_options, note_assumed_span, note_ignored_options
 from .params import (
     ARRAY_FILE,
@@ -335,7 +335,8 @@ def exclude(**opts):
                 "--table-format latex writes the summary table of "
                 "--hosts; a single host's table is ECSV"
             )
-        lines = run_exclusion(**opts, explicit=explicit_options())
+        with no_cycle_collection():
+            lines = run_exclusion(**opts, explicit=explicit_options())
     for line in lines:
         click.echo(line)
 

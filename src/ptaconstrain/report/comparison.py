@@ -34,11 +34,14 @@ def comparison_figure(left, right, title):
     """
     from matplotlib.figure import Figure
 
-    from .figures import exclusion_figure
+    from .figures import exclusion_figure, place_panels
 
-    fig = Figure(figsize=(13.0, 6.4), layout="constrained")
+    # fixed positions from counted title lines and legend rows: a layout engine
+    # (constrained layout) would measure every text once more before drawing
+    fig = Figure(figsize=(13.0, 6.4))
     axes = fig.subplots(1, 2)
     for ax, result in zip(axes, (left, right), strict=True):
         exclusion_figure(result, ax=ax)
-    fig.suptitle(title, fontsize=11)
+    place_panels(fig, axes, suptitle=True)
+    fig.suptitle(title, fontsize=11, y=1 - 0.1 / fig.get_figheight(), va="top")
     return fig

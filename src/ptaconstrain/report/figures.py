@@ -19,6 +19,7 @@ __all__ = [
     "unify_symbols",
     "SYMBOLS",
     "shows_in",
+    "place_panels",
 ]
 
 # code: (label for limits, label for forecasts, colour, hatch)
@@ -99,9 +100,11 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
 
     own_figure = ax is None
     if own_figure:
+        # Fixed margins (place_panels below): constrained layout doubles the drawing time.
+        # These are the final ones for a two-line title and a four-row legend; they are
+        # set first because contour labels are placed in screen space when drawn in.
         fig = Figure(figsize=(7.4, 5.8))
         ax = fig.subplots()
-        # Fixed margins: constrained layout doubles the drawing time.
         fig.subplots_adjust(left=0.11, right=0.87, bottom=0.23, top=0.85)
     else:
         fig = ax.figure
@@ -234,8 +237,6 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
         fontsize=8,
         frameon=False,
     )
-    if own_figure:
-        _fit_legend_rows(fig, (len(entries) + 1) // 2)
     kind = figure_statement(result)
     if prob_map is not None:
         fig.text(
@@ -257,6 +258,8 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
         y=1.0,
         pad=_TITLE_PAD,
     )
+    if own_figure:
+        place_panels(fig, [ax])
     return fig
 
 
@@ -390,15 +393,77 @@ def _draw_regions(ax, pe, qe, region, cmap, norm):
     ax.add_image(image)
 
 
-def _fit_legend_rows(fig, rows, base_rows=4, row_height=0.17):
-    """Grow the figure downwards so a legend of ``rows`` rows below the axes fits."""
-    extra = max(0, rows - base_rows) * row_height
-    if extra == 0:
-        return
-    h0 = fig.get_figheight()
-    h = h0 + extra
-    fig.set_figheight(h)
-    fig.subplots_adjust(bottom=(0.23 * h0 + extra) / h, top=1 - 0.15 * h0 / h)
+# The fixed layout of an exclusion panel, in inches, measured once from the figure at
+# its default size (7.4 x 5.8 in): the axes are 3.6 in high; below them the period axis
+# and a legend of up to four rows take 1.33 in, each further row 0.17 in (8 pt text);
+# above them the frequency axis (_TITLE_PAD) and a title of up to two lines take
+# 0.87 in, each further line 1/6 in (10 pt text, matplotlib's line spacing 1.2).  The
+# tick labels and the axis labels beside the axes take 0.61 in on the left and 0.60 in
+# on the right.
+_AXES_HEIGHT = 0.62 * 5.8
+_BELOW, _ABOVE = 0.23 * 5.8, 0.15 * 5.8
+_LEFT, _RIGHT = 0.11 * 7.4, 0.13 * 7.4
+_ROW, _LINE = 0.17, 10 * 1.2 / 72
+_BESIDE = 0.61 + 0.60 + 0.15  # between two panels: both sides' labels and a gap
+_SUPTITLE = 0.36  # a one-line figure title at 11 pt above the panels' titles
+
+
+def place_panels(fig, axes, suptitle=False):
+    """Fixed positions for exclusion panels side by side, from counted lines and rows.
+
+    The figure keeps its width and gets the height its panels need: the legend rows
+    below and the title lines above are counted (no text is measured, no layout
+    engine runs), so the single figure is laid out in one drawing pass.  A figure
+    title (``fig.suptitle``), if ``suptitle``, is placed above the panels.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+    axes : sequence of matplotlib Axes
+        Panels drawn by :func:`exclusion_figure`, left to right.
+    suptitle : bool
+        Leave room at the top for the figure's title.
+
+    Returns
+    -------
+    None
+        ``fig`` is resized and its axes are placed.
+
+    Examples
+    --------
+    >>> from matplotlib.figure import Figure
+    >>> fig = Figure(figsize=(13.0, 6.0))
+    >>> axes = fig.subplots(1, 2)
+    >>> place_panels(fig, axes)
+    >>> [round(float(v), 3) for v in fig.get_size_inches()]   # empty panels: base height
+    [13.0, 5.8]
+    """
+    rows = lines = 0
+    for ax in axes:
+        legend = ax.get_legend()
+        if legend is not None:
+            rows = max(rows, -(-len(legend.texts) // legend._ncols))
+        lines = max(lines, ax.get_title().count("\n") + 1)
+    more_below = max(0, rows - 4) * _ROW
+    more_above = max(0, lines - 2) * _LINE + (_SUPTITLE if suptitle else 0.0)
+    below, above = _BELOW + more_below, _ABOVE + more_above
+    width = fig.get_figwidth()
+    height = 5.8 + more_below + more_above  # = below + _AXES_HEIGHT + above
+    fig.set_figheight(height)
+    n = len(axes)
+    if n == 1:
+        left, right, gap = _LEFT, _RIGHT, 0.0
+    else:  # the margins the labels need, shared out: panels as wide as the figure allows
+        left = right = 0.61 + 0.1
+        gap = _BESIDE
+    panel = (width - left - right - (n - 1) * gap) / n
+    fig.subplots_adjust(
+        left=left / width,
+        right=1 - right / width,
+        bottom=below / height,
+        top=1 - above / height,
+        wspace=gap / panel if n > 1 else None,
+    )
 
 
 def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
@@ -465,13 +530,27 @@ def unify_symbols(fig):
     """Write ≥ and ≤ in every text of ``fig`` (titles, labels, legends, annotations).
 
     Labels come from several places (curve labels use ASCII ``>=``); a figure
-    shows one form only.  Mathtext (``$...$``) is left alone.
+    shows one form only.  Mathtext (``$...$``) is left alone.  Tick labels are
+    not visited: their formatters write them afresh at every drawing, and
+    visiting them would make the axes build their tick objects early.
     """
-    from matplotlib.text import Text
-
-    for text in fig.findobj(Text):
+    for text in _texts(fig):
         s = text.get_text()
         if s and "$" not in s and any(k in s for k in SYMBOLS):
             for ascii_sign, symbol in SYMBOLS.items():
                 s = s.replace(ascii_sign, symbol)
             text.set_text(s)
+
+
+def _texts(artist):
+    """The Text artists at and below ``artist``; of an Axis only its label and offset."""
+    from matplotlib.axis import Axis
+    from matplotlib.text import Text
+
+    if isinstance(artist, Text):
+        yield artist
+    children = (
+        (artist.label, artist.offsetText) if isinstance(artist, Axis) else artist.get_children()
+    )
+    for child in children:
+        yield from _texts(child)

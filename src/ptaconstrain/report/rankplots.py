@@ -237,8 +237,37 @@ def cumulative_figure(table, verb, label="", top=20, rate=None, ax=None, n_total
     ax.set_title(f"Expected {verb} binaries by rank - {label}{rate_txt}", fontsize=9, y=1.0)
     ax.grid(True, which="both", color="0.9")
     if own:
-        fig.tight_layout()
+        _fixed_margins(fig, ax, title_lines=2 if rate_txt else 1)
     return fig
+
+
+def _fixed_margins(fig, ax, title_lines):
+    """Margins for the y tick labels, two-line y label and the title: no layout pass.
+
+    The widest y tick label is measured once from the font (the labels are
+    numbers whose width varies with the data); the rest is fixed in points:
+    from the figure edge the two-line y label, the label and tick pads and the
+    tick length take 46.4 pt; below the axes the x label and the log tick labels
+    42 pt; above them the offset text and a title line of 9 pt each 10.8 pt.
+    """
+    import matplotlib as mpl
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.textpath import text_to_path
+
+    axis = ax.yaxis
+    labels = axis.get_major_formatter().format_ticks(axis.get_major_locator()())
+    prop = FontProperties(size=mpl.rcParams["ytick.labelsize"])
+    widest = max(
+        (text_to_path.get_text_width_height_descent(s, prop, ismath=False)[0] for s in labels),
+        default=0.0,
+    )
+    width, height = fig.get_size_inches() * 72.0  # points
+    fig.subplots_adjust(
+        left=(widest + 46.4) / width,
+        right=1.0 - 10.8 / width,
+        bottom=42.0 / height,
+        top=1.0 - (15.8 + 10.8 * title_lines) / height,
+    )
 
 
 def ranking_figures(ranking, out_dir, formats=("png",), top=20, overwrite=False):
