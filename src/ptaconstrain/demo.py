@@ -394,13 +394,10 @@ def _eccentric_outputs(host, limit, limit_path, out, overwrite, figures, e=0.5, 
     stem = out / f"{safe_name(host.name)}_eccentric"
     meta = provenance({**host.describe(), "eccentricity": f"{e:g}"}, files={"curve": limit_path})
     meta["demo"] = "INVENTED data: fictional host, synthetic curve"
-    title = (
-        f"{host.name} (INVENTED): circular orbits (left) and e = {e:g} (right), "
-        "same 95% upper limit"
-    )
+    title = f"{host.name} (INVENTED): e = {e:g}, against circular orbits (dashed)"
     head = (
         f"eccentric companions of {host.name} (e = {e:g}, {len(eccentric.harmonics)} "
-        f"harmonics; {stem.name}.png beside e = 0):"
+        f"harmonics; {stem.name}.png with the e = 0 bound over it):"
     )
     return _side_by_side(
         stem, meta, (circular, eccentric), ("e = 0", f"e = {e:g}"), title, head, overwrite, figures
@@ -427,10 +424,7 @@ def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15, quiet
     stem = out / f"{safe_name(host.name)}_array_forecast_background"
     meta = provenance({**host.describe(), "background": background.describe()})
     meta["demo"] = "INVENTED data: fictional host and pulsar array"
-    title = (
-        f"{host.name} (INVENTED) with the INVENTED demo array: quiet sky (left) and a "
-        f"background A = {amplitude:.2g}, gamma = 13/3 as common noise (right)"
-    )
+    title = f"{host.name} and the demo array (INVENTED): with a background, against a quiet sky"
     head = (
         f"background as noise ({background.describe()}), demo array at {host.name} "
         f"({stem.name}.png):"
@@ -448,7 +442,9 @@ def _side_by_side(stem, meta, maps, tags, title, head, overwrite, figures):
 
     write_table(exclusion_table(maps[1], meta), f"{stem}.ecsv", overwrite)
     check_new([f"{stem}.png"], overwrite)
-    figures.append(_figure_job(comparison_figure, stem, overwrite, *maps, title))
+    figures.append(
+        _figure_job(comparison_figure, stem, overwrite, maps[1], maps[0], tags[0], title)
+    )
     lines = [head]
     for tag, r in zip(tags, maps, strict=True):
         best = r.tightest()

@@ -86,3 +86,18 @@ def test_saved_figures_use_one_form_of_the_comparison_sign(tmp_path):
     save_figure(fig, tmp_path / "f", ("png",))
     text = _texts(fig)
     assert ">=" not in text and "≥" in text
+
+
+def test_a_forecast_with_a_background_says_so():
+    # the noise a forecast assumes is part of what its figure states
+    from ptaconstrain.data import path
+    from ptaconstrain.sensitivity.background import Background
+    from ptaconstrain.sensitivity.pulsar_list import load_array
+
+    array = load_array(path("demo_array")).with_background(Background(2.4e-15))
+    host = Host("Statement host", 2e10, 100)
+    result = exclusion_map(host, array.curve_at(None), warn=False)
+    text = figure_statement(result)
+    assert "background A = 2.4e-15, γ = 4.333 as noise" in text
+    quiet = exclusion_map(host, load_array(path("demo_array")).curve_at(None), warn=False)
+    assert "background" not in figure_statement(quiet)

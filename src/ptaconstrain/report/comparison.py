@@ -1,18 +1,24 @@
-"""Two exclusion maps side by side (e.g. circular vs eccentric, quiet sky vs background)."""
+"""One exclusion map with the bound of a variant drawn over it (e.g. eccentric vs circular)."""
 
 __all__ = ["comparison_figure"]
 
 
-def comparison_figure(left, right, title):
-    """Draw two :class:`~ptaconstrain.analysis.exclusion.ExclusionMap` results in one figure.
+def comparison_figure(result, reference, reference_tag, title):
+    """Draw ``result`` with the bound of ``reference`` over it, in one panel.
+
+    The reference's full map is a figure of its own; here only its bound is
+    drawn (black, dashed), so the two bounds compare on the same axes.
 
     Parameters
     ----------
-    left, right : ExclusionMap
-        Drawn with :func:`~ptaconstrain.report.figures.exclusion_figure` into
-        the left and right panel.
+    result : ExclusionMap
+        Drawn with :func:`~ptaconstrain.report.figures.exclusion_figure`.
+    reference : ExclusionMap
+        The same host on the same grid under another assumption.
+    reference_tag : str
+        What the reference assumes, e.g. ``"e = 0"`` or ``"quiet sky"``.
     title : str
-        Figure title saying what differs between the panels.
+        Figure title saying what differs between the two.
 
     Returns
     -------
@@ -27,21 +33,14 @@ def comparison_figure(left, right, title):
     >>> limit = StrainCurve(f, 1e-14 * (f / (1e-8 * u.Hz)).value, "h0_limit",
     ...                     {"span": "15 yr"})  # an invented limit
     >>> host = Host("Invented", 2e10, 50)
-    >>> fig = comparison_figure(exclusion_map(host, limit),
-    ...                         exclusion_map(host, limit, eccentricity=0.5), "e = 0 and 0.5")
-    >>> fig.get_suptitle()
-    'e = 0 and 0.5'
+    >>> fig = comparison_figure(exclusion_map(host, limit, eccentricity=0.5),
+    ...                         exclusion_map(host, limit), "e = 0", "e = 0.5 against e = 0")
+    >>> fig.get_suptitle(), [t.get_text() for t in fig.axes[0].get_legend().texts][-1]
+    ('e = 0.5 against e = 0', 'e = 0: max allowed q')
     """
-    from matplotlib.figure import Figure
-
     from .figures import exclusion_figure, place_panels
 
-    # fixed positions from counted title lines and legend rows: a layout engine
-    # (constrained layout) would measure every text once more before drawing
-    fig = Figure(figsize=(13.0, 6.4))
-    axes = fig.subplots(1, 2)
-    for ax, result in zip(axes, (left, right), strict=True):
-        exclusion_figure(result, ax=ax)
-    place_panels(fig, axes, suptitle=True)
+    fig = exclusion_figure(result, reference=(reference, reference_tag))
+    place_panels(fig, fig.axes[:1], suptitle=True)  # room for the figure title
     fig.suptitle(title, fontsize=11, y=1 - 0.1 / fig.get_figheight(), va="top")
     return fig

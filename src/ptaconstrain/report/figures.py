@@ -61,7 +61,7 @@ def _m2_to_q(m2, m_tot):
         return m2 / (m_tot - m2)
 
 
-def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
+def exclusion_figure(result, ax=None, prob_map=None, merger_times=None, reference=None):
     """Draw an :class:`~ptaconstrain.analysis.exclusion.ExclusionMap` on log axes.
 
     Parameters
@@ -76,6 +76,11 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
     merger_times : Quantity [time] or True, optional
         Draw lines of equal rest-frame merger time (Peters 1964) as guides; True
         gives 1 Myr, 100 Myr and the Hubble time.
+    reference : (ExclusionMap, str), optional
+        Another map of the same host and grid and what differs in it (e.g.
+        ``(circular, "e = 0")``): its bound (where it is a continuous-wave
+        bound) is drawn as a black dashed line over this map, so the two bounds
+        compare on one set of axes.
 
     Returns
     -------
@@ -139,6 +144,16 @@ def exclusion_figure(result, ax=None, prob_map=None, merger_times=None):
             lw=1.4,
             ls="-.",
             label="same, where the binary chirps (not a CW bound)",
+        )
+    if reference is not None:
+        other, tag = reference
+        ax.plot(  # where a CW bound (not where its binary chirps)
+            other.period.to_value(u.yr),
+            np.where(other.bound_is_monochromatic, other.max_mass_ratio, np.nan),
+            color="black",
+            lw=1.4,
+            ls=(0, (5, 2)),
+            label=f"{tag}: {'max allowed q' if other.is_limit else 'detection threshold'}",
         )
     if prob_map is not None:
         from .probability_plot import add_probability_contours

@@ -73,6 +73,9 @@ def figure_statement(result):
             if inc
             else " (orientation-averaged)"
         )
+    background = str(result.curve.meta.get("background", "none"))
+    if background != "none":  # 'A = 2.4e-15, gamma = 4.333 (...)': the noise it adds
+        kind += f"; background {background.split(' (')[0].replace('gamma', 'γ')} as noise"
     sky = sky_text(result.curve)
     where = (
         f"at {sky}" if sky.startswith("RA ") else (sky if sky == "sky-averaged" else f"sky: {sky}")
