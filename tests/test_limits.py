@@ -83,7 +83,9 @@ def test_a_table_column_names_its_first_bad_row():
 
 def test_ranges_hold_in_their_stated_units():
     # 1 hour is the shortest cadence (CADENCE_MIN); 100 yr the longest span (SPAN_MAX)
-    assert in_range("3600 s", "cadence", 1, 2, unit="hour").value == pytest.approx(1.0)
+    assert in_range("3600 s", "cadence", 1, 2, unit="hour").value == pytest.approx(
+        1.0, rel=1e-6, abs=0
+    )
     with pytest.raises(InputError):
         check_field("3599 s", "cadence")
     check_field("100 yr", "span")

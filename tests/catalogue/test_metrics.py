@@ -38,12 +38,12 @@ def test_metrics_against_explicit_strain():
     out = galaxy_metrics([np.log10(m)], [0.0], [d] * u.Mpc, [0.0], F, THR)
     fb = out["f_best"][0].to_value(u.Hz)
     h = _h0(m, 1.0, fb, d)
-    assert out["h0_equal_mass"][0] == pytest.approx(h, rel=1e-10)
-    assert out["h0_ratio"][0] == pytest.approx(h / out["h0_threshold_best"][0], rel=1e-10)
+    assert out["h0_equal_mass"][0] == pytest.approx(h, rel=1e-10, abs=0)
+    assert out["h0_ratio"][0] == pytest.approx(h / out["h0_threshold_best"][0], rel=1e-10, abs=0)
     # the smallest excluded q sits exactly on the threshold
     q = out["min_mass_ratio"][0]
     assert 0 < q < 1
-    assert _h0(m, q, fb, d) == pytest.approx(out["h0_threshold_best"][0], rel=1e-9)
+    assert _h0(m, q, fb, d) == pytest.approx(out["h0_threshold_best"][0], rel=1e-9, abs=0)
 
 
 def test_no_mass_ratio_when_equal_mass_is_below_the_limit():

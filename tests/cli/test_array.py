@@ -178,7 +178,7 @@ def test_curve_position_follows_the_one_sky_rule(tmp_path):
         res = _run(["curve", "--array", arr, "--ra", ra, "--dec", "\u22125.5", "--out", str(out)])
         assert res.exit_code == 0, res.output
         skies.append(load_curve(out).sky)
-    assert Angle("12:30:48", unit=u.hourangle).deg == pytest.approx(187.7)
+    assert Angle("12:30:48", unit=u.hourangle).deg == pytest.approx(187.7, rel=1e-6, abs=0)
     assert skies == ["ra=187.7000deg dec=-5.5000deg"] * 2
 
 

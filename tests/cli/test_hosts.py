@@ -95,9 +95,9 @@ def test_batch_bound_equals_the_single_host_bound(tmp_path, curve_file):
         Host("Alpha", 2e10, 50), curve, np.logspace(-4, 0, 60), default_periods(curve, 60)
     )
     period, q = ref.tightest()
-    assert summary["tightest_q"][0] == pytest.approx(q, rel=1e-12)
+    assert summary["tightest_q"][0] == pytest.approx(q, rel=1e-12, abs=0)
     assert summary["tightest_period"][0].to_value(u.yr) == pytest.approx(
-        period.to_value(u.yr), rel=1e-12
+        period.to_value(u.yr), rel=1e-12, abs=0
     )
 
 

@@ -32,7 +32,7 @@ def test_style_sets_the_width_and_a_legible_text_size(style):
 
     fig = apply_style(_fig(), style)
     width, smallest, _ = STYLES[style]
-    assert fig.get_size_inches()[0] == pytest.approx(width)
+    assert fig.get_size_inches()[0] == pytest.approx(width, rel=1e-6, abs=0)
     sizes = [t.get_fontsize() for t in fig.findobj(Text) if t.get_text()]
     assert min(sizes) >= min(smallest, 7.0) - 1e-9
 
