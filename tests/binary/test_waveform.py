@@ -47,9 +47,8 @@ def test_kepler_one_solar_mass_one_year_is_one_au():
 
 def test_period_at_separation_inverts_kepler():
     p = wf.period_at_separation(1 * u.Msun, 1 * u.au)
-    assert p.to_value(u.day) == pytest.approx(
-        365.2568983, rel=2e-5, abs=0
-    )  # sidereal year (handbook)
+    # sidereal year (handbook)
+    assert p.to_value(u.day) == pytest.approx(365.2568983, rel=2e-5, abs=0)
 
 
 def test_gw_frequency_is_twice_orbital():

@@ -33,8 +33,8 @@ def test_narrow_spike_survives_interpolation():
     h = np.full_like(f, 1e-14)
     h[50] = 1e-12
     c = StrainCurve(f * u.Hz, h, "h0_limit")
-    assert c.interpolate(f[50] * u.Hz) == pytest.approx(1e-12, rel=1e-6, abs=0)
-    assert c.interpolate(f[49] * u.Hz) == pytest.approx(1e-14, rel=1e-6, abs=0)
+    assert c.interpolate(f[50] * u.Hz) == pytest.approx(1e-12, rel=1e-12, abs=0)
+    assert c.interpolate(f[49] * u.Hz) == pytest.approx(1e-14, rel=1e-12, abs=0)
 
 
 def test_orientation_average_of_polarisation_power_is_four_fifths():
@@ -47,7 +47,7 @@ def test_orientation_average_of_polarisation_power_is_four_fifths():
     h0 = detection_threshold_h0(s_n, t, rho)
     assert (mean * h0**2 * t / s_n).decompose().value == pytest.approx(rho**2, rel=1e-12, abs=0)
     assert noise_psd_for_threshold(h0, t, rho).to_value(1 / u.Hz) == pytest.approx(
-        1e-20, rel=1e-6, abs=0
+        1e-20, rel=1e-12, abs=0
     )
 
 
