@@ -88,7 +88,7 @@ def test_minor_tick_markers_sit_where_matplotlib_puts_minor_ticks(limits, second
     fig, ax, axis, ref = _minor_positions(limits, secondary)
     lo, hi = (3e9 * np.array(limits)) if secondary else limits
     ref = ref[(ref >= lo) & (ref <= hi)]
-    ref = ref[~np.isclose(np.log10(ref), np.round(np.log10(ref)), atol=0)]
+    ref = ref[~np.isclose(np.log10(ref), np.round(np.log10(ref)), rtol=0, atol=1e-10)]
     before = len(ax.get_children())
     minor_ticks_as_markers(
         ax,
