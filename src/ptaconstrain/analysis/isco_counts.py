@@ -39,6 +39,7 @@ import numpy as np
 __all__ = ["IscoCounts", "RankedValues"]
 
 _BLOCK = 256  # ranks per block of the count table
+_CHUNK = 1 << 16  # histogram bins per chunk of the count table
 _HI_SHIFT = 6  # high 32 bits of a float64 >> 6: buckets of relative width 2^-14
 _LUT_MAX = 1 << 20
 _MAGNITUDE = np.int64(0x7FFF_FFFF_FFFF_FFFF)
@@ -259,13 +260,22 @@ class IscoCounts:
         self._n_blocks = n_blocks
         # table[c, r] = #{t >= c * block : G[t] <= r}; row n_blocks is the empty suffix
         blocks = g.reshape(n_blocks, bk)
-        cell = blocks + (np.arange(n_blocks, dtype=np.int32) * np.int32(n_p + 1))[:, None]
-        hist = np.bincount(cell.ravel(), minlength=n_blocks * (n_p + 1))
-        hist = hist.reshape(n_blocks, n_p + 1)[:, :n_p]
-        table = np.zeros((n_blocks + 1, n_p), dtype=np.int32)
-        np.cumsum(hist, axis=1, dtype=np.int32, out=table[:n_blocks])  # G <= r, per block
-        suffix = table[n_blocks - 1 :: -1]
-        np.add.accumulate(suffix, axis=0, out=suffix)  # blocks c .. last
+        table = np.empty((n_blocks + 1, n_p), dtype=np.int32)
+        table[n_blocks] = 0
+        # in chunks of blocks, last first, so that each histogram stays in the cache: per
+        # block the count of G <= r (a histogram and its cumulative sum), then the
+        # suffix sums over blocks c .. last
+        width = n_p + 1
+        chunk = max(1, _CHUNK // width)
+        offset = np.arange(chunk, dtype=np.intp)[:, None] * width
+        for c1 in range(n_blocks, 0, -chunk):
+            c0 = max(0, c1 - chunk)
+            cell = blocks[c0:c1] + offset[: c1 - c0]
+            hist = np.bincount(cell.ravel(), minlength=(c1 - c0) * width)
+            part = table[c1 - 1 : (c0 - 1 if c0 else None) : -1]  # blocks c1 - 1 .. c0
+            np.cumsum(hist.reshape(c1 - c0, width)[::-1, :n_p], axis=1, out=part)
+            part[0] += table[c1]
+            np.add.accumulate(part, axis=0, out=part)
         self._table = table
         self._at_most = table[0]  # #(G <= r), by grid rank
         self.n_above = table[0, r].astype(np.intp)
