@@ -190,10 +190,14 @@ def correlated_samples(n, rng):
     return values, f_isco
 
 
-def test_counts_decided_alone_and_by_block_equal_brute_force():
+@pytest.mark.parametrize("chunk", [None, 100])
+def test_counts_decided_alone_and_by_block_equal_brute_force(chunk, monkeypatch):
     # every branch of `above`: ranks decided by the column's first/last rank alone,
     # by a uniform block, and counted in a straddling block from its head or its
-    # tail; reference: the brute-force count over every sample
+    # tail; reference: the brute-force count over every sample.  chunk=100: the
+    # count table built 3 blocks at a time (27 chunks, that of the first blocks short)
+    if chunk:
+        monkeypatch.setattr(isco_module, "_CHUNK", chunk)
     rng = np.random.default_rng(11)
     n = 20000
     values, f_isco = correlated_samples(n, rng)
