@@ -30,8 +30,9 @@ def direct_kth(f_grid, f_isco, rank, k):
     return np.array(out)
 
 
+@pytest.mark.parametrize("scratch", [False, True])
 @pytest.mark.parametrize("n", [1, 37, 64, 65, 256, 500, 512, 2049])
-def test_counts_and_kth_rank_equal_brute_force(n):
+def test_counts_and_kth_rank_equal_brute_force(n, scratch):
     rng = np.random.default_rng(n)
     f_grid = rng.permutation(np.geomspace(1e-9, 1e-6, 23))  # unsorted grid
     f_isco = 10 ** rng.normal(-7.5, 0.6, n)
@@ -39,7 +40,9 @@ def test_counts_and_kth_rank_equal_brute_force(n):
     order = rng.permutation(n)
     rank = np.empty(n, dtype=np.intp)
     rank[order] = np.arange(n)
-    c = IscoCounts(f_grid, f_isco, order)  # the sample of each ln u rank
+    # scratch: memory full of other numbers, which the counts may overwrite
+    work = rng.integers(-(2**62), 2**62, n) if scratch else None
+    c = IscoCounts(f_grid, f_isco, order, scratch=work)  # order: the sample of each rank
     x = np.arange(n + 1)
     cols = np.arange(f_grid.size)
     np.testing.assert_array_equal(
@@ -75,9 +78,10 @@ def test_grid_count_equals_searchsorted(grid):
         1e-300,
         1e300,
     ]
-    np.testing.assert_array_equal(
-        isco_module._grid_count(grid, v), np.searchsorted(grid, v, side="right")
-    )
+    want = np.searchsorted(grid, v, side="right")
+    np.testing.assert_array_equal(isco_module._grid_count(grid, v), want)
+    work = np.full(2 * v.size, -7, dtype=np.int32)  # scratch holding other numbers
+    np.testing.assert_array_equal(isco_module._grid_count(grid, v, work), want)
 
 
 def awkward_values(rng):

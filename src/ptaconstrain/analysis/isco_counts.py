@@ -48,7 +48,7 @@ _INF_KEY = np.int64(0x7FF0_0000_0000_0000)  # the order key of +inf
 _LITTLE_ENDIAN = sys.byteorder == "little"
 
 
-def _grid_count(grid, values):
+def _grid_count(grid, values, work=None):
     """``np.searchsorted(grid, values, side="right")`` for a sorted positive grid, exactly.
 
     Positive float64 numbers order like their bit patterns, so the high 32 bits
@@ -58,7 +58,8 @@ def _grid_count(grid, values):
     ``np.searchsorted``.  Several times faster than a binary search per value.
     Values must not be NaN (numpy's rule, NaN above everything, is kept for
     positive NaN only); falls back to ``np.searchsorted`` when the grid does not
-    fit the scheme.
+    fit the scheme.  ``work``, an int32 array of at least 2 n elements that may be
+    overwritten, holds the bucket numbers and the counts (returned as a view of it).
     """
     grid = np.ascontiguousarray(grid, dtype=np.float64)
     values = np.ascontiguousarray(values, dtype=np.float64)
@@ -72,12 +73,14 @@ def _grid_count(grid, values):
     lut = np.cumsum(per_bucket, dtype=np.int32)
     lut -= per_bucket.astype(np.int32)  # #{grid < the bucket's lowest value}
     lut[per_bucket > 0] = -1  # a grid point inside: counted one by one
+    n = values.size
+    key, out = (None, None) if work is None else (work[n : 2 * n], work[:n])
     if _LITTLE_ENDIAN:
-        key = values.view(np.int32)[1::2] >> _HI_SHIFT  # the high 32 bits
+        key = np.right_shift(values.view(np.int32)[1::2], _HI_SHIFT, out=key)  # high 32 bits
     else:  # pragma: no cover - big-endian machines
         key = (values.view(np.int64) >> (32 + _HI_SHIFT)).astype(np.int32)
     key -= k0
-    out = lut.take(key, mode="clip")  # below the table: 0; above: all (end buckets)
+    out = lut.take(key, mode="clip", out=out)  # below the table: 0; above: all (end buckets)
     fix = np.flatnonzero(out < 0)
     out[fix] = np.searchsorted(grid, values[fix], side="right")
     return out
@@ -86,14 +89,15 @@ def _grid_count(grid, values):
 def _order_keys(values):
     """int64 keys in the order of float64 ``values``: key(a) < key(b) iff a < b.
 
-    -key(|a|) for negative a, so -0.0 and 0.0 share the key 0; NaN keys lie
-    beyond those of +-inf (on the side of their sign bit).
+    The bit pattern with the magnitude bits of negative numbers flipped: three
+    in-place integer operations on one new array.  -0.0 gets the key -1, just below
+    that of 0.0 (compare thresholds as ``thr + 0.0``, which turns -0.0 into 0.0);
+    NaN keys lie beyond those of +-inf (on the side of their sign bit).
     """
     bits = np.ascontiguousarray(values, dtype=np.float64).view(np.int64)
-    sign = bits >> 63
-    key = bits & _MAGNITUDE
-    key ^= sign
-    key -= sign
+    key = bits >> 63
+    key &= _MAGNITUDE
+    key ^= bits
     return key
 
 
@@ -155,12 +159,16 @@ class RankedValues:
         low = np.int64((1 << shift) - 1)
         packed = _order_keys(values)
         packed &= ~low
-        packed |= np.arange(n, dtype=np.int64)
+        work = np.arange(n, dtype=np.int64)
+        packed |= work
         packed.sort()
-        order = packed & low
         # adjacent keys that agree above the low bits (as unsigned: across the sign too)
-        same = packed[1:] ^ packed[:-1]
+        same = work[1:]
+        np.bitwise_xor(packed[1:], packed[:-1], out=same)
         tie = np.flatnonzero(same.view(np.uint64) <= np.uint64(low))
+        order = np.empty(n, dtype=np.int32 if n < 2**31 else np.int64)
+        np.bitwise_and(packed, low, out=order, casting="unsafe")
+        del work, same
         if tie.size:
             pos = np.union1d(tie, tie + 1)  # whole runs of equal truncated keys, ascending
             fix = np.lexsort((values[order[pos]], packed[pos] >> shift))
@@ -176,6 +184,15 @@ class RankedValues:
         self.order = order
         self._packed = packed
         self._shift = shift
+
+    def release_keys(self):
+        """Hand over the sorted keys' memory (int64, n) as scratch space.
+
+        :meth:`count_at_most` is unavailable afterwards; :attr:`order` and
+        :meth:`at_rank` remain.
+        """
+        packed, self._packed = self._packed, None
+        return packed
 
     def at_rank(self, rank):
         """The values of the given ranks (``np.sort(values)[rank]``)."""
@@ -202,7 +219,7 @@ class RankedValues:
         n, shift, packed = self.n, self._shift, self._packed
         if n == 0:
             return np.zeros(shape, dtype=np.intp)
-        top = _order_keys(thr) >> shift
+        top = _order_keys(thr + 0.0) >> shift  # -0.0 as 0.0
         nan = np.isnan(thr)
         top[nan] = 0  # any key; set to n below
         x = _search_left(packed, top << shift)  # ranks with a truncated key below
@@ -232,6 +249,8 @@ class IscoCounts:
     order : ndarray of int (n,)
         The sample of each ln u rank (:attr:`RankedValues.order`, as
         ``np.argsort`` of ln u).
+    scratch : ndarray of int64 (>= n,), optional
+        Memory that may be overwritten (:meth:`RankedValues.release_keys`).
 
     Attributes
     ----------
@@ -241,14 +260,15 @@ class IscoCounts:
         Number of samples above the ISCO in each column.
     """
 
-    def __init__(self, f_grid, f_isco, order):
+    def __init__(self, f_grid, f_isco, order, scratch=None):
         n = f_isco.size
         n_p = f_grid.size
         bk = _BLOCK
         grid_order = np.argsort(f_grid, kind="stable")
         r = np.empty(n_p, dtype=np.intp)
         r[grid_order] = np.arange(n_p)
-        b = _grid_count(f_grid[grid_order], f_isco)
+        work = None if scratch is None else scratch.view(np.int32)[: 2 * n]
+        b = _grid_count(f_grid[grid_order], f_isco, work)
         n_blocks = max(1, -(-n // bk))
         # G in ln u order, padded to whole blocks with n_p (above the ISCO in no column)
         g = np.full(n_blocks * bk, n_p, dtype=np.int32)

@@ -390,12 +390,12 @@ def exclusion_probability(
     f_isco = draws.isco_frequency.to_value(u.Hz)
     if det.eccentricity:
         f_isco = f_isco * ecc.pericentre_isco_factor(det.eccentricity)
-    isco = IscoCounts(f, f_isco, ranked.order)
     log_eta = np.log(wf.symmetric_mass_ratio(det.mass_ratio))
     with np.errstate(invalid="ignore"):
         log_eta_min = np.log(det.eta_min)
         thr = log_eta_min[None, :] - log_eta[:, None]
     x = ranked.count_at_most(thr)  # first rank with ln u > threshold
+    isco = IscoCounts(f, f_isco, ranked.order, scratch=ranked.release_keys())
     count = n - x
     ks = {c: _min_count(c, n) for c in levels}
     # rank of the k-th largest ln u among the samples below the ISCO, per column; only
