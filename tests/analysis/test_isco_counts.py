@@ -49,10 +49,16 @@ def test_counts_and_kth_rank_equal_brute_force(n, scratch):
         c.above(cols[:, None], x[None, :]), direct_counts(f_grid, f_isco, rank, x)
     )
     np.testing.assert_array_equal(c.n_above, (f_grid[:, None] > f_isco[None, :]).sum(axis=1))
-    for k in {1, max(1, n // 2), n}:
+    ks = [1, max(1, n // 2), n]
+    for k in ks:
         np.testing.assert_array_equal(
             c.kth_largest_rank(cols, k), direct_kth(f_grid, f_isco, rank, k)
         )
+    # several counts in one call (one per column), as for the credibility levels
+    np.testing.assert_array_equal(
+        c.kth_largest_rank(np.tile(cols, 3), np.repeat(ks, cols.size)),
+        np.concatenate([direct_kth(f_grid, f_isco, rank, k) for k in ks]),
+    )
 
 
 @pytest.mark.parametrize(

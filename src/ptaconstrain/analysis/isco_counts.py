@@ -387,14 +387,16 @@ class IscoCounts:
         ----------
         col : ndarray of int
             Column (period) indices.
-        k : int
-            Count required, 1 <= k <= n.
+        k : int or ndarray of int (col.size,)
+            Count required, 1 <= k <= n (one per column: several credibility
+            levels in one call).
 
         Returns
         -------
         ndarray of int (col.size,); -1 where fewer than k samples are below the ISCO.
         """
         col = np.asarray(col, dtype=np.intp)
+        k = np.broadcast_to(k, col.shape)
         bk, n = _BLOCK, self.n
         rr = self._r[col]
         n_blocks = self._n_blocks
@@ -417,5 +419,5 @@ class IscoCounts:
         below = (self._g[t] > rr[:, None]) & (t < n)
         count = np.cumsum(below[:, ::-1], axis=1)[:, ::-1]
         count += below_from_block(lo + 1)[:, None]
-        best = lo * bk + np.count_nonzero(count >= k, axis=1) - 1
+        best = lo * bk + np.count_nonzero(count >= k[:, None], axis=1) - 1
         return np.where(ok0, best, -1)

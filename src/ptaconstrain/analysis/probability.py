@@ -404,8 +404,12 @@ def exclusion_probability(
     xk = {c: np.full(f.size, n - k) for c, k in ks.items()}
     if partial.size:
         count[:, partial] -= isco.above(partial[None, :], x[:, partial])
-        for c, k in ks.items():
-            xk[c][partial] = isco.kth_largest_rank(partial, k)
+        # every credibility level in one call
+        kth = isco.kth_largest_rank(
+            np.tile(partial, len(ks)), np.repeat(list(ks.values()), partial.size)
+        )
+        for c, rank in zip(ks, kth.reshape(len(ks), partial.size), strict=True):
+            xk[c][partial] = rank
     nothing = np.isnan(det.eta_min) | (isco.n_above == n)
     prob = count / n
     prob[:, nothing] = np.nan
