@@ -1,9 +1,10 @@
 """Benchmark: exclusion probability by sort-and-search against its floor and brute force.
 
-* fast path: :func:`ptaconstrain.analysis.probability.exclusion_probability` (sort the
-  per-sample ln u once, a two-level binary search for every cell, exact above-ISCO
-  counts from a second, integer sort carrying each sample's ISCO grid count and one
-  block table), samples given;
+* fast path: :func:`ptaconstrain.analysis.probability.exclusion_probability` (one
+  integer sort of the per-sample ln u keys carrying each sample's index, a two-level
+  binary search for every cell, exact above-ISCO counts from each sample's ISCO grid
+  count laid out in rank order and one block table), samples given; it also makes the
+  best-fit map and ln u, which the floor is given;
 * floor, on the same input: ``np.sort`` of the N values of ln u plus the
   ``np.searchsorted`` of every cell's threshold -- the least any sort-and-search
   method does;

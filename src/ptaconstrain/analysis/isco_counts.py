@@ -7,29 +7,39 @@ above the ISCO depends on the period only, so the samples above it form one
 known subset per period; :class:`IscoCounts` counts, exactly, how many of
 them have a ln u rank at or above any given rank (to be removed from the
 sorted-sample counts), and :meth:`IscoCounts.kth_largest_rank` finds the
-credible bound among the samples that remain.
+credible bound among the samples that remain.  :class:`RankedValues` sorts
+ln u once and answers the threshold searches.
 
-Algorithm (an offline two-dimensional dominance count).  With the grid's
-frequencies sorted, sample s is below the ISCO for the ``b_s`` lowest ones
-(a bucket table on the float bit patterns, exact, in place of a binary search
-per sample), so in the column of frequency rank r the samples above the ISCO
-are those with b_s <= r.  Laid out in ln u order, G[t] = b of the sample of
-rank t (one integer sort of the ln u bit patterns with b in the low bits; see
-:func:`_buckets_in_value_order`), the question "how many samples of rank >= x
-are above the ISCO in column r" is #{t >= x : G[t] <= r}.  G is cut into
-blocks of 256 ranks:
+Sorting (:class:`RankedValues`).  Each ln u becomes an int64 key of the same
+order whose low bits are replaced by the sample's index; one integer sort
+gives the ranks and the sample of each rank together (no ``np.sort`` of the
+floats and no ``argsort``).  The few runs of keys equal in the bits kept are
+put in exact order by their values, and a threshold is searched with its
+truncated key (a two-level binary search), compared with exact values only
+where it falls inside such a run.
 
-* one table holds S[c, r] = #{t >= c * 256 : G[t] <= r} (one ``np.bincount``
-  of the N samples and two cumulative sums over the (N / 256) x nP table);
+Algorithm of the counts (an offline two-dimensional dominance count).  With
+the grid's frequencies sorted, sample s is below the ISCO for the ``b_s``
+lowest ones (a bucket table on the float bit patterns, exact, in place of a
+binary search per sample: :func:`_grid_count`), so in the column of frequency
+rank r the samples above the ISCO are those with b_s <= r.  Laid out in ln u
+order, G[t] = b of the sample of rank t (one gather through the sort's
+order), the question "how many samples of rank >= x are above the ISCO in
+column r" is #{t >= x : G[t] <= r}.  G is cut into blocks of 256 ranks:
+
+* one table holds S[c, r] = #{t >= c * 256 : G[t] <= r} (per chunk of blocks
+  that fits the cache, last first: an ``np.bincount`` and two cumulative sums);
 * per block, the smallest and largest G.
 
 A query is S[c + 1, r] plus the ranks x .. end of block c = x // 256 with
 G <= r: none when the block's smallest G exceeds r, all when its largest G
 does not, and otherwise (a block that straddles r, a few per cent of the
 queries) counted one by one, from whichever end of the block is nearer.
-O(N) numpy operations to build after the O(N log N) sort, O(1) per query
-plus at most 128 ranks for a straddling one, instead of the O(N x nP) of a
-per-column cumulative count.
+Ranks outside a column's mixed range (before its first rank above the ISCO,
+after its last rank below it) are decided without the table.  O(N) numpy
+operations to build after the O(N log N) sort, O(1) per query plus at most
+128 ranks for a straddling one, instead of the O(N x nP) of a per-column
+cumulative count.
 """
 
 import sys

@@ -14,8 +14,9 @@ sqrt(g)) is in the scalar S.  Relative to the best-fit host, sample s has
 u_s = S_s sqrt(g_s) / S_0, and cell (q, P) is excluded in sample s iff
 ln u_s > ln eta_min(P) - ln eta(q), with eta_min of the deterministic
 :class:`~ptaconstrain.analysis.exclusion.ExclusionMap`.  Sorting ln u once and answering
-every cell with one ``np.searchsorted`` costs O(N log N + cells log N)
-instead of the O(N x cells) of a direct comparison.  The credible bound at
+every cell with a binary search (the exact equivalent of ``np.searchsorted``,
+:meth:`~ptaconstrain.analysis.isco_counts.RankedValues.count_at_most`) costs
+O(N log N + cells log N) instead of the O(N x cells) of a direct comparison.  The credible bound at
 credibility c follows in closed form: with u_c the value that a fraction c
 of the samples exceed, eta_c = eta_min / u_c and q_c = eta^-1(eta_c)
 (:func:`ptaconstrain.binary.waveform.mass_ratio_from_eta`).
@@ -27,9 +28,10 @@ exists, so the PTA rules nothing out there).  This is handled exactly: for
 each period the samples above the ISCO are a known subset, and the number of
 them above each cell's threshold is removed from the count, by the offline
 dominance count of :class:`~ptaconstrain.analysis.isco_counts.IscoCounts`
-(one integer sort with each sample's ISCO grid count in the low bits, a
-table per block of ranks; most cells are decided by a column's range of
-mixed ranks alone).  A column whose every
+(each sample's ISCO grid count laid out in ln u order through the one integer
+sort of :class:`~ptaconstrain.analysis.isco_counts.RankedValues`, a table per
+block of ranks; most cells are decided by a column's range of mixed ranks
+alone).  A column whose every
 sample is above the ISCO, or that lies outside the curve's band, has
 probability NaN, as in the deterministic map.  The chirping flag does not
 change ``excluded`` in the deterministic map and does not enter here either.
