@@ -177,6 +177,16 @@ def test_probability_map_equals_brute_force_bit_for_bit(n):
     np.testing.assert_array_equal(r.probability, brute_probability(r))
 
 
+def test_probability_map_with_every_column_partly_above_the_isco_equals_brute_force():
+    # every period partly above the ISCO (the whole map counted in one call, as for the
+    # wide-error host of the benchmark); reference: the cell-by-cell count
+    host = Host("B", 3e10, 200, mass_err_dex=(0.2, 0.4), distance_err=20, mass_distance=190)
+    period = np.geomspace(0.12, 10, 30) * u.yr
+    r = exclusion_probability(host, power_law_limit(), Q, period, samples=3000, seed=5)
+    assert np.all((r.above_isco_fraction > 0) & (r.above_isco_fraction < 1))
+    np.testing.assert_array_equal(r.probability, brute_probability(r))
+
+
 def suffix_counts(f_grid, f_isco, order):
     """Brute force for every rank at once: above[j, x] = #{rank >= x above the ISCO in j}."""
     above = f_grid[:, None] > f_isco[None, order]  # samples in rank order

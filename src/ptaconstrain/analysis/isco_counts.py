@@ -353,17 +353,17 @@ class IscoCounts:
         -------
         ndarray of int, the broadcast shape.
         """
-        col, x = np.broadcast_arrays(col, x)
-        shape = x.shape
-        rr = self._r[col.ravel()]
-        x = x.ravel()
+        rr = self._r[np.asarray(col)]  # per column, broadcast against x
+        x = np.asarray(x)
+        first = self._first[rr]
         # decided by where x lies: all of the samples above the ISCO at or after x, or
         # every rank from x on above the ISCO
-        out = np.where(x <= self._first[rr], self._at_most[rr], self.n - x)
-        und = np.flatnonzero((x > self._first[rr]) & (x <= self._last[rr]))
-        if und.size:
+        out = np.where(x <= first, self._at_most[rr], self.n - x)
+        und = (x > first) & (x <= self._last[rr])
+        if und.any():
+            x, rr = np.broadcast_arrays(x, rr)
             out[und] = self._straddling(x[und], rr[und])
-        return out.reshape(shape)
+        return out
 
     def _straddling(self, x, rr):
         """``above`` for ranks x between the first rank above and the last rank below."""

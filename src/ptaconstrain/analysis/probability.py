@@ -405,7 +405,10 @@ def exclusion_probability(
     partial = np.flatnonzero((isco.n_above > 0) & (isco.n_above < n))
     xk = {c: np.full(f.size, n - k) for c, k in ks.items()}
     if partial.size:
-        count[:, partial] -= isco.above(partial[None, :], x[:, partial])
+        if partial.size == f.size:  # every column: no copies
+            count -= isco.above(np.arange(f.size)[None, :], x)
+        else:
+            count[:, partial] -= isco.above(partial[None, :], x[:, partial])
         # every credibility level in one call
         kth = isco.kth_largest_rank(
             np.tile(partial, len(ks)), np.repeat(list(ks.values()), partial.size)
