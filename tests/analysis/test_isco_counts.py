@@ -102,10 +102,14 @@ def awkward_values(rng):
     return v[rng.permutation(v.size)]
 
 
+@pytest.mark.parametrize("chunk", [None, 7])
 @pytest.mark.parametrize("n", [0, 1, 2, 3, 1000, 5000])
-def test_ranked_values_order_equals_np_sort_exactly(n):
+def test_ranked_values_order_equals_np_sort_exactly(n, chunk, monkeypatch):
     # reference: numpy's sort; equal values may come in any order, so the sorted
-    # values (not the indices) are compared, and the order must be a permutation
+    # values (not the indices) are compared, and the order must be a permutation.
+    # chunk=7: the passes around the sort in chunks of 7 values (runs across chunks)
+    if chunk:
+        monkeypatch.setattr(isco_module, "_PASS", chunk)
     rng = np.random.default_rng(3)
     v = awkward_values(rng)[:n]
     ranked = isco_module.RankedValues(v)
@@ -113,11 +117,14 @@ def test_ranked_values_order_equals_np_sort_exactly(n):
     np.testing.assert_array_equal(ranked.at_rank(np.arange(n)), np.sort(v))
 
 
+@pytest.mark.parametrize("chunk", [None, 7])
 @pytest.mark.parametrize("n", [1, 2, 255, 256, 257, 5000])
-def test_count_at_most_equals_searchsorted(n):
+def test_count_at_most_equals_searchsorted(n, chunk, monkeypatch):
     # reference: numpy's searchsorted(side="right") on np.sort of the same values;
     # keys on, one ulp beside, below and above the values, runs of equal values,
     # signed zeros, infinities and NaN
+    if chunk:
+        monkeypatch.setattr(isco_module, "_PASS", chunk)
     rng = np.random.default_rng(n)
     values = awkward_values(rng)[:n]
     values[: min(n, 3)] = 0.0

@@ -50,6 +50,7 @@ __all__ = ["IscoCounts", "RankedValues"]
 
 _BLOCK = 256  # ranks per block of the count table
 _CHUNK = 1 << 16  # histogram bins per chunk of the count table
+_PASS = 1 << 16  # values per chunk of the passes around the sort
 _HI_SHIFT = 6  # high 32 bits of a float64 >> 6: buckets of relative width 2^-14
 _LUT_MAX = 1 << 20
 _MAGNITUDE = np.int64(0x7FFF_FFFF_FFFF_FFFF)
@@ -96,16 +97,17 @@ def _grid_count(grid, values, work=None):
     return out
 
 
-def _order_keys(values):
+def _order_keys(values, out=None):
     """int64 keys in the order of float64 ``values``: key(a) < key(b) iff a < b.
 
     The bit pattern with the magnitude bits of negative numbers flipped: three
     in-place integer operations on one new array.  -0.0 gets the key -1, just below
     that of 0.0 (compare thresholds as ``thr + 0.0``, which turns -0.0 into 0.0);
-    NaN keys lie beyond those of +-inf (on the side of their sign bit).
+    NaN keys lie beyond those of +-inf (on the side of their sign bit).  ``out``: an
+    int64 array of the same size to write the keys into.
     """
     bits = np.ascontiguousarray(values, dtype=np.float64).view(np.int64)
-    key = bits >> 63
+    key = np.right_shift(bits, 63, out=out)
     key &= _MAGNITUDE
     key ^= bits
     return key
@@ -167,18 +169,25 @@ class RankedValues:
         n = values.size
         shift = max(1, (n - 1).bit_length())
         low = np.int64((1 << shift) - 1)
-        packed = _order_keys(values)
-        packed &= ~low
-        work = np.arange(n, dtype=np.int64)
-        packed |= work
+        # the passes before and after the sort go chunk by chunk through the cache
+        step = _PASS
+        packed = np.empty(n, dtype=np.int64)
+        work = np.arange(min(n, step), dtype=np.int64)  # the indices of one chunk
+        for a in range(0, n, step):
+            part = _order_keys(values[a : a + step], out=packed[a : a + step])
+            part &= ~low
+            part |= work[: part.size]
+            work += step
         packed.sort()
         # adjacent keys that agree above the low bits (as unsigned: across the sign too)
-        same = work[1:]
-        np.bitwise_xor(packed[1:], packed[:-1], out=same)
-        tie = np.flatnonzero(same.view(np.uint64) <= np.uint64(low))
+        tie = [np.zeros(0, dtype=np.intp)]
+        for a in range(0, n - 1, step):
+            b = min(a + step, n - 1)
+            same = np.bitwise_xor(packed[a + 1 : b + 1], packed[a:b], out=work[: b - a])
+            tie.append(np.flatnonzero(same.view(np.uint64) <= np.uint64(low)) + a)
+        tie = np.concatenate(tie)
         order = np.empty(n, dtype=np.int32 if n < 2**31 else np.int64)
         np.bitwise_and(packed, low, out=order, casting="unsafe")
-        del work, same
         if tie.size:
             pos = np.union1d(tie, tie + 1)  # whole runs of equal truncated keys, ascending
             fix = np.lexsort((values[order[pos]], packed[pos] >> shift))
