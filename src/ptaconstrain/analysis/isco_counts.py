@@ -160,7 +160,7 @@ class RankedValues:
     n : int
     values : ndarray (n,)
         The values, in their own order.
-    order : ndarray of int64 (n,)
+    order : ndarray of int32 (n,), int64 from 2^31 values on
         Index of the value of each rank: ``values[order]`` is ``np.sort(values)``.
     """
 
