@@ -6,7 +6,6 @@ from astropy import units as u
 from curves_for_tests import power_law_limit
 
 from ptaconstrain.analysis import isco_counts as isco_module
-from ptaconstrain.analysis import probability as prob_module
 from ptaconstrain.analysis.isco_counts import IscoCounts
 from ptaconstrain.analysis.probability import exclusion_probability
 from ptaconstrain.analysis.sampling import sample_host
@@ -31,8 +30,9 @@ def direct_kth(f_grid, f_isco, rank, k):
     return np.array(out)
 
 
+@pytest.mark.parametrize("scratch", [False, True])
 @pytest.mark.parametrize("n", [1, 37, 64, 65, 256, 500, 512, 2049])
-def test_counts_and_kth_rank_equal_brute_force(n):
+def test_counts_and_kth_rank_equal_brute_force(n, scratch):
     rng = np.random.default_rng(n)
     f_grid = rng.permutation(np.geomspace(1e-9, 1e-6, 23))  # unsorted grid
     f_isco = 10 ** rng.normal(-7.5, 0.6, n)
@@ -40,17 +40,25 @@ def test_counts_and_kth_rank_equal_brute_force(n):
     order = rng.permutation(n)
     rank = np.empty(n, dtype=np.intp)
     rank[order] = np.arange(n)
-    c = IscoCounts(f_grid, f_isco, rank.astype(float))  # ln u values with these ranks
+    # scratch: memory full of other numbers, which the counts may overwrite
+    work = rng.integers(-(2**62), 2**62, n) if scratch else None
+    c = IscoCounts(f_grid, f_isco, order, scratch=work)  # order: the sample of each rank
     x = np.arange(n + 1)
     cols = np.arange(f_grid.size)
     np.testing.assert_array_equal(
         c.above(cols[:, None], x[None, :]), direct_counts(f_grid, f_isco, rank, x)
     )
     np.testing.assert_array_equal(c.n_above, (f_grid[:, None] > f_isco[None, :]).sum(axis=1))
-    for k in {1, max(1, n // 2), n}:
+    ks = [1, max(1, n // 2), n]
+    for k in ks:
         np.testing.assert_array_equal(
             c.kth_largest_rank(cols, k), direct_kth(f_grid, f_isco, rank, k)
         )
+    # several counts in one call (one per column), as for the credibility levels
+    np.testing.assert_array_equal(
+        c.kth_largest_rank(np.tile(cols, 3), np.repeat(ks, cols.size)),
+        np.concatenate([direct_kth(f_grid, f_isco, rank, k) for k in ks]),
+    )
 
 
 @pytest.mark.parametrize(
@@ -76,34 +84,75 @@ def test_grid_count_equals_searchsorted(grid):
         1e-300,
         1e300,
     ]
-    np.testing.assert_array_equal(
-        isco_module._grid_count(grid, v), np.searchsorted(grid, v, side="right")
-    )
+    want = np.searchsorted(grid, v, side="right")
+    np.testing.assert_array_equal(isco_module._grid_count(grid, v), want)
+    work = np.full(2 * v.size, -7, dtype=np.int32)  # scratch holding other numbers
+    np.testing.assert_array_equal(isco_module._grid_count(grid, v, work), want)
 
 
-def test_buckets_in_value_order_equal_argsort_exactly():
-    # reference: numpy's argsort; values that agree in all but the last bits (runs
-    # of equal truncated keys with different buckets), exact ties, signed zeros and
-    # both signs exercise the packed-key sort and its repair
-    rng = np.random.default_rng(3)
+def awkward_values(rng):
+    """Values one ulp apart (runs of equal truncated keys), exact ties, signed zeros,
+    both signs, infinities and values of every magnitude."""
     v = rng.normal(size=5000)
     v[:1000] = 0.3 + np.arange(1000) * np.spacing(0.3)  # neighbours one ulp apart
     v[1000:1100] = -2.5
     v[1100:1110] = [0.0, -0.0] * 5
     v[1110:1400] = -0.7 - np.arange(290) * np.spacing(0.7)
-    perm = rng.permutation(v.size)
-    v = v[perm]
-    buckets = rng.integers(0, 301, v.size)
-    out = np.empty(v.size, dtype=np.int32)
-    isco_module._buckets_in_value_order(v, buckets, out)
-    order = np.argsort(v, kind="stable")
-    # equal values may come in any order: compare the buckets within each run of equal values
-    sv = v[order]
-    run = np.r_[0, np.cumsum(sv[1:] != sv[:-1])]
-    key = run * 1000
-    np.testing.assert_array_equal(np.sort(key + out), np.sort(key + buckets[order]))
-    distinct = np.r_[sv[1:] != sv[:-1], True] & np.r_[True, sv[1:] != sv[:-1]]
-    np.testing.assert_array_equal(out[distinct], buckets[order][distinct])
+    v[1400:1410] = [np.inf, -np.inf, 5e-324, -5e-324, 1e308, -1e308, 1e-300, -1e-300, 7.0, -7.0]
+    return v[rng.permutation(v.size)]
+
+
+@pytest.mark.parametrize("chunk", [None, 7])
+@pytest.mark.parametrize("n", [0, 1, 2, 3, 1000, 5000])
+def test_ranked_values_order_equals_np_sort_exactly(n, chunk, monkeypatch):
+    # reference: numpy's sort; equal values may come in any order, so the sorted
+    # values (not the indices) are compared, and the order must be a permutation.
+    # chunk=7: the passes around the sort in chunks of 7 values (runs across chunks)
+    if chunk:
+        monkeypatch.setattr(isco_module, "_PASS", chunk)
+    rng = np.random.default_rng(3)
+    v = awkward_values(rng)[:n]
+    ranked = isco_module.RankedValues(v)
+    np.testing.assert_array_equal(np.sort(ranked.order), np.arange(n))
+    np.testing.assert_array_equal(ranked.at_rank(np.arange(n)), np.sort(v))
+
+
+@pytest.mark.parametrize("chunk", [None, 7])
+@pytest.mark.parametrize("n", [1, 2, 255, 256, 257, 5000])
+def test_count_at_most_equals_searchsorted(n, chunk, monkeypatch):
+    # reference: numpy's searchsorted(side="right") on np.sort of the same values;
+    # keys on, one ulp beside, below and above the values, runs of equal values,
+    # signed zeros, infinities and NaN
+    if chunk:
+        monkeypatch.setattr(isco_module, "_PASS", chunk)
+    rng = np.random.default_rng(n)
+    values = awkward_values(rng)[:n]
+    values[: min(n, 3)] = 0.0
+    values[-1] = -0.0
+    keys = np.r_[
+        values,
+        np.nextafter(values, -np.inf),
+        np.nextafter(values, np.inf),
+        rng.normal(size=2000) * 3,
+        0.0,
+        -0.0,
+        np.inf,
+        -np.inf,
+        np.nan,
+        -np.nan,
+    ]
+    ranked = isco_module.RankedValues(values)
+    want = np.searchsorted(np.sort(values), keys, side="right")
+    np.testing.assert_array_equal(ranked.count_at_most(keys), want)
+    grid = keys[:1800].reshape(30, 60)  # a 2-D map of thresholds keeps its shape
+    np.testing.assert_array_equal(
+        ranked.count_at_most(grid), np.searchsorted(np.sort(values), grid, side="right")
+    )
+
+
+def test_ranked_values_refuse_nan():
+    with pytest.raises(ValueError, match="NaN"):
+        isco_module.RankedValues(np.array([1.0, np.nan, -np.inf]))
 
 
 def brute_probability(r):
@@ -135,6 +184,16 @@ def test_probability_map_equals_brute_force_bit_for_bit(n):
     np.testing.assert_array_equal(r.probability, brute_probability(r))
 
 
+def test_probability_map_with_every_column_partly_above_the_isco_equals_brute_force():
+    # every period partly above the ISCO (the whole map counted in one call, as for the
+    # wide-error host of the benchmark); reference: the cell-by-cell count
+    host = Host("B", 3e10, 200, mass_err_dex=(0.2, 0.4), distance_err=20, mass_distance=190)
+    period = np.geomspace(0.12, 10, 30) * u.yr
+    r = exclusion_probability(host, power_law_limit(), Q, period, samples=3000, seed=5)
+    assert np.all((r.above_isco_fraction > 0) & (r.above_isco_fraction < 1))
+    np.testing.assert_array_equal(r.probability, brute_probability(r))
+
+
 def suffix_counts(f_grid, f_isco, order):
     """Brute force for every rank at once: above[j, x] = #{rank >= x above the ISCO in j}."""
     above = f_grid[:, None] > f_isco[None, order]  # samples in rank order
@@ -158,16 +217,20 @@ def correlated_samples(n, rng):
     return values, f_isco
 
 
-def test_counts_decided_alone_and_by_block_equal_brute_force():
+@pytest.mark.parametrize("chunk", [None, 100])
+def test_counts_decided_alone_and_by_block_equal_brute_force(chunk, monkeypatch):
     # every branch of `above`: ranks decided by the column's first/last rank alone,
     # by a uniform block, and counted in a straddling block from its head or its
-    # tail; reference: the brute-force count over every sample
+    # tail; reference: the brute-force count over every sample.  chunk=100: the
+    # count table built 3 blocks at a time (27 chunks, that of the first blocks short)
+    if chunk:
+        monkeypatch.setattr(isco_module, "_CHUNK", chunk)
     rng = np.random.default_rng(11)
     n = 20000
     values, f_isco = correlated_samples(n, rng)
     f_grid = rng.permutation(np.geomspace(2e-8, 5e-7, 31))
-    c = IscoCounts(f_grid, f_isco, values)
     order = np.argsort(values, kind="stable")
+    c = IscoCounts(f_grid, f_isco, order)
     rank = np.empty(n, dtype=np.intp)
     rank[order] = np.arange(n)
     x = np.arange(n + 1)
@@ -205,8 +268,8 @@ def test_counts_at_the_edges_equal_brute_force(where):
         f_isco = f_isco * 0 + 1e-10
     elif where == "equal values":
         values = np.round(values, 1)  # ~40 distinct values, each shared by many samples
-    c = IscoCounts(f_grid, f_isco, values)
     order = np.argsort(values, kind="stable")
+    c = IscoCounts(f_grid, f_isco, order)
     rank = np.empty(n, dtype=np.intp)
     rank[order] = np.arange(n)
     sv = values[order]
@@ -242,32 +305,3 @@ def test_probability_map_with_repeated_samples_equals_brute_force_bit_for_bit():
     r = exclusion_probability(host, power_law_limit(), Q, period, samples=twice)
     assert ((r.above_isco_fraction > 0) & (r.above_isco_fraction < 1)).sum() >= 3
     np.testing.assert_array_equal(r.probability, brute_probability(r))
-
-
-@pytest.mark.parametrize("n", [1, 2, 255, 256, 257, 5000])
-def test_two_level_search_equals_searchsorted(n):
-    # reference: numpy's searchsorted(side="right") on the same sorted values; keys on,
-    # one ulp beside, below and above the values, runs of equal values, signed
-    # zeros, infinities and NaN
-    rng = np.random.default_rng(n)
-    values = np.round(rng.normal(size=n), 2 if n > 300 else 8)  # runs of equal values
-    values[: min(n, 3)] = 0.0
-    values = np.sort(np.r_[values[:-1], -0.0][:n]) if n > 1 else np.sort(values)
-    keys = np.r_[
-        values,
-        np.nextafter(values, -np.inf),
-        np.nextafter(values, np.inf),
-        rng.normal(size=2000) * 3,
-        0.0,
-        -0.0,
-        np.inf,
-        -np.inf,
-        np.nan,
-    ]
-    np.testing.assert_array_equal(
-        prob_module._search_right(values, keys), np.searchsorted(values, keys, side="right")
-    )
-    grid = keys[:1800].reshape(30, 60)  # a 2-D map of thresholds keeps its shape
-    np.testing.assert_array_equal(
-        prob_module._search_right(values, grid), np.searchsorted(values, grid, side="right")
-    )

@@ -14,8 +14,9 @@ sqrt(g)) is in the scalar S.  Relative to the best-fit host, sample s has
 u_s = S_s sqrt(g_s) / S_0, and cell (q, P) is excluded in sample s iff
 ln u_s > ln eta_min(P) - ln eta(q), with eta_min of the deterministic
 :class:`~ptaconstrain.analysis.exclusion.ExclusionMap`.  Sorting ln u once and answering
-every cell with one ``np.searchsorted`` costs O(N log N + cells log N)
-instead of the O(N x cells) of a direct comparison.  The credible bound at
+every cell with a binary search (the exact equivalent of ``np.searchsorted``,
+:meth:`~ptaconstrain.analysis.isco_counts.RankedValues.count_at_most`) costs
+O(N log N + cells log N) instead of the O(N x cells) of a direct comparison.  The credible bound at
 credibility c follows in closed form: with u_c the value that a fraction c
 of the samples exceed, eta_c = eta_min / u_c and q_c = eta^-1(eta_c)
 (:func:`ptaconstrain.binary.waveform.mass_ratio_from_eta`).
@@ -27,9 +28,10 @@ exists, so the PTA rules nothing out there).  This is handled exactly: for
 each period the samples above the ISCO are a known subset, and the number of
 them above each cell's threshold is removed from the count, by the offline
 dominance count of :class:`~ptaconstrain.analysis.isco_counts.IscoCounts`
-(one integer sort with each sample's ISCO grid count in the low bits, a
-table per block of ranks; most cells are decided by a column's range of
-mixed ranks alone).  A column whose every
+(each sample's ISCO grid count laid out in ln u order through the one integer
+sort of :class:`~ptaconstrain.analysis.isco_counts.RankedValues`, a table per
+block of ranks; most cells are decided by a column's range of mixed ranks
+alone).  A column whose every
 sample is above the ISCO, or that lies outside the curve's band, has
 probability NaN, as in the deterministic map.  The chirping flag does not
 change ``excluded`` in the deterministic map and does not enter here either.
@@ -48,7 +50,7 @@ from ..binary import waveform as wf
 from ..errors import InputError, PtaconstrainWarning
 from ..sensitivity.curve import FromCurve
 from .exclusion import ExclusionMap, exclusion_map, sensitivity_for
-from .isco_counts import IscoCounts
+from .isco_counts import IscoCounts, RankedValues
 from .sampling import HostSamples, resample_host, sample_host
 
 __all__ = [
@@ -282,38 +284,6 @@ def _min_count(c, n):
     return k
 
 
-_SEARCH_STEP = 256  # ranks per window of the two-level search
-
-
-def _search_right(values, keys):
-    """``np.searchsorted(values, keys, side="right")`` for sorted float ``values``, exactly.
-
-    Two levels: numpy's binary search in every 256th value (a table that stays in
-    the first-level cache) finds each key's window of 256 values, and eight
-    vectorised bisection steps find the rank inside it.  About twice as fast as
-    one binary search over 10^6 values, whose every step misses the cache.  Keys at
-    or above the largest value, and NaN keys (numpy sorts NaN last), get n; values
-    that hold NaN go to ``np.searchsorted``.
-    """
-    keys = np.asarray(keys, dtype=np.float64)
-    n = values.size
-    if n == 0 or np.isnan(values[-1]):
-        return np.searchsorted(values, keys, side="right")
-    step = _SEARCH_STEP
-    # window j: values[step (j-1)] <= key < values[step j]; the rank is in
-    # [step (j-1) + 1, step j] (0 for j = 0)
-    x = np.searchsorted(values[::step], keys, side="right")
-    x *= step
-    x -= step - 1
-    np.maximum(x, 0, out=x)
-    half = step // 2
-    while half:  # probes past the last value read it (clip): above every such key
-        x += (values.take(x + (half - 1), mode="clip") <= keys) * half
-        half //= 2
-    x[~(keys < values[-1])] = n
-    return x
-
-
 def exclusion_probability(
     host,
     curve,
@@ -414,7 +384,7 @@ def exclusion_probability(
 
     s0 = wf.strain_prefactor(host.mass, host.distance, host.redshift)
     log_u = draws.log_scale(s0)
-    sorted_u = np.sort(log_u)
+    ranked = RankedValues(log_u)
     n = draws.n
 
     f = det.frequency.to_value(u.Hz)
@@ -422,12 +392,12 @@ def exclusion_probability(
     f_isco = draws.isco_frequency.to_value(u.Hz)
     if det.eccentricity:
         f_isco = f_isco * ecc.pericentre_isco_factor(det.eccentricity)
-    isco = IscoCounts(f, f_isco, log_u)
     log_eta = np.log(wf.symmetric_mass_ratio(det.mass_ratio))
     with np.errstate(invalid="ignore"):
         log_eta_min = np.log(det.eta_min)
         thr = log_eta_min[None, :] - log_eta[:, None]
-    x = _search_right(sorted_u, thr)  # first rank with ln u > threshold
+    x = ranked.count_at_most(thr)  # first rank with ln u > threshold
+    isco = IscoCounts(f, f_isco, ranked.order, scratch=ranked.release_keys())
     count = n - x
     ks = {c: _min_count(c, n) for c in levels}
     # rank of the k-th largest ln u among the samples below the ISCO, per column; only
@@ -435,9 +405,16 @@ def exclusion_probability(
     partial = np.flatnonzero((isco.n_above > 0) & (isco.n_above < n))
     xk = {c: np.full(f.size, n - k) for c, k in ks.items()}
     if partial.size:
-        count[:, partial] -= isco.above(partial[None, :], x[:, partial])
-        for c, k in ks.items():
-            xk[c][partial] = isco.kth_largest_rank(partial, k)
+        if partial.size == f.size:  # every column: no copies
+            count -= isco.above(np.arange(f.size)[None, :], x)
+        else:
+            count[:, partial] -= isco.above(partial[None, :], x[:, partial])
+        # every credibility level in one call
+        kth = isco.kth_largest_rank(
+            np.tile(partial, len(ks)), np.repeat(list(ks.values()), partial.size)
+        )
+        for c, rank in zip(ks, kth.reshape(len(ks), partial.size), strict=True):
+            xk[c][partial] = rank
     nothing = np.isnan(det.eta_min) | (isco.n_above == n)
     prob = count / n
     prob[:, nothing] = np.nan
@@ -445,7 +422,7 @@ def exclusion_probability(
     n_exist = n - isco.n_above
     qmax = {}
     for c, k in ks.items():
-        lk = sorted_u[np.clip(xk[c], 0, n - 1)]
+        lk = ranked.at_rank(np.clip(xk[c], 0, n - 1))
         with np.errstate(invalid="ignore", over="ignore"):
             eta_c = det.eta_min * np.exp(-lk)
             q_c = np.where(eta_c >= 0.25, 1.0, wf.mass_ratio_from_eta(eta_c))

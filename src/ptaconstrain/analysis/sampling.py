@@ -249,9 +249,11 @@ class HostSamples:
         ndarray (n,).
         """
         ratio = (self.strain_prefactor / reference).to_value(u.dimensionless_unscaled)
-        out = np.log(ratio)
+        out = np.log(ratio, out=ratio)  # a new array: written in place
         if self.orientation_factor is not None:
-            out = out + 0.5 * np.log(self.orientation_factor)
+            half = np.log(self.orientation_factor)
+            half *= 0.5
+            out += half
         return out
 
     def summary(self):
