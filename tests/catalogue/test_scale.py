@@ -234,3 +234,53 @@ def test_unreachable_scheduler_is_one_line_and_leaves_nothing(catalogue, tmp_pat
     line = _error_line(result)
     assert "tcp://127.0.0.1:9 cannot be reached" in line
     assert not out.exists() or not any(out.iterdir())
+
+
+@pytest.mark.slow
+def test_dask_on_parquet_partitions_merges_orders_and_names_as_in_memory(tmp_path, monkeypatch):
+    # many small partitions: repeated names and exactly equal sort keys fall in different
+    # partitions, so the client's merge (key, tie-breaker, then name) and its duplicate search
+    # (hash, then exact name, first catalogue row kept) are what decide; the reference is the
+    # in-memory engine on the same rows
+    from ptaconstrain.catalogue import dask_engine
+
+    df = _invented_catalogue(3000, seed=5)
+    twins = df.iloc[[100, 100]].copy()  # one galaxy's data under two new names: equal keys
+    twins["name"] = ["Twin-b", "Twin-a"]
+    later = df.iloc[[7, 1200]].copy()  # repeats of early names, far later in the file
+    later["distance"] = [33.0, 44.0]  # the repeat differs: only the first occurrence counts
+    df = pd.concat([df.iloc[:1500], twins.iloc[[0]], df.iloc[1500:], twins.iloc[[1]], later])
+    df = df.reset_index(drop=True)
+    df.to_parquet(tmp_path / "cat.parquet", row_group_size=250, index=False)
+    monkeypatch.setattr(dask_engine, "PARTITION_ROWS", 500)
+    curve = load_curve(CURVE)
+    memory = rank_catalog(Table.from_pandas(df), curve, on_bad="skip")
+    dask = rank_catalog_dask(
+        tmp_path / "cat.parquet", curve, tmp_path / "out", workers=2, on_bad="skip", top_rows=40
+    )
+    assert len(list((tmp_path / "out" / "ranking.parquet").glob("*.parquet"))) >= 6
+    assert dask.n_ranked == memory.n_ranked and dask.n_read == memory.n_read == len(df)
+    for key in ("row", "name", "value", "reason"):
+        assert list(dask.rejections.table()[key]) == list(memory.rejections.table()[key]), key
+    assert memory.rejections.counts["duplicate name (the first occurrence is kept)"] == 5
+    ref = memory.table
+    names = np.char.decode(np.asarray(dask.runs.column("name")), "utf-8")
+    assert list(names) == list(ref["name"])
+    assert list(ref["name"]).index("Twin-a") + 1 == list(ref["name"]).index("Twin-b")
+    assert np.array_equal(dask.runs.column("catalogue_row") + 1, np.asarray(ref["catalogue_row"]))
+    got = np.asarray(dask.runs.column("cumulative_expected_number"))
+    np.testing.assert_array_equal(got, np.asarray(ref["cumulative_expected_number"]))
+    assert list(dask.table["name"]) == list(ref["name"][:40])
+    sample = dask.runs.take([5, 0, 999], ["rank", "name"])
+    assert list(sample["rank"]) == [6, 1, 1000]
+    assert list(sample["name"]) == [ref["name"][5], ref["name"][0], ref["name"][999]]
+    blocks = [np.char.decode(b["name"], "utf-8") for b in dask.runs.blocks(700)]
+    assert [len(b) for b in blocks[:-1]] == [700] * (len(blocks) - 1)
+    assert list(np.concatenate(blocks)) == list(ref["name"])
+    # on_bad="error": the same first bad row named in the same one line
+    with pytest.raises(Exception) as mem_err:
+        rank_catalog(Table.from_pandas(df), curve)
+    with pytest.raises(Exception) as dask_err:
+        rank_catalog_dask(tmp_path / "cat.parquet", curve, tmp_path / "out2", workers=1)
+    assert str(dask_err.value) == str(mem_err.value)
+    assert not (tmp_path / "out2" / "ranking.parquet").exists()
