@@ -284,3 +284,57 @@ def test_dask_on_parquet_partitions_merges_orders_and_names_as_in_memory(tmp_pat
         rank_catalog_dask(tmp_path / "cat.parquet", curve, tmp_path / "out2", workers=1)
     assert str(dask_err.value) == str(mem_err.value)
     assert not (tmp_path / "out2" / "ranking.parquet").exists()
+
+
+def _with_units(df, distance_unit, sigma_unit, scale_d, scale_s):
+    import astropy.units as u
+
+    t = Table.from_pandas(df.iloc[:200].reset_index(drop=True))
+    t["distance"] = t["distance"] * scale_d
+    t["distance"].unit = u.Unit(distance_unit)
+    t["velocity_dispersion"] = t["velocity_dispersion"] * scale_s
+    t["velocity_dispersion"].unit = u.Unit(sigma_unit)
+    return t
+
+
+def test_parquet_written_by_astropy_keeps_its_units_under_the_ecsv_rule(tmp_path):
+    # astropy stores the column units of Table.write(format="parquet") in the schema metadata
+    # (astropy docs, "Parquet" in Unified File Read/Write); 1 Mpc = 1000 kpc and
+    # 1 km/s = 1000 m/s by definition
+    df = _invented_catalogue(300, seed=2)
+    curve = load_curve(CURVE)
+    bare = rank_catalog(
+        Table.from_pandas(df.iloc[:200].reset_index(drop=True)), curve, on_bad="skip"
+    )
+    t = _with_units(df, "kpc", "m / s", 1000.0, 1000.0)
+    t.write(tmp_path / "kpc.parquet")
+    t.write(tmp_path / "kpc.ecsv")
+    for name in ("kpc.parquet", "kpc.ecsv"):
+        r = rank_catalog(tmp_path / name, curve, on_bad="skip")
+        assert list(r.table["name"]) == list(bare.table["name"]), name
+        np.testing.assert_allclose(
+            r.table["distance"].value, bare.table["distance"].value, rtol=1e-13, err_msg=name
+        )
+        np.testing.assert_allclose(
+            r.table["expected_number"], bare.table["expected_number"], rtol=1e-11, err_msg=name
+        )
+    dask = rank_catalog_dask(
+        tmp_path / "kpc.parquet", curve, tmp_path / "out", workers=1, on_bad="skip"
+    )
+    np.testing.assert_allclose(
+        np.asarray(dask.runs.column("distance")), bare.table["distance"].value, rtol=1e-13
+    )
+    # a unit of the wrong kind: the same one line for both formats
+    wrong = _with_units(df, "kg", "km / s", 1.0, 1.0)
+    wrong.write(tmp_path / "kg.parquet")
+    wrong.write(tmp_path / "kg.ecsv")
+    lines = [
+        _error_line(
+            CliRunner().invoke(
+                main,
+                ["rank", str(tmp_path / n), "--curve", CURVE, "--out", str(tmp_path / f"o-{n}")],
+            )
+        )
+        for n in ("kg.parquet", "kg.ecsv")
+    ]
+    assert lines[0] == lines[1] and "distance" in lines[0] and "kg" in lines[0], lines

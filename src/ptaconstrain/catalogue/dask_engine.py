@@ -115,19 +115,20 @@ def _write_parquet(table, target):
     os.replace(tmp, target)
 
 
-def _read_source(source, columns):
+def _read_source(source, columns, units):
     """One partition as an astropy Table: an lsdb (pandas) frame or (file, row groups)."""
     if isinstance(source, tuple):
         import pyarrow.parquet as pq
 
         file, groups = source
-        return arrow_to_table(pq.ParquetFile(file).read_row_groups(groups, columns=columns))
-    return frame_to_table(source[columns])
+        table = pq.ParquetFile(file).read_row_groups(groups, columns=columns)
+        return arrow_to_table(table, units)
+    return frame_to_table(source[columns], units)
 
 
-def _rank_partition(source, part, plan, chunk_size, columns, work, pixel=None):
+def _rank_partition(source, part, plan, chunk_size, columns, units, work, pixel=None):
     """Map step (runs on a worker): rank one partition, write it sorted, return small arrays."""
-    table = _read_source(source, columns)
+    table = _read_source(source, columns, units)
     rejections = Rejections()
     thresholds = None
     if pixel is not None:
@@ -204,13 +205,19 @@ def _tasks(path, kind, columns):
 
 
 def _source_columns(path, kind):
+    """The catalogue's column names and the units astropy stored in its Parquet metadata."""
+    from .columnar import parquet_units
+
     if kind == "hats":
         import lsdb
 
-        return [str(c) for c in lsdb.open_catalog(path).columns]
+        cat = lsdb.open_catalog(path)
+        schema = getattr(cat.hc_structure, "schema", None)
+        return [str(c) for c in cat.columns], parquet_units(schema)
     import pyarrow.dataset as ds
 
-    return list(ds.dataset(str(path), format="parquet").schema.names)
+    schema = ds.dataset(str(path), format="parquet").schema
+    return list(schema.names), parquet_units(schema)
 
 
 def _read_rows(work, part, positions, columns):
@@ -328,8 +335,8 @@ def _reduce(results, work, on_bad, name):
     return rejections, plan, cum_sorted, int(sizes.sum()), sources, n_ranked, total
 
 
-def _run(path, kind, plan, chunk_size, on_bad, work, out_dir, meta_of, say):
-    """Map, reduce and write on the cluster; the ranking lands in ``out_dir``."""
+def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say):
+    """Map, reduce and write on the cluster; the ranking lands in ``work/ranking.parquet``."""
     import dask
 
     columns = list(dict.fromkeys(plan.resolved.values()))
@@ -338,7 +345,7 @@ def _run(path, kind, plan, chunk_size, on_bad, work, out_dir, meta_of, say):
     rank_part = dask.delayed(_rank_partition, pure=False)
     results = dask.compute(
         *[
-            rank_part(source, i, plan, chunk_size, columns, str(work), pixel)
+            rank_part(source, i, plan, chunk_size, columns, units, str(work), pixel)
             for i, (source, pixel) in enumerate(tasks)
         ]
     )
@@ -349,13 +356,14 @@ def _run(path, kind, plan, chunk_size, on_bad, work, out_dir, meta_of, say):
     meta = meta_of(rejections, n_ranked, sources, n_read)
     meta_json = json.dumps(meta, default=str)
     say("writing the ranking")
-    Path(out_dir).mkdir()
+    out_dir = work / PARQUET_DIR
+    out_dir.mkdir()
     write = dask.delayed(_write_partition, pure=False)
     dask.compute(
         *[
             write(
                 str(work / _part_name(p)),
-                str(Path(out_dir) / _part_name(p)),
+                str(out_dir / _part_name(p)),
                 drop,
                 ranks,
                 cum_sorted[ranks - 1],
@@ -585,7 +593,8 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     population = population or PopulationModel()
     colmap = column_map(columns)
     rels = select_relations(relations)
-    resolved = resolve_columns(colmap, _source_columns(path, kind), rels, path.name)
+    colnames, units = _source_columns(path, kind)
+    resolved = resolve_columns(colmap, colnames, rels, path.name)
     sens = ThresholdLookup(sensitivity, snr=snr, span=span, sky=sky, sky_nside=sky_nside)
     dz = DistanceRedshift(cosmology)
     plan = RankPlan(colmap, resolved, rels, sens, population, int(n_nodes), dz, metric)
@@ -626,7 +635,7 @@ cosmology, sky, sky_nside, files, inputs, top_rows
                 return meta
 
             rejections, meta, n_read, n_ranked, total = _run(
-                path, kind, plan, int(chunk_size), on_bad, work, work / PARQUET_DIR, meta_of, say
+                path, kind, plan, units, int(chunk_size), on_bad, work, meta_of, say
             )
         if final.exists():  # overwrite: the old ranking goes only now
             os.rename(final, work / "replaced")
