@@ -150,6 +150,12 @@ def check_hats(hats_dir, n):
 
 
 def _maxrss_mb():
+    """Peak RSS of this process image in MB: VmHWM (getrusage's ru_maxrss survives exec,
+    so a child would report its parent's peak at the fork)."""
+    with open("/proc/self/status") as fh:
+        for line in fh:
+            if line.startswith("VmHWM:"):
+                return int(line.split()[1]) / 1024.0
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
 
@@ -157,7 +163,7 @@ def _worker_usage():
     import resource as r
 
     u = r.getrusage(r.RUSAGE_SELF)
-    return {"cpu": u.ru_utime + u.ru_stime, "rss_mb": u.ru_maxrss / 1024.0}
+    return {"cpu": u.ru_utime + u.ru_stime, "rss_mb": _maxrss_mb()}
 
 
 def child_memory(parquet, rows, out):

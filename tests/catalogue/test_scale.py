@@ -251,7 +251,13 @@ def test_dask_on_parquet_partitions_merges_orders_and_names_as_in_memory(tmp_pat
     later["distance"] = [33.0, 44.0]  # the repeat differs: only the first occurrence counts
     df = pd.concat([df.iloc[:1500], twins.iloc[[0]], df.iloc[1500:], twins.iloc[[1]], later])
     df = df.reset_index(drop=True)
-    df.to_parquet(tmp_path / "cat.parquet", row_group_size=250, index=False)
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    table = pa.Table.from_pandas(df, preserve_index=False)
+    with pq.ParquetWriter(tmp_path / "cat.parquet", table.schema) as writer:
+        writer.write_table(table.slice(0, 1500), row_group_size=250)  # tasks of whole groups
+        writer.write_table(table.slice(1500), row_group_size=900)  # tasks of slices of groups
     monkeypatch.setattr(dask_engine, "PARTITION_ROWS", 500)
     curve = load_curve(CURVE)
     memory = rank_catalog(Table.from_pandas(df), curve, on_bad="skip")

@@ -79,7 +79,8 @@ __all__ = [
 
 #: the ranking written by the Dask engine (a directory of Parquet files, one per partition)
 PARQUET_DIR = "ranking.parquet"
-#: rows per task of a Parquet input (whole row groups; a HATS partition is taken as it is)
+#: rows per task of a Parquet input (whole row groups, or slices of a larger one); a HATS
+#: partition is taken as it is
 PARTITION_ROWS = 250_000
 DUPLICATE_REASON = "duplicate name (the first occurrence is kept)"
 _ROW_GROUP = 1 << 16
@@ -120,9 +121,9 @@ def _read_source(source, columns, units):
     if isinstance(source, tuple):
         import pyarrow.parquet as pq
 
-        file, groups = source
+        file, groups, start, stop = source
         table = pq.ParquetFile(file).read_row_groups(groups, columns=columns)
-        return arrow_to_table(table, units)
+        return arrow_to_table(table.slice(start, stop - start), units)
     return frame_to_table(source[columns], units)
 
 
@@ -159,8 +160,13 @@ def _rank_partition(source, part, plan, chunk_size, columns, units, work, pixel=
     return out
 
 
-def _write_partition(source, target, drop, ranks, cums, offset, meta_json):
-    """Write step (runs on a worker): one sorted partition with its global columns."""
+def _write_partition(source, target, drop, globals_file, offset, meta_json):
+    """Write step (runs on a worker): one sorted partition with its global columns.
+
+    ``globals_file`` (written by the client) holds the partition's ranks and
+    running sums, row by row, so that they travel through the work directory,
+    not through the task graph.
+    """
     import pyarrow as pa
     import pyarrow.parquet as pq
 
@@ -169,6 +175,8 @@ def _write_partition(source, target, drop, ranks, cums, offset, meta_json):
         keep = np.ones(t.num_rows, bool)
         keep[drop] = False
         t = t.filter(pa.array(keep))
+    with np.load(globals_file) as g:
+        ranks, cums = g["rank"], g["cumulative"]
     row = t["catalogue_row"].to_numpy() + np.int64(offset)
     for name, values in (
         ("rank", ranks),
@@ -193,14 +201,24 @@ def _tasks(path, kind, columns):
 
     out = []
     for frag in ds.dataset(str(path), format="parquet").get_fragments():
-        sizes = [rg.num_rows for rg in frag.row_groups]
         group, n = [], 0
-        for i, size in enumerate(sizes):  # a loop over row groups
+        for i, rg in enumerate(frag.row_groups):  # a loop over row groups
+            if rg.num_rows > PARTITION_ROWS:  # a large row group: slices of it, one per task
+                if group:
+                    out.append(((frag.path, group, 0, n), None))
+                    group, n = [], 0
+                out += [
+                    ((frag.path, [i], a, min(a + PARTITION_ROWS, rg.num_rows)), None)
+                    for a in range(0, rg.num_rows, PARTITION_ROWS)
+                ]
+                continue
             group.append(i)
-            n += size
-            if n >= PARTITION_ROWS or i == len(sizes) - 1:
-                out.append(((frag.path, group), None))
+            n += rg.num_rows
+            if n >= PARTITION_ROWS:
+                out.append(((frag.path, group, 0, n), None))
                 group, n = [], 0
+        if group:
+            out.append(((frag.path, group, 0, n), None))
     return out
 
 
@@ -359,21 +377,24 @@ def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say):
     out_dir = work / PARQUET_DIR
     out_dir.mkdir()
     write = dask.delayed(_write_partition, pure=False)
-    dask.compute(
-        *[
+    jobs = []
+    for p, drop, ranks, offset in parts:  # a loop over partitions
+        if not ranks.size:
+            continue
+        globals_file = work / f"globals.{p:06d}.npz"
+        np.savez(globals_file, rank=ranks, cumulative=cum_sorted[ranks - 1])
+        jobs.append(
             write(
                 str(work / _part_name(p)),
                 str(out_dir / _part_name(p)),
                 drop,
-                ranks,
-                cum_sorted[ranks - 1],
+                str(globals_file),
                 int(offset),
                 meta_json,
             )
-            for p, drop, ranks, offset in parts
-            if ranks.size
-        ]
-    )
+        )
+    del parts, cum_sorted
+    dask.compute(*jobs)
     return rejections, meta, n_read, n_ranked, total
 
 
