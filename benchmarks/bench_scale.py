@@ -1,25 +1,28 @@
 """Benchmark: the Dask engine on a large invented catalogue, side by side with the in-memory one.
 
-1. Generation (timed on its own): an invented catalogue of ``--rows`` galaxies
-   (default 10^7; the generator of ``bench_rank.py``, block by block) is written
-   once as Parquet (row groups of 10^6, never whole in memory) and once as a
-   HATS catalogue (``lsdb.from_dataframe``, which holds the frame in memory:
-   generation only).
-2. In-memory engine: ``rank_catalog`` on the first ``--memory-rows`` rows
-   (default 10^6) held as one table, in a fresh process.
-3. Dask engine: ``rank_catalog_dask`` on the whole HATS catalogue on a local
-   cluster of 1 worker, then of 2 workers (``--workers``), each in a fresh
-   process.  Cluster start-up is timed apart from the ranking.
+1. Generation (timed on its own, never whole in memory): an invented catalogue of ``--rows``
+   galaxies (default 10^7; the generator of ``bench_rank.py``, block by block) is written once
+   as Parquet (``ParquetWriter``, a row group per block of 10^6) and once as a HATS catalogue:
+   each block's rows go to HEALPix pixels of one fixed order (the hats library's spatial index),
+   appended to one Parquet file per pixel; each pixel file is then sorted by the index and the
+   catalogue's metadata written with the hats library.  The catalogue is read back with lsdb
+   and the spatial index of a sample of partitions checked against healpy.
+2. In-memory engine: ``rank_catalog`` on the first ``--memory-rows`` rows (default 10^6) held
+   as one table, in a fresh process.
+3. Dask engine: ``rank_catalog_dask`` on the whole catalogue (``--inputs``: HATS, Parquet or
+   both) on a local cluster of 1 worker, then of 2 workers (``--workers``), each in a fresh
+   process, workers limited to 2 GB each (the default), no dashboard, no profiler (checked).
+   Cluster start-up is timed apart from the ranking.
 
-For each run: wall and CPU time (the Dask runs add the workers' CPU), rows per
-second, peak RSS of the driving process and of every worker (the target: each
-Dask worker under 2 GB whatever the catalogue's size), and the 1 -> 2 worker
-scaling of the throughput.  The Dask ranking must list its first rows exactly as
-the in-memory ranking of the same rows would -- checked on the whole catalogue
-when ``--rows`` equals ``--memory-rows``.
+For each run: wall and CPU time (the Dask runs add the workers' CPU), rows per second and
+per CPU second, peak RSS (VmHWM) of the driving process (client and, for a local cluster,
+scheduler) and of every worker, and the 1 -> 2 worker scaling of the throughput.  The Dask
+ranking must list its first rows exactly as the in-memory ranking of the same rows would --
+checked when ``--rows`` equals ``--memory-rows`` (the row-for-row equality of the engines is
+tests/catalogue/test_scale.py).
 
 Usage:  python benchmarks/bench_scale.py [--rows 10000000] [--memory-rows 1000000]
-        [--workers 1,2] [--dir DIR] [--keep]
+        [--workers 1,2] [--inputs hats,parquet] [--dir DIR] [--keep]
 """
 
 import argparse

@@ -25,13 +25,15 @@ and ranked once; only small arrays travel to the client.
    different partitions ordered by name), which gives every row its rank and
    the running sum of the expected number, added in rank order (the additions
    of the in-memory engine's single cumulative sum).
-3. **write** (one task per partition): the worker reads its work file back, drops
-   the duplicates and writes it to ``ranking.parquet/part.NNNNNN.parquet`` with
-   the global ``rank``, ``catalogue_row`` and ``cumulative_expected_number``
-   (units and the ranking's meta in the Parquet metadata, key ``ptaconstrain``).
-   Each file holds one input partition's rows in rank order; the ``rank``
-   column orders the whole directory (:class:`ParquetRanking` reads it back in
-   rank order by merging the files).
+3. **write** (one task per partition): the client leaves each partition's ranks
+   and running sums in the work directory; the worker reads its work file back,
+   drops the duplicates and writes it to ``ranking.parquet/part.NNNNNN.parquet``
+   with the global ``rank``, ``catalogue_row`` and ``cumulative_expected_number``
+   (units and the ranking's meta in the Parquet metadata, key ``ptaconstrain``),
+   and returns its best ``top_rows`` rows, from which the client takes the top
+   of the ranking.  Each file holds one input partition's rows in rank order;
+   the ``rank`` column orders the whole directory (:class:`ParquetRanking` reads
+   it back in rank order by merging the files).
 
 No column is shuffled between workers.  The client holds about 60 bytes per
 ranked row at its peak (the merge of the sort keys).  Nothing appears in the
@@ -160,7 +162,7 @@ def _rank_partition(source, part, plan, chunk_size, columns, units, work, pixel=
     return out
 
 
-def _write_partition(source, target, drop, globals_file, offset, meta_json):
+def _write_partition(source, target, drop, globals_file, offset, meta_json, top):
     """Write step (runs on a worker): one sorted partition with its global columns.
 
     ``globals_file`` (written by the client) holds the partition's ranks and
@@ -187,6 +189,7 @@ def _write_partition(source, target, drop, globals_file, offset, meta_json):
     info = json.loads(t.schema.metadata[b"ptaconstrain"])
     info["meta"] = json.loads(meta_json)
     _write_parquet(t.replace_schema_metadata({b"ptaconstrain": json.dumps(info).encode()}), target)
+    return t.slice(0, top)  # the partition's best rows: candidates for the top of the ranking
 
 
 def _tasks(path, kind, columns):
@@ -353,8 +356,12 @@ def _reduce(results, work, on_bad, name):
     return rejections, plan, cum_sorted, int(sizes.sum()), sources, n_ranked, total
 
 
-def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say):
-    """Map, reduce and write on the cluster; the ranking lands in ``work/ranking.parquet``."""
+def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say, top):
+    """Map, reduce and write on the cluster; the ranking lands in ``work/ranking.parquet``.
+
+    Returns the rejections, the meta, rows read, rows ranked, the expected total and
+    the best ``top`` rows (an Arrow table in rank order).
+    """
     import dask
 
     columns = list(dict.fromkeys(plan.resolved.values()))
@@ -391,11 +398,16 @@ def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say):
                 str(globals_file),
                 int(offset),
                 meta_json,
+                int(top),
             )
         )
     del parts, cum_sorted
-    dask.compute(*jobs)
-    return rejections, meta, n_read, n_ranked, total
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    best = pa.concat_tables(dask.compute(*jobs))
+    best = best.take(pc.sort_indices(best["rank"])[: int(top)])
+    return rejections, meta, n_read, n_ranked, total, best
 
 
 class ParquetRanking:
@@ -441,8 +453,22 @@ class ParquetRanking:
         names = ["catalogue_row" if c == "row" else c for c in columns]
         return list(dict.fromkeys([*names, "rank"]))
 
-    def _rows(self, table, columns):
-        """Arrow rows as a dict of arrays / Quantities (kernel-row form; text as UTF-8 bytes)."""
+    def rows(self, table, columns=None):
+        """Arrow rows of the ranking as a dict of arrays / Quantities (kernel-row form).
+
+        Text columns become UTF-8 bytes; ``catalogue_row`` becomes the 0-based ``row``.
+
+        Parameters
+        ----------
+        table : pyarrow.Table
+            Rows of the ranking's files.
+        columns : list of str, optional
+            Keep ``rank``, ``mass`` and ``cumulative_expected_number`` only when named here.
+
+        Returns
+        -------
+        dict
+        """
         skip = {"rank", "catalogue_row", "mass", "cumulative_expected_number"}
         out = {}
         for name in table.column_names:
@@ -491,13 +517,13 @@ class ParquetRanking:
                     pieces.append(held[i].slice(0, k))
                     held[i] = held[i].slice(k)
             table = pa.concat_tables(pieces).combine_chunks()
-            yield self._rows(table.take(pc.sort_indices(table["rank"])), columns)
+            yield self.rows(table.take(pc.sort_indices(table["rank"])), columns)
 
     def column(self, key):
         """One column of every row, in rank order."""
         t = self._dataset.to_table(columns=self._names([key]))
         order = np.argsort(t["rank"].to_numpy())
-        return self._rows(t.take(order), [key])["row" if key == "catalogue_row" else key]
+        return self.rows(t.take(order), [key])["row" if key == "catalogue_row" else key]
 
     def take(self, rows, columns):
         """The given 0-based rank positions of ``columns`` as an astropy Table (a sample)."""
@@ -655,8 +681,9 @@ cosmology, sky, sky_nside, files, inputs, top_rows
                 meta["engine"] = f"dask ({where}); {kind} input"
                 return meta
 
-            rejections, meta, n_read, n_ranked, total = _run(
-                path, kind, plan, units, int(chunk_size), on_bad, work, meta_of, say
+            top = max(int(top_rows), 1)
+            rejections, meta, n_read, n_ranked, total, best = _run(
+                path, kind, plan, units, int(chunk_size), on_bad, work, meta_of, say, top
             )
         if final.exists():  # overwrite: the old ranking goes only now
             os.rename(final, work / "replaced")
@@ -664,7 +691,7 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     finally:
         shutil.rmtree(work, ignore_errors=True)
     runs = ParquetRanking(final)
-    table = ranking_table(next(runs.blocks(max(int(top_rows), 1))), metric, sens.verb)
+    table = ranking_table(runs.rows(best), metric, sens.verb)
     for key in ("name", "mass_source"):
         table[key] = np.char.decode(np.asarray(table[key]), "utf-8")
     table.meta.update(meta)
