@@ -125,14 +125,21 @@ def parquet_units(schema):
         return {}
     from astropy.table.meta import get_header_from_yaml
 
+    fix = "rewrite the file (e.g. with astropy) or drop that metadata"
     try:
         header = get_header_from_yaml(text.decode("utf-8").splitlines())
     except Exception as err:  # astropy raises its own YAML errors
         raise CatalogError(
-            f"the Parquet metadata 'table_meta_yaml' cannot be read ({first_line(err)}): "
-            "rewrite the file"
+            f"the Parquet metadata 'table_meta_yaml' cannot be read ({first_line(err)}): {fix}"
         ) from err
-    return {str(c["name"]): str(c["unit"]) for c in header.get("datatype", []) if c.get("unit")}
+    columns = header.get("datatype", []) if isinstance(header, dict) else None
+    if not isinstance(columns, list) or not all(
+        isinstance(c, dict) and "name" in c for c in columns
+    ):
+        raise CatalogError(
+            f"the Parquet metadata 'table_meta_yaml' is not an astropy table header: {fix}"
+        )
+    return {str(c["name"]): str(c["unit"]) for c in columns if c.get("unit")}
 
 
 def arrow_to_table(data, units=None):
