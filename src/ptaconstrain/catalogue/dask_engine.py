@@ -14,7 +14,8 @@ and ranked once; only small arrays travel to the client.
    :meth:`~ptaconstrain.catalogue.thresholds.ThresholdLookup.partition_thresholds`);
    the worker sorts the partition's rows by the ranking rule
    (:func:`~ptaconstrain.catalogue.ranked_runs.ranking_order`) and writes them as
-   ranking-table rows to a private work directory.  It returns its row count,
+   ranking-table rows to a private work directory (Arrow IPC, uncompressed: read
+   once more, by the write step).  It returns its row count,
    its rejections and notes, and per ranked row (in its local order) the 64-bit
    name hash, the two sort keys and the expected number: 32 bytes a row.
 2. **reduce** (on the client): row counts give catalogue rows; rejections and
@@ -109,6 +110,28 @@ def _arrow(table, info=None):
     return pa.table(cols).replace_schema_metadata({b"ptaconstrain": json.dumps(meta).encode()})
 
 
+def _work_name(i):
+    return f"rows.{i:06d}.arrow"
+
+
+def _write_work(table, target):
+    """A partition's sorted rows as an uncompressed Arrow IPC file (private, read once more)."""
+    import pyarrow as pa
+
+    tmp = f"{target}.{os.getpid()}.tmp"
+    with pa.OSFile(tmp, "wb") as sink, pa.ipc.new_file(sink, table.schema) as writer:
+        writer.write_table(table, max_chunksize=_ROW_GROUP)
+    os.replace(tmp, target)
+
+
+def _read_work(source, columns=None):
+    import pyarrow as pa
+
+    with pa.OSFile(str(source), "rb") as f:
+        table = pa.ipc.open_file(f).read_all()
+    return table if columns is None else table.select(list(columns))
+
+
 def _write_parquet(table, target):
     """Write an Arrow table atomically (a re-run task rewrites the same file)."""
     import pyarrow.parquet as pq
@@ -158,7 +181,7 @@ def _rank_partition(source, part, plan, chunk_size, columns, units, work, pixel=
         sources=dict(zip(sources.tolist(), counts.tolist(), strict=True)),
     )
     rows = ranking_table(data, plan.metric, plan.sensitivity.verb)
-    _write_parquet(_arrow(rows), str(Path(work) / _part_name(part)))
+    _write_work(_arrow(rows), str(Path(work) / _work_name(part)))
     return out
 
 
@@ -170,9 +193,8 @@ def _write_partition(source, target, drop, globals_file, offset, meta_json, top)
     not through the task graph.
     """
     import pyarrow as pa
-    import pyarrow.parquet as pq
 
-    t = pq.read_table(source)
+    t = _read_work(source)
     if drop.size:
         keep = np.ones(t.num_rows, bool)
         keep[drop] = False
@@ -243,9 +265,8 @@ def _source_columns(path, kind):
 
 def _read_rows(work, part, positions, columns):
     """Columns of a few rows (local positions) of one partition's work file."""
-    import pyarrow.parquet as pq
 
-    t = pq.read_table(str(Path(work) / _part_name(part)), columns=list(columns))
+    t = _read_work(Path(work) / _work_name(part), columns)
     return {k: t[k].to_numpy(zero_copy_only=False)[positions] for k in columns}
 
 
@@ -392,7 +413,7 @@ def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say, top):
         np.savez(globals_file, rank=ranks, cumulative=cum_sorted[ranks - 1])
         jobs.append(
             write(
-                str(work / _part_name(p)),
+                str(work / _work_name(p)),
                 str(out_dir / _part_name(p)),
                 drop,
                 str(globals_file),
