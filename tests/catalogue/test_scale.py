@@ -80,9 +80,15 @@ def catalogue(tmp_path_factory):
 
 
 @pytest.mark.slow
-def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path):
+def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path, monkeypatch):
+    import lsdb
+
+    from ptaconstrain.catalogue import dask_engine
+
     base, df = catalogue
     curve = load_curve(CURVE)
+    # HATS partitions above 2 x 3,000 rows are ranked in slices of 3,000 (one task each)
+    monkeypatch.setattr(dask_engine, "PARTITION_ROWS", 3_000)
     memory = rank_catalog(Table.from_pandas(df), curve, on_bad="skip")
     parquet = rank_catalog(base / "galaxies.parquet", curve, on_bad="skip", chunk_size=30_000)
     hats = rank_catalog_dask(
@@ -94,6 +100,8 @@ def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path):
         chunk_size=30_000,
         top_rows=100,
     )
+    n_pixels = len(lsdb.open_catalog(base / "galaxies_hats").get_healpix_pixels())
+    assert len(list((tmp_path / "out" / "ranking.parquet").glob("*.parquet"))) > n_pixels
     n = memory.n_ranked
     assert n == parquet.n_ranked == hats.n_ranked == N_ROWS - 3  # 3 bad rows; repeats dropped
     assert memory.rejections.counts == parquet.rejections.counts == hats.rejections.counts

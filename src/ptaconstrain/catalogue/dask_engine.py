@@ -83,7 +83,7 @@ __all__ = [
 #: the ranking written by the Dask engine (a directory of Parquet files, one per partition)
 PARQUET_DIR = "ranking.parquet"
 #: rows per task of a Parquet input (whole row groups, or slices of a larger one); a HATS
-#: partition is taken as it is
+#: partition is taken whole up to twice this, in slices of this size above
 PARTITION_ROWS = 250_000
 DUPLICATE_REASON = "duplicate name (the first occurrence is kept)"
 _ROW_GROUP = 1 << 16
@@ -143,6 +143,9 @@ def _write_parquet(table, target):
 
 def _read_source(source, columns, units):
     """One partition as an astropy Table: an lsdb (pandas) frame or (file, row groups)."""
+    if isinstance(source, tuple) and len(source) == 3:  # a slice of a large HATS partition
+        frame, start, stop = source
+        return frame_to_table(frame[columns].iloc[start:stop], units)
     if isinstance(source, tuple):
         import pyarrow.parquet as pq
 
@@ -221,7 +224,17 @@ def _tasks(path, kind, columns):
 
         cat = lsdb.open_catalog(path, columns=columns)
         pixels = [(int(p.order), int(p.pixel)) for p in cat.get_healpix_pixels()]
-        return list(zip(cat.to_delayed(), pixels, strict=True))
+        rows = _pixel_rows(cat)
+        out = []
+        for part, pixel in zip(cat.to_delayed(), pixels, strict=True):  # a loop over pixels
+            n = rows.get(pixel, 0)
+            if n <= 2 * PARTITION_ROWS:
+                out.append((part, pixel))
+                continue
+            starts = list(range(0, n, PARTITION_ROWS))  # a large pixel: slices of it
+            ends = [*starts[1:], None]  # the last slice takes whatever is left
+            out += [((part, a, b), pixel) for a, b in zip(starts, ends, strict=True)]
+        return out
     import pyarrow.dataset as ds
 
     out = []
@@ -245,6 +258,21 @@ def _tasks(path, kind, columns):
         if group:
             out.append(((frag.path, group, 0, n), None))
     return out
+
+
+def _pixel_rows(cat):
+    """(order, pixel) -> rows of a HATS catalogue's partitions, from its metadata ({} if none)."""
+    import warnings
+
+    try:
+        with warnings.catch_warnings():
+            # hats sets a pandas option that pandas 3 deprecates: its internals, not the user's
+            warnings.simplefilter("ignore", DeprecationWarning)
+            stats = cat.hc_structure.per_pixel_statistics(include_stats=["row_count"])
+    except Exception:  # no _metadata file, or another hats version: partitions taken whole
+        return {}
+    counts = stats.iloc[:, 0].to_numpy()
+    return {(int(p.order), int(p.pixel)): int(n) for p, n in zip(stats.index, counts, strict=True)}
 
 
 def _source_columns(path, kind):
