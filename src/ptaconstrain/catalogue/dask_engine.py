@@ -319,10 +319,12 @@ def _duplicates(results, starts, offsets, work):
 
     Returns (indices, catalogue rows, names, mass sources) of the rows to drop.
     """
-    hashes = np.concatenate([r.get("hash", np.zeros(0, np.uint64)) for r in results])
+    hashes = np.concatenate([r.pop("hash", np.zeros(0, np.uint64)) for r in results])
     s = np.sort(hashes)
     repeated = np.unique(s[1:][s[1:] == s[:-1]])
     del s
+    if not repeated.size:
+        return np.zeros(0, np.int64), None, None, None
     if not repeated.size:
         return np.zeros(0, np.int64), None, None, None
     cand = np.flatnonzero(np.isin(hashes, repeated))
@@ -338,7 +340,8 @@ def _duplicates(results, starts, offsets, work):
 def _global_order(key, tie, index, starts, work):
     """Merge the partitions' sorted keys: key, tie-breaker, then name (as in memory).
 
-    ``index`` maps each row to its place among all ranked rows (for reading names).
+    ``index`` maps each row to its place among all ranked rows (for reading names;
+    None: the same place, no row was dropped).
     """
     order = np.lexsort((tie, key))  # stable: each partition's own (name) order is kept
     ks, ts = key[order], tie[order]
@@ -350,7 +353,7 @@ def _global_order(key, tie, index, starts, work):
         mark[:-1] |= eq
         group = np.cumsum(np.r_[True, ~eq])[mark]
         sub = order[mark]
-        part, pos = _locate(index[sub], starts)
+        part, pos = _locate(sub if index is None else index[sub], starts)
         names = name_bytes(_gather(work, part, pos, ("name",))["name"].astype(str))
         order[mark] = sub[np.lexsort((names, group))]
     return order
@@ -381,11 +384,11 @@ def _reduce(results, work, on_bad, name):
     if not n_ranked:
         raise no_rows_error(name, rejections)
 
-    def column(k):
-        col = np.concatenate([r[k] for r in results if r["n_ranked"]])
+    def column(k):  # each partition's array is dropped once concatenated
+        col = np.concatenate([r.pop(k) for r in results if r["n_ranked"]])
         return col if not drop.size else np.delete(col, drop)
 
-    index = np.delete(np.arange(starts[-1]), drop)
+    index = np.delete(np.arange(starts[-1]), drop) if drop.size else None
     order = _global_order(column("key"), column("tie"), index, starts, work)
     rank = np.empty(n_ranked, np.int64)
     rank[order] = np.arange(1, n_ranked + 1)
@@ -393,7 +396,7 @@ def _reduce(results, work, on_bad, name):
     del order
     total = float(cum_sorted[-1])
     # kept rows of each partition: its slice of ``index``
-    bounds = np.searchsorted(index, starts)
+    bounds = starts if index is None else np.searchsorted(index, starts)
     dropped = [
         drop[(drop >= a) & (drop < b)] - a for a, b in zip(starts[:-1], starts[1:], strict=True)
     ]
@@ -403,6 +406,24 @@ def _reduce(results, work, on_bad, name):
         if results[p]["n_ranked"]
     ]
     return rejections, plan, cum_sorted, int(sizes.sum()), sources, n_ranked, total
+
+
+def _gather_as_completed(jobs):
+    """Compute delayed jobs on the current client, fetching each result as it completes.
+
+    A result leaves the worker's memory as soon as it is fetched, so the workers
+    never hold the small arrays of every partition at once.
+    """
+    from distributed import as_completed, get_client
+
+    client = get_client()
+    futures = client.compute(jobs)
+    where = {f.key: i for i, f in enumerate(futures)}
+    results = [None] * len(futures)
+    for future in as_completed(futures):  # a loop over partitions
+        results[where[future.key]] = future.result()
+        future.release()
+    return results
 
 
 def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say, top):
@@ -417,8 +438,8 @@ def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say, top):
     tasks = _tasks(path, kind, columns)
     say(f"ranking {len(tasks)} partitions")
     rank_part = dask.delayed(_rank_partition, pure=False)
-    results = dask.compute(
-        *[
+    results = _gather_as_completed(
+        [
             rank_part(source, i, plan, chunk_size, columns, units, str(work), pixel)
             for i, (source, pixel) in enumerate(tasks)
         ]
@@ -454,7 +475,7 @@ def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say, top):
     import pyarrow as pa
     import pyarrow.compute as pc
 
-    best = pa.concat_tables(dask.compute(*jobs))
+    best = pa.concat_tables(_gather_as_completed(jobs))
     best = best.take(pc.sort_indices(best["rank"])[: int(top)])
     return rejections, meta, n_read, n_ranked, total, best
 
