@@ -80,9 +80,15 @@ def catalogue(tmp_path_factory):
 
 
 @pytest.mark.slow
-def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path):
+def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path, monkeypatch):
+    import lsdb
+
+    from ptaconstrain.catalogue import dask_engine
+
     base, df = catalogue
     curve = load_curve(CURVE)
+    # HATS partitions above 2 x 3,000 rows are ranked in slices of 3,000 (one task each)
+    monkeypatch.setattr(dask_engine, "PARTITION_ROWS", 3_000)
     memory = rank_catalog(Table.from_pandas(df), curve, on_bad="skip")
     parquet = rank_catalog(base / "galaxies.parquet", curve, on_bad="skip", chunk_size=30_000)
     hats = rank_catalog_dask(
@@ -94,6 +100,8 @@ def test_parquet_and_hats_on_two_workers_rank_as_in_memory(catalogue, tmp_path):
         chunk_size=30_000,
         top_rows=100,
     )
+    n_pixels = len(lsdb.open_catalog(base / "galaxies_hats").get_healpix_pixels())
+    assert len(list((tmp_path / "out" / "ranking.parquet").glob("*.parquet"))) > n_pixels
     n = memory.n_ranked
     assert n == parquet.n_ranked == hats.n_ranked == N_ROWS - 3  # 3 bad rows; repeats dropped
     assert memory.rejections.counts == parquet.rejections.counts == hats.rejections.counts
@@ -234,3 +242,113 @@ def test_unreachable_scheduler_is_one_line_and_leaves_nothing(catalogue, tmp_pat
     line = _error_line(result)
     assert "tcp://127.0.0.1:9 cannot be reached" in line
     assert not out.exists() or not any(out.iterdir())
+
+
+@pytest.mark.slow
+def test_dask_on_parquet_partitions_merges_orders_and_names_as_in_memory(tmp_path, monkeypatch):
+    # many small partitions: repeated names and exactly equal sort keys fall in different
+    # partitions, so the client's merge (key, tie-breaker, then name) and its duplicate search
+    # (hash, then exact name, first catalogue row kept) are what decide; the reference is the
+    # in-memory engine on the same rows
+    from ptaconstrain.catalogue import dask_engine
+
+    df = _invented_catalogue(3000, seed=5)
+    twins = df.iloc[[100, 100]].copy()  # one galaxy's data under two new names: equal keys
+    twins["name"] = ["Twin-b", "Twin-a"]
+    later = df.iloc[[7, 1200]].copy()  # repeats of early names, far later in the file
+    later["distance"] = [33.0, 44.0]  # the repeat differs: only the first occurrence counts
+    df = pd.concat([df.iloc[:1500], twins.iloc[[0]], df.iloc[1500:], twins.iloc[[1]], later])
+    df = df.reset_index(drop=True)
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    table = pa.Table.from_pandas(df, preserve_index=False)
+    with pq.ParquetWriter(tmp_path / "cat.parquet", table.schema) as writer:
+        writer.write_table(table.slice(0, 1500), row_group_size=250)  # tasks of whole groups
+        writer.write_table(table.slice(1500), row_group_size=900)  # tasks of slices of groups
+    monkeypatch.setattr(dask_engine, "PARTITION_ROWS", 500)
+    curve = load_curve(CURVE)
+    memory = rank_catalog(Table.from_pandas(df), curve, on_bad="skip")
+    dask = rank_catalog_dask(
+        tmp_path / "cat.parquet", curve, tmp_path / "out", workers=2, on_bad="skip", top_rows=40
+    )
+    assert len(list((tmp_path / "out" / "ranking.parquet").glob("*.parquet"))) >= 6
+    assert dask.n_ranked == memory.n_ranked and dask.n_read == memory.n_read == len(df)
+    for key in ("row", "name", "value", "reason"):
+        assert list(dask.rejections.table()[key]) == list(memory.rejections.table()[key]), key
+    assert memory.rejections.counts["duplicate name (the first occurrence is kept)"] == 5
+    ref = memory.table
+    names = np.char.decode(np.asarray(dask.runs.column("name")), "utf-8")
+    assert list(names) == list(ref["name"])
+    assert list(ref["name"]).index("Twin-a") + 1 == list(ref["name"]).index("Twin-b")
+    assert np.array_equal(dask.runs.column("catalogue_row") + 1, np.asarray(ref["catalogue_row"]))
+    got = np.asarray(dask.runs.column("cumulative_expected_number"))
+    np.testing.assert_array_equal(got, np.asarray(ref["cumulative_expected_number"]))
+    assert list(dask.table["name"]) == list(ref["name"][:40])
+    sample = dask.runs.take([5, 0, 999], ["rank", "name"])
+    assert list(sample["rank"]) == [6, 1, 1000]
+    assert list(sample["name"]) == [ref["name"][5], ref["name"][0], ref["name"][999]]
+    blocks = [np.char.decode(b["name"], "utf-8") for b in dask.runs.blocks(700)]
+    assert [len(b) for b in blocks[:-1]] == [700] * (len(blocks) - 1)
+    assert list(np.concatenate(blocks)) == list(ref["name"])
+    # on_bad="error": the same first bad row named in the same one line
+    with pytest.raises(Exception) as mem_err:
+        rank_catalog(Table.from_pandas(df), curve)
+    with pytest.raises(Exception) as dask_err:
+        rank_catalog_dask(tmp_path / "cat.parquet", curve, tmp_path / "out2", workers=1)
+    assert str(dask_err.value) == str(mem_err.value)
+    assert not (tmp_path / "out2" / "ranking.parquet").exists()
+
+
+def _with_units(df, distance_unit, sigma_unit, scale_d, scale_s):
+    import astropy.units as u
+
+    t = Table.from_pandas(df.iloc[:200].reset_index(drop=True))
+    t["distance"] = t["distance"] * scale_d
+    t["distance"].unit = u.Unit(distance_unit)
+    t["velocity_dispersion"] = t["velocity_dispersion"] * scale_s
+    t["velocity_dispersion"].unit = u.Unit(sigma_unit)
+    return t
+
+
+def test_parquet_written_by_astropy_keeps_its_units_under_the_ecsv_rule(tmp_path):
+    # astropy stores the column units of Table.write(format="parquet") in the schema metadata
+    # (astropy docs, "Parquet" in Unified File Read/Write); 1 Mpc = 1000 kpc and
+    # 1 km/s = 1000 m/s by definition
+    df = _invented_catalogue(300, seed=2)
+    curve = load_curve(CURVE)
+    bare = rank_catalog(
+        Table.from_pandas(df.iloc[:200].reset_index(drop=True)), curve, on_bad="skip"
+    )
+    t = _with_units(df, "kpc", "m / s", 1000.0, 1000.0)
+    t.write(tmp_path / "kpc.parquet")
+    t.write(tmp_path / "kpc.ecsv")
+    for name in ("kpc.parquet", "kpc.ecsv"):
+        r = rank_catalog(tmp_path / name, curve, on_bad="skip")
+        assert list(r.table["name"]) == list(bare.table["name"]), name
+        np.testing.assert_allclose(
+            r.table["distance"].value, bare.table["distance"].value, rtol=1e-13, err_msg=name
+        )
+        np.testing.assert_allclose(
+            r.table["expected_number"], bare.table["expected_number"], rtol=1e-11, err_msg=name
+        )
+    dask = rank_catalog_dask(
+        tmp_path / "kpc.parquet", curve, tmp_path / "out", workers=1, on_bad="skip"
+    )
+    np.testing.assert_allclose(
+        np.asarray(dask.runs.column("distance")), bare.table["distance"].value, rtol=1e-13
+    )
+    # a unit of the wrong kind: the same one line for both formats
+    wrong = _with_units(df, "kg", "km / s", 1.0, 1.0)
+    wrong.write(tmp_path / "kg.parquet")
+    wrong.write(tmp_path / "kg.ecsv")
+    lines = [
+        _error_line(
+            CliRunner().invoke(
+                main,
+                ["rank", str(tmp_path / n), "--curve", CURVE, "--out", str(tmp_path / f"o-{n}")],
+            )
+        )
+        for n in ("kg.parquet", "kg.ecsv")
+    ]
+    assert lines[0] == lines[1] and "distance" in lines[0] and "kg" in lines[0], lines

@@ -319,3 +319,39 @@ def test_a_full_disk_leaves_no_partial_set(tmp_path, monkeypatch, catalogue, com
     assert "no space left on device" in r.output.lower(), r.output
     assert_promise(r, out)
     assert sorted(p.name for p in tmp_path.iterdir()) == []  # no staging beside --out
+
+
+#: astropy unit metadata (the ECSV header as YAML) a hostile Parquet file may carry
+PARQUET_UNIT_YAML = {
+    "junk unit": "datatype:\n- {name: distance, unit: furlongs per glass, datatype: float64}\n",
+    "wrong kind": "datatype:\n- {name: distance, unit: kg, datatype: float64}\n",
+    "not YAML": "datatype: [ {name: distance, unit: kpc\n",
+    "not a header": "- 1\n- 2\n",
+    "binary": "\x00\x01\x02",
+}
+
+
+@pytest.mark.parametrize("name", sorted(PARQUET_UNIT_YAML))
+@pytest.mark.parametrize("engine", ["memory", "dask"])
+def test_parquet_with_hostile_unit_metadata(tmp_path, name, engine):
+    # the units astropy stores in a Parquet file (key table_meta_yaml) are read under the
+    # ECSV rule: any damage is one line, for the in-memory reader and the Dask engine alike
+    pa = pytest.importorskip("pyarrow", reason="the optional 'scale' extra is not installed")
+    import pyarrow.parquet as pq
+
+    table = pa.table(
+        {
+            "name": ["Invented A", "Invented B"],
+            "ra": [10.0, 150.0],
+            "dec": [-5.0, 20.0],
+            "distance": [20.0, 40.0],
+            "mass": [3e9, 5e9],
+        }
+    )
+    table = table.replace_schema_metadata({b"table_meta_yaml": PARQUET_UNIT_YAML[name].encode()})
+    pq.write_table(table, tmp_path / "galaxies.parquet")
+    out = tmp_path / "out"
+    args = ["rank", tmp_path / "galaxies.parquet", "--curve", CURVE, "--out", out]
+    if engine == "dask":
+        args += ["--engine", "dask", "--workers", "1"]
+    assert_promise(run(args), out, allow_success=(name == "not a header"))

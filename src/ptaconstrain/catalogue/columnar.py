@@ -14,8 +14,11 @@ imported inside the functions here so that the base install never loads them.
 Every piece becomes an :class:`astropy.table.Table` (:func:`arrow_to_table`):
 numbers stay numbers, text stays text, nulls become masked entries, so the
 same column mapping and row policy (:mod:`~ptaconstrain.catalogue.rows`) apply
-unchanged.  Parquet columns carry no units; declare them in the column mapping
-(``[units]``) when they are not the fields' defaults.
+unchanged.  Units: Parquet written by astropy (``Table.write(..., format="parquet")``)
+keeps each column's unit in the file's metadata (key ``table_meta_yaml``, the
+ECSV header); those units are read (:func:`parquet_units`) and honoured under
+the same rule as an ECSV file's.  Other Parquet carries no units; declare them
+in the column mapping (``[units]``) when they are not the fields' defaults.
 """
 
 from pathlib import Path
@@ -29,6 +32,7 @@ __all__ = [
     "columnar_kind",
     "require_scale",
     "arrow_to_table",
+    "parquet_units",
     "frame_to_table",
     "ParquetSource",
     "HatsSource",
@@ -90,8 +94,56 @@ def columnar_kind(path):
     return None
 
 
-def arrow_to_table(data):
-    """A pyarrow Table or RecordBatch as an astropy Table (nulls masked).
+def parquet_units(schema):
+    """Column units stored by astropy in a Parquet schema's metadata (name -> unit text).
+
+    astropy writes the table's ECSV-style header as YAML under the metadata key
+    ``table_meta_yaml``; columns without a unit, and files written by other
+    tools, give nothing.
+
+    Parameters
+    ----------
+    schema : pyarrow.Schema
+
+    Returns
+    -------
+    dict
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> import astropy.units as u
+    >>> import pyarrow.parquet as pq
+    >>> from astropy.table import QTable
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     QTable({"d": [1.0, 2.0] * u.kpc, "n": ["a", "b"]}).write(f"{tmp}/t.parquet")
+    ...     parquet_units(pq.read_schema(f"{tmp}/t.parquet"))
+    {'d': 'kpc'}
+    """
+    text = (getattr(schema, "metadata", None) or {}).get(b"table_meta_yaml")
+    if not text:
+        return {}
+    from astropy.table.meta import get_header_from_yaml
+
+    fix = "rewrite the file (e.g. with astropy) or drop that metadata"
+    try:
+        header = get_header_from_yaml(text.decode("utf-8").splitlines())
+    except Exception as err:  # astropy raises its own YAML errors
+        raise CatalogError(
+            f"the Parquet metadata 'table_meta_yaml' cannot be read ({first_line(err)}): {fix}"
+        ) from err
+    columns = header.get("datatype", []) if isinstance(header, dict) else None
+    if not isinstance(columns, list) or not all(
+        isinstance(c, dict) and "name" in c for c in columns
+    ):
+        raise CatalogError(
+            f"the Parquet metadata 'table_meta_yaml' is not an astropy table header: {fix}"
+        )
+    return {str(c["name"]): str(c["unit"]) for c in columns if c.get("unit")}
+
+
+def arrow_to_table(data, units=None):
+    """A pyarrow Table or RecordBatch as an astropy Table (nulls masked, units kept).
 
     Numeric and boolean columns become float/int/bool arrays (an integer column
     with nulls becomes float with masked entries), text becomes str; any other
@@ -101,6 +153,8 @@ def arrow_to_table(data):
     Parameters
     ----------
     data : pyarrow.Table or pyarrow.RecordBatch
+    units : dict, optional
+        name -> unit of the columns (default: :func:`parquet_units` of the data's schema).
 
     Returns
     -------
@@ -109,6 +163,7 @@ def arrow_to_table(data):
     import pyarrow as pa
     from astropy.table import MaskedColumn, Table
 
+    units = parquet_units(data.schema) if units is None else units
     out = Table()
     for name, col in zip(data.schema.names, data.columns, strict=True):
         if isinstance(col, pa.ChunkedArray):
@@ -126,19 +181,22 @@ def arrow_to_table(data):
         else:
             values = col.to_numpy(zero_copy_only=False)
         out[name] = MaskedColumn(values, mask=mask) if mask.any() else values
+        if name in units:  # as astropy's own reader: an unknown unit stays unrecognised
+            out[name].unit = units[name]
     return out
 
 
-def frame_to_table(frame):
+def frame_to_table(frame, units=None):
     """A pandas DataFrame (e.g. a Dask or LSDB partition) as an astropy Table.
 
     The index is dropped; columns go through :func:`arrow_to_table`, so a partition
-    is read exactly as the same rows in a Parquet file would be.
+    is read exactly as the same rows in a Parquet file would be.  ``units``
+    (name -> unit) are those of the catalogue's schema (a frame keeps none).
     """
     import pyarrow as pa
 
     frame = frame.reset_index(drop=True)
-    return arrow_to_table(pa.Table.from_pandas(frame, preserve_index=False))
+    return arrow_to_table(pa.Table.from_pandas(frame, preserve_index=False), units or {})
 
 
 class ParquetSource:
@@ -151,6 +209,8 @@ class ParquetSource:
     Attributes
     ----------
     colnames : list of str
+    units : dict
+        Column units stored by astropy in the metadata (:func:`parquet_units`).
     n_rows : int
         From the files' metadata.
     """
@@ -163,6 +223,7 @@ class ParquetSource:
         try:
             self._dataset = ds.dataset(str(self.path), format="parquet")
             self.colnames = list(self._dataset.schema.names)
+            self.units = parquet_units(self._dataset.schema)
             self.n_rows = int(self._dataset.count_rows())
         except (OSError, ValueError) as err:  # pyarrow's ArrowInvalid is a ValueError
             raise CatalogError(
@@ -176,7 +237,7 @@ class ParquetSource:
         try:
             for batch in self._dataset.to_batches(columns=columns, batch_size=int(chunk_size)):
                 if batch.num_rows:
-                    yield start, arrow_to_table(batch)
+                    yield start, arrow_to_table(batch, self.units)
                     start += batch.num_rows
         except (OSError, ValueError) as err:
             raise CatalogError(
@@ -194,6 +255,8 @@ class HatsSource:
     Attributes
     ----------
     colnames : list of str
+    units : dict
+        Column units stored by astropy in the metadata (:func:`parquet_units`).
     n_rows : int
         From the catalogue's properties.
     catalog : lsdb.Catalog
@@ -212,6 +275,7 @@ class HatsSource:
                 f"({first_line(err)}): check the directory"
             ) from err
         self.colnames = [str(c) for c in self.catalog.columns]
+        self.units = parquet_units(getattr(self.catalog.hc_structure, "schema", None))
         total = self.catalog.hc_structure.catalog_info.total_rows
         self.n_rows = int(total) if total is not None else 0
 
@@ -224,7 +288,7 @@ class HatsSource:
             if columns is not None:
                 frame = frame[list(columns)]
             for a in range(0, len(frame), chunk_size):
-                piece = frame_to_table(frame.iloc[a : a + chunk_size])
+                piece = frame_to_table(frame.iloc[a : a + chunk_size], self.units)
                 yield start, piece
                 start += len(piece)
 

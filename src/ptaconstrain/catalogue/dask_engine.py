@@ -2,39 +2,44 @@
 
 Needs the optional extra ``ptaconstrain[scale]`` (imported inside the functions).
 
-How the work divides (:func:`rank_catalog_dask`):
+How the work divides (:func:`rank_catalog_dask`): every partition is read once
+and ranked once; only small arrays travel to the client.
 
-1. **map**: the ranking kernel (:func:`~ptaconstrain.catalogue.kernel.rank_piece`)
-   runs on every partition through the engine's own map-partitions machinery:
-   ``lsdb.Catalog.map_partitions`` for a HATS catalogue (one HEALPix pixel per
-   partition, so the sky-dependent threshold is looked up once per partition
-   when the threshold grid is no finer than the pixel,
-   :meth:`~ptaconstrain.catalogue.thresholds.ThresholdLookup.partition_thresholds`),
-   ``dask.dataframe.map_partitions`` for Parquet.  Inside a partition rows are
-   taken ``chunk_size`` at a time, so a worker's memory is bounded by the
-   partition plus one chunk's metrics.  Every partition returns its ranked
-   rows, its rejected rows (with reasons), its counted notes and its row
-   count, written to Parquet in a private work directory;
-2. **reduce**: the row counts give every row its catalogue row; rejections and
-   notes are summed by reason; repeated names are found from 64-bit hashes
-   (a distributed ``value_counts``; only colliding rows come to the client,
-   where names are compared exactly) and all but the first occurrence are
-   rejected, as the in-memory ranking does;
-3. **sort**: the ranked rows are sorted by the rounded sort keys of
-   :func:`~ptaconstrain.catalogue.ranked_runs.sort_keys` and the name (a
-   distributed sort: range partitioning on sampled quantiles, then a sort of
-   each range);
-4. **rank**: per-partition row counts and sums of the expected number give
-   each partition its first rank and its starting cumulative sum; each
-   partition is then written, by a worker, as the usual ranking table
-   (:func:`~ptaconstrain.catalogue.ranking.ranking_table`) into
-   ``ranking.parquet/`` (``part.000000.parquet`` ...; units and the ranking's
-   meta in the Parquet metadata, key ``ptaconstrain``).
+1. **map** (one Dask task per partition: one HEALPix pixel of a HATS catalogue,
+   read by lsdb, or a run of row groups of a Parquet dataset, read by pyarrow):
+   the ranking kernel (:func:`~ptaconstrain.catalogue.kernel.rank_piece`) ranks
+   the partition ``chunk_size`` rows at a time (for HATS the sky-dependent
+   threshold is looked up once per partition when the threshold grid is no finer
+   than the pixel,
+   :meth:`~ptaconstrain.catalogue.thresholds.ThresholdLookup.partition_thresholds`);
+   the worker sorts the partition's rows by the ranking rule
+   (:func:`~ptaconstrain.catalogue.ranked_runs.ranking_order`) and writes them as
+   ranking-table rows to a private work directory (Arrow IPC, uncompressed: read
+   once more, by the write step).  It returns its row count,
+   its rejections and notes, and per ranked row (in its local order) the 64-bit
+   name hash, the two sort keys and the expected number: 32 bytes a row.
+2. **reduce** (on the client): row counts give catalogue rows; rejections and
+   notes are summed; repeated hashes pick out candidate duplicate names, whose
+   names are read from the work files and compared exactly (all but the first
+   occurrence are rejected, as in memory); the sort keys of every partition,
+   already sorted, are merged into the global order (rows with equal keys in
+   different partitions ordered by name), which gives every row its rank and
+   the running sum of the expected number, added in rank order (the additions
+   of the in-memory engine's single cumulative sum).
+3. **write** (one task per partition): the client leaves each partition's ranks
+   and running sums in the work directory; the worker reads its work file back,
+   drops the duplicates and writes it to ``ranking.parquet/part.NNNNNN.parquet``
+   with the global ``rank``, ``catalogue_row`` and ``cumulative_expected_number``
+   (units and the ranking's meta in the Parquet metadata, key ``ptaconstrain``),
+   and returns its best ``top_rows`` rows, from which the client takes the top
+   of the ranking.  Each file holds one input partition's rows in rank order;
+   the ``rank`` column orders the whole directory (:class:`ParquetRanking` reads
+   it back in rank order by merging the files).
 
-Nothing appears in the output directory until every step has succeeded; a
-failure removes the work directory.  The result is a streamed
-:class:`~ptaconstrain.catalogue.ranking.Ranking` whose rows are read back from
-``ranking.parquet`` (:class:`ParquetRanking`).
+No column is shuffled between workers.  The client holds about 60 bytes per
+ranked row at its peak (the merge of the sort keys).  Nothing appears in the
+output directory until every step has succeeded; a failure removes the work
+directory.
 """
 
 import json
@@ -47,12 +52,12 @@ import numpy as np
 from astropy import units as u
 
 from ..cosmo import DistanceRedshift
-from .columnar import columnar_kind, frame_to_table, require_scale
+from .columnar import arrow_to_table, columnar_kind, frame_to_table, require_scale
 from .columns import CatalogError
 from .kernel import RankPlan, rank_piece
-from .names import name_hashes
+from .names import duplicate_mask, name_bytes, name_hashes
 from .population import PopulationModel
-from .ranked_runs import sort_keys
+from .ranked_runs import ranking_order, sort_keys
 from .ranking import (
     Ranking,
     check_options,
@@ -67,86 +72,26 @@ from .relations import select_relations
 from .rows import Rejections
 from .thresholds import ThresholdLookup
 
-__all__ = ["rank_catalog_dask", "ParquetRanking", "PARQUET_DIR", "DUPLICATE_REASON"]
+__all__ = [
+    "rank_catalog_dask",
+    "ParquetRanking",
+    "PARQUET_DIR",
+    "DUPLICATE_REASON",
+    "PARTITION_ROWS",
+]
 
-#: the ranking written by the Dask engine (a directory of Parquet files, in rank order)
+#: the ranking written by the Dask engine (a directory of Parquet files, one per partition)
 PARQUET_DIR = "ranking.parquet"
-#: rows per partition of the sorted ranking (about 100 MB in memory)
-SORTED_ROWS = 500_000
+#: rows per task of a Parquet input (whole row groups, or slices of a larger one); a HATS
+#: partition is taken whole up to twice this, in slices of this size above
+PARTITION_ROWS = 250_000
 DUPLICATE_REASON = "duplicate name (the first occurrence is kept)"
-_RANKED, _REJECTED, _NOTE, _READ = 0, 1, 2, 3
+_ROW_GROUP = 1 << 16
 _UNITS = {"f_best": "Hz", "isco_frequency": "Hz"}
 
 
 def _part_name(i):
     return f"part.{i:06d}.parquet"
-
-
-def _empty_like(values, n):
-    values = np.asarray(values)
-    if values.dtype.kind == "b":
-        return np.zeros(n, bool)
-    if values.dtype.kind in "US":
-        return np.full(n, "")
-    return np.full(n, np.nan)
-
-
-def _partition_frame(data, rejections, part, n_rows, metric):
-    """One partition's kernel output as one frame: ranked, rejected, note and count rows."""
-    import pandas as pd
-
-    data = {k: (v.to_value(_UNITS[k]) if k in _UNITS else np.asarray(v)) for k, v in data.items()}
-    n_ok = data["row"].size
-    rej = rejections.table()
-    notes = rejections.notes
-    n_other = len(rej) + len(notes) + 1
-    status = np.r_[
-        np.full(n_ok, _RANKED), np.full(len(rej), _REJECTED), np.full(len(notes), _NOTE), _READ
-    ].astype(np.int8)
-    key, tie = sort_keys(metric, data[metric], data["h0_ratio"])
-    cols = {
-        "_status": status,
-        "_part": np.full(status.size, part, np.int64),
-        "_local": np.r_[
-            data["row"], np.asarray(rej["row"]) - 1, np.zeros(len(notes) + 1, np.int64)
-        ].astype(np.int64),
-        "_key": np.r_[key, np.full(n_other, np.inf)],
-        "_tie": np.r_[tie, np.full(n_other, np.inf)],
-        "_hash": np.r_[name_hashes(data["name"]).view(np.int64), np.zeros(n_other, np.int64)],
-        "_reason": _text(np.full(n_ok, ""), rej["reason"], list(notes), [""]),
-        "_value": _text(np.full(n_ok, ""), rej["value"], np.full(len(notes) + 1, "")),
-        "_count": np.r_[
-            np.zeros(n_ok + len(rej), np.int64), np.array(list(notes.values()), np.int64), n_rows
-        ].astype(np.int64),
-    }
-    for k, v in data.items():
-        if k == "row":
-            continue
-        if k == "name":
-            v = _text(v, rej["name"], np.full(len(notes) + 1, ""))
-        else:
-            v = np.concatenate([v, _empty_like(v, n_other)])
-        cols[k] = v
-    return pd.DataFrame(cols)
-
-
-def _text(*parts):
-    return np.concatenate([np.asarray(p, dtype=str) for p in parts]).astype(str)
-
-
-def _rank_partition(frame, plan, part, chunk_size, pixel=None):
-    """The kernel over one partition, ``chunk_size`` rows at a time (runs on a worker)."""
-    rejections = Rejections()
-    thresholds = None
-    if pixel is not None:
-        thresholds = plan.sensitivity.partition_thresholds(pixel.order, pixel.pixel)
-    table = frame_to_table(frame)
-    pieces = [
-        rank_piece(table[a : a + chunk_size], plan, a, rejections, thresholds)
-        for a in range(0, max(len(table), 1), chunk_size)
-    ]  # a loop over chunks
-    data = {k: _join([p[k] for p in pieces]) for k in pieces[0]}
-    return _partition_frame(data, rejections, part, len(table), plan.metric)
 
 
 def _join(arrays):
@@ -155,257 +100,514 @@ def _join(arrays):
     return np.concatenate(arrays)
 
 
-def _hats_kernel(frame, pixel, plan, index_of, chunk_size):
-    return _rank_partition(frame, plan, index_of[(pixel.order, pixel.pixel)], chunk_size, pixel)
+def _arrow(table, info=None):
+    """A ranking QTable as a pyarrow Table (values; units in the schema metadata)."""
+    import pyarrow as pa
+
+    units = {k: str(table[k].unit) for k in table.colnames if isinstance(table[k], u.Quantity)}
+    cols = {k: np.asarray(getattr(table[k], "value", table[k])) for k in table.colnames}
+    meta = {"units": units, **(info or {})}
+    return pa.table(cols).replace_schema_metadata({b"ptaconstrain": json.dumps(meta).encode()})
 
 
-def _parquet_kernel(frame, plan, chunk_size, partition_info=None):
-    part = 0 if partition_info is None else int(partition_info["number"])
-    return _rank_partition(frame, plan, part, chunk_size)
+def _work_name(i):
+    return f"rows.{i:06d}.arrow"
 
 
-def _mapped(path, kind, plan, chunk_size):
-    """The lazily mapped catalogue (a Dask DataFrame of kernel rows) and its column names."""
-    import dask.dataframe as dd
+def _write_work(table, target):
+    """A partition's sorted rows as an uncompressed Arrow IPC file (private, read once more)."""
+    import pyarrow as pa
+
+    tmp = f"{target}.{os.getpid()}.tmp"
+    with pa.OSFile(tmp, "wb") as sink, pa.ipc.new_file(sink, table.schema) as writer:
+        writer.write_table(table, max_chunksize=_ROW_GROUP)
+    os.replace(tmp, target)
+
+
+def _read_work(source, columns=None):
+    import pyarrow as pa
+
+    with pa.OSFile(str(source), "rb") as f:
+        table = pa.ipc.open_file(f).read_all()
+    return table if columns is None else table.select(list(columns))
+
+
+def _write_parquet(table, target):
+    """Write an Arrow table atomically (a re-run task rewrites the same file)."""
+    import pyarrow.parquet as pq
+
+    tmp = f"{target}.{os.getpid()}.tmp"
+    pq.write_table(table, tmp, row_group_size=_ROW_GROUP)
+    os.replace(tmp, target)
+
+
+def _read_source(source, columns, units):
+    """One partition as an astropy Table: an lsdb (pandas) frame or (file, row groups)."""
+    if isinstance(source, tuple) and len(source) == 3:  # a slice of a large HATS partition
+        frame, start, stop = source
+        return frame_to_table(frame[columns].iloc[start:stop], units)
+    if isinstance(source, tuple):
+        import pyarrow.parquet as pq
+
+        file, groups, start, stop = source
+        table = pq.ParquetFile(file).read_row_groups(groups, columns=columns)
+        return arrow_to_table(table.slice(start, stop - start), units)
+    return frame_to_table(source[columns], units)
+
+
+def _rank_partition(source, part, plan, chunk_size, columns, units, work, pixel=None):
+    """Map step (runs on a worker): rank one partition, write it sorted, return small arrays."""
+    table = _read_source(source, columns, units)
+    rejections = Rejections()
+    thresholds = None
+    if pixel is not None:
+        thresholds = plan.sensitivity.partition_thresholds(pixel[0], pixel[1])
+    pieces = [
+        rank_piece(table[a : a + chunk_size], plan, a, rejections, thresholds)
+        for a in range(0, max(len(table), 1), chunk_size)
+    ]  # a loop over chunks
+    data = {k: _join([p[k] for p in pieces]) for k in pieces[0]}
+    del pieces
+    n_ok = data["row"].size
+    out = {"n_rows": len(table), "rejections": rejections, "n_ranked": n_ok}
+    if not n_ok:
+        return out
+    order = ranking_order(plan.metric, data[plan.metric], data["h0_ratio"], data["name"])
+    data = {k: v[order] for k, v in data.items()}
+    key, tie = sort_keys(plan.metric, data[plan.metric], data["h0_ratio"])
+    sources, counts = np.unique(np.asarray(data["mass_source"]), return_counts=True)
+    out.update(
+        hash=name_hashes(data["name"]),
+        key=key,
+        tie=tie,
+        expected=np.asarray(data["expected_number"], dtype=float),
+        sources=dict(zip(sources.tolist(), counts.tolist(), strict=True)),
+    )
+    rows = ranking_table(data, plan.metric, plan.sensitivity.verb)
+    _write_work(_arrow(rows), str(Path(work) / _work_name(part)))
+    return out
+
+
+def _write_partition(source, target, drop, globals_file, offset, meta_json, top):
+    """Write step (runs on a worker): one sorted partition with its global columns.
+
+    ``globals_file`` (written by the client) holds the partition's ranks and
+    running sums, row by row, so that they travel through the work directory,
+    not through the task graph.
+    """
+    import pyarrow as pa
+
+    t = _read_work(source)
+    if drop.size:
+        keep = np.ones(t.num_rows, bool)
+        keep[drop] = False
+        t = t.filter(pa.array(keep))
+    with np.load(globals_file) as g:
+        ranks, cums = g["rank"], g["cumulative"]
+    row = t["catalogue_row"].to_numpy() + np.int64(offset)
+    for name, values in (
+        ("rank", ranks),
+        ("catalogue_row", row),
+        ("cumulative_expected_number", cums),
+    ):
+        t = t.set_column(t.schema.get_field_index(name), name, pa.array(values))
+    info = json.loads(t.schema.metadata[b"ptaconstrain"])
+    info["meta"] = json.loads(meta_json)
+    _write_parquet(t.replace_schema_metadata({b"ptaconstrain": json.dumps(info).encode()}), target)
+    return t.slice(0, top)  # the partition's best rows: candidates for the top of the ranking
+
+
+def _tasks(path, kind, columns):
+    """(source, pixel) of every partition, in catalogue order (the in-memory readers' order)."""
+    if kind == "hats":
+        import lsdb
+
+        cat = lsdb.open_catalog(path, columns=columns)
+        pixels = [(int(p.order), int(p.pixel)) for p in cat.get_healpix_pixels()]
+        rows = _pixel_rows(cat)
+        out = []
+        for part, pixel in zip(cat.to_delayed(), pixels, strict=True):  # a loop over pixels
+            n = rows.get(pixel, 0)
+            if n <= 2 * PARTITION_ROWS:
+                out.append((part, pixel))
+                continue
+            starts = list(range(0, n, PARTITION_ROWS))  # a large pixel: slices of it
+            ends = [*starts[1:], None]  # the last slice takes whatever is left
+            out += [((part, a, b), pixel) for a, b in zip(starts, ends, strict=True)]
+        return out
+    import pyarrow.dataset as ds
+
+    out = []
+    for frag in ds.dataset(str(path), format="parquet").get_fragments():
+        group, n = [], 0
+        for i, rg in enumerate(frag.row_groups):  # a loop over row groups
+            if rg.num_rows > PARTITION_ROWS:  # a large row group: slices of it, one per task
+                if group:
+                    out.append(((frag.path, group, 0, n), None))
+                    group, n = [], 0
+                out += [
+                    ((frag.path, [i], a, min(a + PARTITION_ROWS, rg.num_rows)), None)
+                    for a in range(0, rg.num_rows, PARTITION_ROWS)
+                ]
+                continue
+            group.append(i)
+            n += rg.num_rows
+            if n >= PARTITION_ROWS:
+                out.append(((frag.path, group, 0, n), None))
+                group, n = [], 0
+        if group:
+            out.append(((frag.path, group, 0, n), None))
+    return out
+
+
+def _pixel_rows(cat):
+    """(order, pixel) -> rows of a HATS catalogue's partitions, from its metadata ({} if none)."""
+    import warnings
+
+    try:
+        with warnings.catch_warnings():
+            # hats sets a pandas option that pandas 3 deprecates: its internals, not the user's
+            warnings.simplefilter("ignore", DeprecationWarning)
+            stats = cat.hc_structure.per_pixel_statistics(include_stats=["row_count"])
+    except Exception:  # no _metadata file, or another hats version: partitions taken whole
+        return {}
+    counts = stats.iloc[:, 0].to_numpy()
+    return {(int(p.order), int(p.pixel)): int(n) for p, n in zip(stats.index, counts, strict=True)}
+
+
+def _source_columns(path, kind):
+    """The catalogue's column names and the units astropy stored in its Parquet metadata."""
+    from .columnar import parquet_units
 
     if kind == "hats":
         import lsdb
 
         cat = lsdb.open_catalog(path)
-        pixels = cat.get_healpix_pixels()
-        index_of = {(p.order, p.pixel): i for i, p in enumerate(pixels)}
-        meta = _rank_partition(cat.meta, plan, 0, chunk_size)
-        mapped = cat.map_partitions(
-            _hats_kernel, plan, index_of, chunk_size, include_pixel=True, meta=meta
-        )
-        return mapped.to_dask_dataframe(divisions=False)
-    ddf = dd.read_parquet(str(path))
-    meta = _rank_partition(ddf._meta, plan, 0, chunk_size)
-    return ddf.map_partitions(_parquet_kernel, plan, chunk_size, meta=meta, align_dataframes=False)
-
-
-def _source_columns(path, kind):
-    if kind == "hats":
-        import lsdb
-
-        return [str(c) for c in lsdb.open_catalog(path).columns]
+        schema = getattr(cat.hc_structure, "schema", None)
+        return [str(c) for c in cat.columns], parquet_units(schema)
     import pyarrow.dataset as ds
 
-    return list(ds.dataset(str(path), format="parquet").schema.names)
+    schema = ds.dataset(str(path), format="parquet").schema
+    return list(schema.names), parquet_units(schema)
 
 
-def _bookkeeping(rows, offsets):
-    """Rejections, notes and rows read, reduced from the per-partition bookkeeping rows."""
+def _read_rows(work, part, positions, columns):
+    """Columns of a few rows (local positions) of one partition's work file."""
+
+    t = _read_work(Path(work) / _work_name(part), columns)
+    return {k: t[k].to_numpy(zero_copy_only=False)[positions] for k in columns}
+
+
+def _gather(work, parts, positions, columns):
+    """Columns of rows given by (partition, local position), in the order given."""
+    out = {k: np.empty(parts.size, dtype=object) for k in columns}
+    for p in np.unique(parts):  # a loop over partitions
+        sel = np.flatnonzero(parts == p)
+        got = _read_rows(work, int(p), positions[sel], columns)
+        for k in columns:
+            out[k][sel] = got[k]
+    return out
+
+
+def _locate(index, starts):
+    part = np.searchsorted(starts, index, "right") - 1
+    return part, index - starts[part]
+
+
+def _duplicates(results, starts, offsets, work):
+    """Indices (into the concatenated ranked rows) of repeated names but their first occurrence.
+
+    Returns (indices, catalogue rows, names, mass sources) of the rows to drop.
+    """
+    hashes = np.concatenate([r.pop("hash", np.zeros(0, np.uint64)) for r in results])
+    s = np.sort(hashes)
+    repeated = np.unique(s[1:][s[1:] == s[:-1]])
+    del s
+    if not repeated.size:
+        return np.zeros(0, np.int64), None, None, None
+    if not repeated.size:
+        return np.zeros(0, np.int64), None, None, None
+    cand = np.flatnonzero(np.isin(hashes, repeated))
+    part, pos = _locate(cand, starts)
+    got = _gather(work, part, pos, ("name", "catalogue_row", "mass_source"))
+    rows = offsets[part] + got["catalogue_row"].astype(np.int64) - 1
+    first = np.argsort(rows, kind="stable")  # the first occurrence is the earliest row
+    dup = np.zeros(cand.size, bool)
+    dup[first] = duplicate_mask(got["name"][first].astype(str))
+    return cand[dup], rows[dup], got["name"][dup].astype(str), got["mass_source"][dup].astype(str)
+
+
+def _global_order(key, tie, index, starts, work):
+    """Merge the partitions' sorted keys: key, tie-breaker, then name (as in memory).
+
+    ``index`` maps each row to its place among all ranked rows (for reading names;
+    None: the same place, no row was dropped).
+    """
+    order = np.lexsort((tie, key))  # stable: each partition's own (name) order is kept
+    ks, ts = key[order], tie[order]
+    eq = (ks[1:] == ks[:-1]) & (ts[1:] == ts[:-1])
+    del ks, ts
+    if eq.any():  # equal keys in different partitions: order those rows by name
+        mark = np.zeros(order.size, dtype=bool)
+        mark[1:] |= eq
+        mark[:-1] |= eq
+        group = np.cumsum(np.r_[True, ~eq])[mark]
+        sub = order[mark]
+        part, pos = _locate(sub if index is None else index[sub], starts)
+        names = name_bytes(_gather(work, part, pos, ("name",))["name"].astype(str))
+        order[mark] = sub[np.lexsort((names, group))]
+    return order
+
+
+def _reduce(results, work, on_bad, name):
+    """Client step: rejections, duplicates, global ranks and running sums per partition."""
+    sizes = np.array([r["n_rows"] for r in results], dtype=np.int64)
+    offsets = np.r_[0, np.cumsum(sizes)[:-1]].astype(np.int64)
     rejections = Rejections()
-    rej = rows[rows["_status"] == _REJECTED]
-    catrow = offsets[rej["_part"].to_numpy()] + rej["_local"].to_numpy()
-    for reason in dict.fromkeys(rej["_reason"].tolist()):  # a loop over reasons
-        sel = (rej["_reason"] == reason).to_numpy()
-        rejections.add(
-            catrow[sel],
-            rej["name"].to_numpy()[sel].astype(str),
-            reason,
-            rej["_value"].to_numpy()[sel].astype(str),
-        )
-    notes = rows[rows["_status"] == _NOTE]
-    for reason, count in notes.groupby("_reason", sort=False)["_count"].sum().items():
-        rejections.note(reason, int(count))
-    return rejections
+    for r, off in zip(results, offsets, strict=True):
+        rejections.extend(r["rejections"], off)
+    rejections.check(on_bad)
+    n_ok = np.array([r["n_ranked"] for r in results], dtype=np.int64)
+    starts = np.r_[0, np.cumsum(n_ok)].astype(np.int64)
+    drop, drop_rows, drop_names, drop_sources = _duplicates(results, starts, offsets, work)
+    sources = {}
+    for r in results:
+        for k, v in r.get("sources", {}).items():
+            sources[k] = sources.get(k, 0) + int(v)
+    if drop.size:
+        rejections.add(drop_rows, drop_names, DUPLICATE_REASON)
+        rejections.check(on_bad)
+        for k in drop_sources:
+            sources[k] -= 1
+    sources = {k: v for k, v in sources.items() if v}
+    n_ranked = int(starts[-1] - drop.size)
+    if not n_ranked:
+        raise no_rows_error(name, rejections)
+
+    def column(k):  # each partition's array is dropped once concatenated
+        col = np.concatenate([r.pop(k) for r in results if r["n_ranked"]])
+        return col if not drop.size else np.delete(col, drop)
+
+    index = np.delete(np.arange(starts[-1]), drop) if drop.size else None
+    order = _global_order(column("key"), column("tie"), index, starts, work)
+    rank = np.empty(n_ranked, np.int64)
+    rank[order] = np.arange(1, n_ranked + 1)
+    cum_sorted = np.cumsum(np.nan_to_num(column("expected")[order]))
+    del order
+    total = float(cum_sorted[-1])
+    # kept rows of each partition: its slice of ``index``
+    bounds = starts if index is None else np.searchsorted(index, starts)
+    dropped = [
+        drop[(drop >= a) & (drop < b)] - a for a, b in zip(starts[:-1], starts[1:], strict=True)
+    ]
+    plan = [
+        (p, dropped[p], rank[bounds[p] : bounds[p + 1]], offsets[p])
+        for p in range(len(results))
+        if results[p]["n_ranked"]
+    ]
+    return rejections, plan, cum_sorted, int(sizes.sum()), sources, n_ranked, total
 
 
-def _duplicates(ranked, offsets):
-    """(partition, local row, name) of every repeated name but its first occurrence."""
-    counts = ranked["_hash"].value_counts(split_out=True)
-    shared = counts[counts > 1].compute()
-    if not len(shared):
-        return None
-    cand = ranked[ranked["_hash"].isin(list(shared.index))][["_part", "_local", "name"]].compute()
-    cand["_row"] = offsets[cand["_part"].to_numpy()] + cand["_local"].to_numpy()
-    cand = cand.sort_values("_row", kind="stable")
-    return cand[cand["name"].duplicated(keep="first")]
+def _gather_as_completed(jobs):
+    """Compute delayed jobs on the current client, fetching each result as it completes.
+
+    A result leaves the worker's memory as soon as it is fetched, so the workers
+    never hold the small arrays of every partition at once.
+    """
+    from distributed import as_completed, get_client
+
+    client = get_client()
+    futures = client.compute(jobs)
+    where = {f.key: i for i, f in enumerate(futures)}
+    results = [None] * len(futures)
+    for future in as_completed(futures):  # a loop over partitions
+        results[where[future.key]] = future.result()
+        future.release()
+    return results
 
 
-def _drop_rows(frame, drop):
-    key = frame["_part"].to_numpy() * (1 << 40) + frame["_local"].to_numpy()
-    return frame[~np.isin(key, drop)]
+def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say, top):
+    """Map, reduce and write on the cluster; the ranking lands in ``work/ranking.parquet``.
 
-
-def _sort_frame(frame, **kwargs):
-    """Order the rows of one range of keys exactly: key, tie-breaker, then name (UTF-8)."""
-    from .names import name_bytes
-
-    order = np.lexsort(
-        (
-            name_bytes(frame["name"].to_numpy().astype(str)),
-            frame["_tie"].to_numpy(),
-            frame["_key"].to_numpy(),
-        )
-    )
-    return frame.iloc[order]
-
-
-def _table_frame(frame, metric, verb, first_rank, cum_start, offsets):
-    """One block of sorted rows as the ranking table's columns (values) and their units."""
-    import pandas as pd
-
-    d = {k: frame[k].to_numpy() for k in frame.columns if not k.startswith("_")}
-    d["name"] = d["name"].astype(str)
-    d["mass_source"] = d["mass_source"].astype(str)
-    d["row"] = offsets[frame["_part"].to_numpy()] + frame["_local"].to_numpy()
-    for k, unit in _UNITS.items():
-        d[k] = d[k] * u.Unit(unit)
-    t = ranking_table(d, metric, verb, first_rank=first_rank, cum_start=cum_start)
-    units = {k: str(t[k].unit) for k in t.colnames if isinstance(t[k], u.Quantity)}
-    return pd.DataFrame({k: np.asarray(getattr(t[k], "value", t[k])) for k in t.colnames}), units
-
-
-def _size_and_sum(path):
-    """Rows of one sorted file and the sum of their expected numbers (runs on a worker)."""
-    import pyarrow.parquet as pq
-
-    col = pq.read_table(path, columns=["expected_number"])["expected_number"].to_numpy()
-    return col.size, float(np.sum(np.nan_to_num(col)))
-
-
-def _write_part(source, target, first_rank, cum_start, offsets, metric, verb, meta_json):
-    """Write one sorted file as ranking-table rows, by blocks (runs on a worker)."""
-    import pyarrow as pa
-    import pyarrow.dataset as ds
-    import pyarrow.parquet as pq
-
-    writer = None
-    try:
-        for batch in ds.dataset(str(source), format="parquet").to_batches(batch_size=1 << 18):
-            frame = batch.to_pandas()
-            if not len(frame):
-                continue
-            t, units = _table_frame(frame, metric, verb, first_rank, cum_start, offsets)
-            table = pa.Table.from_pandas(t, preserve_index=False)
-            if writer is None:
-                info = json.dumps({"units": units, "meta": json.loads(meta_json)})
-                schema = table.schema.with_metadata({b"ptaconstrain": info.encode()})
-                writer = pq.ParquetWriter(str(target), schema)
-            writer.write_table(table.replace_schema_metadata(writer.schema.metadata))
-            first_rank += len(t)
-            cum_start = float(t["cumulative_expected_number"].iloc[-1])
-    finally:
-        if writer is not None:
-            writer.close()
-
-
-def _write_ranked(sorted_dir, out_dir, metric, verb, offsets, meta):
-    """Write the sorted partitions as ranking tables, ranks and running sums continued.
-
-    Two distributed steps: the rows and expected-number sum of every sorted file
-    (a small reduction placing each file: its first rank, its starting running
-    sum), then each file written as ranking rows by a worker.  Returns the sum of
-    the expected number over every row.
+    Returns the rejections, the meta, rows read, rows ranked, the expected total and
+    the best ``top`` rows (an Arrow table in rank order).
     """
     import dask
 
-    files = sorted(Path(sorted_dir).glob("*.parquet"), key=lambda p: int(p.stem.split(".")[1]))
-    placed = dask.compute(*[dask.delayed(_size_and_sum)(str(f)) for f in files])
-    sizes = np.array([n for n, _ in placed], dtype=np.int64)
-    sums = np.array([x for _, x in placed], dtype=float)
-    first = np.r_[1, 1 + np.cumsum(sizes)[:-1]].astype(np.int64)
-    start = np.r_[0.0, np.cumsum(sums)[:-1]]
-    Path(out_dir).mkdir()
-    meta_json = json.dumps(meta, default=str)
-    keep = [i for i in range(len(files)) if sizes[i]]
-    dask.compute(
-        *[
-            dask.delayed(_write_part)(
-                str(files[i]),
-                str(Path(out_dir) / _part_name(k)),
-                int(first[i]),
-                float(start[i]),
-                offsets,
-                metric,
-                verb,
-                meta_json,
-            )
-            for k, i in enumerate(keep)
+    columns = list(dict.fromkeys(plan.resolved.values()))
+    tasks = _tasks(path, kind, columns)
+    say(f"ranking {len(tasks)} partitions")
+    rank_part = dask.delayed(_rank_partition, pure=False)
+    results = _gather_as_completed(
+        [
+            rank_part(source, i, plan, chunk_size, columns, units, str(work), pixel)
+            for i, (source, pixel) in enumerate(tasks)
         ]
     )
-    return float(np.sum(sums))
+    say("merging the partitions' orders")
+    reduced = _reduce(results, work, on_bad, path.name)
+    rejections, parts, cum_sorted, n_read, sources, n_ranked, total = reduced
+    del results
+    meta = meta_of(rejections, n_ranked, sources, n_read)
+    meta_json = json.dumps(meta, default=str)
+    say("writing the ranking")
+    out_dir = work / PARQUET_DIR
+    out_dir.mkdir()
+    write = dask.delayed(_write_partition, pure=False)
+    jobs = []
+    for p, drop, ranks, offset in parts:  # a loop over partitions
+        if not ranks.size:
+            continue
+        globals_file = work / f"globals.{p:06d}.npz"
+        np.savez(globals_file, rank=ranks, cumulative=cum_sorted[ranks - 1])
+        jobs.append(
+            write(
+                str(work / _work_name(p)),
+                str(out_dir / _part_name(p)),
+                drop,
+                str(globals_file),
+                int(offset),
+                meta_json,
+                int(top),
+            )
+        )
+    del parts, cum_sorted
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    best = pa.concat_tables(_gather_as_completed(jobs))
+    best = best.take(pc.sort_indices(best["rank"])[: int(top)])
+    return rejections, meta, n_read, n_ranked, total, best
 
 
 class ParquetRanking:
-    """A ranking written as a directory of Parquet files in rank order, read back by blocks.
+    """A ranking written as a directory of Parquet files, read back in rank order.
 
-    Plays the part of :class:`~ptaconstrain.catalogue.ranked_runs.RankedRuns` for a
+    Each file holds one partition's rows in rank order; the ``rank`` column
+    places them in the whole ranking.  Plays the part of
+    :class:`~ptaconstrain.catalogue.ranked_runs.RankedRuns` for a
     :class:`~ptaconstrain.catalogue.ranking.Ranking` made by the Dask engine.
 
     Parameters
     ----------
     directory : path-like
         ``ranking.parquet`` as written by :func:`rank_catalog_dask`.
+
+    Examples
+    --------
+    >>> import tempfile, pyarrow as pa, pyarrow.parquet as pq
+    >>> from pathlib import Path
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     d = Path(tmp) / "ranking.parquet"
+    ...     d.mkdir()
+    ...     for i, (ranks, names) in enumerate([([1, 4], ["A", "D"]), ([2, 3], ["B", "C"])]):
+    ...         part = pa.table({"rank": ranks, "name": names})
+    ...         pq.write_table(part, d / f"part.{i:06d}.parquet")
+    ...     [b.tolist() for b in (blk["name"] for blk in ParquetRanking(d).blocks(3))]
+    [[b'A', b'B', b'C'], [b'D']]
     """
 
     def __init__(self, directory):
         import pyarrow.dataset as ds
 
         self.directory = Path(directory)
-        files = sorted(self.directory.glob("part.*.parquet"))
-        self._dataset = ds.dataset([str(f) for f in files], format="parquet")
+        self._files = [str(f) for f in sorted(self.directory.glob("part.*.parquet"))]
+        self._dataset = ds.dataset(self._files, format="parquet")
         self.n_rows = int(self._dataset.count_rows())
         info = json.loads((self._dataset.schema.metadata or {}).get(b"ptaconstrain", b"{}"))
         self.units = info.get("units", {})
 
-    def blocks(self, size=1 << 18, columns=None):
-        """Yield the rows in rank order as dicts of arrays / Quantities (kernel-row form)."""
+    def _names(self, columns):
+        if columns is None:
+            return None
+        names = ["catalogue_row" if c == "row" else c for c in columns]
+        return list(dict.fromkeys([*names, "rank"]))
+
+    def rows(self, table, columns=None):
+        """Arrow rows of the ranking as a dict of arrays / Quantities (kernel-row form).
+
+        Text columns become UTF-8 bytes; ``catalogue_row`` becomes the 0-based ``row``.
+
+        Parameters
+        ----------
+        table : pyarrow.Table
+            Rows of the ranking's files.
+        columns : list of str, optional
+            Keep ``rank``, ``mass`` and ``cumulative_expected_number`` only when named here.
+
+        Returns
+        -------
+        dict
+        """
         skip = {"rank", "catalogue_row", "mass", "cumulative_expected_number"}
-        names = (
-            None
-            if columns is None
-            else list(dict.fromkeys(["catalogue_row" if c == "row" else c for c in columns]))
-        )
-        for batch in self._batches(int(size), names):
-            out = {}
-            for name, col in zip(batch.schema.names, batch.columns, strict=True):
-                v = col.to_numpy(zero_copy_only=False)
-                if name == "catalogue_row":
-                    out["row"] = v - 1
-                    continue
-                if name in skip and (columns is None or name not in columns):
-                    continue
-                if v.dtype == object:
-                    v = np.char.encode(v.astype(str), "utf-8")
-                unit = self.units.get(name)
-                out[name] = v * u.Unit(unit) if unit and name in _UNITS else v
-            if out:
-                yield out
+        out = {}
+        for name in table.column_names:
+            v = table[name].to_numpy()
+            if name == "catalogue_row":
+                out["row"] = v - 1
+                continue
+            if name in skip and (columns is None or name not in columns):
+                continue
+            if v.dtype == object:
+                v = np.char.encode(v.astype(str), "utf-8")
+            unit = self.units.get(name)
+            out[name] = v * u.Unit(unit) if unit and name in _UNITS else v
+        return out
 
-    def _batches(self, size, names):
-        """Record batches of exactly ``size`` rows (the last one shorter), across files."""
+    def blocks(self, size=1 << 18, columns=None):
+        """Yield the rows in rank order as dicts of arrays / Quantities (kernel-row form).
+
+        A merge of the files: each is read sequentially, a batch at a time.
+        """
         import pyarrow as pa
+        import pyarrow.compute as pc
+        import pyarrow.parquet as pq
 
-        held, n_held = [], 0
-        for batch in self._dataset.to_batches(columns=names, batch_size=size):
-            held.append(batch)
-            n_held += batch.num_rows
-            while n_held >= size:
-                table = pa.Table.from_batches(held)
-                yield table.slice(0, size).combine_chunks().to_batches()[0]
-                rest = table.slice(size)
-                held, n_held = rest.to_batches(), rest.num_rows
-        if n_held:
-            yield pa.Table.from_batches(held).combine_chunks().to_batches()[0]
+        size = int(size)
+        names = self._names(columns)
+        readers = [
+            pq.ParquetFile(f).iter_batches(batch_size=min(size, _ROW_GROUP), columns=names)
+            for f in self._files
+        ]
+        held = [None] * len(readers)
+        for last in range(size, self.n_rows + size, size):  # ranks up to ``last``
+            pieces = []
+            for i, reader in enumerate(readers):  # a loop over files
+                while reader is not None and (
+                    held[i] is None or held[i].num_rows == 0 or held[i]["rank"][-1].as_py() <= last
+                ):
+                    batch = next(reader, None)
+                    if batch is None:
+                        readers[i] = reader = None
+                    else:
+                        new = pa.Table.from_batches([batch])
+                        held[i] = new if held[i] is None else pa.concat_tables([held[i], new])
+                if held[i] is not None and held[i].num_rows:
+                    k = int(np.searchsorted(held[i]["rank"].to_numpy(), last, "right"))
+                    pieces.append(held[i].slice(0, k))
+                    held[i] = held[i].slice(k)
+            table = pa.concat_tables(pieces).combine_chunks()
+            yield self.rows(table.take(pc.sort_indices(table["rank"])), columns)
 
     def column(self, key):
         """One column of every row, in rank order."""
-        parts = [b[key] for b in self.blocks(columns=[key])]
-        if isinstance(parts[0], u.Quantity):
-            return np.concatenate([p.value for p in parts]) * parts[0].unit
-        return np.concatenate(parts)
+        t = self._dataset.to_table(columns=self._names([key]))
+        order = np.argsort(t["rank"].to_numpy())
+        return self.rows(t.take(order), [key])["row" if key == "catalogue_row" else key]
 
     def take(self, rows, columns):
         """The given 0-based rank positions of ``columns`` as an astropy Table (a sample)."""
+        import pyarrow.compute as pc
         from astropy.table import Table
 
-        return Table(
-            self._dataset.take(np.asarray(rows, dtype=np.int64), columns=list(columns)).to_pydict()
+        ranks = np.asarray(rows, dtype=np.int64) + 1
+        t = self._dataset.to_table(
+            columns=self._names(columns), filter=pc.field("rank").isin(np.unique(ranks))
         )
+        got = t["rank"].to_numpy()
+        order = np.argsort(got)
+        where = order[np.searchsorted(got[order], ranks)]
+        return Table({k: t[k].to_numpy(zero_copy_only=False)[where] for k in columns})
 
     def close(self):
         """Nothing to remove: the Parquet ranking is an output, not a scratch file."""
@@ -508,7 +710,8 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     population = population or PopulationModel()
     colmap = column_map(columns)
     rels = select_relations(relations)
-    resolved = resolve_columns(colmap, _source_columns(path, kind), rels, path.name)
+    colnames, units = _source_columns(path, kind)
+    resolved = resolve_columns(colmap, colnames, rels, path.name)
     sens = ThresholdLookup(sensitivity, snr=snr, span=span, sky=sky, sky_nside=sky_nside)
     dz = DistanceRedshift(cosmology)
     plan = RankPlan(colmap, resolved, rels, sens, population, int(n_nodes), dz, metric)
@@ -527,28 +730,30 @@ cosmology, sky, sky_nside, files, inputs, top_rows
             memory_limit or DEFAULT_MEMORY_LIMIT,
             CONNECT_TIMEOUT if timeout is None else timeout,
         ):
-            result = _run(path, kind, plan, int(chunk_size), on_bad, work, say)
-            rejections, offsets, n_read, sources, n_ranked = result
-            meta = ranking_meta(
-                _Named(path.name),
-                colmap,
-                rels,
-                population,
-                sens,
-                metric,
-                on_bad,
-                n_nodes,
-                dz.cosmology,
-                rejections,
-                n_ranked,
-                sources,
-                n_read,
-            )
             where = f"scheduler {scheduler}" if scheduler else f"{workers} local workers"
-            meta["engine"] = f"dask ({where}); {kind} input"
-            say("writing the ranking")
-            total = _write_ranked(
-                work / "sorted", work / PARQUET_DIR, metric, sens.verb, offsets, dict(meta)
+
+            def meta_of(rejections, n_ranked, sources, n_read):
+                meta = ranking_meta(
+                    _Named(path.name),
+                    colmap,
+                    rels,
+                    population,
+                    sens,
+                    metric,
+                    on_bad,
+                    n_nodes,
+                    dz.cosmology,
+                    rejections,
+                    n_ranked,
+                    sources,
+                    n_read,
+                )
+                meta["engine"] = f"dask ({where}); {kind} input"
+                return meta
+
+            top = max(int(top_rows), 1)
+            rejections, meta, n_read, n_ranked, total, best = _run(
+                path, kind, plan, units, int(chunk_size), on_bad, work, meta_of, say, top
             )
         if final.exists():  # overwrite: the old ranking goes only now
             os.rename(final, work / "replaced")
@@ -556,7 +761,7 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     finally:
         shutil.rmtree(work, ignore_errors=True)
     runs = ParquetRanking(final)
-    table = ranking_table(next(runs.blocks(max(int(top_rows), 1))), metric, sens.verb)
+    table = ranking_table(runs.rows(best), metric, sens.verb)
     for key in ("name", "mass_source"):
         table[key] = np.char.decode(np.asarray(table[key]), "utf-8")
     table.meta.update(meta)
@@ -582,47 +787,3 @@ class _Named:
 
     def __init__(self, name, path=None):
         self.name, self.path = name, path
-
-
-def _run(path, kind, plan, chunk_size, on_bad, work, say):
-    """Map, reduce and sort on the cluster; the sorted rows land in ``work/sorted``."""
-    import dask.dataframe as dd
-
-    say("ranking every partition")
-    _mapped(path, kind, plan, chunk_size).to_parquet(
-        str(work / "rows"), write_index=False, name_function=_part_name
-    )
-    rows = dd.read_parquet(str(work / "rows"))
-    book = rows[rows["_status"] != _RANKED][
-        ["_status", "_part", "_local", "name", "_reason", "_value", "_count"]
-    ].compute()
-    read = book[book["_status"] == _READ].groupby("_part")["_count"].sum()
-    n_parts = int(read.index.max()) + 1 if len(read) else 0
-    sizes = np.zeros(n_parts, np.int64)
-    sizes[read.index.to_numpy()] = read.to_numpy()
-    offsets = np.r_[0, np.cumsum(sizes)[:-1]].astype(np.int64)
-    n_read = int(sizes.sum())
-    rejections = _bookkeeping(book, offsets)
-    rejections.check(on_bad)
-    ranked = rows[rows["_status"] == _RANKED]
-    say("finding repeated names")
-    dup = _duplicates(ranked, offsets)
-    if dup is not None and len(dup):
-        rejections.add(
-            offsets[dup["_part"].to_numpy()] + dup["_local"].to_numpy(),
-            dup["name"].to_numpy().astype(str),
-            DUPLICATE_REASON,
-        )
-        rejections.check(on_bad)
-        drop = dup["_part"].to_numpy() * (1 << 40) + dup["_local"].to_numpy()
-        ranked = ranked.map_partitions(_drop_rows, drop)
-    sources = ranked["mass_source"].value_counts().compute()
-    sources = {str(k): int(v) for k, v in sources.items()}
-    n_ranked = int(sum(sources.values()))
-    if not n_ranked:
-        raise no_rows_error(path.name, rejections)
-    say("sorting")
-    ranked.sort_values(
-        ["_key", "_tie"], npartitions=-(-n_ranked // SORTED_ROWS), sort_function=_sort_frame
-    ).to_parquet(str(work / "sorted"), write_index=False, name_function=_part_name)
-    return rejections, offsets, n_read, sources, n_ranked

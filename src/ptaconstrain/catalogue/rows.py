@@ -89,6 +89,26 @@ class Rejections:
                 else np.asarray(values, dtype=object)
             )
 
+    def extend(self, other, offset=0):
+        """Add every rejection and note of ``other``, its rows shifted by ``offset``.
+
+        Parameters
+        ----------
+        other : Rejections
+            E.g. one partition's, with rows counted from the partition's start.
+        offset : int
+            Catalogue row of ``other``'s row 0.
+        """
+        for rows, names, reasons, values in zip(
+            other._rows, other._names, other._reasons, other._values, strict=True
+        ):
+            self._rows.append(rows + int(offset))
+            self._names.append(names)
+            self._reasons.append(reasons)
+            self._values.append(values)
+        for reason, count in other.notes.items():
+            self.note(reason, count)
+
     def note(self, reason, count):
         """Count ``count`` rows kept under an assumption described by ``reason``."""
         if count:

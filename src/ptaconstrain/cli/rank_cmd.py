@@ -220,7 +220,8 @@ def rank(
     measured mass (solMass) or a predictor for a scaling relation
     (velocity_dispersion, bulge_mass, k_abs_mag, core_radius, stellar_mass).
     Writes ranking.fits (every ranked galaxy: every metric, the inputs used,
-    provenance; with --engine dask ranking.parquet/, in rank order),
+    provenance; with --engine dask ranking.parquet/, one file per partition
+    in rank order, the rank column ordering them all),
     ranking_top.ecsv (the --top best), ranking_rejected.ecsv,
     with --full-ecsv also ranking.ecsv (the whole table as text), and the
     figures ranking_sky / ranking_cumulative;

@@ -14,9 +14,10 @@ written unless ``overwrite``:
 
 With ``engine="dask"`` (a Parquet or HATS catalogue ranked on a Dask cluster,
 :func:`ptaconstrain.catalogue.dask_engine.rank_catalog_dask`) the whole table is
-``ranking.parquet/``, a directory of Parquet files in rank order, instead of
-``ranking.fits``; the figures of a ranking of more than 200,000 rows are drawn
-from a bounded sample of it.
+``ranking.parquet/``, a directory of Parquet files (one per partition, each
+in rank order; the ``rank`` column orders them all), instead of ``ranking.fits``;
+the figures of a ranking of more than 200,000 rows are drawn from a bounded
+sample of it.
 """
 
 import json
