@@ -123,3 +123,24 @@ def test_no_arguments_shows_the_help_not_an_error():
     r = _run([])
     assert r.output.startswith("Usage:") and "Error" not in r.output
     assert "exclude" in r.output and len(r.output.splitlines()) > 5
+
+
+def test_a_library_deprecation_is_no_note(monkeypatch, tmp_path, curve_file):
+    # a third-party deprecation (e.g. pandas under lsdb) concerns our code, not the results
+    from ptaconstrain.sensitivity import curve as curve_module
+
+    real = curve_module.load_curve
+
+    def load(*args, **kwargs):
+        warnings.warn_explicit(
+            "option x is deprecated", FutureWarning, "thirdparty.py", 1, module="thirdparty"
+        )
+        warnings.warn_explicit(
+            "call y is deprecated", DeprecationWarning, "thirdparty.py", 2, module="thirdparty"
+        )
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(curve_module, "load_curve", load)
+    r = _run(_args(curve_file, tmp_path / "res"))
+    assert r.exit_code == 0, r.output
+    assert "Note:" not in r.output

@@ -116,13 +116,19 @@ def _first_command(argv):
     return len(argv)
 
 
+#: Warnings a library addresses to the code that calls it (deprecations): no note
+_FOR_MAINTAINERS = (DeprecationWarning, PendingDeprecationWarning, FutureWarning)
+
+
 def _show_warnings(caught, ours, notes=True):
     """``Note:`` lines for our warnings (deduplicated) and library warnings; no tracebacks.
 
     numpy's RuntimeWarnings (overflow, invalid value) at extreme inputs become
     one note in all; astropy's warnings one note each (first line); any other
-    library's warnings one note per category, at most three.  After a failure
-    nothing is shown: the error's one line stays one line.
+    library's warnings one note per category, at most three; a library's
+    deprecation notices none (they concern this package's code, which the test
+    suite runs with warnings as errors).  After a failure nothing is shown: the
+    error's one line stays one line.
     """
     seen = set()
     numeric = 0
@@ -138,6 +144,8 @@ def _show_warnings(caught, ours, notes=True):
         elif issubclass(w.category, RuntimeWarning):
             numeric += 1
             continue
+        elif issubclass(w.category, _FOR_MAINTAINERS):
+            continue  # a library's notice to its callers' code, not about the results
         else:  # another library's warning: one note per kind, at most three in all
             kind = (w.category.__module__.split(".")[0], w.category.__name__)
             if kind in seen or len([k for k in seen if isinstance(k, tuple)]) >= 3:
