@@ -104,14 +104,11 @@ def sky_figure(
         [f"{int(np.mod(180 - np.degrees(t), 360) / 15)}h" for t in ticks], fontsize=8
     )
     good = np.isfinite(val) & (val > 0)
-    ax.scatter(
-        _x(ra[~good]),
-        np.radians(dec[~good]),
-        s=4,
-        c="0.6",
-        lw=0,
-        label=f"none {verb} ({np.count_nonzero(~good)})",
-    )
+    # markers shrink as the points multiply (equal ink for a few hundred or 10^5 points)
+    crowd = min(1.0, np.sqrt(2000.0 / max(len(val), 1)))
+    ax.scatter(_x(ra[~good]), np.radians(dec[~good]), s=4 * crowd, c="0.6", lw=0)
+    # the legend's marker at the uncrowded size, whatever the size on the map
+    ax.scatter([], [], s=4, c="0.6", lw=0, label=f"none {verb} ({np.count_nonzero(~good)})")
     if good.any():
         v = val[good]
         span = v.max() / v.min()
@@ -127,11 +124,11 @@ def sky_figure(
             _x(ra[good])[order],
             np.radians(dec[good])[order],
             c=v[order],
-            s=np.where(v[order] < vmin, 6, 16),
+            s=np.where(v[order] < vmin, 6, 16) * crowd,
             cmap=cmap,
             norm=norm,
             edgecolors="k",
-            linewidths=0.2,
+            linewidths=0.2 if crowd == 1.0 else 0.0,
         )
         cb = fig.colorbar(
             sc, ax=ax, orientation="horizontal", pad=0.07, fraction=0.05, aspect=40, extend=extend
@@ -140,6 +137,16 @@ def sky_figure(
         if isinstance(norm, LogNorm):
             unicode_log_ticks(cb.ax.xaxis)  # plain-text powers of ten, no mathtext
     n_lab = min(int(top), 20, len(table))
+    if n_lab and crowd < 1.0:  # among many points: the labelled ones ringed on top
+        ax.scatter(
+            _x(ra[:n_lab]),
+            np.radians(dec[:n_lab]),
+            s=30,
+            facecolors="none",
+            edgecolors="#D55E00",
+            linewidths=1.0,
+            zorder=4,
+        )
     for i in range(n_lab):  # a handful of labels, not a loop over the catalogue
         ax.annotate(
             str(int(table["rank"][i])),
@@ -147,6 +154,10 @@ def sky_figure(
             xytext=(3, 3),
             textcoords="offset points",
             fontsize=7,
+            zorder=6,
+            bbox=None
+            if crowd == 1.0
+            else {"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none", "alpha": 0.8},
         )
     if markers is not None:
         c = markers.icrs
