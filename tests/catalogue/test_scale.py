@@ -352,3 +352,25 @@ def test_parquet_written_by_astropy_keeps_its_units_under_the_ecsv_rule(tmp_path
         for n in ("kg.parquet", "kg.ecsv")
     ]
     assert lines[0] == lines[1] and "distance" in lines[0] and "kg" in lines[0], lines
+
+
+@pytest.mark.slow
+def test_a_local_cluster_starts_beside_anything_on_port_8787():
+    # a notebook's Dask dashboard (or a second ptaconstrain run) holds port 8787: the local
+    # cluster must neither fail nor warn (warnings are errors here)
+    import socket
+
+    from ptaconstrain.catalogue.cluster import dask_client
+
+    holder = socket.socket()
+    try:
+        holder.bind(("0.0.0.0", 8787))
+        holder.listen(1)
+    except OSError:
+        holder.close()
+        pytest.skip("port 8787 is taken on this machine already")
+    try:
+        with dask_client(workers=1) as client:
+            assert client.submit(sum, [1, 2, 3]).result() == 6
+    finally:
+        holder.close()

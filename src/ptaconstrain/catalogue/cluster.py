@@ -105,6 +105,10 @@ def dask_client(
                     processes=True,
                     memory_limit=memory_limit,
                     dashboard_address=None,  # no dashboard: nobody watches it
+                    # the scheduler's small HTTP server (health, metrics) on a free local
+                    # port: on its default 8787 it would meet (and warn about) any other
+                    # Dask cluster or notebook dashboard running on the machine
+                    scheduler_kwargs={"dashboard_address": "127.0.0.1:0"},
                     silence_logs=logging.ERROR,
                 )
             client = Client(cluster, set_as_default=True)
