@@ -131,10 +131,8 @@ def _demo_outputs(out, overwrite, progress):
     # limit map of the first host and the array forecasts at the hosts' positions
     text, at_host = _array_exclusions(out, hosts, overwrite, figures)
     lines += text
-    lines += _eccentric_outputs(
-        hosts[0], limit, limit_path, out, overwrite, figures, circular=results[0][0]
-    )
-    lines += _background_outputs(hosts, out, overwrite, figures, quiet=at_host)
+    lines += _eccentric_outputs(hosts[0], results[0][0], limit, limit_path, out, overwrite, figures)
+    lines += _background_outputs(hosts, at_host, out, overwrite, figures)
     draw_in_parallel(figures)
     return lines
 
@@ -380,16 +378,11 @@ def _array_exclusions(out, hosts, overwrite, figures):
     return lines, at_host
 
 
-def _eccentric_outputs(host, limit, limit_path, out, overwrite, figures, e=0.5, circular=None):
-    """One host at eccentricity ``e`` beside the circular orbit, against the limit.
-
-    ``circular``: the host's circular map against ``limit``, if already computed.
-    """
+def _eccentric_outputs(host, circular, limit, limit_path, out, overwrite, figures, e=0.5):
+    """One host at eccentricity ``e`` against its circular map ``circular``, same limit."""
     from .analysis.exclusion import exclusion_map
     from .report.provenance import provenance, safe_name
 
-    if circular is None:
-        circular = exclusion_map(host, limit)
     eccentric = exclusion_map(host, limit, eccentricity=e)
     stem = out / f"{safe_name(host.name)}_eccentric"
     meta = provenance({**host.describe(), "eccentricity": f"{e:g}"}, files={"curve": limit_path})
@@ -399,15 +392,15 @@ def _eccentric_outputs(host, limit, limit_path, out, overwrite, figures, e=0.5, 
         f"eccentric companions of {host.name} (e = {e:g}, {len(eccentric.harmonics)} "
         f"harmonics; {stem.name}.png with the e = 0 bound over it):"
     )
-    return _side_by_side(
+    return _compared(
         stem, meta, (circular, eccentric), ("e = 0", f"e = {e:g}"), title, head, overwrite, figures
     )
 
 
-def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15, quiet=None):
-    """The demo array's forecast for one host, on a quiet sky and with the background.
+def _background_outputs(hosts, quiet, out, overwrite, figures, amplitude=2.4e-15):
+    """The demo array's forecast for one host with the background, against a quiet sky.
 
-    ``quiet``: the array's maps at each of ``hosts`` (no background), if already computed.
+    ``quiet``: the array's maps at each of ``hosts`` (no background).
     """
     from .analysis.exclusion import exclusion_map
     from .report.provenance import provenance, safe_name
@@ -415,11 +408,10 @@ def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15, quiet
 
     i = next((i for i, h in enumerate(hosts) if h.coord is not None), 0)
     host = hosts[i]
-    arr = demo_array()
     background = Background(amplitude)
     maps = (
-        exclusion_map(host, arr, warn=False) if quiet is None else quiet[i],
-        exclusion_map(host, arr.with_background(background), warn=False),
+        quiet[i],
+        exclusion_map(host, demo_array().with_background(background), warn=False),
     )
     stem = out / f"{safe_name(host.name)}_array_forecast_background"
     meta = provenance({**host.describe(), "background": background.describe()})
@@ -429,13 +421,14 @@ def _background_outputs(hosts, out, overwrite, figures, amplitude=2.4e-15, quiet
         f"background as noise ({background.describe()}), demo array at {host.name} "
         f"({stem.name}.png):"
     )
-    return _side_by_side(
+    return _compared(
         stem, meta, maps, ("quiet sky", "with background"), title, head, overwrite, figures
     )
 
 
-def _side_by_side(stem, meta, maps, tags, title, head, overwrite, figures):
-    """Write the second map's table, queue the two-panel figure, return the bound lines."""
+def _compared(stem, meta, maps, tags, title, head, overwrite, figures):
+    """Write the second map's table, queue its figure with the first map's bound drawn over
+    it, return the bound lines of both."""
     from ._files import check_new, write_table
     from .report.comparison import comparison_figure
     from .report.tables import exclusion_table
