@@ -55,7 +55,7 @@ PARALLEL_MIN_PULSARS = 5000
 MAP_BLOCK_BYTES = 2**28
 _ROW_TILE = 32  # frequencies per matrix product (see _h0_block)
 _N_FEATURES = 10  # columns of antenna.pattern_power_features
-_PIXEL_TILE = 8192  # pixels per product in _h0_block (a tile of h0 stays in cache)
+_PIXEL_TILE = 1024  # pixels per product in _h0_block (default blocks hold whole tiles)
 _MIN_TOAS = 3 * N_TIMING_PARAMETERS
 _METHODS = ("exact", "analytic")
 
@@ -662,34 +662,44 @@ def _h0_block(coef_t, nside, pix, snr):
     rho^2 per unit h0^2 = coef_t @ phi(pixels).T, phi the ten pattern features
     (:func:`~.antenna.pattern_power_features`), then h0 = snr / sqrt(rho^2),
     a cache-sized piece at a time.  A BLAS product's rounding can depend on
-    the matrix shape (its edge kernels), so the rows go through the product in
-    fixed tiles of ``_ROW_TILE`` (the last one zero-padded); blocks of
-    frequencies start on a tile boundary, hence every value is bit for bit
-    that of the whole map.
+    the matrix shape and on a column's place in it (its edge kernels: a block
+    of 333 pixels changed the last bits of two columns on an AVX-512 machine),
+    so every product has one shape: ``_ROW_TILE`` rows by ``_PIXEL_TILE``
+    pixels, tiles aligned on the whole sky's pixel numbers, zero-padded past
+    the last pixel and the last row.  Blocks of frequencies start on a row
+    tile, hence every value is bit for bit that of the whole map whatever the
+    blocks (unaligned pixel blocks pay for the whole tiles they touch).
     """
     import healpy as hp
 
-    vec = np.stack(hp.pix2vec(nside, np.arange(pix.start, pix.stop)), axis=-1)
-    feat_t = antenna.pattern_power_features(vec).T  # (10, n_pix)
-    n, n_pix = coef_t.shape[0], feat_t.shape[1]
-    out = np.empty((n, n_pix))
+    first = pix.start // _PIXEL_TILE * _PIXEL_TILE
+    stop = min(-(-pix.stop // _PIXEL_TILE) * _PIXEL_TILE, hp.nside2npix(nside))
+    vec = np.stack(hp.pix2vec(nside, np.arange(first, stop)), axis=-1)
+    feat_t = antenna.pattern_power_features(vec).T  # (10, stop - first)
+    n = coef_t.shape[0]
+    out = np.empty((n, pix.stop - pix.start))
     tiles = []
     for lo in range(0, n, _ROW_TILE):
         tile = np.zeros((_ROW_TILE, coef_t.shape[1]))
         tile[: min(n - lo, _ROW_TILE)] = coef_t[lo : lo + _ROW_TILE]
         tiles.append(tile)
-    buf = np.empty((_ROW_TILE, min(n_pix, _PIXEL_TILE)))
+    phi = np.zeros((_N_FEATURES, _PIXEL_TILE))
+    part = np.empty((_ROW_TILE, _PIXEL_TILE))
     with single_blas_thread():  # threads only wait on memory here (benchmarks/bench_array.py)
-        for plo in range(0, n_pix, _PIXEL_TILE):
-            phi = feat_t[:, plo : plo + _PIXEL_TILE]
-            part = buf[:, : phi.shape[1]]
+        for tlo in range(first, stop, _PIXEL_TILE):
+            width = min(_PIXEL_TILE, stop - tlo)
+            phi[:, :width] = feat_t[:, tlo - first : tlo - first + width]
+            phi[:, width:] = 0.0
+            a, b = max(tlo, pix.start), min(tlo + _PIXEL_TILE, pix.stop)  # wanted pixels
             for lo, tile in zip(range(0, n, _ROW_TILE), tiles, strict=True):
                 np.matmul(tile, phi, out=part)
-                rho2 = part[: min(n - lo, _ROW_TILE)]  # without the padding rows
+                rho2 = part[: min(n - lo, _ROW_TILE), a - tlo : b - tlo]  # no padding
                 if rho2.min() < 0.0:  # a rounding below zero where the array is blind
                     np.maximum(rho2, 0.0, out=rho2)
                 np.sqrt(rho2, out=rho2)
-                np.divide(snr, rho2, out=out[lo : lo + _ROW_TILE, plo : plo + _PIXEL_TILE])
+                np.divide(
+                    snr, rho2, out=out[lo : lo + _ROW_TILE, a - pix.start : b - pix.start]
+                )
     return out
 
 
