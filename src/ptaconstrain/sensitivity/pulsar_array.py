@@ -697,9 +697,7 @@ def _h0_block(coef_t, nside, pix, snr):
                 if rho2.min() < 0.0:  # a rounding below zero where the array is blind
                     np.maximum(rho2, 0.0, out=rho2)
                 np.sqrt(rho2, out=rho2)
-                np.divide(
-                    snr, rho2, out=out[lo : lo + _ROW_TILE, a - pix.start : b - pix.start]
-                )
+                np.divide(snr, rho2, out=out[lo : lo + _ROW_TILE, a - pix.start : b - pix.start])
     return out
 
 
