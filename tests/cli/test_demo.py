@@ -28,7 +28,7 @@ def test_demo_runs_on_shipped_data_and_refuses_to_overwrite(tmp_path):
     assert len([p for p in out.glob("*_forecast.png") if "_array_" not in p.name]) == 1
     # the array forecast's example is the background figure, with the quiet-sky bound over it
     assert not list(out.glob("*_array_forecast.png"))
-    assert all(p.stat().st_size > 10_000 for p in out.glob("*.png"))  # drawn by workers
+    assert all(p.stat().st_size > 10_000 for p in out.glob("*.png"))  # every figure drawn
     # one host at e = 0.5 beside e = 0; one array forecast with and without the background
     ecc = QTable.read(out / "Velmora_Central_eccentric.ecsv")
     assert ecc.meta["eccentricity"] == "0.5" and (out / "Velmora_Central_eccentric.png").exists()
@@ -78,11 +78,12 @@ def test_run_demo_is_a_library_call_that_refuses_a_non_empty_directory(tmp_path)
 def test_draw_in_parallel_runs_every_job(tmp_path):
     from ptaconstrain.demo import draw_in_parallel
 
-    paths = [tmp_path / f"{i}.txt" for i in range(5)]
-    draw_in_parallel([lambda p=p: p.write_text(p.name) for p in paths])
-    assert [p.read_text() for p in paths] == [p.name for p in paths]
-    with pytest.raises(ZeroDivisionError):  # a failing job is not lost in a worker
-        draw_in_parallel([lambda: None, lambda: 1 / 0])
+    for min_cores in (1, 10_000):  # in worker processes (where fork exists), and in turn
+        paths = [tmp_path / f"{min_cores}_{i}.txt" for i in range(5)]
+        draw_in_parallel([lambda p=p: p.write_text(p.name) for p in paths], min_cores=min_cores)
+        assert [p.read_text() for p in paths] == [p.name for p in paths]
+        with pytest.raises(ZeroDivisionError):  # a failing job is not lost in a worker
+            draw_in_parallel([lambda: None, lambda: 1 / 0], min_cores=min_cores)
 
 
 def test_the_demo_command_pauses_the_cycle_collector_and_restores_it(tmp_path, monkeypatch):
@@ -102,3 +103,49 @@ def test_the_demo_command_pauses_the_cycle_collector_and_restores_it(tmp_path, m
     r = CliRunner().invoke(main, ["demo", "--out", str(tmp_path / "d")])
     assert r.exit_code == 0 and r.stdout == "ran\n"
     assert seen == [False] and gc.isenabled()
+
+
+def test_cycle_collection_resumes_without_a_backlog():
+    # objects made while the collector was paused go to the oldest generation on
+    # resuming, so no collection walks them all at once as it resumes; reference:
+    # gc.callbacks (CPython reports every collection's start with its generation)
+    import gc
+
+    from ptaconstrain.cli import no_cycle_collection
+
+    started = []
+
+    def record(phase, info):
+        if phase == "start":
+            started.append(info["generation"])
+
+    with no_cycle_collection():
+        made = [[i] for i in range(50_000)]  # tracked containers, a backlog of 50,000
+        gc.callbacks.append(record)
+    try:
+        after = [[i] for i in range(100)]  # a few allocations after resuming
+    finally:
+        gc.callbacks.remove(record)
+    assert gc.isenabled() and len(made) + len(after) == 50_100
+    assert started == []
+
+
+def test_a_command_from_the_process_command_line_freezes_the_heap(monkeypatch):
+    # the process ends after a command from its own command line: its heap is frozen
+    # (no final walk over it); a command called with args (tests, notebooks) is not
+    import gc
+    import sys
+
+    from ptaconstrain.cli import main
+
+    assert gc.get_freeze_count() == 0
+    with pytest.raises(SystemExit):
+        main(["--version"])
+    assert gc.get_freeze_count() == 0
+    monkeypatch.setattr(sys, "argv", ["ptaconstrain", "--version"])
+    try:
+        with pytest.raises(SystemExit):
+            main(prog_name="ptaconstrain")
+        assert gc.get_freeze_count() > 0
+    finally:
+        gc.unfreeze()
