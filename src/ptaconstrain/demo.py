@@ -118,9 +118,9 @@ def _demo_outputs(out, overwrite, progress):
     lines += [line for _, _, text in results for line in text]
     first = hosts[0]
     lines.append(
-        f"figures of {first.name} as examples ({safe_name(first.name)}_exclusion.png, "
-        "_forecast.png); demo_overview.png compares every host, whose tables are all "
-        "written; draw any host with: ptaconstrain exclude --mass "
+        f"figure of {first.name} as an example ({safe_name(first.name)}_exclusion.png); "
+        "demo_overview.png compares every host's exclusion and forecast, whose tables "
+        "are all written; draw any host with: ptaconstrain exclude --mass "
         f"{first.mass.to_value('solMass'):.3g} --distance "
         f"{first.distance.to_value('Mpc'):.3g} --curve {Path(LIMIT_FILE).stem} --out DIR"
     )
@@ -226,7 +226,12 @@ def _save_drawn(draw, stem, overwrite, args, kwargs):
 def _host_outputs(
     host, limit, forecast, limit_path, forecast_path, out, overwrite, figures, example=False
 ):
-    """Tables of one host for both curves; its two figures if it is the ``example``."""
+    """Tables of one host for both curves; its exclusion figure if it is the ``example``.
+
+    The forecast's bound is drawn for every host in demo_overview.png (and a
+    forecast figure of the whole map by :func:`_background_outputs`), so the
+    example host's forecast map is a table only.
+    """
     from ._files import check_new, write_table
     from .analysis.exclusion import exclusion_map
     from .report.figures import exclusion_figure
@@ -244,7 +249,7 @@ def _host_outputs(
         meta = provenance(host.describe(), files={"curve": path})
         meta["demo"] = "INVENTED data: fictional host, synthetic curve"
         write_table(exclusion_table(result, meta), f"{stem}.ecsv", overwrite)
-        if example:
+        if example and tag == "exclusion":
             check_new([f"{stem}.png"], overwrite)
             figures.append(_figure_job(exclusion_figure, stem, overwrite, result))
         text += summary_lines(result)[:1]
