@@ -354,6 +354,38 @@ def test_parquet_written_by_astropy_keeps_its_units_under_the_ecsv_rule(tmp_path
     assert lines[0] == lines[1] and "distance" in lines[0] and "kg" in lines[0], lines
 
 
+def test_masked_columns_written_by_astropy_are_missing_values_not_zeros(tmp_path):
+    # astropy writes a masked column X to Parquet as X plus a boolean X.mask, the masked
+    # entries holding 0 (astropy docs, "Parquet" in Unified File Read/Write; seen in
+    # pyarrow's schema of such a file); read as 0 they were "impossible masses".
+    # Reference: the same table as ECSV (masked entries written as blanks), ranked alike
+    from astropy.table import MaskedColumn
+
+    df = _invented_catalogue(300, seed=4).iloc[:200].reset_index(drop=True)
+    t = Table.from_pandas(df)
+    for name in ("mass", "distance", "redshift"):
+        values = np.asarray(t[name], dtype=float)
+        t[name] = MaskedColumn(np.nan_to_num(values), mask=np.isnan(values))
+    t.write(tmp_path / "masked.parquet")
+    t.write(tmp_path / "masked.ecsv")
+    import pyarrow.parquet as pq
+
+    assert "mass.mask" in pq.read_schema(tmp_path / "masked.parquet").names  # the layout
+    curve = load_curve(CURVE)
+    ecsv = rank_catalog(tmp_path / "masked.ecsv", curve, on_bad="skip")
+    parquet = rank_catalog(tmp_path / "masked.parquet", curve, on_bad="skip")
+    assert list(parquet.table["name"]) == list(ecsv.table["name"])
+    assert parquet.rejections.summary() == ecsv.rejections.summary()
+    np.testing.assert_allclose(
+        parquet.table["expected_number"], ecsv.table["expected_number"], rtol=1e-13
+    )
+    assert "mass.mask" not in parquet.table.colnames
+    dask = rank_catalog_dask(
+        tmp_path / "masked.parquet", curve, tmp_path / "out", workers=1, on_bad="skip"
+    )
+    assert np.asarray(dask.runs.column("name")).astype(str).tolist() == list(ecsv.table["name"])
+
+
 @pytest.mark.slow
 def test_a_local_cluster_starts_beside_anything_on_port_8787():
     # a notebook's Dask dashboard (or a second ptaconstrain run) holds port 8787: the local

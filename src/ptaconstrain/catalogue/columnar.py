@@ -19,6 +19,8 @@ keeps each column's unit in the file's metadata (key ``table_meta_yaml``, the
 ECSV header); those units are read (:func:`parquet_units`) and honoured under
 the same rule as an ECSV file's.  Other Parquet carries no units; declare them
 in the column mapping (``[units]``) when they are not the fields' defaults.
+Missing values: a null, or, for a masked column astropy wrote (a value column
+``X`` beside a boolean ``X.mask``, :data:`MASK_SUFFIX`), a true mask entry.
 """
 
 from pathlib import Path
@@ -37,7 +39,12 @@ __all__ = [
     "ParquetSource",
     "HatsSource",
     "open_columnar",
+    "with_masks",
+    "MASK_SUFFIX",
 ]
+
+#: astropy writes a masked column X to Parquet as X plus a boolean column X.mask
+MASK_SUFFIX = ".mask"
 
 _PARQUET_SUFFIXES = (".parquet", ".parq", ".pq")
 _HATS_MARKERS = ("hats.properties", "properties", "collection.properties")
@@ -142,13 +149,38 @@ def parquet_units(schema):
     return {str(c["name"]): str(c["unit"]) for c in columns if c.get("unit")}
 
 
+def with_masks(columns, available):
+    """``columns`` and, after them, astropy's ``<name>.mask`` of each one in ``available``.
+
+    Parameters
+    ----------
+    columns : list of str
+        Columns to read.
+    available : list of str
+        Every column of the source.
+
+    Returns
+    -------
+    list of str
+
+    Examples
+    --------
+    >>> with_masks(["mass", "ra"], ["ra", "mass", "mass.mask"])
+    ['mass', 'ra', 'mass.mask']
+    """
+    have = set(available)
+    return list(columns) + [c + MASK_SUFFIX for c in columns if c + MASK_SUFFIX in have]
+
+
 def arrow_to_table(data, units=None):
     """A pyarrow Table or RecordBatch as an astropy Table (nulls masked, units kept).
 
     Numeric and boolean columns become float/int/bool arrays (an integer column
     with nulls becomes float with masked entries), text becomes str; any other
     type (lists, structs, dates) is kept as objects, which the row policy refuses
-    as not numeric where a number is needed.
+    as not numeric where a number is needed.  A boolean ``X.mask`` beside a
+    column ``X`` (astropy's layout of a masked column) masks ``X`` where true and
+    is not a column of its own.
 
     Parameters
     ----------
@@ -164,11 +196,23 @@ def arrow_to_table(data, units=None):
     from astropy.table import MaskedColumn, Table
 
     units = parquet_units(data.schema) if units is None else units
+    names = data.schema.names
+    flags = {
+        name[: -len(MASK_SUFFIX)]: col
+        for name, col in zip(names, data.columns, strict=True)
+        if name.endswith(MASK_SUFFIX)
+        and name[: -len(MASK_SUFFIX)] in names
+        and pa.types.is_boolean(col.type)
+    }
     out = Table()
-    for name, col in zip(data.schema.names, data.columns, strict=True):
+    for name, col in zip(names, data.columns, strict=True):
+        if name.endswith(MASK_SUFFIX) and name[: -len(MASK_SUFFIX)] in flags:
+            continue  # the mask of another column
         if isinstance(col, pa.ChunkedArray):
             col = col.combine_chunks()
         mask = np.asarray(col.is_null(), dtype=bool)
+        if name in flags:
+            mask |= np.asarray(flags[name].fill_null(False).to_numpy(zero_copy_only=False))
         kind = col.type
         if pa.types.is_dictionary(kind):
             col, kind = col.dictionary_decode(), kind.value_type

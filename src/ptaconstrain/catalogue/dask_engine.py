@@ -52,7 +52,7 @@ import numpy as np
 from astropy import units as u
 
 from ..cosmo import DistanceRedshift
-from .columnar import arrow_to_table, columnar_kind, frame_to_table, require_scale
+from .columnar import arrow_to_table, columnar_kind, frame_to_table, require_scale, with_masks
 from .columns import CatalogError
 from .kernel import RankPlan, rank_piece
 from .names import duplicate_mask, name_bytes, name_hashes
@@ -426,7 +426,7 @@ def _gather_as_completed(jobs):
     return results
 
 
-def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say, top):
+def _run(path, kind, plan, colnames, units, chunk_size, on_bad, work, meta_of, say, top):
     """Map, reduce and write on the cluster; the ranking lands in ``work/ranking.parquet``.
 
     Returns the rejections, the meta, rows read, rows ranked, the expected total and
@@ -434,7 +434,7 @@ def _run(path, kind, plan, units, chunk_size, on_bad, work, meta_of, say, top):
     """
     import dask
 
-    columns = list(dict.fromkeys(plan.resolved.values()))
+    columns = with_masks(list(dict.fromkeys(plan.resolved.values())), colnames)
     tasks = _tasks(path, kind, columns)
     say(f"ranking {len(tasks)} partitions")
     rank_part = dask.delayed(_rank_partition, pure=False)
@@ -753,7 +753,7 @@ cosmology, sky, sky_nside, files, inputs, top_rows
 
             top = max(int(top_rows), 1)
             rejections, meta, n_read, n_ranked, total, best = _run(
-                path, kind, plan, units, int(chunk_size), on_bad, work, meta_of, say, top
+                path, kind, plan, colnames, units, int(chunk_size), on_bad, work, meta_of, say, top
             )
         if final.exists():  # overwrite: the old ranking goes only now
             os.rename(final, work / "replaced")
