@@ -201,6 +201,8 @@ def test_map_blocks_equal_whole_map_bit_for_bit(by, kwargs):
         else:
             got[part] = block
     assert np.array_equal(got, whole)
+    # the pixel-major table (tiles transposed as stored) holds the same bits
+    assert np.array_equal(arr.threshold_table(f, nside=16).values, whole.T)
 
 
 def test_feature_map_equals_the_direct_pattern_product():

@@ -529,16 +529,28 @@ class PulsarArray:
         -------
         ndarray (n_f, 12 nside^2), dimensionless h0.
         """
+        return self._whole_map(frequencies, nside, snr, pulsar_term, callback, chunk)
+
+    def _whole_map(self, frequencies, nside, snr, pulsar_term, callback, chunk, pixel_major=False):
+        """The whole map, (n_f, n_pix) or, ``pixel_major``, (n_pix, n_f) C-ordered.
+
+        Pixel-major tiles are transposed while in the cache: a transposed copy of
+        the whole (n_f, n_pix) map took 20 ms of a 49 ms nside-64 x 100-frequency
+        map (benchmarks/bench_array.py).  The values are the same bits either way.
+        """
         nside = check_nside(nside)
-        blocks = self.threshold_map_blocks(
-            frequencies, nside, snr, pulsar_term, by="pixel", pixels=chunk, callback=callback
-        )
+        snr = _check_snr(snr)
+        f = _check_frequency(frequencies)
+        self.check_band(f)
+        coef_t = self._feature_coefficients(f, pulsar_term, callback)
         parts = []
-        for _, block in blocks:
+        for _, block in _pixel_blocks(coef_t, nside, snr, _chunk_pixels(chunk), pixel_major):
             parts.append(block)
             if callback is not None:
                 callback(1)
-        return parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)
+        if len(parts) == 1:
+            return parts[0]
+        return np.concatenate(parts, axis=0 if pixel_major else 1)
 
     def threshold_map_blocks(
         self,
@@ -592,6 +604,19 @@ class PulsarArray:
         if by not in ("pixel", "frequency"):
             raise InputError(f"by: {by!r} is unknown; use 'pixel' or 'frequency'")
         self.check_band(f)
+        coef_t = self._feature_coefficients(f, pulsar_term, callback)
+        npix = hp.nside2npix(nside)
+        if by == "pixel":
+            if pixels is None:  # block and feature chunk together within block_bytes
+                pixels = max(1, block_bytes // (8 * (f.size + _N_FEATURES) * 1024)) * 1024
+            return _pixel_blocks(coef_t, nside, snr, _chunk_pixels(pixels))
+        per = max(1, int(block_bytes // (8 * npix * _ROW_TILE))) * _ROW_TILE
+        if pixels is None:  # the feature chunk and its product within a quarter block
+            pixels = max(1, block_bytes // (32 * (per + _N_FEATURES) * 1024)) * 1024
+        return _frequency_blocks(coef_t, nside, snr, per, _chunk_pixels(pixels))
+
+    def _feature_coefficients(self, f, pulsar_term, callback):
+        """coef_t (n_f, 10): rho^2 per unit h0^2 on the sky is coef_t @ phi(pixel) (features)."""
         w = self.weights(f, callback=callback)
         term = self._term(pulsar_term)
         # rho^2 per unit h0^2 = pattern @ (0.4 w / (2 pi f)^2 [x 2 with pulsar term]): the
@@ -600,16 +625,7 @@ class PulsarArray:
         unit = antenna.orientation_averaged_snr_squared(1.0, f, one, np.ones(1), term)
         scale_t = unit[:, None] * w.to_value(u.s**-2).T  # (n_f, n_p)
         # sum_p pattern[pix, p] scale[p, f] = phi[pix, :] @ coef[:, f] (antenna features)
-        coef_t = scale_t @ antenna.pattern_power_features(self.vectors)  # (n_f, 10)
-        npix = hp.nside2npix(nside)
-        if by == "pixel":
-            if pixels is None:  # block and feature chunk together within block_bytes
-                pixels = max(1, block_bytes // (8 * (f.size + _N_FEATURES) * 1024)) * 1024
-            return _pixel_blocks(coef_t, nside, snr, int(pixels))
-        per = max(1, int(block_bytes // (8 * npix * _ROW_TILE))) * _ROW_TILE
-        if pixels is None:  # the feature chunk and its product within a quarter block
-            pixels = max(1, block_bytes // (32 * (per + _N_FEATURES) * 1024)) * 1024
-        return _frequency_blocks(coef_t, nside, snr, per, int(pixels))
+        return scale_t @ antenna.pattern_power_features(self.vectors)  # (n_f, 10)
 
     def threshold_table(self, frequency, snr=5.0, nside=None, *, pulsar_term=None, callback=None):
         """h0 reaching S/N ``snr`` on every HEALPix pixel (ICRS, RING), per frequency.
@@ -634,10 +650,8 @@ class PulsarArray:
             ``values`` of shape (12 nside^2, n_f), dimensionless h0.
         """
         nside = DEFAULT_NSIDE if nside is None else check_nside(nside)
-        m = self.h0_threshold_map(
-            frequency, nside=nside, snr=snr, pulsar_term=pulsar_term, callback=callback
-        )
-        return HealpixThresholds(nside, "icrs", np.ascontiguousarray(m.T))
+        m = self._whole_map(frequency, nside, snr, pulsar_term, callback, 65536, pixel_major=True)
+        return HealpixThresholds(nside, "icrs", m)
 
     def sky_markers(self):
         """The pulsars' positions (ICRS SkyCoord (n,)), to mark on sky figures."""
@@ -656,7 +670,7 @@ class PulsarArray:
 
 
 # ------------------------------------------------------------------ helpers
-def _h0_block(coef_t, nside, pix, snr):
+def _h0_block(coef_t, nside, pix, snr, pixel_major=False):
     """h0 for S/N ``snr`` on the pixels ``pix`` (a slice) for the rows of ``coef_t``.
 
     rho^2 per unit h0^2 = coef_t @ phi(pixels).T, phi the ten pattern features
@@ -669,6 +683,8 @@ def _h0_block(coef_t, nside, pix, snr):
     the last pixel and the last row.  Blocks of frequencies start on a row
     tile, hence every value is bit for bit that of the whole map whatever the
     blocks (unaligned pixel blocks pay for the whole tiles they touch).
+    Returns (n_rows, n_pixels), or (n_pixels, n_rows) if ``pixel_major`` (each
+    tile transposed as it is stored).
     """
     import healpy as hp
 
@@ -677,7 +693,7 @@ def _h0_block(coef_t, nside, pix, snr):
     vec = np.stack(hp.pix2vec(nside, np.arange(first, stop)), axis=-1)
     feat_t = antenna.pattern_power_features(vec).T  # (10, stop - first)
     n = coef_t.shape[0]
-    out = np.empty((n, pix.stop - pix.start))
+    out = np.empty((pix.stop - pix.start, n) if pixel_major else (n, pix.stop - pix.start))
     tiles = []
     for lo in range(0, n, _ROW_TILE):
         tile = np.zeros((_ROW_TILE, coef_t.shape[1]))
@@ -697,17 +713,32 @@ def _h0_block(coef_t, nside, pix, snr):
                 if rho2.min() < 0.0:  # a rounding below zero where the array is blind
                     np.maximum(rho2, 0.0, out=rho2)
                 np.sqrt(rho2, out=rho2)
-                np.divide(snr, rho2, out=out[lo : lo + _ROW_TILE, a - pix.start : b - pix.start])
+                if pixel_major:  # the division stores the tile transposed
+                    np.divide(
+                        snr, rho2.T, out=out[a - pix.start : b - pix.start, lo : lo + _ROW_TILE]
+                    )
+                else:
+                    np.divide(
+                        snr, rho2, out=out[lo : lo + _ROW_TILE, a - pix.start : b - pix.start]
+                    )
     return out
 
 
-def _pixel_blocks(coef_t, nside, snr, pixels):
+def _chunk_pixels(pixels):
+    """Pixels per block: a positive int (validated once for every map path)."""
+    pixels = int(pixels)
+    if pixels < 1:
+        raise InputError(f"pixels: must be a positive number of pixels per block, got {pixels}")
+    return pixels
+
+
+def _pixel_blocks(coef_t, nside, snr, pixels, pixel_major=False):
     import healpy as hp
 
     npix = hp.nside2npix(nside)
     for lo in range(0, npix, pixels):
         pix = slice(lo, min(lo + pixels, npix))
-        yield pix, _h0_block(coef_t, nside, pix, snr)
+        yield pix, _h0_block(coef_t, nside, pix, snr, pixel_major)
 
 
 def _frequency_blocks(coef_t, nside, snr, per, pixels):
