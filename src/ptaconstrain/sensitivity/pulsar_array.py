@@ -53,6 +53,8 @@ DEFAULT_NSIDE = 64
 PARALLEL_MIN_PULSARS = 5000
 #: Default size of one block of :meth:`PulsarArray.threshold_map_blocks` (bytes of output).
 MAP_BLOCK_BYTES = 2**28
+#: Pixels per block of a whole map (:meth:`PulsarArray.h0_threshold_map`, ``threshold_table``).
+MAP_CHUNK = 65536
 _ROW_TILE = 32  # frequencies per matrix product (see _h0_block)
 _N_FEATURES = 10  # columns of antenna.pattern_power_features
 _PIXEL_TILE = 1024  # pixels per product in _h0_block (default blocks hold whole tiles)
@@ -505,7 +507,7 @@ class PulsarArray:
         return self.curve_at(None, snr, frequency, pulsar_term, method)
 
     def h0_threshold_map(
-        self, frequencies, nside=32, snr=5.0, pulsar_term=None, callback=None, chunk=65536
+        self, frequencies, nside=32, snr=5.0, pulsar_term=None, callback=None, chunk=MAP_CHUNK
     ):
         """HEALPix maps (RING, ICRS) of the h0 reaching S/N ``snr`` (orientation-averaged).
 
@@ -650,7 +652,9 @@ class PulsarArray:
             ``values`` of shape (12 nside^2, n_f), dimensionless h0.
         """
         nside = DEFAULT_NSIDE if nside is None else check_nside(nside)
-        m = self._whole_map(frequency, nside, snr, pulsar_term, callback, 65536, pixel_major=True)
+        m = self._whole_map(
+            frequency, nside, snr, pulsar_term, callback, MAP_CHUNK, pixel_major=True
+        )
         return HealpixThresholds(nside, "icrs", m)
 
     def sky_markers(self):
