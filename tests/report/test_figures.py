@@ -116,6 +116,37 @@ def test_sky_map_image_pixels_show_the_healpix_value_at_their_sky_position():
     assert (rgba[i[~inside], j[~inside], 3] == 0).all()  # outside the sky: transparent
 
 
+def test_host_labels_near_the_equator_leave_the_ra_labels_visible():
+    # the RA tick labels run along the equator; a host just south of it (the invented demo's
+    # "Ilvane Elliptical" at Dec -4 deg hid "12h") is labelled below its star. Reference:
+    # the rendered extents of matplotlib's own text artists
+    from types import SimpleNamespace
+
+    from astropy import units as u
+    from astropy.coordinates import SkyCoord
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.text import Annotation
+
+    from ptaconstrain.report.skyplot import sky_map_figure
+
+    hosts = [
+        SimpleNamespace(name="Invented South", coord=SkyCoord(190 * u.deg, -4 * u.deg)),
+        SimpleNamespace(name="Invented North", coord=SkyCoord(40 * u.deg, 35 * u.deg)),
+    ]
+    fig = sky_map_figure(np.ones(12 * 4**2), hosts=hosts)
+    renderer = FigureCanvasAgg(fig).get_renderer()
+    ax = fig.axes[0]
+    ticks = [t.get_window_extent(renderer) for t in ax.get_xticklabels() if t.get_text()]
+    notes = {
+        a.get_text(): a.get_window_extent(renderer) for a in ax.texts if isinstance(a, Annotation)
+    }
+    assert set(notes) == {"Invented South", "Invented North"} and len(ticks) == 12
+    for box in notes.values():
+        assert not any(box.overlaps(t) for t in ticks)
+    star = ax.transData.transform((np.radians(180 - 190), np.radians(-4)))
+    assert notes["Invented South"].y1 < star[1]  # below its star
+
+
 def test_a_huge_ranking_sky_map_draws_a_bounded_even_sample(monkeypatch):
     # the best rows are all drawn, the rest thinned evenly; the title says so
     import numpy as np

@@ -145,11 +145,14 @@ def sky_map_figure(
             ls="none",
             label="host galaxies" if i == 0 else None,
         )
+        # the RA labels run along the equator: a host just south of it is labelled below
+        south = -15.0 < c.dec.deg < 0.0
         ax.annotate(
             host.name,
             (_x(c.ra.deg), c.dec.rad),
-            xytext=(6, 6),
+            xytext=(6, -6) if south else (6, 6),
             textcoords="offset points",
+            va="top" if south else "baseline",
             fontsize=8,
             bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none", "alpha": 0.8},
         )
