@@ -51,26 +51,23 @@ from pathlib import Path
 import numpy as np
 from astropy import units as u
 
-from ..cosmo import DistanceRedshift
 from .columnar import arrow_to_table, columnar_kind, frame_to_table, require_scale, with_masks
 from .columns import CatalogError
-from .kernel import RankPlan, rank_piece
+from .kernel import rank_piece
 from .names import duplicate_mask, name_bytes, name_hashes
-from .population import PopulationModel
 from .ranked_runs import ranking_order, sort_keys
 from .ranking import (
-    Ranking,
     check_options,
     column_map,
     no_rows_error,
+    ranked_result,
     ranking_meta,
+    ranking_plan,
     ranking_provenance,
     ranking_table,
-    resolve_columns,
 )
 from .relations import select_relations
 from .rows import Rejections
-from .thresholds import ThresholdLookup
 
 __all__ = [
     "rank_catalog_dask",
@@ -707,14 +704,24 @@ cosmology, sky, sky_nside, files, inputs, top_rows
         "the Dask engine",
         ("pyarrow", "dask", "distributed") + (("lsdb",) if kind == "hats" else ()),
     )
-    population = population or PopulationModel()
     colmap = column_map(columns)
     rels = select_relations(relations)
     colnames, units = _source_columns(path, kind)
-    resolved = resolve_columns(colmap, colnames, rels, path.name)
-    sens = ThresholdLookup(sensitivity, snr=snr, span=span, sky=sky, sky_nside=sky_nside)
-    dz = DistanceRedshift(cosmology)
-    plan = RankPlan(colmap, resolved, rels, sens, population, int(n_nodes), dz, metric)
+    plan = ranking_plan(
+        colmap,
+        rels,
+        colnames,
+        path.name,
+        sensitivity,
+        population=population,
+        metric=metric,
+        snr=snr,
+        span=span,
+        n_nodes=n_nodes,
+        cosmology=cosmology,
+        sky=sky,
+        sky_nside=sky_nside,
+    )
     out_dir = Path(out_dir)
     final = Path(parquet_path) if parquet_path is not None else out_dir / PARQUET_DIR
     if final.exists() and not overwrite:
@@ -733,21 +740,7 @@ cosmology, sky, sky_nside, files, inputs, top_rows
             where = f"scheduler {scheduler}" if scheduler else f"{workers} local workers"
 
             def meta_of(rejections, n_ranked, sources, n_read):
-                meta = ranking_meta(
-                    _Named(path.name),
-                    colmap,
-                    rels,
-                    population,
-                    sens,
-                    metric,
-                    on_bad,
-                    n_nodes,
-                    dz.cosmology,
-                    rejections,
-                    n_ranked,
-                    sources,
-                    n_read,
-                )
+                meta = ranking_meta(path.name, plan, on_bad, rejections, n_ranked, sources, n_read)
                 meta["engine"] = f"dask ({where}); {kind} input"
                 return meta
 
@@ -761,29 +754,8 @@ cosmology, sky, sky_nside, files, inputs, top_rows
     finally:
         shutil.rmtree(work, ignore_errors=True)
     runs = ParquetRanking(final)
-    table = ranking_table(runs.rows(best), metric, sens.verb)
+    table = ranking_table(runs.rows(best), metric, plan.sensitivity.verb)
     for key in ("name", "mass_source"):
         table[key] = np.char.decode(np.asarray(table[key]), "utf-8")
-    table.meta.update(meta)
-    table.meta["provenance"] = ranking_provenance(_Named(path.name, path), files, inputs)
-    return Ranking(
-        table=table,
-        rejections=rejections,
-        metric=metric,
-        verb=sens.verb,
-        label=sens.label(),
-        meta=meta,
-        n_read=n_read,
-        sky_markers=sens.sky_markers(),
-        sensitivity=sens,
-        n_ranked=n_ranked,
-        expected_total=total,
-        runs=runs,
-    )
-
-
-class _Named:
-    """What the meta and provenance helpers need of a reader: its name and path."""
-
-    def __init__(self, name, path=None):
-        self.name, self.path = name, path
+    provenance = ranking_provenance(path, files, inputs)
+    return ranked_result(table, plan, meta, provenance, rejections, n_read, n_ranked, total, runs)

@@ -31,7 +31,7 @@ from astropy import units as u
 from ..cosmo import DistanceRedshift
 from ..errors import InputError
 from .columns import FIELDS, CatalogError, ColumnMap, load_column_map
-from .kernel import chunk_metrics
+from .kernel import RankPlan, chunk_metrics
 from .metrics import METRICS
 from .names import NameSet
 from .population import PopulationModel
@@ -46,6 +46,8 @@ __all__ = [
     "rank_catalog",
     "ranking_table",
     "ranking_meta",
+    "ranking_plan",
+    "ranked_result",
     "ranking_provenance",
     "check_options",
     "resolve_columns",
@@ -376,13 +378,24 @@ def rank_catalog(
     [10.0, 187.5]
     """
     check_options(metric, on_bad)
-    population = population or PopulationModel()
     colmap = column_map(columns)
     rels = select_relations(relations)
     reader = catalog if isinstance(catalog, CatalogReader) else CatalogReader(catalog, format)
-    resolved = resolve_columns(colmap, reader.colnames, rels, reader.name)
-    sens = ThresholdLookup(sensitivity, snr=snr, span=span, sky=sky, sky_nside=sky_nside)
-    dz = DistanceRedshift(cosmology)
+    plan = ranking_plan(
+        colmap,
+        rels,
+        reader.colnames,
+        reader.name,
+        sensitivity,
+        population=population,
+        metric=metric,
+        snr=snr,
+        span=span,
+        n_nodes=n_nodes,
+        cosmology=cosmology,
+        sky=sky,
+        sky_nside=sky_nside,
+    )
     rejections = Rejections()
     seen = NameSet()
     runs = None if stream_dir is None else RankedRuns(metric, stream_dir)
@@ -390,10 +403,12 @@ def rank_catalog(
     try:
         for start, piece in reader.chunks(chunk_size):
             n_read += len(piece)
-            gal = prepare_chunk(piece, colmap, resolved, rels, start, dz, rejections)
+            gal = prepare_chunk(piece, colmap, plan.resolved, rels, start, plan.dz, rejections)
             rejections.check(on_bad)
             if gal["row"].size:
-                data = chunk_metrics(gal, sens, population, n_nodes, rejections)
+                data = chunk_metrics(
+                    gal, plan.sensitivity, plan.population, plan.n_nodes, rejections
+                )
                 dup = seen.add(data["name"])
                 if dup.any():
                     rejections.add(
@@ -422,47 +437,23 @@ def rank_catalog(
             data = {k: _concat([p[k] for p in parts]) for k in parts[0]}
             del parts
             order = ranking_order(metric, data[metric], data["h0_ratio"], data["name"])
-            table = ranking_table({k: v[order] for k, v in data.items()}, metric, sens.verb)
+            table = ranking_table(
+                {k: v[order] for k, v in data.items()}, metric, plan.sensitivity.verb
+            )
         else:
             runs.finish()
-            table = ranking_table(next(runs.blocks(max(int(top_rows), 1))), metric, sens.verb)
+            table = ranking_table(
+                next(runs.blocks(max(int(top_rows), 1))), metric, plan.sensitivity.verb
+            )
             table["name"] = np.char.decode(np.asarray(table["name"]), "utf-8")
             table["mass_source"] = np.char.decode(np.asarray(table["mass_source"]), "utf-8")
     except BaseException:
         if runs is not None:
             runs.close()
         raise
-    meta = ranking_meta(
-        reader,
-        colmap,
-        rels,
-        population,
-        sens,
-        metric,
-        on_bad,
-        n_nodes,
-        dz.cosmology,
-        rejections,
-        n_ranked,
-        sources,
-        n_read,
-    )
-    table.meta.update(meta)
-    table.meta["provenance"] = ranking_provenance(reader, files, inputs)
-    return Ranking(
-        table=table,
-        rejections=rejections,
-        metric=metric,
-        verb=sens.verb,
-        label=sens.label(),
-        meta=meta,
-        n_read=n_read,
-        sky_markers=sens.sky_markers(),
-        sensitivity=sens,
-        n_ranked=n_ranked,
-        expected_total=total,
-        runs=runs,
-    )
+    meta = ranking_meta(reader.name, plan, on_bad, rejections, n_ranked, sources, n_read)
+    provenance = ranking_provenance(reader.path, files, inputs)
+    return ranked_result(table, plan, meta, provenance, rejections, n_read, n_ranked, total, runs)
 
 
 def _concat(arrays):
@@ -567,31 +558,75 @@ def _relations_used(rels, used):
     return out
 
 
-def ranking_provenance(reader, files, inputs):
-    """The package's one provenance record, with the catalogue among the files."""
+def ranking_plan(
+    colmap,
+    rels,
+    colnames,
+    catalogue,
+    sensitivity,
+    *,
+    population,
+    metric,
+    snr,
+    span,
+    n_nodes,
+    cosmology,
+    sky,
+    sky_nside,
+):
+    """The settings of one ranking as a :class:`~ptaconstrain.catalogue.kernel.RankPlan`.
+
+    Shared by both engines: the catalogue's columns resolved (``colnames`` of
+    the catalogue named ``catalogue``), the threshold lookup, the population
+    (default :class:`PopulationModel`) and the distance-redshift relation.
+    """
+    resolved = resolve_columns(colmap, colnames, rels, catalogue)
+    sens = ThresholdLookup(sensitivity, snr=snr, span=span, sky=sky, sky_nside=sky_nside)
+    return RankPlan(
+        colmap,
+        resolved,
+        rels,
+        sens,
+        population or PopulationModel(),
+        int(n_nodes),
+        DistanceRedshift(cosmology),
+        metric,
+    )
+
+
+def ranked_result(table, plan, meta, provenance, rejections, n_read, n_ranked, total, runs):
+    """The :class:`Ranking` of either engine: ``table`` (its meta completed) and the totals."""
+    sens = plan.sensitivity
+    table.meta.update(meta)
+    table.meta["provenance"] = provenance
+    return Ranking(
+        table=table,
+        rejections=rejections,
+        metric=plan.metric,
+        verb=sens.verb,
+        label=sens.label(),
+        meta=meta,
+        n_read=n_read,
+        sky_markers=sens.sky_markers(),
+        sensitivity=sens,
+        n_ranked=n_ranked,
+        expected_total=total,
+        runs=runs,
+    )
+
+
+def ranking_provenance(catalogue_path, files, inputs):
+    """The package's one provenance record, with the catalogue (a path or None) among the files."""
     from ..report.provenance import provenance
 
-    all_files = {} if reader.path is None else {"catalogue": reader.path}
+    all_files = {} if catalogue_path is None else {"catalogue": catalogue_path}
     all_files.update(files or {})
     return provenance(inputs, files=all_files)
 
 
-def ranking_meta(
-    reader,
-    colmap,
-    rels,
-    population,
-    sens,
-    metric,
-    on_bad,
-    n_nodes,
-    cosmology,
-    rejections,
-    n_ranked,
-    sources,
-    n_read,
-):
-    """How a ranking was made, for the table meta (``reader`` needs only ``.name``)."""
+def ranking_meta(catalogue, plan, on_bad, rejections, n_ranked, sources, n_read):
+    """How a ranking was made (``plan``, a RankPlan) of the catalogue named ``catalogue``."""
+    sens, cosmology = plan.sensitivity, plan.dz.cosmology
     meta = {
         "product": "continuous-wave target ranking",
         "sensitivity": sens.label(),
@@ -600,17 +635,17 @@ def ranking_meta(
         "sky": sens.mode,
         "snr": sens.snr,
         "span": f"{sens.span.to_value(u.yr):.6g} yr",
-        "metric": metric,
-        "catalogue": reader.name,
+        "metric": plan.metric,
+        "catalogue": catalogue,
         "rows_read": int(n_read),
         "rows_ranked": int(n_ranked),
         "on_bad": on_bad,
         "rejected": {k: int(v) for k, v in rejections.counts.items()},
         "notes": {k: int(v) for k, v in rejections.notes.items()},
-        "column_mapping": colmap.describe(),
-        "relations_in_order": [r.name for r in rels],
-        "relations_used": _relations_used(rels, sources),
-        "scatter_quadrature": f"Gauss-Legendre, {int(n_nodes)} nodes in Phi(log10 M)",
+        "column_mapping": plan.colmap.describe(),
+        "relations_in_order": [r.name for r in plan.relations],
+        "relations_used": _relations_used(plan.relations, sources),
+        "scatter_quadrature": f"Gauss-Legendre, {plan.n_nodes} nodes in Phi(log10 M)",
         "cosmology": getattr(cosmology, "name", None) or str(cosmology),
         "most_sensitive_frequency": "argmin over the tabulated frequencies of "
         "h0_threshold / f^(2/3)",
@@ -618,5 +653,5 @@ def ranking_meta(
         "per band between tabulated frequencies, capped at f_ISCO; a band "
         "counts when h0 beats the threshold at both edges",
     }
-    meta.update(population.describe())
+    meta.update(plan.population.describe())
     return meta
